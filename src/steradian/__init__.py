@@ -1,0 +1,51 @@
+"""steradian: phased-array analysis and design.
+
+Element pattern x array factor over arbitrary positions and weights; spherical integration
+for radiated power, directivity and gain; pattern metrics; tapers and synthesis; quantized
+beam tables for beamformer firmware.
+
+Conventions: right-handed x, y, z; planar arrays in the x-y plane, broadside +z; theta from
++z, phi from +x toward +y; time dependence exp(+j w t); AF = sum_n w_n exp(+j k r . r_n).
+"""
+
+from __future__ import annotations
+
+__version__ = "0.1.0"
+
+from .array import Array, Steering, direction
+from .elements import CosinePower, Dipole, Element, HalfWaveDipole, Isotropic, ShortDipole
+from .engine import Field, field
+from .errors import DesignError, FileFormatError, SteradianError
+from .geometry import (
+    Geometry,
+    concentric_rings,
+    linear,
+    rectangular,
+    ring,
+    rotation_to,
+    triangular,
+)
+from .grids import Directions, ThetaPhiGrid, UVGrid
+from .radiation import (
+    beam_solid_angle,
+    directivity,
+    eirp,
+    gain,
+    peak_directivity,
+    radiated_power,
+    realized_gain,
+    taper_efficiency,
+)
+
+__all__ = [
+    "__version__",
+    "Array", "Steering", "direction",
+    "Element", "Isotropic", "CosinePower", "Dipole", "ShortDipole", "HalfWaveDipole",
+    "Field", "field",
+    "SteradianError", "DesignError", "FileFormatError",
+    "Geometry", "linear", "rectangular", "triangular", "ring", "concentric_rings",
+    "rotation_to",
+    "Directions", "ThetaPhiGrid", "UVGrid",
+    "radiated_power", "directivity", "peak_directivity", "beam_solid_angle",
+    "taper_efficiency", "gain", "realized_gain", "eirp",
+]

@@ -1,0 +1,81 @@
+"""Small guard helpers whose messages name the bad value and the allowed set."""
+
+from __future__ import annotations
+
+import warnings
+from typing import Any
+
+import numpy as np
+
+from .errors import SteradianError
+
+C0 = 299_792_458.0
+"""Speed of light in vacuum, m/s (exact, SI 2019)."""
+
+ETA0 = 376.730313412
+"""Impedance of free space, ohm (CODATA 2018)."""
+
+
+def positive(name: str, value: Any, unit: str = "") -> float:
+    """Return ``value`` as float, raising if it is not a finite positive number."""
+    try:
+        x = float(value)
+    except (TypeError, ValueError):
+        raise SteradianError(f"{name} must be a number, got {value!r}") from None
+    if not np.isfinite(x) or x <= 0:
+        raise SteradianError(f"{name} must be positive, got {name}={value!r}{unit}")
+    return x
+
+
+def nonneg(name: str, value: Any, unit: str = "") -> float:
+    """Return ``value`` as float, raising if it is negative, NaN or infinite."""
+    try:
+        x = float(value)
+    except (TypeError, ValueError):
+        raise SteradianError(f"{name} must be a number, got {value!r}") from None
+    if not np.isfinite(x) or x < 0:
+        raise SteradianError(f"{name} must be zero or positive, got {name}={value!r}{unit}")
+    return x
+
+
+def count(name: str, value: Any, minimum: int = 1) -> int:
+    """Return ``value`` as int, raising unless it is a whole number >= ``minimum``."""
+    if isinstance(value, bool) or not isinstance(value, (int, np.integer)):
+        if isinstance(value, float) and value.is_integer():
+            value = int(value)
+        else:
+            raise SteradianError(f"{name} must be a whole number, got {value!r}")
+    if value < minimum:
+        raise SteradianError(f"{name} must be at least {minimum}, got {name}={value}")
+    return int(value)
+
+
+def finite_array(name: str, a: Any, shape_tail: tuple[int, ...] | None = None,
+                 dtype=float) -> np.ndarray:
+    """Return ``a`` as a finite numpy array, optionally checking its trailing shape."""
+    arr = np.asarray(a, dtype=dtype)
+    if shape_tail is not None and arr.shape[-len(shape_tail):] != shape_tail:
+        raise SteradianError(f"{name} must have shape (..., {', '.join(map(str, shape_tail))}),"
+                             f" got {arr.shape}")
+    bad = ~np.isfinite(arr)
+    if bad.any():
+        idx = np.argwhere(bad)[0]
+        raise SteradianError(f"{name} contains NaN or infinity at index {tuple(idx.tolist())}")
+    return arr
+
+
+def choice(name: str, value: Any, allowed) -> str:
+    """Check ``value`` is one of ``allowed`` (e.g. ``typing.get_args`` of a Literal)."""
+    if value not in allowed:
+        import difflib
+
+        hint = difflib.get_close_matches(str(value), [str(a) for a in allowed], n=1)
+        extra = f" (did you mean {hint[0]!r}?)" if hint else ""
+        raise SteradianError(
+            f"{name} must be one of {', '.join(map(repr, allowed))}, got {value!r}{extra}")
+    return value
+
+
+def doubtful(message: str) -> None:
+    """Warn about legal but doubtful input."""
+    warnings.warn(message, UserWarning, stacklevel=3)

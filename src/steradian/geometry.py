@@ -1,0 +1,248 @@
+"""Element positions: lattices, rings, file import, orientation and masks.
+
+Conventions: right-handed x, y, z in metres. Planar arrays lie in the x-y plane with broadside
+along +z. Orientation of element n is a 3x3 rotation matrix whose columns are the element's
+local x, y and z axes expressed in array coordinates (local -> global).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ._validate import count, finite_array, positive
+from .errors import SteradianError
+
+__all__ = [
+    "Geometry",
+    "linear",
+    "rectangular",
+    "triangular",
+    "ring",
+    "concentric_rings",
+    "rotation_to",
+]
+
+_COINCIDENT_TOL = 1e-9  # metres; elements closer than this are "at the same position"
+
+
+@dataclass(frozen=True, eq=False)
+class Geometry:
+    """Element positions with optional orientations and lattice description.
+
+    Parameters
+    ----------
+    positions : array_like, shape (N, 3) or (N, 2)
+        Element phase-centre positions in metres (2-column input gets z = 0).
+    orientations : array_like, shape (N, 3, 3), optional
+        Rotation matrices local -> array frame, one per element. ``None`` means every element's
+        local frame coincides with the array frame.
+    lattice : array_like, shape (1, 3) or (2, 3), optional
+        Primitive lattice vectors in metres when the layout is a sampled periodic lattice; used
+        to predict grating lobes. ``None`` for arbitrary layouts.
+    """
+
+    positions: np.ndarray
+    orientations: np.ndarray | None = None
+    lattice: np.ndarray | None = field(default=None)
+
+    def __post_init__(self):
+        pos = np.asarray(self.positions, dtype=float)
+        if pos.ndim != 2 or pos.shape[1] not in (2, 3):
+            raise SteradianError(f"positions must have shape (N, 3) or (N, 2), got {pos.shape}")
+        if pos.shape[1] == 2:
+            pos = np.column_stack([pos, np.zeros(len(pos))])
+        if len(pos) == 0:
+            raise SteradianError("geometry has zero elements")
+        pos = finite_array("positions", pos)
+        _check_coincident(pos)
+        pos = np.ascontiguousarray(pos)
+        pos.setflags(write=False)
+        object.__setattr__(self, "positions", pos)
+        if self.orientations is not None:
+            R = finite_array("orientations", self.orientations)
+            if R.shape != (len(pos), 3, 3):
+                raise SteradianError(
+                    f"orientations must have shape ({len(pos)}, 3, 3), got {R.shape}")
+            err = np.abs(np.einsum("nji,njk->nik", R, R) - np.eye(3)).max()
+            if err > 1e-6:
+                raise SteradianError("orientations must be rotation matrices (orthonormal)")
+            if np.allclose(R, np.eye(3), atol=1e-12):
+                R = None
+            else:
+                R = np.ascontiguousarray(R)
+                R.setflags(write=False)
+            object.__setattr__(self, "orientations", R)
+        if self.lattice is not None:
+            L = finite_array("lattice", self.lattice)
+            L = np.atleast_2d(L)
+            if L.shape[1] == 2:
+                L = np.column_stack([L, np.zeros(len(L))])
+            if L.shape not in ((1, 3), (2, 3)):
+                raise SteradianError(f"lattice must have 1 or 2 vectors of 3, got {L.shape}")
+            L.setflags(write=False)
+            object.__setattr__(self, "lattice", L)
+
+    @property
+    def n(self) -> int:
+        """Number of elements."""
+        return len(self.positions)
+
+    @property
+    def centroid(self) -> np.ndarray:
+        """Mean of the element positions (m)."""
+        return self.positions.mean(axis=0)
+
+    def radius(self, centre: np.ndarray | None = None) -> float:
+        """Largest element distance from ``centre`` (default: the centroid), in metres."""
+        c = self.centroid if centre is None else np.asarray(centre, float)
+        return float(np.sqrt(((self.positions - c) ** 2).sum(axis=1)).max())
+
+    @property
+    def is_planar(self) -> bool:
+        """True when every element lies in the x-y plane (z = 0) with default orientation."""
+        return bool(np.all(self.positions[:, 2] == 0.0)) and self.orientations is None
+
+    def translated(self, offset) -> Geometry:
+        """Return a copy moved by ``offset`` (m)."""
+        off = np.asarray(offset, float).reshape(3)
+        return Geometry(self.positions + off, self.orientations, self.lattice)
+
+    def subset(self, keep) -> Geometry:
+        """Return the elements selected by a boolean mask or index array (lattice dropped)."""
+        keep = np.asarray(keep)
+        R = None if self.orientations is None else self.orientations[keep]
+        return Geometry(self.positions[keep], R, None)
+
+    def extent(self) -> np.ndarray:
+        """Bounding-box size along x, y, z (m)."""
+        return np.ptp(self.positions, axis=0)
+
+
+def _check_coincident(pos: np.ndarray) -> None:
+    if len(pos) < 2:
+        return
+    from scipy.spatial import cKDTree
+
+    pairs = cKDTree(pos).query_pairs(_COINCIDENT_TOL, output_type="ndarray")
+    if len(pairs):
+        i, j = sorted(pairs[0].tolist())
+        raise SteradianError(
+            f"elements {i} and {j} are at the same position {pos[i].round(12).tolist()} m")
+
+
+def linear(n: int, d: float, axis: str = "x") -> Geometry:
+    """Uniform line of ``n`` elements spaced ``d`` metres, centred on the origin.
+
+    Parameters
+    ----------
+    n : int
+        Number of elements.
+    d : float
+        Spacing in metres.
+    axis : {"x", "y", "z"}
+        Line direction.
+    """
+    n = count("n", n)
+    d = positive("spacing d", d, " m")
+    ax = {"x": 0, "y": 1, "z": 2}.get(axis)
+    if ax is None:
+        raise SteradianError(f"axis must be 'x', 'y' or 'z', got {axis!r}")
+    pos = np.zeros((n, 3))
+    pos[:, ax] = (np.arange(n) - (n - 1) / 2) * d
+    lat = np.zeros((1, 3))
+    lat[0, ax] = d
+    return Geometry(pos, lattice=lat)
+
+
+def rectangular(nx: int, ny: int, dx: float, dy: float | None = None) -> Geometry:
+    """Rectangular lattice of ``nx`` x ``ny`` elements in the x-y plane, centred on the origin.
+
+    Element order is x fastest: index = ix + nx * iy.
+    """
+    nx = count("nx", nx)
+    ny = count("ny", ny)
+    dx = positive("spacing dx", dx, " m")
+    dy = dx if dy is None else positive("spacing dy", dy, " m")
+    ix, iy = np.meshgrid(np.arange(nx), np.arange(ny), indexing="xy")
+    x = (ix.ravel() - (nx - 1) / 2) * dx
+    y = (iy.ravel() - (ny - 1) / 2) * dy
+    pos = np.column_stack([x, y, np.zeros_like(x)])
+    return Geometry(pos, lattice=np.array([[dx, 0, 0], [0, dy, 0]], float))
+
+
+def triangular(nx: int, ny: int, dx: float, dy: float | None = None) -> Geometry:
+    """Triangular (offset-row) lattice: ``ny`` rows of ``nx`` elements, odd rows shifted dx/2.
+
+    With ``dy = dx * sqrt(3) / 2`` (the default) the lattice is equilateral (hexagonal).
+    Primitive vectors are (dx, 0) and (dx/2, dy).
+    """
+    nx = count("nx", nx)
+    ny = count("ny", ny)
+    dx = positive("spacing dx", dx, " m")
+    dy = dx * np.sqrt(3) / 2 if dy is None else positive("row spacing dy", dy, " m")
+    ix, iy = np.meshgrid(np.arange(nx), np.arange(ny), indexing="xy")
+    x = (ix + 0.5 * (iy % 2)).ravel() * dx
+    y = iy.ravel() * dy
+    x = x - x.mean()
+    y = y - y.mean()
+    pos = np.column_stack([x, y, np.zeros_like(x)])
+    return Geometry(pos, lattice=np.array([[dx, 0, 0], [dx / 2, dy, 0]], float))
+
+
+def ring(n: int, radius: float, phi0_deg: float = 0.0) -> Geometry:
+    """``n`` elements equally spaced on a circle of ``radius`` metres in the x-y plane."""
+    n = count("n", n)
+    r = positive("radius", radius, " m")
+    phi = np.deg2rad(phi0_deg) + 2 * np.pi * np.arange(n) / n
+    pos = np.column_stack([r * np.cos(phi), r * np.sin(phi), np.zeros(n)])
+    return Geometry(pos)
+
+
+def concentric_rings(radii, counts, centre_element: bool = False,
+                     phi0_deg=0.0) -> Geometry:
+    """Concentric rings in the x-y plane.
+
+    Parameters
+    ----------
+    radii : sequence of float
+        Ring radii in metres.
+    counts : sequence of int
+        Elements on each ring.
+    centre_element : bool
+        Add one element at the origin.
+    phi0_deg : float or sequence of float
+        Angle of the first element of each ring.
+    """
+    radii = list(radii)
+    counts = list(counts)
+    if len(radii) != len(counts) or not radii:
+        raise SteradianError(
+            f"radii and counts must be non-empty and of equal length, got {len(radii)} radii "
+            f"and {len(counts)} counts")
+    phi0 = np.broadcast_to(np.asarray(phi0_deg, float), (len(radii),))
+    parts = [np.zeros((1, 3))] if centre_element else []
+    for i, (r, c) in enumerate(zip(radii, counts, strict=True)):
+        parts.append(ring(count(f"counts[{i}]", c), positive(f"radii[{i}]", r, " m"),
+                          phi0[i]).positions)
+    return Geometry(np.vstack(parts))
+
+
+def rotation_to(normal, reference=(1.0, 0.0, 0.0)) -> np.ndarray:
+    """Rotation matrix whose local z axis is ``normal`` and local x axis lies toward ``reference``.
+
+    Useful for conformal layouts: pass the outward surface normal of each element.
+    Accepts shape (3,) or (N, 3) and returns (3, 3) or (N, 3, 3).
+    """
+    nrm = np.atleast_2d(np.asarray(normal, float))
+    nrm = nrm / np.linalg.norm(nrm, axis=1, keepdims=True)
+    ref = np.broadcast_to(np.asarray(reference, float), nrm.shape).copy()
+    # Fall back to y when the reference is parallel to the normal.
+    par = np.abs((ref * nrm).sum(axis=1)) > 1 - 1e-9
+    ref[par] = (0.0, 1.0, 0.0)
+    x = ref - (ref * nrm).sum(axis=1, keepdims=True) * nrm
+    x /= np.linalg.norm(x, axis=1, keepdims=True)
+    y = np.cross(nrm, x)
+    R = np.stack([x, y, nrm], axis=2)
+    return R[0] if np.ndim(normal) == 1 else R

@@ -1,0 +1,339 @@
+r"""Radiation intensity, radiated power, directivity, gain, realized gain and EIRP.
+
+Definitions (IEEE Std 145-2013, *IEEE Standard for Definitions of Terms for Antennas*):
+radiation intensity :math:`U = r^2 |E|^2 / (2\eta)`; directivity
+:math:`D = 4\pi U / P_{rad}`; gain :math:`G = \xi D` with radiation efficiency
+:math:`\xi = P_{rad}/P_{in}`; realized gain :math:`G (1 - |\Gamma|^2)`.
+
+Patterns here are relative (element fields are peak-normalised), so U is reported in the
+engine's units, |E|^2 per steradian; D, G and ratios are absolute.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Literal
+
+import numpy as np
+
+from ._validate import nonneg, positive
+from .elements import Isotropic
+from .engine import field
+from .errors import SteradianError
+from .grids import Directions
+from .sphere import DEFAULT_MARGIN, rule_for, sphere_rule
+
+__all__ = [
+    "RadiatedPower",
+    "Peak",
+    "radiated_power",
+    "directivity",
+    "peak_directivity",
+    "beam_solid_angle",
+    "taper_efficiency",
+    "gain",
+    "mismatch_factor",
+    "realized_gain",
+    "eirp",
+    "to_db",
+    "RF_EXPOSURE_CAUTION",
+]
+
+RF_EXPOSURE_CAUTION = (
+    "Caution: EIRP and power density near a transmitting array can exceed safe RF exposure "
+    "limits. Check them against the exposure limits of your local regulations and leave "
+    "exposure assessment to licensed practice."
+)
+
+PowerMethod = Literal["auto", "quadrature", "closed_form"]
+
+
+def to_db(x, floor: float = 1e-30):
+    """10 log10(x), with a floor to avoid -inf."""
+    return 10.0 * np.log10(np.maximum(np.asarray(x, float), floor))
+
+
+@dataclass(frozen=True)
+class RadiatedPower:
+    """Radiated power :math:`\\int |E|^2 d\\Omega` with its error estimate.
+
+    Attributes
+    ----------
+    value : float
+        The integral (engine units: |E|^2 x sr).
+    error : float
+        Relative error estimate: for quadrature, the difference between the rule with the
+        requested margin and one with 10 more nodes (the larger rule's value is returned); for
+        the closed form, the rounding bound N * eps.
+    method : str
+        "quadrature" or "closed_form".
+    n_theta, n_phi : int
+        Rule size used (0 for the closed form).
+    """
+
+    value: float
+    error: float
+    method: str
+    n_theta: int = 0
+    n_phi: int = 0
+
+
+def _is_isotropic(array) -> bool:
+    return isinstance(array.element, Isotropic)
+
+
+def _quadrature(array, frequency, margin):
+    # Two rule sizes: the error estimate is the difference between the rule with ``margin``
+    # and one with ``margin + 10`` extra nodes; the larger rule's value is returned, so the
+    # estimate bounds the returned value's error from above (the rule converges
+    # geometrically in the margin).
+    rule = rule_for(array, frequency, margin)
+    p = rule.integrate(field(array, rule.grid, frequency=frequency).intensity)
+    fine = rule_for(array, frequency, margin + 10)
+    pf = fine.integrate(field(array, fine.grid, frequency=frequency).intensity)
+    return RadiatedPower(pf, abs(p - pf) / pf if pf > 0 else math.inf, "quadrature",
+                         fine.n_theta, fine.n_phi)
+
+
+def closed_form_power(positions, weights, k) -> float:
+    r"""Radiated power of isotropic elements: :math:`4\pi\sum_{mn} w_m w_n^* \mathrm{sinc}(kr_{mn})`.
+
+    sinc(x) = sin(x)/x. This is exact (no quadrature) for the isotropic point-source model.
+
+    References
+    ----------
+    R. J. Mailloux, *Phased Array Antenna Handbook*, 3rd ed., Artech House, 2018, ch. 2
+    (directivity of arrays of isotropic elements).
+    """
+    from . import engine
+
+    km = engine._k()
+    p = np.ascontiguousarray(np.asarray(positions, float).T)
+    w = np.asarray(weights, complex)
+    s = km.sinc_power(p[0], p[1], p[2], np.ascontiguousarray(w.real),
+                      np.ascontiguousarray(w.imag), float(k))
+    return 4 * np.pi * float(s)
+
+
+def radiated_power(array, *, frequency: float | None = None, method: PowerMethod = "auto",
+                   margin: int = DEFAULT_MARGIN) -> RadiatedPower:
+    """Radiated power of ``array`` (integral of |E|^2 over the sphere).
+
+    Parameters
+    ----------
+    array : Array
+    frequency : float, optional
+        Evaluation frequency (Hz).
+    method : {"auto", "quadrature", "closed_form"}
+        "closed_form" needs isotropic elements. "auto" uses it for isotropic arrays of up to
+        20,000 elements, quadrature otherwise.
+    margin : int
+        Extra nodes beyond the band limit (see :mod:`steradian.sphere`).
+    """
+    if method == "closed_form" or (method == "auto" and _is_isotropic(array)
+                                   and array.n <= 20_000):
+        if not _is_isotropic(array):
+            raise SteradianError("closed-form radiated power needs isotropic elements")
+        w = array.weights(frequency)
+        val = closed_form_power(array.positions, w, array.k(frequency))
+        return RadiatedPower(val, array.n * np.finfo(float).eps, "closed_form")
+    return _quadrature(array, frequency, margin)
+
+
+def directivity(array, where, *, frequency: float | None = None,
+                power: RadiatedPower | None = None) -> np.ndarray:
+    """Directivity D = 4 pi U / P_rad (linear) at ``where``, shaped like ``where``."""
+    power = power or radiated_power(array, frequency=frequency)
+    return 4 * np.pi * field(array, where, frequency=frequency).intensity / power.value
+
+
+@dataclass(frozen=True)
+class Peak:
+    """Beam peak: direction and directivity."""
+
+    directivity: float
+    theta_deg: float
+    phi_deg: float
+    power: RadiatedPower
+
+    @property
+    def directivity_dbi(self) -> float:
+        return float(to_db(self.directivity))
+
+    @property
+    def unit(self) -> np.ndarray:
+        t, p = np.deg2rad(self.theta_deg), np.deg2rad(self.phi_deg)
+        return np.array([np.sin(t) * np.cos(p), np.sin(t) * np.sin(p), np.cos(t)])
+
+
+def fibonacci_directions(n: int, front_only: bool = False) -> np.ndarray:
+    """Near-uniform directions on the sphere (or front hemisphere): a Fibonacci lattice.
+
+    References
+    ----------
+    R. Swinbank and R. J. Purser, "Fibonacci grids: A novel approach to global modelling,"
+    *Q. J. R. Meteorol. Soc.* 132 (2006) 1769-1793.
+    """
+    n = max(int(n), 8)
+    i = np.arange(n) + 0.5
+    z = 1 - 2 * i / n if not front_only else 1 - i / n
+    golden = np.pi * (3 - np.sqrt(5))
+    phi = golden * i
+    r = np.sqrt(np.clip(1 - z**2, 0, None))
+    return np.column_stack([r * np.cos(phi), r * np.sin(phi), z])
+
+
+def search_spacing(array, frequency=None, per_null: float = 2.0) -> float:
+    """Angular sample spacing (rad) giving ``per_null`` samples per main-lobe null width."""
+    kr = max(array.electrical_radius(frequency), 1.0)
+    # Null-to-null width of an aperture of diameter 2R is about 2*lambda/(2R) = 2*pi/(kR).
+    return min(2 * np.pi / kr / per_null, 0.2)
+
+
+def _tangent_frame(r0):
+    r0 = r0 / np.linalg.norm(r0)
+    a = np.array([0.0, 0.0, 1.0]) if abs(r0[2]) < 0.9 else np.array([1.0, 0.0, 0.0])
+    e1 = np.cross(a, r0)
+    e1 /= np.linalg.norm(e1)
+    e2 = np.cross(r0, e1)
+    return r0, e1, e2
+
+
+def refine_max(fun, r0, scale: float) -> tuple[np.ndarray, float]:
+    """Local maximisation of ``fun(unit_vectors (M,3)) -> (M,)`` starting at ``r0``.
+
+    Parametrises the neighbourhood of ``r0`` by its tangent plane and runs Nelder-Mead.
+    Returns the refined unit vector and the function value there.
+    """
+    from scipy.optimize import minimize
+
+    r0, e1, e2 = _tangent_frame(np.asarray(r0, float))
+
+    def to_unit(x):
+        v = r0 + x[0] * e1 + x[1] * e2
+        return v / np.linalg.norm(v)
+
+    def neg(x):
+        return -float(fun(to_unit(x)[None, :])[0])
+
+    res = minimize(neg, np.zeros(2), method="Nelder-Mead",
+                   options={"xatol": scale * 1e-7, "fatol": 0.0, "maxiter": 400,
+                            "initial_simplex": np.array([[0, 0], [scale, 0], [0, scale]]) * 0.25})
+    return to_unit(res.x), -res.fun
+
+
+def local_maxima_candidates(values: np.ndarray, dirs: np.ndarray, spacing: float,
+                            count: int = 8) -> np.ndarray:
+    """Indices of up to ``count`` largest samples that are local maxima among neighbours."""
+    from scipy.spatial import cKDTree
+
+    order = np.argsort(values)[::-1]
+    tree = cKDTree(dirs)
+    picked = []
+    radius = 2.0 * spacing
+    for i in order[: max(200, 20 * count)]:
+        nb = tree.query_ball_point(dirs[i], radius)
+        if values[i] >= np.max(values[nb]):
+            picked.append(i)
+            if len(picked) >= count:
+                break
+    if not picked:
+        picked = [int(order[0])]
+    return np.array(picked)
+
+
+def peak_directivity(array, *, frequency: float | None = None,
+                     power: RadiatedPower | None = None) -> Peak:
+    """Peak directivity and its direction, refined off-grid by local optimisation.
+
+    A near-uniform search set with two samples per main-lobe null width finds every lobe's
+    basin; the best candidates (and the steering direction) are refined by Nelder-Mead in the
+    tangent plane.
+    """
+    power = power or radiated_power(array, frequency=frequency)
+    front = array.element.front_only and array.geometry.orientations is None
+    sp = search_spacing(array, frequency)
+    n = int(4 * np.pi / sp**2 / (2 if front else 1))
+    dirs = fibonacci_directions(n, front)
+
+    def inten(v):
+        return field(array, Directions.from_vectors(v), frequency=frequency).intensity
+
+    vals = inten(dirs)
+    starts = [dirs[i] for i in local_maxima_candidates(vals, dirs, sp, 6)]
+    if array.steering is not None:
+        starts.insert(0, array.steering.unit)
+    best_v, best_f = None, -np.inf
+    for s in starts:
+        v, f = refine_max(inten, s, sp)
+        if f > best_f:
+            best_v, best_f = v, f
+    theta = math.degrees(math.acos(float(np.clip(best_v[2], -1, 1))))
+    phi = math.degrees(math.atan2(best_v[1], best_v[0])) if theta > 1e-9 else 0.0
+    return Peak(4 * np.pi * best_f / power.value, theta, phi, power)
+
+
+def beam_solid_angle(d_max: float) -> float:
+    """Beam solid angle Omega_A = 4 pi / D_max (sr)."""
+    return 4 * np.pi / positive("directivity", d_max)
+
+
+def taper_efficiency(array, *, frequency: float | None = None) -> float:
+    """Directivity of ``array`` over that of the same array with uniform amplitude.
+
+    The uniform reference keeps the element mask, steering and element model; only the taper
+    amplitudes (and fixed phases) become 1. For an equally spaced planar array at half-wave
+    spacing this reduces to |sum w|^2 / (N sum |w|^2).
+    """
+    d = peak_directivity(array, frequency=frequency).directivity
+    d0 = peak_directivity(array.with_taper(np.ones(array.n)), frequency=frequency).directivity
+    return d / d0
+
+
+def gain(d, efficiency: float = 1.0):
+    """Gain G = xi D for radiation efficiency 0 < xi <= 1."""
+    xi = positive("radiation_efficiency", efficiency)
+    if xi > 1:
+        raise SteradianError(f"radiation_efficiency must be at most 1, got {efficiency}")
+    return xi * np.asarray(d)
+
+
+def mismatch_factor(*, vswr: float | None = None, return_loss_db: float | None = None) -> float:
+    """1 - |Gamma|^2 from a VSWR (>= 1) or a return loss in dB (>= 0, positive number)."""
+    if (vswr is None) == (return_loss_db is None):
+        raise SteradianError("give exactly one of vswr or return_loss_db")
+    if vswr is not None:
+        s = positive("vswr", vswr)
+        if s < 1:
+            raise SteradianError(f"vswr must be at least 1, got {vswr}")
+        gamma = (s - 1) / (s + 1)
+    else:
+        gamma = 10 ** (-nonneg("return_loss_db", return_loss_db) / 20)
+    return 1 - gamma**2
+
+
+def realized_gain(g, *, vswr: float | None = None, return_loss_db: float | None = None):
+    """Realized gain G (1 - |Gamma|^2)."""
+    if vswr is None and return_loss_db is None:
+        return np.asarray(g)
+    return np.asarray(g) * mismatch_factor(vswr=vswr, return_loss_db=return_loss_db)
+
+
+def eirp(realized_gain_linear: float, element_power_w: float, weights) -> dict:
+    """EIRP of a transmit array.
+
+    Each element's channel delivers ``element_power_w`` at full amplitude; element n delivers
+    ``element_power_w * |w_n|^2 / max|w|^2``. EIRP = P_total * G_realized.
+
+    Returns a dict with total input power (W), EIRP (W and dBW) and the RF exposure caution.
+    """
+    p = positive("element_power_w", element_power_w, " W")
+    w = np.abs(np.asarray(weights))
+    total = float(p * (w**2).sum() / (w.max() ** 2))
+    e = total * float(realized_gain_linear)
+    return {"total_power_w": total, "eirp_w": e, "eirp_dbw": float(to_db(e)),
+            "caution": RF_EXPOSURE_CAUTION}
+
+
+__all__ += ["closed_form_power", "fibonacci_directions", "refine_max", "sphere_rule"]
