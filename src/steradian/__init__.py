@@ -12,6 +12,7 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
+from ._validate import C0
 from .array import Array, Steering, direction
 from .elements import CosinePower, Dipole, Element, HalfWaveDipole, Isotropic, ShortDipole
 from .engine import Field, field
@@ -38,7 +39,7 @@ from .radiation import (
 )
 
 __all__ = [
-    "__version__",
+    "__version__", "C0",
     "Array", "Steering", "direction",
     "Element", "Isotropic", "CosinePower", "Dipole", "ShortDipole", "HalfWaveDipole",
     "Field", "field",

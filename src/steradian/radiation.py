@@ -97,9 +97,9 @@ def _quadrature(array, frequency, margin):
 
 
 def closed_form_power(positions, weights, k) -> float:
-    r"""Radiated power of isotropic elements: :math:`4\pi\sum_{mn} w_m w_n^* \mathrm{sinc}(kr_{mn})`.
+    r"""Radiated power of isotropic elements (closed form, no quadrature).
 
-    sinc(x) = sin(x)/x. This is exact (no quadrature) for the isotropic point-source model.
+    :math:`P = 4\pi\sum_{mn} w_m w_n^* \mathrm{sinc}(kr_{mn})` with sinc(x) = sin(x)/x. This is exact (no quadrature) for the isotropic point-source model.
 
     References
     ----------
@@ -336,4 +336,33 @@ def eirp(realized_gain_linear: float, element_power_w: float, weights) -> dict:
             "caution": RF_EXPOSURE_CAUTION}
 
 
-__all__ += ["closed_form_power", "fibonacci_directions", "refine_max", "sphere_rule"]
+def power_matrix(array, *, frequency: float | None = None,
+                 margin: int = DEFAULT_MARGIN) -> np.ndarray:
+    r"""Hermitian radiated-power matrix Q with :math:`P_{rad} = w^H Q w` for any weights w.
+
+    For isotropic elements :math:`Q_{mn} = 4\pi\,\mathrm{sinc}(k|r_m - r_n|)` (closed form);
+    otherwise :math:`Q = \sum_i \omega_i a_i^H a_i` over the nodes of the sphere rule, with
+    :math:`a_i` the element responses of :func:`steradian.engine.response_matrix`. Element
+    mask and steering are not applied (Q acts on the full weight vector).
+    """
+    from scipy.spatial.distance import pdist, squareform
+
+    k = array.k(frequency)
+    if _is_isotropic(array):
+        r = squareform(pdist(array.positions))
+        return 4 * np.pi * np.sinc(k * r / np.pi)
+    from .engine import response_matrix
+
+    rule = rule_for(array, frequency, margin)
+    A = response_matrix(array, rule.grid, frequency=frequency)  # (2, M, N)
+    wts = (rule.w_theta[:, None] * np.full(rule.n_phi, rule.w_phi)[None, :]).ravel()
+    Q = np.zeros((array.n, array.n), complex)
+    for c in range(2):
+        Ac = A[c]
+        Q += (Ac.conj().T * wts) @ Ac
+    # The plain sum w^H Q w must equal radiated_power; Q^T convention follows E = A w.
+    return 0.5 * (Q + Q.conj().T)
+
+
+__all__ += ["closed_form_power", "fibonacci_directions", "refine_max", "sphere_rule",
+            "power_matrix"]

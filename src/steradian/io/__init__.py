@@ -1,0 +1,1 @@
+"""File formats: one module per format, reader and writer side by side."""
