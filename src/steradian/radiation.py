@@ -99,7 +99,8 @@ def _quadrature(array, frequency, margin):
 def closed_form_power(positions, weights, k) -> float:
     r"""Radiated power of isotropic elements (closed form, no quadrature).
 
-    :math:`P = 4\pi\sum_{mn} w_m w_n^* \mathrm{sinc}(kr_{mn})` with sinc(x) = sin(x)/x. This is exact (no quadrature) for the isotropic point-source model.
+    :math:`P = 4\pi\sum_{mn} w_m w_n^* \mathrm{sinc}(kr_{mn})` with
+    sinc(x) = sin(x)/x, exact for the isotropic point-source model.
 
     References
     ----------
