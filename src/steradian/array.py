@@ -112,9 +112,9 @@ class Array:
             m = m.copy()
             m.setflags(write=False)
             object.__setattr__(self, "enabled", m)
-        if self.steering is not None and self.element.front_only:
-            ez = np.array([0.0, 0.0, 1.0]) if self.geometry.orientations is None else None
-            if ez is not None and self.steering.unit[2] <= 0:
+        if (self.steering is not None and self.element.front_only
+                and self.geometry.orientations is None):
+            if self.steering.unit[2] <= 0:
                 raise SteradianError(
                     f"steering.theta_deg={self.steering.theta_deg} is at or below the horizon "
                     "of a front-half-space element (must be < 90)")
