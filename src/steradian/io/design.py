@@ -1,0 +1,671 @@
+"""Design files: a phased-array design as a TOML document.
+
+A design file names the array, its geometry, the element model, the taper, the steering and
+what to analyse. :func:`load_design` reads one into a :class:`Design` holding a ready
+:class:`~steradian.Array` and :class:`~steradian.analysis.AnalysisOptions`. Every length in
+``[geometry]`` is in the unit stated by ``geometry.units``; relative file paths resolve
+against the design file's folder. The full schema is in the README ("Design files").
+
+Sections validated here: ``[design]``, ``[geometry]``, ``[element]``, ``[taper]``,
+``[steering]``, ``[analysis]``. Sections owned by other features (``[synthesis]``,
+``[channel]``, ``[beams]``) are passed through unvalidated in :attr:`Design.sections`.
+
+Every problem raises :class:`~steradian.errors.DesignError` naming the dotted key and the
+file, in one line; unknown keys come with the closest valid key.
+"""
+
+from __future__ import annotations
+
+import difflib
+import importlib
+import importlib.util
+import math
+import tomllib
+from collections.abc import Mapping
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+from types import MappingProxyType
+from typing import Any
+
+import numpy as np
+
+from .._validate import C0
+from ..analysis import AnalysisOptions
+from ..array import Array, Steering
+from ..elements import CosinePower, Dipole, Element, Isotropic
+from ..errors import DesignError, FileFormatError, SteradianError
+from ..geometry import (
+    Geometry,
+    concentric_rings,
+    linear,
+    rectangular,
+    ring,
+    rotation_to,
+    triangular,
+)
+
+__all__ = ["Design", "load_design", "design_from_dict", "demo_design", "SECTIONS",
+           "PASS_THROUGH_SECTIONS", "GEOMETRY_KINDS", "ELEMENT_MODELS", "LENGTH_UNITS"]
+
+SECTIONS = ("design", "geometry", "element", "taper", "steering", "analysis")
+"""Sections this module validates."""
+
+PASS_THROUGH_SECTIONS = ("synthesis", "channel", "beams")
+"""Sections owned (and validated) by other features; kept raw in :attr:`Design.sections`."""
+
+LENGTH_UNITS = {"m": 1.0, "mm": 1e-3, "wavelength": None}
+"""Values of ``geometry.units`` and their size in metres (wavelength: at the design
+frequency)."""
+
+_MISSING = object()
+
+
+# --------------------------------------------------------------------------------------------
+# The result
+# --------------------------------------------------------------------------------------------
+@dataclass(frozen=True, eq=False)
+class Design:
+    """A design read from a TOML file or dictionary.
+
+    Attributes
+    ----------
+    name : str
+        ``design.name`` (default: the file name without extension).
+    description : str
+        ``design.description`` (default empty).
+    array : Array
+        Geometry, element, taper, steering and element mask at the design frequency.
+    options : AnalysisOptions
+        From ``[analysis]``.
+    sections : Mapping[str, Any]
+        Raw tables of the pass-through sections present (``synthesis``, ``channel``,
+        ``beams``); their owners validate them.
+    source : Path or None
+        The design file.
+    base_dir : Path
+        Folder relative file paths resolve against (the design file's folder).
+    """
+
+    name: str
+    description: str
+    array: Array
+    options: AnalysisOptions
+    sections: Mapping[str, Any] = field(default_factory=dict)
+    source: Path | None = None
+    base_dir: Path = field(default_factory=Path.cwd)
+
+    @property
+    def wavelength(self) -> float:
+        """Wavelength at the design frequency (m)."""
+        return self.array.wavelength
+
+    def analyze(self, frequency: float | None = None) -> dict:
+        """Run :func:`steradian.analysis.analyze` with the design's options.
+
+        ``frequency`` (Hz) overrides ``analysis.frequency_hz``. The returned dictionary is
+        the analysis summary with a ``design`` block (name, description, source) added.
+        """
+        from ..analysis import analyze
+
+        opt = self.options
+        if frequency is not None:
+            opt = replace(opt, frequency=_positive_value("--frequency", frequency, " Hz"))
+        out = {"design": {"name": self.name, "description": self.description,
+                          "source": None if self.source is None else str(self.source)}}
+        out.update(analyze(self.array, opt))
+        return out
+
+
+def _positive_value(name, value, unit=""):
+    try:
+        x = float(value)
+    except (TypeError, ValueError):
+        raise SteradianError(f"{name} must be a number, got {value!r}") from None
+    if not math.isfinite(x) or x <= 0:
+        raise SteradianError(f"{name} must be positive, got {value!r}{unit}")
+    return x
+
+
+# --------------------------------------------------------------------------------------------
+# Typed access to one table, with errors naming the dotted key
+# --------------------------------------------------------------------------------------------
+def _type_name(v) -> str:
+    return {bool: "boolean", int: "integer", float: "number", str: "string", list: "array",
+            dict: "table"}.get(type(v), type(v).__name__)
+
+
+class _Table:
+    """One TOML table: typed getters that raise DesignError naming ``section.key``."""
+
+    def __init__(self, name: str, data, source: str | None):
+        if not isinstance(data, dict):
+            raise DesignError(name, f"must be a table [{name}], got {_type_name(data)}", source)
+        self.name = name
+        self.data = data
+        self.source = source
+
+    def error(self, key: str | None, message: str) -> DesignError:
+        return DesignError(f"{self.name}.{key}" if key else self.name, message, self.source)
+
+    def __contains__(self, key):
+        return key in self.data
+
+    def _get(self, key, default):
+        if key not in self.data:
+            if default is _MISSING:
+                raise self.error(key, "required key is missing")
+            return default, False
+        return self.data[key], True
+
+    def number(self, key, default=_MISSING, *, minimum=None, above=None, maximum=None):
+        v, given = self._get(key, default)
+        if not given:
+            return v
+        return self._check_number(key, v, minimum=minimum, above=above, maximum=maximum)
+
+    def _check_number(self, key, v, *, minimum=None, above=None, maximum=None):
+        if isinstance(v, bool) or not isinstance(v, (int, float)):
+            raise self.error(key, f"must be a number, got {_type_name(v)} {v!r}")
+        x = float(v)
+        if not math.isfinite(x):
+            raise self.error(key, f"must be a finite number, got {v!r}")
+        if above is not None and not x > above:
+            word = "positive" if above == 0 else f"greater than {above:g}"
+            raise self.error(key, f"must be {word}, got {v!r}")
+        if minimum is not None and x < minimum:
+            word = "zero or positive" if minimum == 0 else f"at least {minimum:g}"
+            raise self.error(key, f"must be {word}, got {v!r}")
+        if maximum is not None and x > maximum:
+            raise self.error(key, f"must be at most {maximum:g}, got {v!r}")
+        return x
+
+    def integer(self, key, default=_MISSING, *, minimum=None):
+        v, given = self._get(key, default)
+        if not given:
+            return v
+        return self._check_int(key, v, minimum=minimum)
+
+    def _check_int(self, key, v, *, minimum=None):
+        if isinstance(v, bool) or not isinstance(v, int):
+            raise self.error(key, f"must be a whole number, got {_type_name(v)} {v!r}")
+        if minimum is not None and v < minimum:
+            raise self.error(key, f"must be at least {minimum}, got {v}")
+        return v
+
+    def string(self, key, default=_MISSING, *, choices=None):
+        v, given = self._get(key, default)
+        if not given:
+            return v
+        if not isinstance(v, str):
+            raise self.error(key, f"must be a string, got {_type_name(v)} {v!r}")
+        if choices is not None and v not in choices:
+            raise self.error(key, f"must be one of {', '.join(map(repr, choices))}, got "
+                             f"{v!r}{_hint(v, choices)}")
+        return v
+
+    def boolean(self, key, default=_MISSING):
+        v, given = self._get(key, default)
+        if given and not isinstance(v, bool):
+            raise self.error(key, f"must be true or false, got {_type_name(v)} {v!r}")
+        return v
+
+    def numbers(self, key, default=_MISSING, *, above=None, nonempty=True):
+        v, given = self._get(key, default)
+        if not given:
+            return v
+        if not isinstance(v, list):
+            raise self.error(key, f"must be an array of numbers, got {_type_name(v)} {v!r}")
+        if nonempty and not v:
+            raise self.error(key, "must not be empty")
+        return [self._check_number(f"{key}[{i}]", x, above=above) for i, x in enumerate(v)]
+
+    def integers(self, key, default=_MISSING, *, minimum=None, nonempty=True):
+        v, given = self._get(key, default)
+        if not given:
+            return v
+        if not isinstance(v, list):
+            raise self.error(key, f"must be an array of whole numbers, got {_type_name(v)} "
+                             f"{v!r}")
+        if nonempty and not v:
+            raise self.error(key, "must not be empty")
+        return [self._check_int(f"{key}[{i}]", x, minimum=minimum) for i, x in enumerate(v)]
+
+    def vector3(self, key, default=_MISSING):
+        v, given = self._get(key, default)
+        if not given:
+            return v
+        if not isinstance(v, list) or len(v) != 3:
+            raise self.error(key, f"must be an array of 3 numbers, got {v!r}")
+        x = np.array([self._check_number(f"{key}[{i}]", c) for i, c in enumerate(v)])
+        if not np.linalg.norm(x) > 0:
+            raise self.error(key, "must be a non-zero vector")
+        return x
+
+    def path(self, key, base_dir: Path) -> Path:
+        p = self.string(key)
+        if not p.strip():
+            raise self.error(key, "must be a file name, got an empty string")
+        full = Path(p).expanduser()
+        full = full if full.is_absolute() else base_dir / full
+        if not full.is_file():
+            raise self.error(key, f"file not found: {full}")
+        return full
+
+    def only(self, allowed, context: str = "") -> None:
+        """Raise for the first key not in ``allowed``, suggesting the closest one."""
+        allowed = list(allowed)
+        for k in self.data:
+            if k not in allowed:
+                where = f" {context}" if context else ""
+                raise self.error(k, f"unknown key{where}{_hint(k, allowed)}; allowed: "
+                                 f"{', '.join(allowed)}")
+
+
+def _hint(word: str, options) -> str:
+    m = difflib.get_close_matches(str(word), [str(o) for o in options], n=1, cutoff=0.6)
+    return f" (did you mean {m[0]!r}?)" if m else ""
+
+
+@dataclass(frozen=True)
+class _Context:
+    source: str | None
+    base_dir: Path
+    frequency: float
+    speed: float
+
+    @property
+    def wavelength(self) -> float:
+        return self.speed / self.frequency
+
+
+# --------------------------------------------------------------------------------------------
+# [geometry]
+# --------------------------------------------------------------------------------------------
+_GEOMETRY_COMMON = ("kind", "units", "disabled", "facing", "local_x_toward")
+
+GEOMETRY_KINDS: dict[str, tuple[str, ...]] = {
+    "linear": ("count", "spacing", "axis"),
+    "rectangular": ("count_x", "count_y", "spacing_x", "spacing_y"),
+    "triangular": ("count_x", "count_y", "spacing_x", "spacing_y"),
+    "ring": ("count", "radius", "start_angle_deg"),
+    "rings": ("counts", "radii", "centre_element", "start_angles_deg"),
+    "csv": ("file",),
+}
+"""Geometry kinds and their keys (besides kind, units, disabled, facing, local_x_toward)."""
+
+
+def _geometry(t: _Table, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
+    kind = t.string("kind", choices=tuple(GEOMETRY_KINDS))
+    t.only((*_GEOMETRY_COMMON, *GEOMETRY_KINDS[kind]), f"for kind = {kind!r}")
+    enabled = None
+    if kind == "csv":
+        if "units" in t:
+            raise t.error("units", "not used with kind = 'csv': the file's column names "
+                          "state the unit (x_m, x_mm or x_wl)")
+        from .positions_csv import read_layout
+
+        path = t.path("file", ctx.base_dir)
+        if "facing" in t and _csv_has_normals(path):
+            raise t.error("facing", "the positions file already gives normals; remove one")
+        ref = t.vector3("local_x_toward", np.array([1.0, 0.0, 0.0]))
+        layout = read_layout(path, ctx.wavelength, ref)
+        geom, enabled = layout.geometry, layout.enabled
+    else:
+        unit = t.string("units", choices=tuple(LENGTH_UNITS))
+        s = LENGTH_UNITS[unit] or ctx.wavelength
+        try:
+            geom = _lattice(t, kind, s)
+        except DesignError:
+            raise
+        except SteradianError as exc:
+            raise t.error(None, str(exc)) from None
+    geom = _facing(t, geom)
+    if "disabled" in t:
+        idx = t.integers("disabled", minimum=0, nonempty=False)
+        mask = np.ones(geom.n, bool) if enabled is None else enabled.copy()
+        for i, j in enumerate(idx):
+            if j >= geom.n:
+                raise t.error(f"disabled[{i}]", f"element index {j} is outside 0..{geom.n - 1}")
+            mask[j] = False
+        if not mask.any():
+            raise t.error("disabled", "every element is disabled")
+        enabled = mask
+    return geom, enabled
+
+
+def _csv_has_normals(path: Path) -> bool:
+    from .positions_csv import read_table
+
+    header = read_table(path)[0]
+    return "normal_x" in header
+
+
+def _lattice(t: _Table, kind: str, s: float) -> Geometry:
+    if kind == "linear":
+        return linear(t.integer("count", minimum=1), t.number("spacing", above=0) * s,
+                      t.string("axis", "x", choices=("x", "y", "z")))
+    if kind in ("rectangular", "triangular"):
+        nx = t.integer("count_x", minimum=1)
+        ny = t.integer("count_y", minimum=1)
+        dx = t.number("spacing_x", above=0) * s
+        dy = t.number("spacing_y", None, above=0)
+        dy = None if dy is None else dy * s
+        return (rectangular if kind == "rectangular" else triangular)(nx, ny, dx, dy)
+    if kind == "ring":
+        return ring(t.integer("count", minimum=1), t.number("radius", above=0) * s,
+                    t.number("start_angle_deg", 0.0))
+    # rings
+    radii = t.numbers("radii", above=0)
+    counts = t.integers("counts", minimum=1)
+    if len(radii) != len(counts):
+        raise t.error("counts", f"has {len(counts)} entries but radii has {len(radii)}")
+    start = t.data.get("start_angles_deg", 0.0)
+    if isinstance(start, list):
+        start = t.numbers("start_angles_deg")
+        if len(start) != len(radii):
+            raise t.error("start_angles_deg", f"has {len(start)} entries, radii has "
+                          f"{len(radii)}")
+    else:
+        start = t.number("start_angles_deg", 0.0)
+    return concentric_rings([r * s for r in radii], counts,
+                            t.boolean("centre_element", False), start)
+
+
+def _facing(t: _Table, geom: Geometry) -> Geometry:
+    """Apply ``geometry.facing``: "broadside", "outward" (from the z axis) or a vector."""
+    if "facing" not in t:
+        if "local_x_toward" in t and geom.orientations is None:
+            raise t.error("local_x_toward", "only used with geometry.facing or a positions "
+                          "file with normal columns")
+        return geom
+    v = t.data["facing"]
+    if isinstance(v, str):
+        mode = t.string("facing", choices=("broadside", "outward"))
+        if mode == "broadside":
+            if "local_x_toward" in t:
+                raise t.error("local_x_toward", "not used with facing = 'broadside'")
+            return geom
+        xy = geom.positions[:, :2]
+        r = np.hypot(xy[:, 0], xy[:, 1])
+        if np.any(r < 1e-12):
+            i = int(np.argmin(r))
+            raise t.error("facing", f"'outward' needs every element off the z axis; element "
+                          f"{i} is on it")
+        normals = np.column_stack([xy / r[:, None], np.zeros(geom.n)])
+        ref = t.vector3("local_x_toward", np.array([0.0, 0.0, 1.0]))
+    else:
+        normals = np.broadcast_to(t.vector3("facing"), (geom.n, 3))
+        ref = t.vector3("local_x_toward", np.array([1.0, 0.0, 0.0]))
+    R = rotation_to(np.array(normals), ref)
+    return Geometry(geom.positions, R, geom.lattice)
+
+
+# --------------------------------------------------------------------------------------------
+# [element]
+# --------------------------------------------------------------------------------------------
+ELEMENT_MODELS: dict[str, tuple[str, ...]] = {
+    "isotropic": (),
+    "cosine_power": ("q", "exponent_on"),
+    "dipole": ("length_m", "length_wl", "axis"),
+    "short_dipole": ("axis",),
+    "patch": ("eps_r", "height_m", "width_m", "length_m"),
+    "table": ("file",),
+}
+"""Element models and their keys (besides ``model``)."""
+
+
+def _axis(t: _Table):
+    v = t.data.get("axis", "z")
+    if isinstance(v, str):
+        return t.string("axis", "z", choices=("x", "y", "z"))
+    return t.vector3("axis")
+
+
+def _element(t: _Table, ctx: _Context) -> Element:
+    model = t.string("model", choices=tuple(ELEMENT_MODELS))
+    t.only(("model", *ELEMENT_MODELS[model]), f"for model = {model!r}")
+    try:
+        if model == "isotropic":
+            return Isotropic()
+        if model == "cosine_power":
+            return CosinePower(t.number("q", minimum=0),
+                               t.string("exponent_on", "power", choices=("power", "field")))
+        if model == "short_dipole":
+            return Dipole(None, _axis(t))
+        if model == "dipole":
+            has = [k for k in ("length_m", "length_wl") if k in t]
+            if len(has) != 1:
+                raise t.error("length_m", "give exactly one of element.length_m (metres) or "
+                              "element.length_wl (wavelengths)")
+            length = t.number(has[0], above=0)
+            if has[0] == "length_wl":
+                length *= ctx.wavelength
+            return Dipole(length, _axis(t), ctx.frequency, ctx.speed)
+        if model == "patch":
+            return _patch(t, ctx)
+        # table
+        from .. import elements
+
+        reader = getattr(elements, "read_element_table", None)
+        if reader is None:
+            raise t.error("model", "'table' is not available in this installation")
+        return reader(t.path("file", ctx.base_dir))
+    except (DesignError, FileFormatError):
+        raise
+    except SteradianError as exc:
+        raise t.error(None, str(exc)) from None
+
+
+def _patch(t: _Table, ctx: _Context) -> Element:
+    from .. import elements
+
+    patch = getattr(elements, "Patch", None)
+    if patch is None:
+        raise t.error("model", "'patch' is not available in this installation")
+    eps_r = t.number("eps_r", minimum=1)
+    h = t.number("height_m", above=0)
+    w = t.number("width_m", None, above=0)
+    length = t.number("length_m", None, above=0)
+    if length is None:
+        return patch.resonant(ctx.frequency, eps_r, h, width_m=w)
+    if w is None:
+        raise t.error("width_m", "required when element.length_m is given")
+    return patch(ctx.frequency, w, length, eps_r, h, speed=ctx.speed)
+
+
+# --------------------------------------------------------------------------------------------
+# [taper], [steering], [analysis], [design]
+# --------------------------------------------------------------------------------------------
+def _taper(t: _Table | None, geom: Geometry, ctx: _Context) -> np.ndarray | None:
+    if t is None:
+        return None
+    if "file" in t:
+        t.only(("file",), "with taper.file (weights come from the file)")
+        from .weights_csv import read_weights_table
+
+        path = t.path("file", ctx.base_dir)
+        table = read_weights_table(path, geom.n)
+        if table.positions is not None:
+            d = np.linalg.norm(table.positions - geom.positions, axis=1)
+            tol = 1e-6 * ctx.wavelength
+            if d.max() > tol:
+                i = int(np.argmax(d))
+                raise t.error("file", f"positions in {path.name} differ from the geometry by "
+                              f"{d[i]:.3g} m at element {i}")
+        return table.weights
+    kind = t.string("kind", "uniform")
+    if kind == "uniform":
+        t.only(("kind",), "for kind = 'uniform'")
+        return None
+    if importlib.util.find_spec("steradian.tapers") is None:
+        raise t.error("kind", f"unknown taper kind {kind!r}: this installation knows "
+                      "'uniform' and taper.file only")
+    tapers = importlib.import_module("steradian.tapers")
+    try:
+        w = tapers.from_spec(geom, dict(t.data), ctx.wavelength)
+    except DesignError as exc:
+        if exc.source is None:
+            key = exc.key if exc.key.startswith("taper") else f"taper.{exc.key}"
+            msg = str(exc).split(": ", 1)[1] if ": " in str(exc) else str(exc)
+            raise DesignError(key, msg, ctx.source) from None
+        raise
+    except SteradianError as exc:
+        raise t.error(None, str(exc)) from None
+    return np.asarray(w, complex)
+
+
+def _steering(t: _Table | None) -> Steering | None:
+    if t is None:
+        return None
+    t.only(("theta_deg", "phi_deg", "mode"))
+    theta = t.number("theta_deg", 0.0, minimum=0, maximum=180)
+    phi = t.number("phi_deg", 0.0)
+    mode = t.string("mode", "phase", choices=("phase", "delay"))
+    return Steering(theta, phi, mode)
+
+
+_ANALYSIS_KEYS = ("frequency_hz", "radiation_efficiency", "vswr", "return_loss_db",
+                  "element_power_w", "metrics")
+
+
+def _analysis(t: _Table | None) -> AnalysisOptions:
+    if t is None:
+        return AnalysisOptions()
+    t.only(_ANALYSIS_KEYS)
+    if "vswr" in t and "return_loss_db" in t:
+        raise t.error("return_loss_db", "give analysis.vswr or analysis.return_loss_db, "
+                      "not both")
+    return AnalysisOptions(
+        frequency=t.number("frequency_hz", None, above=0),
+        radiation_efficiency=t.number("radiation_efficiency", 1.0, above=0, maximum=1),
+        vswr=t.number("vswr", None, minimum=1),
+        return_loss_db=t.number("return_loss_db", None, above=0),
+        element_power_w=t.number("element_power_w", None, above=0),
+        metrics=t.boolean("metrics", True),
+    )
+
+
+def _check_horizon(steering: Steering | None, element: Element, geom: Geometry,
+                   enabled: np.ndarray | None, t: _Table | None) -> None:
+    """Steering must point in front of the element's ground plane (front-half-space models)."""
+    if steering is None or not element.front_only:
+        return
+    r0 = steering.unit
+    R = geom.orientations
+    if R is None:
+        if r0[2] <= 1e-12:
+            raise t.error(
+                "theta_deg", f"{steering.theta_deg:g} deg is at or below the horizon of the "
+                f"front-half-space element {element.describe()['model']!r} (must be "
+                "below 90)")
+        return
+    facing = R[:, :, 2] @ r0 > 1e-12
+    if enabled is not None:
+        facing &= enabled
+    if not facing.any():
+        raise t.error(
+            "theta_deg", f"direction (theta {steering.theta_deg:g}, phi {steering.phi_deg:g}) "
+            "deg is behind every enabled element's ground plane")
+
+
+# --------------------------------------------------------------------------------------------
+# Entry points
+# --------------------------------------------------------------------------------------------
+def design_from_dict(d: Mapping, source=None, *, base_dir=None) -> Design:
+    """Build a :class:`Design` from a parsed TOML dictionary.
+
+    Parameters
+    ----------
+    d : mapping
+        The document (top-level tables as in a design file).
+    source : path-like, optional
+        File the dictionary came from (named in error messages).
+    base_dir : path-like, optional
+        Folder for relative file paths (default: the folder of ``source``, else the current
+        directory).
+
+    Raises
+    ------
+    DesignError
+        Naming the dotted key and the file, for unknown keys (with a suggestion), wrong
+        types, out-of-range values (negative spacing, NaN, steering below the horizon of a
+        front-half-space element) and missing required keys.
+    FileFormatError
+        For a referenced CSV file that cannot be read (naming its line).
+    """
+    src = None if source is None else str(source)
+    if not isinstance(d, Mapping):
+        raise DesignError("", f"a design must be a table of sections, got {_type_name(d)}", src)
+    known = (*SECTIONS, *PASS_THROUGH_SECTIONS)
+    for k, v in d.items():
+        if k not in known:
+            raise DesignError(k, f"unknown section{_hint(k, known)}; allowed: "
+                              f"{', '.join(known)}", src)
+        if k in SECTIONS and not isinstance(v, dict):
+            hint = ""
+            if k not in ("design",):
+                hint = f" (write it as a [{k}] table)"
+            raise DesignError(k, f"must be a table, got {_type_name(v)} {v!r}{hint}", src)
+    if "design" not in d:
+        raise DesignError("design", "missing section [design] (name, frequency_hz)", src)
+    if "geometry" not in d:
+        raise DesignError("geometry", "missing section [geometry]", src)
+    if base_dir is None:
+        base_dir = Path(source).resolve().parent if source is not None else Path.cwd()
+    base_dir = Path(base_dir)
+
+    td = _Table("design", d["design"], src)
+    td.only(("name", "description", "frequency_hz", "speed_m_s"))
+    default_name = Path(source).stem if source is not None else "design"
+    name = td.string("name", default_name)
+    if not name.strip():
+        raise td.error("name", "must not be empty")
+    description = td.string("description", "")
+    ctx = _Context(src, base_dir, td.number("frequency_hz", above=0),
+                   td.number("speed_m_s", C0, above=0))
+
+    geom, enabled = _geometry(_Table("geometry", d["geometry"], src), ctx)
+    element = _element(_Table("element", d.get("element", {"model": "isotropic"}), src), ctx)
+    tt = _Table("taper", d["taper"], src) if "taper" in d else None
+    taper = _taper(tt, geom, ctx)
+    ts = _Table("steering", d["steering"], src) if "steering" in d else None
+    steering = _steering(ts)
+    options = _analysis(_Table("analysis", d["analysis"], src) if "analysis" in d else None)
+
+    _check_horizon(steering, element, geom, enabled, ts)
+    try:
+        array = Array(geom, ctx.frequency, element, taper, steering, enabled, ctx.speed)
+    except SteradianError as exc:
+        raise DesignError("taper" if "taper" in str(exc) else "design", str(exc), src) from None
+    sections = MappingProxyType({k: d[k] for k in PASS_THROUGH_SECTIONS if k in d})
+    return Design(name, description, array, options, sections,
+                  None if source is None else Path(source), base_dir)
+
+
+def load_design(path) -> Design:
+    """Read a TOML design file into a :class:`Design`.
+
+    Relative file paths inside the design (positions, weights, element tables) resolve
+    against the design file's folder. See :func:`design_from_dict` for the errors.
+    """
+    path = Path(path)
+    try:
+        raw = path.read_bytes()
+    except IsADirectoryError:
+        raise DesignError("", "is a folder, not a design file", str(path)) from None
+    try:
+        doc = tomllib.loads(raw.decode("utf-8"))
+    except UnicodeDecodeError as exc:
+        raise DesignError("", f"not UTF-8 text ({exc.reason})", str(path)) from None
+    except tomllib.TOMLDecodeError as exc:
+        raise DesignError("", f"not valid TOML: {exc}", str(path)) from None
+    return design_from_dict(doc, path)
+
+
+def demo_design() -> Design:
+    """The bundled demo design (package data ``steradian/data/demo.toml``)."""
+    from importlib import resources
+
+    res = resources.files("steradian").joinpath("data", "demo.toml")
+    with resources.as_file(res) as p:
+        return load_design(p)
