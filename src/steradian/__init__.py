@@ -14,7 +14,18 @@ __version__ = "0.1.0"
 
 from ._validate import C0
 from .array import Array, Steering, direction
-from .elements import CosinePower, Dipole, Element, HalfWaveDipole, Isotropic, ShortDipole
+from .elements import (
+    CosinePower,
+    Dipole,
+    Element,
+    HalfWaveDipole,
+    Isotropic,
+    Patch,
+    ShortDipole,
+    TabulatedElement,
+    read_element_table,
+    write_element_table,
+)
 from .engine import Field, field
 from .errors import DesignError, FileFormatError, SteradianError
 from .geometry import (
@@ -42,6 +53,7 @@ __all__ = [
     "__version__", "C0",
     "Array", "Steering", "direction",
     "Element", "Isotropic", "CosinePower", "Dipole", "ShortDipole", "HalfWaveDipole",
+    "Patch", "TabulatedElement", "read_element_table", "write_element_table",
     "Field", "field",
     "SteradianError", "DesignError", "FileFormatError",
     "Geometry", "linear", "rectangular", "triangular", "ring", "concentric_rings",

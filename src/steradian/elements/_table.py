@@ -1,0 +1,633 @@
+r"""Tabulated element patterns: a theta-phi grid of complex far field, read from CSV.
+
+File layout (an original steradian format, one file per element pattern)
+-------------------------------------------------------------------------
+Comment lines start with ``#``. Before the first data row, comment lines of the form
+``# key = value`` are header keys; other comment lines are free text. Keys:
+
+``quantity`` (required)
+    ``field``: complex field, real and imaginary parts; ``gain_dbi``: partial gain in dBi
+    with phase in degrees (``-inf`` dBi is a zero field).
+``components`` (optional, default ``theta_phi``)
+    ``theta_phi``: the two polarised components E_theta, E_phi (a vector model);
+    ``scalar``: one scalar field (acoustic transducers, unpolarised models).
+``columns`` (required)
+    The column names in file order, comma separated; exactly the set below for the quantity
+    and components, in any order.
+``front_only`` (optional, ``true``/``false``, default ``false``)
+    ``true``: the element radiates only into its local front half-space; the table then
+    covers theta 0..90 and the pattern is zero behind.
+``frequency_hz`` (optional), ``note`` (optional)
+    Recorded in :meth:`TabulatedElement.describe`.
+
+=================  ==========  ===============================================================
+quantity           components  columns
+=================  ==========  ===============================================================
+field              theta_phi   theta_deg, phi_deg, re_e_theta, im_e_theta, re_e_phi, im_e_phi
+field              scalar      theta_deg, phi_deg, re_e, im_e
+gain_dbi           theta_phi   theta_deg, phi_deg, gain_theta_dbi, phase_theta_deg,
+                               gain_phi_dbi, phase_phi_deg
+gain_dbi           scalar      theta_deg, phi_deg, gain_dbi, phase_deg
+=================  ==========  ===============================================================
+
+Each data row is one direction (theta, phi) in the element's local frame (degrees, theta from
++z, phi from +x toward +y), comma separated, in any order. The rows must form the full product
+of equally spaced theta values from 0 to 180 (0 to 90 when ``front_only``) and equally spaced
+phi values around the full circle (a closing column at phi_0 + 360 may repeat the first).
+
+Example::
+
+    # steradian element pattern table
+    # quantity = field
+    # columns = theta_deg, phi_deg, re_e_theta, im_e_theta, re_e_phi, im_e_phi
+    0,0,1,0,0,0
+    0,90,0,0,-1,0
+    ...
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import re
+from pathlib import Path
+
+import numpy as np
+
+from .._validate import doubtful
+from ..errors import FileFormatError, SteradianError
+from ._base import Element, angles_of, spherical_basis, unit_vectors
+
+__all__ = ["TabulatedElement", "read_element_table", "write_element_table", "COLUMNS"]
+
+COLUMNS: dict[tuple[str, str], tuple[str, ...]] = {
+    ("field", "theta_phi"): ("theta_deg", "phi_deg", "re_e_theta", "im_e_theta", "re_e_phi",
+                             "im_e_phi"),
+    ("field", "scalar"): ("theta_deg", "phi_deg", "re_e", "im_e"),
+    ("gain_dbi", "theta_phi"): ("theta_deg", "phi_deg", "gain_theta_dbi", "phase_theta_deg",
+                                "gain_phi_dbi", "phase_phi_deg"),
+    ("gain_dbi", "scalar"): ("theta_deg", "phi_deg", "gain_dbi", "phase_deg"),
+}
+"""Column names for each (quantity, components) pair."""
+
+_KEYS = ("quantity", "components", "columns", "front_only", "frequency_hz", "note")
+_PAD = 12          # rows/columns of periodic or pole-reflected padding around the spline grid
+_GRID_TOL = 1e-6   # degrees: tolerance for "equally spaced" and "ends at 0/90/180/360"
+_SAME_TOL = 1e-3   # relative: two samples of one direction (poles, closing column) must agree
+
+
+# ---- peak search shared with the analytic models --------------------------------------------
+
+def _fibonacci(n: int, front_only: bool) -> np.ndarray:
+    i = np.arange(n) + 0.5
+    z = 1 - i / n if front_only else 1 - 2 * i / n
+    ph = np.pi * (3 - math.sqrt(5)) * i
+    r = np.sqrt(np.clip(1 - z**2, 0, None))
+    return np.column_stack([r * np.cos(ph), r * np.sin(ph), z])
+
+
+def _peak_intensity(pattern, front_only: bool, starts=(), n: int = 3000) -> float:
+    """Largest ``|E_theta|^2 + |E_phi|^2`` of ``pattern(theta, phi)`` over the sphere.
+
+    Samples a near-uniform set of ``n`` directions, then polishes the best few samples and
+    the given ``starts`` ((theta, phi) in radians) by Nelder-Mead in the tangent plane.
+    """
+    from scipy.optimize import minimize
+
+    def inten(v):
+        th, ph = angles_of(v)
+        a, b = pattern(th, ph)
+        return np.abs(a) ** 2 + np.abs(b) ** 2
+
+    dirs = _fibonacci(n, front_only)
+    vals = inten(dirs)
+    best = float(vals.max())
+    cands = [dirs[i] for i in np.argsort(vals)[::-1][:2]]
+    cands += [unit_vectors(np.float64(t), np.float64(p)) for t, p in starts]
+    step = math.sqrt(4 * math.pi / n)
+    for r0 in cands:
+        r0 = r0 / np.linalg.norm(r0)
+        a = np.array([0.0, 0.0, 1.0]) if abs(r0[2]) < 0.9 else np.array([1.0, 0.0, 0.0])
+        e1 = np.cross(a, r0)
+        e1 /= np.linalg.norm(e1)
+        e2 = np.cross(r0, e1)
+
+        def neg(x, r0=r0, e1=e1, e2=e2):
+            v = r0 + x[0] * e1 + x[1] * e2
+            return -float(inten((v / np.linalg.norm(v))[None, :])[0])
+
+        res = minimize(neg, np.zeros(2), method="Nelder-Mead",
+                       options={"xatol": 1e-9, "fatol": 0.0, "maxiter": 300,
+                                "initial_simplex": np.array([[0, 0], [step, 0], [0, step]])})
+        best = max(best, -float(res.fun))
+    return best
+
+
+# ---- the model ------------------------------------------------------------------------------
+
+def _equal_steps(name: str, x: np.ndarray) -> float:
+    d = np.diff(x)
+    if len(d) == 0:
+        raise SteradianError(f"{name} needs at least 2 values, got {len(x)}")
+    if np.any(d <= 0):
+        raise SteradianError(f"{name} values must be strictly increasing")
+    step = (x[-1] - x[0]) / len(d)
+    bad = np.flatnonzero(np.abs(d - step) > _GRID_TOL)
+    if len(bad):
+        i = int(bad[0])
+        raise SteradianError(
+            f"{name} must be equally spaced: step {d[i]:g} deg between {x[i]:g} and "
+            f"{x[i + 1]:g}, but the grid average is {step:g} deg")
+    return float(step)
+
+
+class TabulatedElement(Element):
+    r"""Element pattern given on a regular theta-phi grid of complex far field.
+
+    The samples are interpolated by bicubic splines on the Cartesian components of the field
+    vector :math:`\mathbf E = E_\theta\hat\theta + E_\phi\hat\phi` (which, unlike
+    :math:`E_\theta` and :math:`E_\phi`, are smooth through the poles). The spline grid is
+    padded periodically in phi and, across each pole, with the samples of the great circle
+    continuing through it (the direction :math:`(-\theta, \phi)` is :math:`(\theta, \phi+\pi)`),
+    so the interpolant is smooth everywhere on the sphere. A front-half-space table stops at
+    theta = 90 deg and is zero behind. The pattern is peak-normalised (the peak of the
+    interpolant, found by refinement, not the largest sample).
+
+    Parameters
+    ----------
+    theta_deg : array_like, shape (n_theta,)
+        Equally spaced, from 0 to 180 (0 to 90 with ``front_only``).
+    phi_deg : array_like, shape (n_phi,)
+        Equally spaced around the full circle; a closing value ``phi_deg[0] + 360`` may repeat
+        the first column.
+    e_theta, e_phi : array_like of complex, shape (n_theta, n_phi)
+        Field components (any common scale and phase). ``e_phi=None`` makes a scalar model
+        whose field is ``e_theta``.
+    front_only : bool
+        The element radiates only into its local front half-space.
+    source : str, optional
+        Where the table came from (recorded in :meth:`describe`).
+
+    Notes
+    -----
+    Interpolation error of a cubic spline is :math:`O(\Delta^4)` in the grid step
+    :math:`\Delta`. :meth:`degree` is the band limit the grid can represent, twice its
+    Nyquist degree :math:`\lceil 180/\Delta_{max}\rceil` (the power pattern is a product of
+    two fields).
+
+    References
+    ----------
+    C. de Boor, *A Practical Guide to Splines*, rev. ed., Springer, 2001, ch. XVII (tensor
+    product splines).
+    """
+
+    quantity: str | None = None
+    """What the file held ("field" or "gain_dbi"), when read from a file."""
+    frequency_hz: float | None = None
+    """Frequency stated in the file header, if any (informational)."""
+
+    def __init__(self, theta_deg, phi_deg, e_theta, e_phi, front_only: bool = False,
+                 source=None):
+        from scipy.interpolate import RectBivariateSpline
+
+        th = np.asarray(theta_deg, float).ravel()
+        ph = np.asarray(phi_deg, float).ravel()
+        if not (np.all(np.isfinite(th)) and np.all(np.isfinite(ph))):
+            raise SteradianError("theta_deg and phi_deg must be finite")
+        self.front_only = bool(front_only)
+        self.vector = e_phi is not None
+        self.source = None if source is None else str(source)
+        comps = [np.asarray(e_theta, complex)] + ([np.asarray(e_phi, complex)]
+                                                  if self.vector else [])
+        for name, c in zip(("e_theta", "e_phi"), comps, strict=False):
+            if c.shape != (len(th), len(ph)):
+                raise SteradianError(f"{name} must have shape (n_theta, n_phi) = "
+                                     f"({len(th)}, {len(ph)}), got {c.shape}")
+            if not np.all(np.isfinite(c)):
+                idx = tuple(np.argwhere(~np.isfinite(c))[0].tolist())
+                raise SteradianError(f"{name} contains NaN or infinity at index {idx}")
+
+        # theta: 0 .. 180 (or 90), equally spaced
+        top = 90.0 if self.front_only else 180.0
+        if abs(th[0]) > _GRID_TOL:
+            raise SteradianError(f"theta must start at 0 deg (the +z pole), got {th[0]:g}")
+        if abs(th[-1] - top) > _GRID_TOL:
+            hint = ("" if self.front_only or abs(th[-1] - 90) > _GRID_TOL else
+                    " (a front-half-space table ending at 90 must declare front_only)")
+            raise SteradianError(
+                f"theta must end at {top:g} deg to cover the "
+                f"{'front half-space' if self.front_only else 'sphere'}, got {th[-1]:g}{hint}")
+        if len(th) < 3:
+            raise SteradianError(f"theta needs at least 3 values, got {len(th)}")
+        dth = _equal_steps("theta", th)
+        th = np.linspace(0.0, top, len(th))
+
+        # phi: equally spaced round the full circle, optional closing column
+        if len(ph) >= 2 and abs(ph[-1] - ph[0] - 360.0) <= _GRID_TOL:
+            same = [c[:, -1] - c[:, 0] for c in comps]
+            self._check_same(comps, same, f"the closing column phi={ph[-1]:g} and "
+                             f"phi={ph[0]:g}")
+            comps = [np.concatenate([(0.5 * (c[:, :1] + c[:, -1:])), c[:, 1:-1]], axis=1)
+                     for c in comps]
+            ph = ph[:-1]
+        if len(ph) < 4:
+            raise SteradianError(f"phi needs at least 4 values around the circle, got {len(ph)}")
+        dph = _equal_steps("phi", ph)
+        if abs(dph * len(ph) - 360.0) > _GRID_TOL * len(ph):
+            raise SteradianError(
+                f"phi must cover the full circle in equal steps: {len(ph)} values {dph:g} deg "
+                f"apart from {ph[0]:g} to {ph[-1]:g} leave a gap of "
+                f"{360.0 - dph * (len(ph) - 1):g} deg before {ph[0] + 360:g}")
+        ph = ph[0] + 360.0 * np.arange(len(ph)) / len(ph)
+
+        self._theta_deg = th
+        self._phi_deg = ph
+        self._dth, self._dph = dth, dph
+        nt, npf = len(th), len(ph)
+        t, p = np.meshgrid(np.deg2rad(th), np.deg2rad(ph), indexing="ij")
+        if self.vector:
+            bt, bp = spherical_basis(t, p)
+            cart = comps[0][..., None] * bt + comps[1][..., None] * bp      # (nt, np, 3)
+        else:
+            cart = comps[0][..., None]                                      # (nt, np, 1)
+        # One direction, many phi: the pole rows must agree; use their mean.
+        for row in ([0] if self.front_only else [0, nt - 1]):
+            dev = cart[row] - cart[row].mean(axis=0)
+            self._check_same([cart], [dev], f"the samples at theta={th[row]:g}")
+            cart[row] = cart[row].mean(axis=0)
+        peak0 = float(np.sqrt((np.abs(cart) ** 2).sum(axis=-1)).max())
+        if peak0 == 0:
+            raise SteradianError("the tabulated field is zero everywhere")
+        cart = cart / peak0
+
+        # Values at phi + 180 deg (for continuation through the poles).
+        if npf % 2 == 0:
+            shifted = np.roll(cart, -npf // 2, axis=1)
+        else:  # trigonometric interpolation: exact for content below the phi Nyquist limit
+            m = np.fft.fftfreq(npf, 1.0 / npf)
+            shifted = np.fft.ifft(np.fft.fft(cart, axis=1) * ((-1.0) ** m)[None, :, None],
+                                  axis=1)
+        pad = min(_PAD, nt - 1)
+        rad = np.deg2rad(th)
+        t_ext = [-rad[pad:0:-1], rad]
+        v_ext = [shifted[pad:0:-1], cart]
+        if not self.front_only:
+            t_ext.append(2 * np.pi - rad[-2:-2 - pad:-1])
+            v_ext.append(shifted[-2:-2 - pad:-1])
+        t_ext = np.concatenate(t_ext)
+        v_ext = np.concatenate(v_ext, axis=0)
+        j = np.arange(-_PAD, npf + _PAD)
+        p_ext = np.deg2rad(ph[0]) + 2 * np.pi * j / npf
+        v_ext = v_ext[:, j % npf]
+        self._phi0 = float(np.deg2rad(ph[0]))
+        self._splines = []
+        for c in range(cart.shape[-1]):
+            for part in (v_ext[..., c].real, v_ext[..., c].imag):
+                self._splines.append(RectBivariateSpline(t_ext, p_ext, part, kx=3, ky=3, s=0))
+
+        self._norm = 1.0
+        i_best = np.argsort((np.abs(cart) ** 2).sum(axis=-1).ravel())[::-1][:3]
+        starts = [(np.deg2rad(th[i // npf]), np.deg2rad(ph[i % npf])) for i in i_best]
+        peak = _peak_intensity(self.pattern, self.front_only, starts)
+        self._norm = 1.0 / math.sqrt(peak)
+
+    @staticmethod
+    def _check_same(ref, diffs, what):
+        scale = max(float(np.abs(c).max()) for c in ref)
+        worst = max(float(np.abs(d).max()) for d in diffs)
+        if scale > 0 and worst > _SAME_TOL * scale:
+            doubtful(f"{what} sample one direction but differ by {worst / scale:.3g} of the "
+                     "peak field; using their mean")
+
+    # ---- read-only views -------------------------------------------------------------------
+    @property
+    def theta_deg(self) -> np.ndarray:
+        """Grid theta values (degrees)."""
+        return self._theta_deg.copy()
+
+    @property
+    def phi_deg(self) -> np.ndarray:
+        """Grid phi values (degrees), without a closing column."""
+        return self._phi_deg.copy()
+
+    @property
+    def steps_deg(self) -> tuple[float, float]:
+        """Grid steps (theta, phi) in degrees."""
+        return self._dth, self._dph
+
+    # ---- Element interface ---------------------------------------------------------------
+    def _cartesian(self, theta, phi):
+        t = np.clip(theta, 0.0, np.pi)
+        p = self._phi0 + np.mod(phi - self._phi0, 2 * np.pi)
+        vals = [s.ev(t, p) for s in self._splines]
+        return np.stack([vals[2 * c] + 1j * vals[2 * c + 1] for c in range(len(vals) // 2)],
+                        axis=-1)
+
+    def pattern(self, theta, phi):
+        theta, phi = np.broadcast_arrays(np.asarray(theta, float), np.asarray(phi, float))
+        shape = theta.shape
+        t, p = theta.ravel(), phi.ravel()
+        e_t = np.zeros(t.shape, complex)
+        e_p = np.zeros(t.shape, complex)
+        live = np.cos(t) >= 0 if self.front_only else np.ones(t.shape, bool)
+        if live.any():
+            cart = self._cartesian(t[live], p[live]) * self._norm
+            if self.vector:
+                bt, bp = spherical_basis(t[live], p[live])
+                e_t[live] = (cart * bt).sum(axis=-1)
+                e_p[live] = (cart * bp).sum(axis=-1)
+            else:
+                e_t[live] = cart[:, 0]
+        return e_t.reshape(shape), e_p.reshape(shape)
+
+    def degree(self, k=None):
+        return 2 * math.ceil(180.0 / max(self._dth, self._dph) - 1e-9) + 2
+
+    def describe(self):
+        return {"model": "table", "source": self.source, "front_only": self.front_only,
+                "vector": self.vector, "n_theta": len(self._theta_deg),
+                "n_phi": len(self._phi_deg), "theta_step_deg": self._dth,
+                "phi_step_deg": self._dph, "quantity": self.quantity,
+                "frequency_hz": self.frequency_hz}
+
+    @classmethod
+    def from_element(cls, element: Element, theta_step_deg: float = 2.0,
+                     phi_step_deg: float = 2.0) -> TabulatedElement:
+        """Sample any element model on a regular grid (e.g. to test or export it)."""
+        th, ph = _grid(element.front_only, theta_step_deg, phi_step_deg)
+        t, p = np.meshgrid(np.deg2rad(th), np.deg2rad(ph), indexing="ij")
+        e_t, e_p = element.pattern(t, p)
+        return cls(th, ph, e_t, e_p if element.vector else None, element.front_only,
+                   source=f"sampled {type(element).__name__}")
+
+
+def _grid(front_only, dth, dph):
+    top = 90.0 if front_only else 180.0
+    nt = round(top / dth)
+    npf = round(360.0 / dph)
+    if nt < 2 or abs(nt * dth - top) > _GRID_TOL:
+        raise SteradianError(f"theta_step_deg must divide {top:g} into at least 2 steps, "
+                             f"got {dth!r}")
+    if npf < 4 or abs(npf * dph - 360.0) > _GRID_TOL:
+        raise SteradianError(f"phi_step_deg must divide 360 into at least 4 steps, got {dph!r}")
+    return np.linspace(0.0, top, nt + 1), 360.0 * np.arange(npf) / npf
+
+
+# ---- CSV reader ---------------------------------------------------------------------------
+
+_KEY_RE = re.compile(r"^([A-Za-z_][A-Za-z0-9_]*)\s*=\s*(.*?)\s*$")
+
+
+def _suggest(word, allowed):
+    hint = difflib.get_close_matches(word, list(allowed), n=1)
+    return f" (did you mean {hint[0]!r}?)" if hint else ""
+
+
+def read_element_table(path) -> TabulatedElement:
+    """Read an element pattern table (the CSV layout in this module's documentation).
+
+    Parameters
+    ----------
+    path : str or Path
+
+    Returns
+    -------
+    TabulatedElement
+
+    Raises
+    ------
+    FileFormatError
+        Naming the file and, where one is at fault, the line: unreadable rows, NaN values,
+        duplicate or missing (theta, phi) points, a grid that does not cover the sphere (or
+        the front half-space), unknown or missing header keys.
+    """
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise FileFormatError(path, f"cannot read element table: {exc}") from None
+
+    header: dict[str, tuple[str, int]] = {}
+    rows: list[tuple[int, str]] = []
+    for n, raw in enumerate(text.splitlines(), start=1):
+        line = raw.strip()
+        if not line:
+            continue
+        if line.startswith("#"):
+            m = _KEY_RE.match(line[1:].strip())
+            if m is None or rows:
+                continue  # free-text comment (keys are read only before the data)
+            key, value = m.group(1), m.group(2)
+            if key not in _KEYS:
+                raise FileFormatError(path, f"unknown header key {key!r}"
+                                      f"{_suggest(key, _KEYS)}; keys are {', '.join(_KEYS)}", n)
+            if key in header and key != "note":
+                raise FileFormatError(path, f"header key {key!r} given twice (first on line "
+                                      f"{header[key][1]})", n)
+            header[key] = (value, n)
+            continue
+        rows.append((n, line))
+
+    def need(key):
+        if key not in header:
+            raise FileFormatError(path, f"missing header line '# {key} = ...'")
+        return header[key]
+
+    quantity, qline = need("quantity")
+    if quantity not in ("field", "gain_dbi"):
+        raise FileFormatError(path, f"quantity must be 'field' or 'gain_dbi', got {quantity!r}"
+                              f"{_suggest(quantity, ('field', 'gain_dbi'))}", qline)
+    components, cline = header.get("components", ("theta_phi", qline))
+    if components not in ("theta_phi", "scalar"):
+        raise FileFormatError(path, f"components must be 'theta_phi' or 'scalar', got "
+                              f"{components!r}{_suggest(components, ('theta_phi', 'scalar'))}",
+                              cline)
+    front_txt, fline = header.get("front_only", ("false", None))
+    if front_txt.lower() not in ("true", "false"):
+        raise FileFormatError(path, f"front_only must be 'true' or 'false', got {front_txt!r}",
+                              fline)
+    front_only = front_txt.lower() == "true"
+    if "frequency_hz" in header:
+        ftxt, fl = header["frequency_hz"]
+        try:
+            freq = float(ftxt)
+        except ValueError:
+            freq = math.nan
+        if not (math.isfinite(freq) and freq > 0):
+            raise FileFormatError(path, f"frequency_hz must be a positive number, got {ftxt!r}",
+                                  fl)
+
+    expected = COLUMNS[(quantity, components)]
+    col_txt, col_line = need("columns")
+    cols = [c.strip() for c in col_txt.split(",")]
+    for c in cols:
+        if c not in expected:
+            raise FileFormatError(path, f"unknown column {c!r}{_suggest(c, expected)} for "
+                                  f"quantity={quantity}, components={components}; expected "
+                                  f"{', '.join(expected)}", col_line)
+    dup = [c for c in cols if cols.count(c) > 1]
+    if dup:
+        raise FileFormatError(path, f"column {dup[0]!r} listed twice", col_line)
+    missing = [c for c in expected if c not in cols]
+    if missing:
+        raise FileFormatError(path, f"columns lack {', '.join(missing)} (quantity={quantity},"
+                              f" components={components} needs {', '.join(expected)})",
+                              col_line)
+    idx = {c: cols.index(c) for c in expected}
+    db_cols = {c for c in expected if c.endswith("dbi")}
+    if not rows:
+        raise FileFormatError(path, "no data rows")
+
+    data = np.empty((len(rows), len(expected)))
+    for r, (n, line) in enumerate(rows):
+        fields = [s.strip() for s in line.split(",")]
+        if len(fields) != len(cols):
+            raise FileFormatError(path, f"expected {len(cols)} comma-separated values "
+                                  f"({', '.join(cols)}), got {len(fields)}", n)
+        for j, c in enumerate(expected):
+            s = fields[idx[c]]
+            try:
+                x = float(s)
+            except ValueError:
+                raise FileFormatError(path, f"cannot read {c}={s!r} as a number", n) from None
+            if math.isnan(x):
+                raise FileFormatError(path, f"{c} is NaN", n)
+            if math.isinf(x) and not (c in db_cols and x < 0):
+                raise FileFormatError(path, f"{c} is infinite"
+                                      + (" (only -inf dBi, a zero field, is allowed)"
+                                         if c in db_cols else ""), n)
+            data[r, j] = x
+        th = data[r, 0]
+        if not 0.0 <= th <= 180.0:
+            raise FileFormatError(path, f"theta_deg={th:g} is outside 0..180", n)
+        if front_only and th > 90.0 + _GRID_TOL:
+            raise FileFormatError(path, f"theta_deg={th:g} is behind the front half-space of a "
+                                  "front_only table (theta must be at most 90)", n)
+
+    # Assemble the grid: every (theta, phi) exactly once.
+    lines = np.array([n for n, _ in rows])
+    tkey = np.round(data[:, 0], 6)
+    pkey = np.round(data[:, 1], 6)
+    thetas = np.unique(tkey)
+    phis = np.unique(pkey)
+    it = np.searchsorted(thetas, tkey)
+    ip = np.searchsorted(phis, pkey)
+    seen = np.full((len(thetas), len(phis)), -1)
+    for r in range(len(rows)):
+        if seen[it[r], ip[r]] >= 0:
+            raise FileFormatError(path, f"duplicate point theta={data[r, 0]:g}, "
+                                  f"phi={data[r, 1]:g} (first on line "
+                                  f"{lines[seen[it[r], ip[r]]]})", int(lines[r]))
+        seen[it[r], ip[r]] = r
+    if (seen < 0).any():
+        a, b = np.argwhere(seen < 0)[0]
+        raise FileFormatError(
+            path, f"missing point theta={thetas[a]:g}, phi={phis[b]:g}: the rows must form the "
+            f"full grid of {len(thetas)} theta x {len(phis)} phi values "
+            f"({int((seen < 0).sum())} of {seen.size} points missing)")
+    if phis[-1] - phis[0] > 360.0 + _GRID_TOL:
+        raise FileFormatError(path, f"phi values span {phis[-1] - phis[0]:g} deg, more than "
+                              "the full circle")
+    vals = data[seen]  # (n_theta, n_phi, ncol)
+    if quantity == "field":
+        comp = [vals[..., 2] + 1j * vals[..., 3]]
+        if components == "theta_phi":
+            comp.append(vals[..., 4] + 1j * vals[..., 5])
+    else:
+        comp = [10 ** (vals[..., 2] / 20) * np.exp(1j * np.deg2rad(vals[..., 3]))]
+        if components == "theta_phi":
+            comp.append(10 ** (vals[..., 4] / 20) * np.exp(1j * np.deg2rad(vals[..., 5])))
+    try:
+        el = TabulatedElement(thetas, phis, comp[0], comp[1] if len(comp) > 1 else None,
+                              front_only=front_only, source=str(path))
+    except FileFormatError:
+        raise
+    except SteradianError as exc:
+        raise FileFormatError(path, str(exc)) from None
+    el.quantity = quantity
+    if "frequency_hz" in header:
+        el.frequency_hz = float(header["frequency_hz"][0])
+    return el
+
+
+# ---- CSV writer ---------------------------------------------------------------------------
+
+def _element_power(element: Element, k) -> float:
+    """Integral of the element's power pattern over the sphere (its own quadrature)."""
+    from ..sphere import sphere_rule
+
+    n = max(element.degree(k) // 2 + 40, 64)
+    rule = sphere_rule(n, 2 * n, front_only=element.front_only)
+    t, p = np.meshgrid(rule.theta, rule.phi, indexing="ij")
+    a, b = element.pattern(t, p)
+    return rule.integrate(np.abs(a) ** 2 + np.abs(b) ** 2)
+
+
+def write_element_table(path, element: Element, *, theta_step_deg: float | None = None,
+                        phi_step_deg: float | None = None, quantity: str = "field",
+                        frequency_hz: float | None = None, note: str | None = None,
+                        digits: int = 17) -> None:
+    """Sample ``element`` on a regular grid and write it as an element table (atomically).
+
+    Parameters
+    ----------
+    path : str or Path
+    element : Element
+        Any model; its ``front_only`` and ``vector`` flags set the table's.
+    theta_step_deg, phi_step_deg : float, optional
+        Grid steps (default: a table's own grid, else 2 degrees).
+    quantity : {"field", "gain_dbi"}
+        ``gain_dbi`` writes partial directivities in dBi (lossless element, gain = directivity)
+        with phases in degrees; the radiated power is integrated numerically.
+    frequency_hz : float, optional
+        Recorded in the header.
+    note : str, optional
+        A one-line note recorded in the header.
+    digits : int
+        Significant digits written (17 round-trips doubles exactly).
+    """
+    from ..io._atomic import atomic_open
+
+    if quantity not in ("field", "gain_dbi"):
+        raise SteradianError(f"quantity must be 'field' or 'gain_dbi', got {quantity!r}")
+    if isinstance(element, TabulatedElement):
+        dth, dph = element.steps_deg
+    else:
+        dth = dph = 2.0
+    dth = dth if theta_step_deg is None else float(theta_step_deg)
+    dph = dph if phi_step_deg is None else float(phi_step_deg)
+    th, ph = _grid(element.front_only, dth, dph)
+    t, p = np.meshgrid(np.deg2rad(th), np.deg2rad(ph), indexing="ij")
+    e_t, e_p = element.pattern(t, p)
+    components = "theta_phi" if element.vector else "scalar"
+    cols = COLUMNS[(quantity, components)]
+    comps = [e_t, e_p] if element.vector else [e_t]
+    if quantity == "gain_dbi":
+        k = None if frequency_hz is None else 2 * math.pi * frequency_hz / 299_792_458.0
+        scale = 4 * math.pi / _element_power(element, k)
+        out = []
+        for c in comps:
+            g = scale * np.abs(c) ** 2
+            with np.errstate(divide="ignore"):
+                out += [np.where(g > 0, 10 * np.log10(np.where(g > 0, g, 1.0)), -np.inf),
+                        np.where(g > 0, np.rad2deg(np.angle(c)), 0.0)]
+    else:
+        out = [x for c in comps for x in (c.real, c.imag)]
+
+    def fmt(x):
+        return "-inf" if x == -np.inf else f"{x:.{digits}g}"
+
+    with atomic_open(path, "w", encoding="utf-8", newline="\n") as fh:
+        fh.write("# steradian element pattern table\n")
+        fh.write(f"# quantity = {quantity}\n")
+        fh.write(f"# components = {components}\n")
+        fh.write(f"# front_only = {'true' if element.front_only else 'false'}\n")
+        if frequency_hz is not None:
+            fh.write(f"# frequency_hz = {float(frequency_hz):.12g}\n")
+        if note:
+            fh.write(f"# note = {' '.join(str(note).split())}\n")
+        fh.write(f"# columns = {', '.join(cols)}\n")
+        for i in range(len(th)):
+            for j in range(len(ph)):
+                vals = ",".join(fmt(o[i, j]) for o in out)
+                fh.write(f"{th[i]:.10g},{ph[j]:.10g},{vals}\n")
