@@ -41,23 +41,31 @@ def _sincos(ph):
     return 2.0 * s * c, c * c - s * s
 
 
+@njit(inline="always", fastmath=True, cache=True)
+def _af_one(a, b, c, px, py, pz, wr, wi):
+    """sum_n w_n exp(+j (a x_n + b y_n + c z_n)) as (real, imag)."""
+    sr = 0.0
+    si = 0.0
+    for n in range(px.shape[0]):
+        sn, cs = _sincos(a * px[n] + b * py[n] + c * pz[n])
+        sr += wr[n] * cs - wi[n] * sn
+        si += wr[n] * sn + wi[n] * cs
+    return sr, si
+
+
 @njit(parallel=True, fastmath=True, cache=True)
 def af_direct(px, py, pz, wr, wi, k, ux, uy, uz, out_re, out_im):  # pragma: no cover - jitted
-    """out[m] = sum_n w_n exp(+j k (u_m . r_n)) by direct summation."""
-    m_count = ux.shape[0]
-    n_count = px.shape[0]
-    for m in prange(m_count):
-        a = k * ux[m]
-        b = k * uy[m]
-        c = k * uz[m]
-        sr = 0.0
-        si = 0.0
-        for n in range(n_count):
-            sn, cs = _sincos(a * px[n] + b * py[n] + c * pz[n])
-            sr += wr[n] * cs - wi[n] * sn
-            si += wr[n] * sn + wi[n] * cs
-        out_re[m] = sr
-        out_im[m] = si
+    """out[m] = sum_n w_n exp(+j k (u_m . r_n)) by direct summation (all threads)."""
+    for m in prange(ux.shape[0]):
+        out_re[m], out_im[m] = _af_one(k * ux[m], k * uy[m], k * uz[m], px, py, pz, wr, wi)
+
+
+@njit(fastmath=True, cache=True)
+def af_direct_serial(px, py, pz, wr, wi, k, ux, uy, uz, out_re, out_im):  # pragma: no cover
+    """As :func:`af_direct` on one thread: small problems skip the thread pool's wake-up
+    (and, on a loaded machine, its barrier waits)."""
+    for m in range(ux.shape[0]):
+        out_re[m], out_im[m] = _af_one(k * ux[m], k * uy[m], k * uz[m], px, py, pz, wr, wi)
 
 
 @njit(parallel=True, fastmath=True, cache=True)
@@ -74,23 +82,38 @@ def phase_matrix(px, py, pz, k, ux, uy, uz, out):  # pragma: no cover - jitted
             out[m, n] = complex(cs, sn)
 
 
+@njit(inline="always", fastmath=True, cache=True)
+def _sinc_row(m, px, py, pz, wr, wi, k):
+    """2 sum_{n > m} Re(w_m conj(w_n)) sinc(k |r_m - r_n|)."""
+    s = 0.0
+    for n in range(m + 1, px.shape[0]):
+        dx = px[m] - px[n]
+        dy = py[m] - py[n]
+        dz = pz[m] - pz[n]
+        x = k * np.sqrt(dx * dx + dy * dy + dz * dz)
+        if x < 1e-8:
+            sc = 1.0 - x * x / 6.0
+        else:
+            sn, cs = _sincos(x)
+            sc = sn / x
+        s += (wr[m] * wr[n] + wi[m] * wi[n]) * sc
+    return 2.0 * s
+
+
 @njit(parallel=True, fastmath=True, cache=True)
 def sinc_power(px, py, pz, wr, wi, k):  # pragma: no cover - jitted
-    """sum_mn w_m conj(w_n) sinc(k |r_m - r_n|), sinc(x) = sin(x)/x (real part)."""
+    """sum_mn w_m conj(w_n) sinc(k |r_m - r_n|), sinc(x) = sin(x)/x (real part).
+
+    The matrix is symmetric: the diagonal plus twice the upper triangle. Rows m and N-1-m are
+    paired in one parallel iteration so every iteration does about N terms.
+    """
     n_count = px.shape[0]
-    acc = np.zeros(n_count)
-    for m in prange(n_count):
-        s = 0.0
-        for n in range(n_count):
-            dx = px[m] - px[n]
-            dy = py[m] - py[n]
-            dz = pz[m] - pz[n]
-            x = k * np.sqrt(dx * dx + dy * dy + dz * dz)
-            if x < 1e-8:
-                sc = 1.0 - x * x / 6.0
-            else:
-                sn, cs = _sincos(x)
-                sc = sn / x
-            s += (wr[m] * wr[n] + wi[m] * wi[n]) * sc
-        acc[m] = s
-    return acc.sum()
+    half = (n_count + 1) // 2
+    acc = np.zeros(half)
+    for t in prange(half):
+        s = _sinc_row(t, px, py, pz, wr, wi, k)
+        m2 = n_count - 1 - t
+        if m2 != t:
+            s += _sinc_row(m2, px, py, pz, wr, wi, k)
+        acc[t] = s
+    return acc.sum() + (wr * wr + wi * wi).sum()

@@ -1,0 +1,108 @@
+r"""Cost model of the pattern engine: which path evaluates an array factor fastest.
+
+Each path has an estimated run time in seconds from the problem's sizes; the engine takes the
+cheapest path that meets the tolerance, and keeps direct summation unless another path is
+estimated at least :data:`MARGIN` times faster (so an estimate that is off by that factor still
+never makes a task slower than direct summation). The constants were fitted to timings on the
+2-core development machine (``benchmarks/bench_scale.py`` checks the choices against measured
+times); only their ratios matter for the choice.
+
+Sizes: N elements, M directions; for the transforms the half-widths :math:`X_i` of the scaled
+positions :math:`k r_{n,i}` and :math:`S_i` of the direction cosines set the size of the
+oversampled grid, :math:`n_i \approx 2\sigma X_i S_i/\pi + w` per dimension, with kernel width
+w from the tolerance.
+"""
+
+from __future__ import annotations
+
+import math
+
+__all__ = ["MARGIN", "reference", "direct", "nufft3", "nufft1", "fft_lattice", "kernel_width",
+           "grid3", "SERIAL_TERMS"]
+
+MARGIN = 1.5
+"""A fast path must be estimated this many times faster than direct summation."""
+
+# Direct summation (numba, inlined polynomial sin/cos): terms per second and call overhead.
+SERIAL_TERMS = 2_000_000  # below this many terms, one thread (no pool wake-up)
+_R_SERIAL = 3.0e8
+_R_PARALLEL = 5.0e8
+_C_SERIAL = 4e-6
+_C_PARALLEL = 6e-5
+# Plain numpy reference.
+_R_NUMPY = 1.4e7
+_C_NUMPY = 1e-5
+# Non-uniform FFT: overhead, per source and per target (per kernel-width**d), per grid cell.
+_C_NUFFT = 3e-4
+_A_SPREAD = {1: 4e-9, 2: 1.2e-9, 3: 2.5e-10}
+_B_GRID = 1.2e-9
+_SIGMA = 2.0
+# Chirp-z FFT path: overhead and per (FFT length x log2 length) unit.
+_C_FFT = 2e-4
+_B_FFT = 2.5e-9
+
+GRID_LIMIT = 2**26
+"""Largest oversampled transform grid (cells) the non-uniform FFT may use (1 GiB)."""
+
+
+def kernel_width(tol: float) -> int:
+    """Spreading-kernel width (grid points per dimension) for tolerance ``tol``."""
+    return max(2, math.ceil(-math.log10(max(tol, 1e-16)))) + 1
+
+
+def reference(n: int, m: int) -> float:
+    """Plain numpy: exp of an (M, N) block and a matrix-vector product."""
+    return _C_NUMPY + n * m / _R_NUMPY
+
+
+def direct(n: int, m: int) -> float:
+    """numba direct summation (one thread below SERIAL_TERMS terms)."""
+    t = n * m
+    if t < SERIAL_TERMS:
+        return _C_SERIAL + t / _R_SERIAL
+    return _C_PARALLEL + t / _R_PARALLEL
+
+
+def grid3(x_half, s_half, tol: float) -> float:
+    """Cells of the oversampled type-3 grid for source and target half-widths per dimension."""
+    w = kernel_width(tol)
+    g = 1.0
+    for x, s in zip(x_half, s_half, strict=True):
+        g *= _SIGMA * (2 * _SIGMA * x * s / math.pi + w)
+    return g
+
+
+def nufft3(n: int, m: int, x_half, s_half, tol: float) -> float:
+    """Type-3 transform of N sources onto M targets in len(x_half) dimensions."""
+    d = len(x_half)
+    if d == 0:
+        return 0.0
+    w = kernel_width(tol)
+    g = grid3(x_half, s_half, tol)
+    if g > GRID_LIMIT:
+        return math.inf
+    return _C_NUFFT + _A_SPREAD[d] * (n + m) * w**d + _B_GRID * g * math.log2(max(g, 2.0))
+
+
+def nufft1(n: int, nu: int, nv: int, tol: float) -> float:
+    """Type-1 transform of N planar sources onto an (nv, nu) grid of modes."""
+    w = kernel_width(tol)
+    g = (_SIGMA * nu + w) * (_SIGMA * nv + w)
+    if g > GRID_LIMIT:
+        return math.inf
+    return _C_NUFFT + _A_SPREAD[2] * n * w**2 + _B_GRID * g * math.log2(max(g, 2.0))
+
+
+def _fft_len(n: int) -> float:
+    return n * math.log2(max(n, 2))
+
+
+def fft_lattice(nx: int, ny: int, nu: int, nv: int, separable: bool, offsets: bool) -> float:
+    """Chirp-z transforms of an (ny, nx) weight grid onto an (nv, nu) u-v grid."""
+    l1 = nx + nu
+    l2 = ny + nv
+    if separable:
+        work = 2 * (_fft_len(l1) + _fft_len(l2)) + nu * nv / 8
+    else:
+        work = 2 * (ny * _fft_len(l1) + nu * _fft_len(l2)) + (ny * nu * 4 if offsets else 0)
+    return _C_FFT + _B_FFT * work + nu * nv * 2e-9
