@@ -1,0 +1,166 @@
+r"""Beam-table binary files for firmware: a fixed little-endian layout with CRC-32 checks.
+
+All multi-byte fields are little-endian. A file is a 64-byte header followed by the payload.
+
+Header (64 bytes)::
+
+    offset size type      field
+    0      8    bytes     magic: 53 52 42 57 0D 0A 1A 0A  ("SRBW\r\n\x1a\n")
+    8      2    uint16    layout version (1)
+    10     2    uint16    header size in bytes (64)
+    12     4    uint32    N, elements per beam
+    16     4    uint32    B, beams
+    20     1    uint8     state encoding: 1 = codes, 2 = I/Q in Q1.15
+    21     1    uint8     amplitude control: 0 = none, 1 = step attenuator, 2 = linear DAC
+    22     1    uint8     flags: bit 0 = element positions block present,
+                                 bit 1 = phase offsets block present; other bits 0
+    23     1    uint8     reserved (0)
+    24     4    uint32    phase states (codes 0 .. phase states - 1)
+    28     4    uint32    amplitude states (codes 0 .. amplitude states - 1)
+    32     8    float64   phase step, degrees (code p means p * step)
+    40     8    float64   amplitude step: dB per code (attenuator), 1/(states-1) (DAC), 0 (none)
+    48     4    uint32    payload size in bytes
+    52     4    uint32    CRC-32 of the payload (zlib.crc32, the CRC-32 of ISO-HDLC / IEEE 802.3)
+    56     4    uint32    reserved (0)
+    60     4    uint32    CRC-32 of header bytes 0 .. 59
+
+Payload, in this order::
+
+    beam directions   B x (float64 theta_deg, float64 phi_deg)
+    positions         N x (float64 x_m, float64 y_m, float64 z_m)     if flag bit 0
+    phase offsets     N x float64 degrees                                if flag bit 1
+    states            B x N x 4 bytes, beam-major, elements in order:
+                        codes: uint16 phase code, uint16 amplitude code
+                        I/Q:   int16 I, int16 Q; Q1.15, value = integer / 32768
+                               (range -1 .. 1 - 2^-15; full scale 1.0 saturates to 32767)
+
+Element n of beam b is therefore at payload offset ``16 B + (24 N if positions) +
+(8 N if offsets) + 4 (b N + n)``. A file is refused with a clear message when the magic,
+version, header CRC, sizes or payload CRC do not match, or a code is out of range.
+"""
+
+from __future__ import annotations
+
+import struct
+import zlib
+from pathlib import Path
+
+import numpy as np
+
+from ..beamtable import BeamTable, Encoding
+from ..errors import FileFormatError, SteradianError
+from ..quantize import StateMap
+from ._atomic import write_bytes
+
+__all__ = ["write_beams_bin", "read_beams_bin", "MAGIC", "LAYOUT_VERSION", "HEADER_SIZE"]
+
+MAGIC = b"SRBW\r\n\x1a\n"
+LAYOUT_VERSION = 1
+HEADER_SIZE = 64
+_HEAD = struct.Struct("<8sHHIIBBBBIIddIIII")  # the 64-byte header above
+
+_ENC = {"codes": 1, "iq": 2}
+_AMP = {"none": 0, "attenuator": 1, "dac": 2}
+
+
+def _payload_size(n, nb, flags):
+    return 16 * nb + (24 * n if flags & 1 else 0) + (8 * n if flags & 2 else 0) + 4 * nb * n
+
+
+def write_beams_bin(path, table: BeamTable, encoding: Encoding | None = None) -> None:
+    """Write ``table`` in the binary layout (atomically).
+
+    Parameters
+    ----------
+    encoding : {"codes", "iq"}, optional
+        State encoding; default the table's own. Converting codes to I/Q rounds each state
+        to Q1.15.
+    """
+    t = table if encoding is None else table.as_encoding(encoding)
+    st = t.states
+    if st.phase_states > 65536 or st.amplitude_states > 65536:
+        raise SteradianError("the binary layout stores codes as uint16 (at most 65536 states)")
+    flags = (1 if t.positions is not None else 0) | (2 if np.any(t.phase_offsets_deg) else 0)
+    parts = [np.ascontiguousarray(t.directions, "<f8").tobytes()]
+    if flags & 1:
+        parts.append(np.ascontiguousarray(t.positions, "<f8").tobytes())
+    if flags & 2:
+        parts.append(np.ascontiguousarray(t.phase_offsets_deg, "<f8").tobytes())
+    dt = "<u2" if t.encoding == "codes" else "<i2"
+    parts.append(np.ascontiguousarray(t.codes, dt).tobytes())
+    payload = b"".join(parts)
+    head = _HEAD.pack(MAGIC, LAYOUT_VERSION, HEADER_SIZE, t.n_elements, t.n_beams,
+                      _ENC[t.encoding], _AMP[st.amplitude], flags, 0, st.phase_states,
+                      st.amplitude_states, st.phase_step_deg, st.amplitude_step, len(payload),
+                      zlib.crc32(payload), 0, 0)
+    head = head[:60] + struct.pack("<I", zlib.crc32(head[:60]))
+    write_bytes(path, head + payload)
+
+
+def read_beams_bin(path) -> BeamTable:
+    """Read a binary beam-table file, checking both CRC-32 values.
+
+    Raises
+    ------
+    FileFormatError
+        For a wrong magic or version, a header or payload CRC-32 mismatch (a corrupted
+        file), a size that does not match the counts, or codes out of range.
+    """
+    path = Path(path)
+    data = path.read_bytes()
+    if len(data) < HEADER_SIZE:
+        raise FileFormatError(path, f"file is {len(data)} bytes, shorter than the "
+                              f"{HEADER_SIZE}-byte header")
+    (magic, ver, hsize, n, nb, enc, amp, flags, _res, n_ph, n_amp, ph_step, amp_step,
+     psize, pcrc, _res2, hcrc) = _HEAD.unpack_from(data)
+    if magic != MAGIC:
+        raise FileFormatError(path, f"not a steradian beam-table binary (magic {magic!r}, "
+                              f"expected {MAGIC!r})")
+    if ver != LAYOUT_VERSION:
+        raise FileFormatError(path, f"layout version {ver} is not supported (this steradian "
+                              f"reads {LAYOUT_VERSION})")
+    got = zlib.crc32(data[:60])
+    if got != hcrc:
+        raise FileFormatError(path, f"header CRC-32 mismatch: stored 0x{hcrc:08x}, computed "
+                              f"0x{got:08x}; the header is corrupted")
+    if hsize != HEADER_SIZE:
+        raise FileFormatError(path, f"header size {hsize} is not {HEADER_SIZE}")
+    if enc not in (1, 2) or amp not in (0, 1, 2) or flags & ~3:
+        raise FileFormatError(path, f"unknown encoding {enc}, amplitude control {amp} or "
+                              f"flags 0x{flags:02x}")
+    if n < 1 or nb < 1:
+        raise FileFormatError(path, f"element count {n} and beam count {nb} must be >= 1")
+    want = _payload_size(n, nb, flags)
+    if psize != want:
+        raise FileFormatError(path, f"header payload size {psize} does not match {nb} beams x "
+                              f"{n} elements ({want} bytes)")
+    if len(data) != HEADER_SIZE + psize:
+        what = "truncated" if len(data) < HEADER_SIZE + psize else "has trailing bytes"
+        raise FileFormatError(path, f"file is {what}: {len(data)} bytes, expected "
+                              f"{HEADER_SIZE + psize}")
+    payload = data[HEADER_SIZE:]
+    got = zlib.crc32(payload)
+    if got != pcrc:
+        raise FileFormatError(path, f"payload CRC-32 mismatch: header says 0x{pcrc:08x}, "
+                              f"payload has 0x{got:08x}; the file is corrupted")
+    try:
+        states = StateMap(ph_step, n_ph, ("none", "attenuator", "dac")[amp], amp_step, n_amp)
+    except SteradianError as exc:
+        raise FileFormatError(path, f"header states: {exc}") from None
+    o = 0
+    dirs = np.frombuffer(payload, "<f8", 2 * nb, o).reshape(nb, 2).astype(float)
+    o += 16 * nb
+    pos = None
+    if flags & 1:
+        pos = np.frombuffer(payload, "<f8", 3 * n, o).reshape(n, 3).astype(float)
+        o += 24 * n
+    off = np.zeros(n)
+    if flags & 2:
+        off = np.frombuffer(payload, "<f8", n, o).astype(float)
+        o += 8 * n
+    dt = "<u2" if enc == 1 else "<i2"
+    codes = np.frombuffer(payload, dt, 2 * nb * n, o).reshape(nb, n, 2).astype(np.int64)
+    try:
+        return BeamTable(states, dirs, codes, "codes" if enc == 1 else "iq", off, pos)
+    except SteradianError as exc:
+        raise FileFormatError(path, str(exc)) from None

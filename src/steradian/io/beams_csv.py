@@ -1,0 +1,320 @@
+"""Beam-table CSV files for people: one row per beam and element.
+
+Layout (``# key = value`` comment lines first, then a header and the rows)::
+
+    # format = steradian-beam-weights
+    # layout_version = 1
+    # steradian_version = 0.1.0
+    # encoding = codes
+    # n_elements = 256
+    # n_beams = 231
+    # states = {"phase_step_deg": 5.625, "phase_states": 64, ...}
+    # metadata = {...}
+    # metrics = [{...}, ...]
+    beam,theta_deg,phi_deg,element,x_m,y_m,z_m,phase_offset_deg,amplitude,amplitude_db,phase_deg,phase_code,amplitude_code
+    0,0.0,0.0,0,-0.1125,-0.1125,0.0,0.0,1.0,0.0,0.0,0,0
+
+Columns:
+
+``beam``, ``theta_deg``, ``phi_deg``
+    Beam index and its commanded direction (the same on every row of the beam).
+``element``, ``x_m``, ``y_m``, ``z_m``
+    Element index and position in metres (positions are optional, all three or none).
+``phase_offset_deg``
+    Fixed phase of the element's channel path (randomised-offset mode; else 0).
+``amplitude``, ``amplitude_db``, ``phase_deg``
+    The commanded channel state in the form people read (linear, 20 log10, degrees). They
+    must agree with the state columns: edit the codes, these are for reading.
+``phase_code``, ``amplitude_code`` (encoding ``codes``) or ``i_q15``, ``q_q15`` (``iq``)
+    The hardware states: codes, or I/Q integers in Q1.15 (value = integer / 32768).
+
+Every (beam, element) pair appears exactly once, in any order. ``metrics`` (one JSON list of
+the predicted per-beam metrics) is optional. Floats are written in Python's shortest
+round-trip form, so a write-read cycle returns bit-identical tables.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import re
+from pathlib import Path
+
+import numpy as np
+
+from ..beamtable import IQ_SCALE, BeamTable
+from ..errors import FileFormatError, SteradianError
+from ..quantize import StateMap, wrap_deg
+from ._atomic import write_text
+
+__all__ = ["write_beams_csv", "read_beams_csv"]
+
+FORMAT_ID = "steradian-beam-weights"
+LAYOUT_VERSION = 1
+_META = re.compile(r"^\s*([a-z_]+)\s*=\s*(.*)$")
+_READING = ("amplitude", "amplitude_db", "phase_deg")
+
+
+def _state_cols(enc):
+    return ["phase_code", "amplitude_code"] if enc == "codes" else ["i_q15", "q_q15"]
+
+
+def _columns(enc, with_pos):
+    cols = ["beam", "theta_deg", "phi_deg", "element"]
+    if with_pos:
+        cols += ["x_m", "y_m", "z_m"]
+    return cols + ["phase_offset_deg", *_READING, *_state_cols(enc)]
+
+
+def _reading(c):
+    amp = np.abs(c)
+    with np.errstate(divide="ignore"):
+        db = 20 * np.log10(amp)
+    return amp, db, np.angle(c, deg=True)
+
+
+def write_beams_csv(path, table: BeamTable) -> None:
+    """Write ``table`` as CSV (atomically)."""
+    from .. import __version__
+
+    enc = table.encoding
+    head = [("format", FORMAT_ID), ("layout_version", str(LAYOUT_VERSION)),
+            ("steradian_version", __version__), ("encoding", enc),
+            ("n_elements", str(table.n_elements)), ("n_beams", str(table.n_beams)),
+            ("states", json.dumps(table.states.to_dict())),
+            ("metadata", json.dumps(table.metadata, allow_nan=False))]
+    if table.metrics is not None:
+        head.append(("metrics", json.dumps(list(table.metrics), allow_nan=False)))
+    lines = [f"# {k} = {v}" for k, v in head]
+    with_pos = table.positions is not None
+    lines.append(",".join(_columns(enc, with_pos)))
+    amp, db, ph = _reading(table.commanded())
+    r = repr
+    pos = [[r(float(x)) for x in p] for p in table.positions] if with_pos else None
+    off = [r(float(x)) for x in table.phase_offsets_deg]
+    for b in range(table.n_beams):
+        head_b = f"{b},{r(float(table.directions[b, 0]))},{r(float(table.directions[b, 1]))}"
+        cb = table.codes[b]
+        for n in range(table.n_elements):
+            f = [head_b, str(n)]
+            if with_pos:
+                f += pos[n]
+            f += [off[n], r(float(amp[b, n])), r(float(db[b, n])), r(float(ph[b, n])),
+                  str(int(cb[n, 0])), str(int(cb[n, 1]))]
+            lines.append(",".join(f))
+    write_text(path, "\n".join(lines) + "\n")
+
+
+def read_beams_csv(path) -> BeamTable:
+    """Read a beam-table CSV file.
+
+    Raises
+    ------
+    FileFormatError
+        Naming the line for a bad field, a missing or repeated (beam, element) row, values
+        that should agree across rows but do not, reading columns that disagree with the
+        state columns, or codes outside the states' range.
+    """
+    path = Path(path)
+    lines = path.read_text(encoding="utf-8-sig").splitlines()
+    meta, header, hline = {}, None, 0
+    body = []
+    for i, line in enumerate(lines, 1):
+        s = line.strip()
+        if not s:
+            continue
+        if s.startswith("#"):
+            m = _META.match(s[1:])
+            if m and header is None:
+                meta[m.group(1)] = (m.group(2).strip(), i)
+            continue
+        if header is None:
+            header, hline = [h.strip() for h in s.split(",")], i
+        else:
+            body.append((i, s))
+    if header is None:
+        raise FileFormatError(path, "no header line")
+
+    def need(key):
+        if key not in meta:
+            raise FileFormatError(path, f"missing '# {key} = ...' line")
+        return meta[key]
+
+    fmt, ln = need("format")
+    if fmt != FORMAT_ID:
+        raise FileFormatError(path, f"format must be {FORMAT_ID!r}, got {fmt!r}", ln)
+    ver, ln = need("layout_version")
+    if ver != str(LAYOUT_VERSION):
+        raise FileFormatError(path, f"layout_version {ver} is not supported (this steradian "
+                              f"reads {LAYOUT_VERSION})", ln)
+    enc, ln = need("encoding")
+    if enc not in ("codes", "iq"):
+        raise FileFormatError(path, f"encoding must be 'codes' or 'iq', got {enc!r}", ln)
+    counts = {}
+    for key in ("n_elements", "n_beams"):
+        v, ln = need(key)
+        if not v.isdigit() or int(v) < 1:
+            raise FileFormatError(path, f"{key} must be a whole number >= 1, got {v!r}", ln)
+        counts[key] = int(v)
+    n, nb = counts["n_elements"], counts["n_beams"]
+    jsons = {}
+    for key in ("states", "metadata", "metrics"):
+        if key in meta:
+            v, ln = meta[key]
+            try:
+                jsons[key] = json.loads(v)
+            except json.JSONDecodeError as exc:
+                raise FileFormatError(path, f"{key}: not valid JSON ({exc.msg})", ln) from None
+    if "states" not in jsons:
+        need("states")
+    try:
+        states = StateMap.from_dict(jsons["states"])
+    except (SteradianError, TypeError) as exc:
+        raise FileFormatError(path, f"states: {exc}", meta["states"][1]) from None
+
+    with_pos = "x_m" in header
+    want = _columns(enc, with_pos)
+    if header != want:
+        missing = [c for c in want if c not in header]
+        extra = [c for c in header if c not in want]
+        what = (f"missing column {missing[0]!r}" if missing else
+                f"unexpected column {extra[0]!r}" if extra else "columns out of order")
+        raise FileFormatError(path, f"{what}; expected {','.join(want)}", hline)
+    if len(body) != n * nb:
+        raise FileFormatError(path, f"has {len(body)} rows, expected n_beams x n_elements = "
+                              f"{nb} x {n} = {n * nb}")
+    parsed = _parse_fast(body, n, nb, with_pos, len(want))
+    if parsed is None:  # something is wrong: the row-by-row pass names the line
+        parsed = _parse_rows(path, body, n, nb, with_pos, enc, len(want))
+    dirs, pos, off, codes, reading, row_line = parsed
+    try:
+        table = BeamTable(states, dirs, codes, enc, off, pos, jsons.get("metadata") or {},
+                          None if jsons.get("metrics") is None else tuple(jsons["metrics"]))
+    except SteradianError as exc:
+        m = re.search(r"beam (\d+), element (\d+)", str(exc))
+        line = int(row_line[int(m.group(1)), int(m.group(2))]) if m else None
+        raise FileFormatError(path, str(exc), line) from None
+    _check_reading(path, table, reading, row_line)
+    return table
+
+
+
+def _parse_fast(body, n, nb, with_pos, ncol):
+    """Vectorised parse of well-formed rows; None at the first sign of trouble."""
+    fields = [s.split(",") for _, s in body]
+    if any(len(f) != ncol for f in fields):
+        return None
+    A = np.array(fields)
+    try:
+        beam = A[:, 0].astype(np.int64)
+        elem = A[:, 3].astype(np.int64)
+        k_off = 7 if with_pos else 4
+        fl = A[:, [1, 2, *range(4, k_off + 4)]].astype(float)
+        st = A[:, k_off + 4:k_off + 6].astype(np.int64)
+    except ValueError:
+        return None
+    if np.isnan(fl).any() or np.any((beam < 0) | (beam >= nb) | (elem < 0) | (elem >= n)):
+        return None
+    idx = beam * n + elem
+    if np.any(np.bincount(idx, minlength=n * nb) != 1):
+        return None
+    dirs = np.empty((nb, 2))
+    dirs[beam] = fl[:, :2]
+    per_el = fl[:, 2:k_off - 1]
+    el = np.empty((n, per_el.shape[1]))
+    el[elem] = per_el
+    if np.any(dirs[beam] != fl[:, :2]) or np.any(el[elem] != per_el):
+        return None
+    codes = np.empty((nb, n, 2), np.int64)
+    codes[beam, elem] = st
+    reading = np.empty((nb, n, 3))
+    reading[beam, elem] = fl[:, k_off - 1:]
+    row_line = np.zeros((nb, n), int)
+    row_line[beam, elem] = [ln for ln, _ in body]
+    pos = el[:, :3] if with_pos else None
+    return dirs, pos, el[:, -1].copy(), codes, reading, row_line
+
+
+def _parse_rows(path, body, n, nb, with_pos, enc, ncol):
+    """Row-by-row parse with a message naming the line of the first problem."""
+    k_off = 7 if with_pos else 4
+    dirs = np.full((nb, 2), np.nan)
+    dir_line = np.zeros(nb, int)
+    pos = np.full((n, 3), np.nan) if with_pos else None
+    off = np.full(n, np.nan)
+    el_line = np.zeros(n, int)
+    codes = np.zeros((nb, n, 2), np.int64)
+    reading = np.zeros((nb, n, 3))
+    row_line = np.zeros((nb, n), int)
+
+    def num(lineno, col, text):
+        try:
+            v = float(text)
+        except ValueError:
+            raise FileFormatError(path, f"column {col!r}: {text!r} is not a number",
+                                  lineno) from None
+        if math.isnan(v):
+            raise FileFormatError(path, f"column {col!r} is NaN", lineno)
+        return v
+
+    def whole(lineno, col, text, hi=None):
+        try:
+            v = int(text)
+        except ValueError:
+            raise FileFormatError(path, f"column {col!r}: {text!r} is not a whole number",
+                                  lineno) from None
+        if hi is not None and not 0 <= v < hi:
+            raise FileFormatError(path, f"column {col!r}: {v} is outside 0..{hi - 1}", lineno)
+        return v
+
+    for lineno, s in body:
+        f = s.split(",")
+        if len(f) != ncol:
+            raise FileFormatError(path, f"expected {ncol} fields, got {len(f)}", lineno)
+        b = whole(lineno, "beam", f[0], nb)
+        e = whole(lineno, "element", f[3], n)
+        if row_line[b, e]:
+            raise FileFormatError(path, f"beam {b}, element {e} appears twice (first on line "
+                                  f"{row_line[b, e]})", lineno)
+        row_line[b, e] = lineno
+        d = (num(lineno, "theta_deg", f[1]), num(lineno, "phi_deg", f[2]))
+        if not dir_line[b]:
+            dirs[b], dir_line[b] = d, lineno
+        elif tuple(dirs[b]) != d:
+            raise FileFormatError(path, f"beam {b} direction differs from its row on line "
+                                  f"{dir_line[b]}", lineno)
+        p = [num(lineno, c, f[4 + j]) for j, c in enumerate(("x_m", "y_m", "z_m"))] \
+            if with_pos else None
+        o = num(lineno, "phase_offset_deg", f[k_off])
+        if not el_line[e]:
+            off[e], el_line[e] = o, lineno
+            if with_pos:
+                pos[e] = p
+        elif off[e] != o or (with_pos and list(pos[e]) != p):
+            raise FileFormatError(path, f"element {e} position or phase offset differs from "
+                                  f"its row on line {el_line[e]}", lineno)
+        reading[b, e] = [num(lineno, c, f[k_off + 1 + j]) for j, c in enumerate(_READING)]
+        codes[b, e] = [whole(lineno, c, f[k_off + 4 + j])
+                       for j, c in enumerate(_state_cols(enc))]
+    return dirs, pos, off, codes, reading, row_line
+
+
+def _check_reading(path, table, reading, row_line):
+    amp, db, ph = _reading(table.commanded())
+    tol = 1e-9 if table.encoding == "codes" else 1.0 / IQ_SCALE
+    a_bad = np.abs(reading[..., 0] - amp) > tol
+    big = amp > 1e-6
+    with np.errstate(invalid="ignore"):
+        d_bad = np.where(big, np.abs(reading[..., 1] - db) > 1e-6,
+                         np.abs(10 ** (reading[..., 1] / 20) - amp) > tol)
+    p_bad = big & (np.abs(wrap_deg(reading[..., 2] - ph)) > 1e-6)
+    for name, bad, want in (("amplitude", a_bad, amp), ("amplitude_db", d_bad, db),
+                            ("phase_deg", p_bad, ph)):
+        if bad.any():
+            b, e = (int(i) for i in np.argwhere(bad)[0])
+            k = _READING.index(name)
+            cols = "/".join(_state_cols(table.encoding))
+            raise FileFormatError(
+                path, f"column {name!r} ({reading[b, e, k]!r}) disagrees with the {cols} of "
+                f"beam {b}, element {e} ({want[b, e]!r}); edit the state columns, the "
+                "amplitude and phase columns are for reading", int(row_line[b, e]))

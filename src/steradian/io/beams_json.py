@@ -1,0 +1,190 @@
+"""Beam-table JSON files: every beam's states with all the metadata.
+
+Layout (one JSON object; each beam on one line)::
+
+    {
+     "format": "steradian-beam-weights",
+     "layout_version": 1,
+     "steradian_version": "0.1.0",
+     "encoding": "codes",                 # or "iq"
+     "iq_format": "Q1.15",                # only for "iq"
+     "n_elements": 256,
+     "n_beams": 231,
+     "states": {"phase_step_deg": 5.625, "phase_states": 64, "amplitude": "attenuator",
+                "amplitude_step": 0.5, "amplitude_states": 64},
+     "elements": {"phase_offset_deg": [...], "positions_m": [[x, y, z], ...] or null},
+     "beams": [
+      {"beam": 0, "theta_deg": 0.0, "phi_deg": 0.0, "phase_code": [...],
+       "amplitude_code": [...], "metrics": {...}},
+      ...
+     ],
+     "metadata": {...}
+    }
+
+For ``"iq"`` each beam holds ``"i_q15"`` and ``"q_q15"`` (integers, value = integer / 32768)
+instead of the two code lists. ``metrics`` (the predicted metrics of the beam as built) is
+present on every beam or on none. Floats are written in Python's shortest round-trip form, so
+a write-read cycle returns bit-identical tables.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+
+from ..beamtable import BeamTable
+from ..errors import FileFormatError, SteradianError
+from ..quantize import StateMap
+from ._atomic import write_text
+
+__all__ = ["write_beams_json", "read_beams_json", "FORMAT_ID", "LAYOUT_VERSION"]
+
+FORMAT_ID = "steradian-beam-weights"
+LAYOUT_VERSION = 1
+
+_TOP = ("format", "layout_version", "steradian_version", "encoding", "iq_format",
+        "n_elements", "n_beams", "states", "elements", "beams", "metadata")
+
+
+def _dump(v) -> str:
+    return json.dumps(v, separators=(", ", ": "), allow_nan=False)
+
+
+def write_beams_json(path, table: BeamTable) -> None:
+    """Write ``table`` as JSON (atomically)."""
+    from .. import __version__
+
+    enc = table.encoding
+    codes = table.codes
+    beams = []
+    for b in range(table.n_beams):
+        d = {"beam": b, "theta_deg": float(table.directions[b, 0]),
+             "phi_deg": float(table.directions[b, 1])}
+        if enc == "codes":
+            d["phase_code"] = codes[b, :, 0].tolist()
+            d["amplitude_code"] = codes[b, :, 1].tolist()
+        else:
+            d["i_q15"] = codes[b, :, 0].tolist()
+            d["q_q15"] = codes[b, :, 1].tolist()
+        if table.metrics is not None:
+            d["metrics"] = table.metrics[b]
+        beams.append(d)
+    top = {"format": FORMAT_ID, "layout_version": LAYOUT_VERSION,
+           "steradian_version": __version__, "encoding": enc}
+    if enc == "iq":
+        top["iq_format"] = "Q1.15"
+    top.update({"n_elements": table.n_elements, "n_beams": table.n_beams,
+                "states": table.states.to_dict(),
+                "elements": {"phase_offset_deg": table.phase_offsets_deg.tolist(),
+                             "positions_m": None if table.positions is None
+                             else table.positions.tolist()}})
+    lines = ["{"]
+    for k, v in top.items():
+        lines.append(f" {json.dumps(k)}: {_dump(v)},")
+    lines.append(' "beams": [')
+    lines.append(",\n".join("  " + _dump(b) for b in beams))
+    lines.append(" ],")
+    meta = json.dumps(table.metadata, indent=1, allow_nan=False).replace("\n", "\n ")
+    lines.append(f' "metadata": {meta}')
+    lines.append("}")
+    write_text(path, "\n".join(lines) + "\n")
+
+
+def read_beams_json(path) -> BeamTable:
+    """Read a beam-table JSON file.
+
+    Raises
+    ------
+    FileFormatError
+        For invalid JSON (with its line), a missing or unknown key, counts that do not match,
+        or codes outside the states' range.
+    """
+    path = Path(path)
+    text = path.read_text(encoding="utf-8")
+    try:
+        doc = json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise FileFormatError(path, f"not valid JSON: {exc.msg}", exc.lineno) from None
+
+    def bad(msg):
+        return FileFormatError(path, msg)
+
+    if not isinstance(doc, dict):
+        raise bad("the file must hold one JSON object")
+    if doc.get("format") != FORMAT_ID:
+        raise bad(f"'format' must be {FORMAT_ID!r}, got {doc.get('format')!r}")
+    if doc.get("layout_version") != LAYOUT_VERSION:
+        raise bad(f"layout_version {doc.get('layout_version')!r} is not supported "
+                  f"(this steradian reads {LAYOUT_VERSION})")
+    for k in doc:
+        if k not in _TOP:
+            raise bad(f"unknown key {k!r}")
+    for k in ("encoding", "n_elements", "n_beams", "states", "elements", "beams"):
+        if k not in doc:
+            raise bad(f"missing key {k!r}")
+    enc = doc["encoding"]
+    if enc not in ("codes", "iq"):
+        raise bad(f"'encoding' must be 'codes' or 'iq', got {enc!r}")
+    if enc == "iq" and doc.get("iq_format") != "Q1.15":
+        raise bad(f"'iq_format' must be 'Q1.15', got {doc.get('iq_format')!r}")
+    n, nb = doc["n_elements"], doc["n_beams"]
+    for k, v in (("n_elements", n), ("n_beams", nb)):
+        if isinstance(v, bool) or not isinstance(v, int) or v < 1:
+            raise bad(f"{k!r} must be a whole number >= 1, got {v!r}")
+    try:
+        states = StateMap.from_dict(doc["states"])
+    except (SteradianError, TypeError) as exc:
+        raise bad(f"'states': {exc}") from None
+    el = doc["elements"]
+    if not isinstance(el, dict) or set(el) != {"phase_offset_deg", "positions_m"}:
+        raise bad("'elements' must hold 'phase_offset_deg' and 'positions_m'")
+    off = el["phase_offset_deg"]
+    if not isinstance(off, list) or len(off) != n:
+        raise bad(f"'elements.phase_offset_deg' must list {n} values")
+    pos = el["positions_m"]
+    if pos is not None and (not isinstance(pos, list) or len(pos) != n):
+        raise bad(f"'elements.positions_m' must list {n} [x, y, z] triples or be null")
+    beams = doc["beams"]
+    if not isinstance(beams, list) or len(beams) != nb:
+        got = len(beams) if isinstance(beams, list) else type(beams).__name__
+        raise bad(f"'beams' must list n_beams = {nb} beams, got {got}")
+    keys = ("phase_code", "amplitude_code") if enc == "codes" else ("i_q15", "q_q15")
+    allowed = {"beam", "theta_deg", "phi_deg", "metrics", *keys}
+    dirs, codes, metrics = [], [], []
+    for b, d in enumerate(beams):
+        if not isinstance(d, dict):
+            raise bad(f"beams[{b}] must be an object")
+        for k in d:
+            if k not in allowed:
+                raise bad(f"beams[{b}]: unknown key {k!r} for encoding {enc!r}")
+        if d.get("beam") != b:
+            raise bad(f"beams[{b}] has 'beam' = {d.get('beam')!r}; beams must be numbered "
+                      "0, 1, 2, ... in order")
+        for k in ("theta_deg", "phi_deg"):
+            v = d.get(k)
+            if isinstance(v, bool) or not isinstance(v, (int, float)):
+                raise bad(f"beams[{b}].{k} must be a number, got {v!r}")
+        dirs.append((float(d["theta_deg"]), float(d["phi_deg"])))
+        pair = []
+        for k in keys:
+            v = d.get(k)
+            if not isinstance(v, list):
+                raise bad(f"beams[{b}].{k} is missing or not a list")
+            if len(v) != n:
+                raise bad(f"beams[{b}].{k} has {len(v)} entries but n_elements is {n}")
+            if not all(isinstance(x, int) and not isinstance(x, bool) for x in v):
+                raise bad(f"beams[{b}].{k} must hold whole numbers")
+            pair.append(v)
+        codes.append(list(zip(*pair, strict=True)))
+        metrics.append(d.get("metrics"))
+    has_m = [m is not None for m in metrics]
+    if any(has_m) and not all(has_m):
+        raise bad(f"beams[{has_m.index(not has_m[0])}]: metrics must be on every beam or none")
+    try:
+        return BeamTable(states, np.array(dirs, float), np.array(codes, np.int64), enc,
+                         np.array(off, float), None if pos is None else np.array(pos, float),
+                         doc.get("metadata") or {}, tuple(metrics) if all(has_m) else None)
+    except (SteradianError, TypeError, ValueError) as exc:
+        raise bad(str(exc)) from None

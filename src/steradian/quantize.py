@@ -1,0 +1,719 @@
+r"""Beamformer channel model: what phase and amplitude states a channel can realise.
+
+A beamformer channel behind each element has a phase control (a digital phase shifter of
+``b`` bits, or any step in degrees over a span) and an amplitude control (a step attenuator
+in dB, a linear DAC of ``b`` bits, or none). :class:`ChannelModel` maps ideal complex weights
+to the nearest states those controls can realise, and tells what the array then radiates.
+
+Signal model (per element n, one beam)::
+
+    realised_n = mask_n * cal_n * exp(j off_n) * A(a_n) * exp(j P(p_n))
+
+- ``p_n``, ``a_n``: the phase and amplitude codes loaded into the hardware.
+  :math:`P(p) = p\,\Delta_\phi` (degrees, state 0 at 0 deg); the attenuator gives
+  :math:`A(a) = 10^{-a\,\Delta_{dB}/20}` (code 0 is no attenuation); the DAC gives
+  :math:`A(a) = a / (2^b - 1)`; with no amplitude control A = 1.
+- ``cal_n``: the measured complex response of channel n relative to nominal (optional
+  calibration file). Ideal weights are divided by it before rounding, so the hardware's own
+  errors are compensated to the resolution of the controls.
+- ``off_n``: a known fixed phase of each channel path (the randomised-offset mode below).
+- ``mask_n``: 0 for disabled elements.
+
+Rounding is per control: phase to the circularly nearest phase state, amplitude to the
+nearest state in the control's own unit (dB for an attenuator, linear for a DAC). Per beam the
+strongest channel is set to ``gain_offset_db`` below full scale (0 dB: code 0 of the
+attenuator, full scale of the DAC); weaker channels follow the taper, and any weaker than the
+control's range reaches its last state.
+
+Randomised phase offsets
+------------------------
+A uniform phase ramp rounded by a ``b``-bit shifter leaves a periodic (sawtooth) error, whose
+harmonics radiate *quantization lobes* of about :math:`2^{-2b}` relative to the beam. Adding a
+known, different phase to each channel path before rounding decorrelates the errors from
+element to element, spreading that energy into a low, even floor (Miller, 1964; Mailloux,
+2018, ch. 7). With ``phase_offsets="random"`` each channel n is given an offset drawn
+uniformly from ``[0, offset_span_deg)`` (default one phase step) from a seeded generator; the
+code is chosen for ``ideal - off_n`` and the channel's own path adds ``off_n`` back. The
+offsets must exist in the hardware (a line length, or a phase the firmware adds to every
+command); they are recorded in every weight file so firmware and verification can apply them.
+
+References
+----------
+C. J. Miller, "Minimizing the effects of phase quantization errors in an electronically
+scanned array," *Proc. Symp. Electronically Scanned Array Techniques and Applications*,
+RADC-TDR-64-225, vol. 1, 1964, pp. 17-38.
+
+R. J. Mailloux, *Phased Array Antenna Handbook*, 3rd ed., Artech House, 2018, ch. 7
+(phase-shifter quantization: RMS error, gain loss, quantization lobes and their
+decorrelation).
+
+B. Widrow and I. Kollar, *Quantization Noise*, Cambridge University Press, 2008, ch. 4
+(uniform quantizer: error uniform over one step, variance step^2 / 12).
+"""
+
+from __future__ import annotations
+
+import csv
+import difflib
+import io
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Literal, get_args
+
+import numpy as np
+
+from ._validate import choice, count
+from .errors import DesignError, FileFormatError, SteradianError
+
+__all__ = [
+    "StateMap",
+    "ChannelModel",
+    "QuantizedWeights",
+    "AmplitudeControl",
+    "OffsetMode",
+    "read_calibration",
+    "channel_from_table",
+    "CHANNEL_KEYS",
+    "wrap_deg",
+]
+
+AmplitudeControl = Literal["none", "attenuator", "dac"]
+OffsetMode = Literal["none", "random"]
+
+_TOL = 1e-9
+
+
+def wrap_deg(x):
+    """Wrap angles in degrees into [-180, 180)."""
+    return (np.asarray(x, float) + 180.0) % 360.0 - 180.0
+
+
+@dataclass(frozen=True)
+class StateMap:
+    """What the codes of a channel mean: the part of the channel a weight file carries.
+
+    Parameters
+    ----------
+    phase_step_deg : float
+        Phase step between adjacent phase codes (degrees, > 0). Code p means p * step.
+    phase_states : int
+        Number of phase codes (0 .. phase_states - 1); they may not exceed a full turn.
+    amplitude : {"none", "attenuator", "dac"}
+        Amplitude control. "attenuator": code a means ``a * amplitude_step`` dB of
+        attenuation; "dac": code a means linear amplitude ``a / (amplitude_states - 1)``;
+        "none": one state of amplitude 1.
+    amplitude_step : float
+        dB per code (attenuator) or linear amplitude per code (DAC, 1 / (states - 1)); 0 for
+        "none".
+    amplitude_states : int
+        Number of amplitude codes (1 for "none").
+    """
+
+    phase_step_deg: float
+    phase_states: int
+    amplitude: AmplitudeControl = "none"
+    amplitude_step: float = 0.0
+    amplitude_states: int = 1
+
+    def __post_init__(self):
+        step = float(self.phase_step_deg)
+        if not math.isfinite(step) or step <= 0 or step > 360:
+            raise SteradianError(f"phase_step_deg must be in (0, 360], got {self.phase_step_deg}")
+        object.__setattr__(self, "phase_step_deg", step)
+        n = count("phase_states", self.phase_states)
+        if (n - 1) * step >= 360.0 - _TOL * 360:
+            raise SteradianError(
+                f"{n} phase states of {step:g} deg span more than a full turn "
+                f"(at most {math.ceil(360.0 / step - _TOL)})")
+        object.__setattr__(self, "phase_states", n)
+        choice("amplitude", self.amplitude, get_args(AmplitudeControl))
+        m = count("amplitude_states", self.amplitude_states)
+        a_step = float(self.amplitude_step)
+        if self.amplitude == "none":
+            if m != 1 or a_step != 0.0:
+                raise SteradianError("amplitude 'none' has one state and step 0, got "
+                                     f"{m} states of step {a_step}")
+        elif self.amplitude == "attenuator":
+            if not math.isfinite(a_step) or a_step <= 0:
+                raise SteradianError(f"attenuator step must be positive dB, got {a_step}")
+        else:
+            if m < 2:
+                raise SteradianError(f"a DAC needs at least 2 states, got {m}")
+            want = 1.0 / (m - 1)
+            if abs(a_step - want) > 1e-12:
+                raise SteradianError(f"DAC with {m} states has step 1/{m - 1} = {want!r}, "
+                                     f"got {a_step!r}")
+            a_step = want
+        object.__setattr__(self, "amplitude_step", a_step)
+        object.__setattr__(self, "amplitude_states", m)
+
+    # ---- meaning of codes ------------------------------------------------------------
+    @property
+    def full_circle(self) -> bool:
+        """True when the phase states cover the whole turn evenly (360 / step states)."""
+        return abs(self.phase_states * self.phase_step_deg - 360.0) <= _TOL * 360
+
+    def phase_deg(self, codes) -> np.ndarray:
+        """Phase (degrees) of phase codes."""
+        return np.asarray(codes, float) * self.phase_step_deg
+
+    def amplitude_lin(self, codes) -> np.ndarray:
+        """Linear amplitude (full scale 1) of amplitude codes."""
+        c = np.asarray(codes, float)
+        if self.amplitude == "none":
+            return np.ones_like(c)
+        if self.amplitude == "attenuator":
+            return 10.0 ** (-c * self.amplitude_step / 20.0)
+        return c / (self.amplitude_states - 1)
+
+    def commanded(self, phase_codes, amplitude_codes) -> np.ndarray:
+        """Complex state ``A(a) exp(j P(p))`` of code pairs (the channel's nominal output)."""
+        return self.amplitude_lin(amplitude_codes) * np.exp(
+            1j * np.deg2rad(self.phase_deg(phase_codes)))
+
+    # ---- rounding -----------------------------------------------------------------------
+    def nearest_phase_code(self, phase_deg) -> np.ndarray:
+        """Code of the circularly nearest phase state."""
+        step, n = self.phase_step_deg, self.phase_states
+        p = np.mod(np.asarray(phase_deg, float), 360.0)
+        if self.full_circle:
+            return np.rint(p / step).astype(np.int64) % n
+        # Limited span: the nearest state is the rounded one inside the span, or one of the
+        # two ends across the gap.
+        cands = np.stack([np.clip(np.rint(p / step), 0, n - 1), np.zeros_like(p),
+                          np.full_like(p, n - 1)])
+        dist = np.abs(wrap_deg(cands * step - p))
+        return np.take_along_axis(cands, dist.argmin(axis=0)[None], 0)[0].astype(np.int64)
+
+    def nearest_amplitude_code(self, amplitude) -> np.ndarray:
+        """Code of the nearest amplitude state (in dB for an attenuator, linear for a DAC)."""
+        a = np.asarray(amplitude, float)
+        m = self.amplitude_states
+        if self.amplitude == "none":
+            return np.zeros(a.shape, np.int64)
+        if self.amplitude == "attenuator":
+            with np.errstate(divide="ignore"):
+                att = -20.0 * np.log10(a)
+            c = np.where(a > 0, np.rint(np.minimum(att, 1e6) / self.amplitude_step), m - 1)
+            return np.clip(c, 0, m - 1).astype(np.int64)
+        return np.clip(np.rint(a * (m - 1)), 0, m - 1).astype(np.int64)
+
+    def check_codes(self, phase_codes, amplitude_codes, where: str = "weights") -> None:
+        """Raise naming the first code outside the channel's range (beam, element, code)."""
+        for name, codes, n in (("phase", phase_codes, self.phase_states),
+                               ("amplitude", amplitude_codes, self.amplitude_states)):
+            c = np.asarray(codes)
+            bad = (c < 0) | (c >= n)
+            if bad.any():
+                idx = tuple(int(i) for i in np.argwhere(bad)[0])
+                loc = (f"beam {idx[0]}, element {idx[1]}" if len(idx) == 2
+                       else f"element {idx[0]}")
+                raise SteradianError(
+                    f"{where}: {name} code {int(c[idx])} at {loc} is out of range 0..{n - 1}")
+
+    # ---- description -----------------------------------------------------------------
+    def to_dict(self) -> dict:
+        """JSON-friendly description (exact: floats kept as given)."""
+        return {"phase_step_deg": self.phase_step_deg, "phase_states": self.phase_states,
+                "amplitude": self.amplitude, "amplitude_step": self.amplitude_step,
+                "amplitude_states": self.amplitude_states}
+
+    @classmethod
+    def from_dict(cls, d: dict) -> StateMap:
+        """Inverse of :meth:`to_dict`."""
+        keys = {"phase_step_deg", "phase_states", "amplitude", "amplitude_step",
+                "amplitude_states"}
+        if not isinstance(d, dict) or set(d) != keys:
+            got = sorted(d) if isinstance(d, dict) else type(d).__name__
+            raise SteradianError(f"state map needs keys {sorted(keys)}, got {got}")
+        return cls(**d)
+
+    def describe(self) -> str:
+        """One line for people."""
+        ph = f"phase {self.phase_states} states of {self.phase_step_deg:g} deg"
+        if self.amplitude == "attenuator":
+            am = (f"attenuator {self.amplitude_states} states of {self.amplitude_step:g} dB "
+                  f"(0 to {(self.amplitude_states - 1) * self.amplitude_step:g} dB)")
+        elif self.amplitude == "dac":
+            am = f"linear DAC {self.amplitude_states} states"
+        else:
+            am = "no amplitude control"
+        return f"{ph}; {am}"
+
+
+@dataclass(frozen=True, eq=False)
+class QuantizedWeights:
+    """Result of :meth:`ChannelModel.quantize` for B beams of N elements.
+
+    Attributes
+    ----------
+    phase_codes, amplitude_codes : ndarray of int64, shape (B, N)
+        Hardware codes.
+    commanded : ndarray of complex, shape (B, N)
+        Nominal channel states ``A(a) exp(j P(p))`` (full scale 1).
+    realised : ndarray of complex, shape (B, N)
+        What the array radiates: commanded times calibration, offsets and mask.
+    ideal : ndarray of complex, shape (B, N)
+        The ideal weights quantized.
+    scale : ndarray, shape (B,)
+        Per-beam factor taking ideal weights to the realised level (strongest channel at
+        ``gain_offset_db``), so ``realised ~ scale * ideal``.
+    phase_offsets_deg : ndarray, shape (N,)
+        Channel path phases added back after rounding (zeros without offsets).
+    """
+
+    phase_codes: np.ndarray
+    amplitude_codes: np.ndarray
+    commanded: np.ndarray
+    realised: np.ndarray
+    ideal: np.ndarray
+    scale: np.ndarray
+    phase_offsets_deg: np.ndarray
+
+    def phase_error_deg(self) -> np.ndarray:
+        """Realised minus ideal phase (degrees, wrapped), NaN where either weight is zero."""
+        ok = (np.abs(self.ideal) > 0) & (np.abs(self.realised) > 0)
+        d = wrap_deg(np.angle(self.realised, deg=True) - np.angle(self.ideal, deg=True))
+        return np.where(ok, d, np.nan)
+
+    def amplitude_error_db(self) -> np.ndarray:
+        """Realised over scaled ideal amplitude (dB), NaN where either weight is zero."""
+        ref = np.abs(self.ideal) * self.scale[:, None]
+        ok = (ref > 0) & (np.abs(self.realised) > 0)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            r = 20 * np.log10(np.abs(self.realised) / np.where(ok, ref, 1.0))
+        return np.where(ok, r, np.nan)
+
+    def rms_phase_error_deg(self) -> np.ndarray:
+        """RMS phase error per beam (degrees) over elements with non-zero weights."""
+        e = self.phase_error_deg()
+        return np.sqrt(np.nanmean(e**2, axis=1))
+
+
+def _path_offsets(n: int, span: float, seed: int) -> np.ndarray:
+    rng = np.random.default_rng(seed)
+    return rng.uniform(0.0, span, n)
+
+
+@dataclass(frozen=True, eq=False)
+class ChannelModel:
+    """A beamformer channel: its states, calibration, level and path offsets.
+
+    Build one with :meth:`build` (from bits or steps) or :func:`channel_from_table` (from a
+    design file's ``[channel]`` table).
+
+    Parameters
+    ----------
+    states : StateMap
+        Phase and amplitude states.
+    calibration : array_like of complex, shape (N,), optional
+        Measured response of each channel relative to nominal (1 = perfect).
+    gain_offset_db : float
+        Level of the strongest channel of each beam relative to full scale, dB (<= 0).
+    phase_offsets : {"none", "random"}
+        Randomised channel path phases (see the module notes).
+    offset_seed : int
+        Seed of the offset generator (the offsets are reproducible from it).
+    offset_span_deg : float, optional
+        Offsets are uniform over [0, span); default one phase step.
+    calibration_source : str, optional
+        Where the calibration came from (for reports).
+    """
+
+    states: StateMap
+    calibration: np.ndarray | None = None
+    gain_offset_db: float = 0.0
+    phase_offsets: OffsetMode = "none"
+    offset_seed: int = 0
+    offset_span_deg: float | None = None
+    calibration_source: str | None = field(default=None)
+
+    def __post_init__(self):
+        if not isinstance(self.states, StateMap):
+            raise SteradianError("states must be a StateMap")
+        g = float(self.gain_offset_db)
+        if not math.isfinite(g) or g > 0:
+            raise SteradianError(
+                f"gain_offset_db must be zero or negative (dB below full scale), got {g}")
+        object.__setattr__(self, "gain_offset_db", g)
+        choice("phase_offsets", self.phase_offsets, get_args(OffsetMode))
+        object.__setattr__(self, "offset_seed", count("offset_seed", self.offset_seed, 0))
+        if self.offset_span_deg is not None:
+            s = float(self.offset_span_deg)
+            if not math.isfinite(s) or not 0 < s <= 360:
+                raise SteradianError(f"offset_span_deg must be in (0, 360], got {s}")
+            object.__setattr__(self, "offset_span_deg", s)
+        if self.calibration is not None:
+            c = np.asarray(self.calibration, complex).reshape(-1)
+            if not np.all(np.isfinite(c)) or np.any(c == 0):
+                i = int(np.flatnonzero(~np.isfinite(c) | (c == 0))[0])
+                raise SteradianError(f"calibration of element {i} must be finite and non-zero,"
+                                     f" got {c[i]}")
+            c = c.copy()
+            c.setflags(write=False)
+            object.__setattr__(self, "calibration", c)
+
+    @classmethod
+    def build(cls, *, phase_bits: int | None = None, phase_step_deg: float | None = None,
+              phase_span_deg: float | None = None, attenuator_step_db: float | None = None,
+              attenuator_span_db: float | None = None, dac_bits: int | None = None,
+              **kwargs) -> ChannelModel:
+        """Channel from the usual datasheet numbers.
+
+        Parameters
+        ----------
+        phase_bits : int, optional
+            A ``b``-bit shifter: 2^b states of 360 / 2^b degrees over the full turn.
+        phase_step_deg, phase_span_deg : float, optional
+            Instead of bits: the step and the span from the first to the last state
+            (default: the largest whole number of steps below 360 deg).
+        attenuator_step_db, attenuator_span_db : float, optional
+            Step attenuator: span / step + 1 states (span a whole number of steps).
+        dac_bits : int, optional
+            Linear amplitude DAC of 2^b states instead of an attenuator.
+        **kwargs
+            The other :class:`ChannelModel` fields.
+        """
+        states = _state_map(phase_bits, phase_step_deg, phase_span_deg, attenuator_step_db,
+                            attenuator_span_db, dac_bits, SteradianError, "")
+        return cls(states, **kwargs)
+
+    # ---- per-element data ----------------------------------------------------------------
+    def _check_n(self, n: int) -> None:
+        if self.calibration is not None and self.calibration.size != n:
+            raise SteradianError(f"calibration has {self.calibration.size} channels but the "
+                                 f"array has {n} elements")
+
+    def offsets_deg(self, n: int) -> np.ndarray:
+        """Channel path phases (degrees) for ``n`` elements: zeros, or the seeded offsets."""
+        if self.phase_offsets == "none":
+            return np.zeros(n)
+        span = self.offset_span_deg or self.states.phase_step_deg
+        return _path_offsets(n, span, self.offset_seed)
+
+    def realise(self, commanded, phase_offsets_deg=None, mask=None) -> np.ndarray:
+        """What the array radiates for nominal channel states ``commanded`` (B, N) or (N,)."""
+        c = np.asarray(commanded, complex)
+        n = c.shape[-1]
+        self._check_n(n)
+        out = c.copy()
+        if self.calibration is not None:
+            out = out * self.calibration
+        if phase_offsets_deg is not None:
+            out = out * np.exp(1j * np.deg2rad(np.asarray(phase_offsets_deg, float)))
+        if mask is not None:
+            out = np.where(np.asarray(mask, bool), out, 0.0)
+        return out
+
+    def quantize(self, weights, *, mask=None, phase_offsets_deg=None) -> QuantizedWeights:
+        """Nearest realisable states for ideal weights of shape (N,) or (B, N).
+
+        Parameters
+        ----------
+        weights : array_like of complex
+            Ideal weights, element order, one row per beam.
+        mask : array_like of bool, shape (N,), optional
+            Enabled elements; disabled ones radiate nothing (their codes are still set, to the
+            weakest state for a zero weight).
+        phase_offsets_deg : array_like, shape (N,), optional
+            Channel path phases; default :meth:`offsets_deg`.
+
+        Returns
+        -------
+        QuantizedWeights
+        """
+        w = np.atleast_2d(np.asarray(weights, complex))
+        if w.ndim != 2 or w.shape[1] == 0:
+            raise SteradianError(f"weights must have shape (N,) or (B, N), got {w.shape}")
+        if not np.all(np.isfinite(w)):
+            b, n = np.argwhere(~np.isfinite(w))[0]
+            raise SteradianError(f"weight of beam {b}, element {n} is not finite")
+        nb, n = w.shape
+        self._check_n(n)
+        off = (self.offsets_deg(n) if phase_offsets_deg is None
+               else np.asarray(phase_offsets_deg, float).reshape(-1))
+        if off.shape != (n,):
+            raise SteradianError(f"phase offsets have {off.size} entries, array has {n}")
+        m = np.ones(n, bool) if mask is None else np.asarray(mask, bool).reshape(-1)
+        if m.shape != (n,):
+            raise SteradianError(f"mask has {m.size} entries, array has {n} elements")
+        t = w if self.calibration is None else w / self.calibration
+        t = np.where(m, t, 0.0)
+        peak = np.abs(t).max(axis=1)
+        if np.any(peak == 0):
+            raise SteradianError(f"beam {int(np.flatnonzero(peak == 0)[0])} has no non-zero "
+                                 "weight on an enabled element")
+        full = 10.0 ** (self.gain_offset_db / 20.0)
+        s = full / peak
+        amp = np.abs(t) * s[:, None]
+        ph = np.angle(t, deg=True) - off
+        pc = self.states.nearest_phase_code(ph)
+        ac = self.states.nearest_amplitude_code(amp)
+        cmd = self.states.commanded(pc, ac)
+        real = self.realise(cmd, off, m)
+        scale = s  # realised ~ cal * (t * s) = w * s
+        return QuantizedWeights(pc, ac, cmd, real, np.where(m, w, 0.0), scale, off)
+
+    # ---- description -----------------------------------------------------------------
+    def describe(self) -> dict:
+        """JSON-friendly description of the channel (for file metadata and reports)."""
+        d = {"states": self.states.to_dict(), "summary": self.states.describe(),
+             "gain_offset_db": self.gain_offset_db, "phase_offsets": self.phase_offsets}
+        if self.phase_offsets != "none":
+            d["offset_seed"] = self.offset_seed
+            d["offset_span_deg"] = self.offset_span_deg or self.states.phase_step_deg
+        if self.calibration is not None:
+            c = self.calibration
+            d["calibration"] = {
+                "source": self.calibration_source, "channels": int(c.size),
+                "gain_db_range": [float(20 * np.log10(np.abs(c)).min()),
+                                  float(20 * np.log10(np.abs(c)).max())],
+                "phase_deg_rms": float(np.sqrt(np.mean(np.angle(c, deg=True) ** 2)))}
+        return d
+
+
+# ---------------------------------------------------------------------------------------
+# Construction from numbers or a design table
+# ---------------------------------------------------------------------------------------
+def _state_map(phase_bits, phase_step_deg, phase_span_deg, att_step, att_span, dac_bits,
+               err, prefix) -> StateMap:
+    """StateMap from datasheet numbers; errors through ``err(key, message)``."""
+
+    def fail(key, msg):
+        if err is SteradianError:
+            raise SteradianError(f"{key}: {msg}")
+        raise err(f"{prefix}{key}", msg)
+
+    def number(key, v, positive=True):
+        if isinstance(v, bool) or not isinstance(v, (int, float)):
+            fail(key, f"must be a number, got {v!r}")
+        v = float(v)
+        if not math.isfinite(v) or (positive and v <= 0):
+            fail(key, f"must be a positive number, got {v!r}")
+        return v
+
+    def bits(key, v, hi):
+        if isinstance(v, bool) or not isinstance(v, int):
+            fail(key, f"must be a whole number of bits, got {v!r}")
+        if not 1 <= v <= hi:
+            fail(key, f"must be 1 .. {hi}, got {v}")
+        return v
+
+    if phase_bits is not None and phase_step_deg is not None:
+        fail("phase_step_deg", "give phase_bits or phase_step_deg, not both")
+    if phase_bits is not None:
+        b = bits("phase_bits", phase_bits, 16)
+        if phase_span_deg is not None:
+            fail("phase_span_deg", "a b-bit shifter covers the full turn; give "
+                 "phase_step_deg to set a span")
+        step, n_ph = 360.0 / 2**b, 2**b
+    elif phase_step_deg is not None:
+        step = number("phase_step_deg", phase_step_deg)
+        if step > 360:
+            fail("phase_step_deg", f"must be at most 360, got {step}")
+        if phase_span_deg is None:
+            n_ph = math.ceil(360.0 / step - _TOL)
+        else:
+            span = number("phase_span_deg", phase_span_deg, positive=False)
+            r = span / step
+            if span < 0 or abs(r - round(r)) > 1e-6:
+                fail("phase_span_deg", f"must be a whole number of {step:g} deg steps, "
+                     f"got {span:g}")
+            n_ph = round(r) + 1
+            if (n_ph - 1) * step >= 360.0 - _TOL * 360:
+                fail("phase_span_deg", f"{span:g} deg reaches a full turn; the last state "
+                     f"is at most {360 - step:g} deg")
+    else:
+        fail("phase_bits", "the channel needs phase_bits or phase_step_deg")
+    if dac_bits is not None and (att_step is not None or att_span is not None):
+        fail("dac_bits", "give an attenuator (attenuator_step_db, attenuator_span_db) or "
+             "dac_bits, not both")
+    if dac_bits is not None:
+        b = bits("dac_bits", dac_bits, 16)
+        return StateMap(step, n_ph, "dac", 1.0 / (2**b - 1), 2**b)
+    if att_step is None and att_span is None:
+        return StateMap(step, n_ph)
+    if att_step is None or att_span is None:
+        fail("attenuator_step_db" if att_step is None else "attenuator_span_db",
+             "an attenuator needs both attenuator_step_db and attenuator_span_db")
+    a_step = number("attenuator_step_db", att_step)
+    a_span = number("attenuator_span_db", att_span, positive=False)
+    r = a_span / a_step
+    if a_span < 0 or abs(r - round(r)) > 1e-6:
+        fail("attenuator_span_db", f"must be a whole number of {a_step:g} dB steps, got "
+             f"{a_span:g}")
+    n_a = round(r) + 1
+    if n_a > 65536:
+        fail("attenuator_span_db", f"{n_a} states exceed 65536")
+    return StateMap(step, n_ph, "attenuator", a_step, n_a)
+
+
+CHANNEL_KEYS = (
+    "phase_bits", "phase_step_deg", "phase_span_deg",
+    "attenuator_step_db", "attenuator_span_db", "dac_bits",
+    "calibration_file", "gain_offset_db",
+    "phase_offsets", "offset_seed", "offset_span_deg",
+)
+"""Keys of a design file's ``[channel]`` table."""
+
+
+def channel_from_table(table: dict, n_elements: int | None = None, *, source=None,
+                       base_dir=None, section: str = "channel") -> ChannelModel:
+    """Channel model from a design file's ``[channel]`` table.
+
+    Keys: ``phase_bits`` or ``phase_step_deg`` (+ ``phase_span_deg``); optionally
+    ``attenuator_step_db`` and ``attenuator_span_db``, or ``dac_bits``; ``calibration_file``
+    (CSV, relative to the design file, see :func:`read_calibration`); ``gain_offset_db``;
+    ``phase_offsets`` ("none" or "random"), ``offset_seed``, ``offset_span_deg``.
+
+    Raises
+    ------
+    DesignError
+        Naming ``channel.<key>``, with the closest valid key for an unknown one.
+    """
+    src = None if source is None else str(source)
+    if not isinstance(table, dict):
+        raise DesignError(section, f"must be a table, got {type(table).__name__}", src)
+    for k in table:
+        if k not in CHANNEL_KEYS:
+            hint = difflib.get_close_matches(str(k), CHANNEL_KEYS, n=1)
+            extra = f" (did you mean {hint[0]!r}?)" if hint else ""
+            raise DesignError(f"{section}.{k}", f"unknown key{extra}; valid keys: "
+                              f"{', '.join(CHANNEL_KEYS)}", src)
+
+    def err(key, msg):
+        return DesignError(key, msg, src)
+
+    class _E(DesignError):
+        def __init__(self, key, msg):
+            super().__init__(key, msg, src)
+
+    g = table.get
+    states = _state_map(g("phase_bits"), g("phase_step_deg"), g("phase_span_deg"),
+                        g("attenuator_step_db"), g("attenuator_span_db"), g("dac_bits"),
+                        _E, f"{section}.")
+    cal = None
+    cal_src = None
+    if "calibration_file" in table:
+        p = table["calibration_file"]
+        if not isinstance(p, str) or not p:
+            raise err(f"{section}.calibration_file", f"must be a file path, got {p!r}")
+        path = Path(p)
+        if not path.is_absolute() and base_dir is not None:
+            path = Path(base_dir) / path
+        if not path.is_file():
+            raise err(f"{section}.calibration_file", f"file not found: {path}")
+        cal = read_calibration(path, n_elements)
+        cal_src = p
+    kw = {}
+    for key in ("gain_offset_db", "offset_span_deg"):
+        if key in table:
+            v = table[key]
+            if isinstance(v, bool) or not isinstance(v, (int, float)):
+                raise err(f"{section}.{key}", f"must be a number, got {v!r}")
+            kw[key] = float(v)
+    if "phase_offsets" in table:
+        v = table["phase_offsets"]
+        if v not in get_args(OffsetMode):
+            hint = difflib.get_close_matches(str(v), get_args(OffsetMode), n=1)
+            extra = f" (did you mean {hint[0]!r}?)" if hint else ""
+            raise err(f"{section}.phase_offsets",
+                      f"must be 'none' or 'random', got {v!r}{extra}")
+        kw["phase_offsets"] = v
+    if "offset_seed" in table:
+        v = table["offset_seed"]
+        if isinstance(v, bool) or not isinstance(v, int) or v < 0:
+            raise err(f"{section}.offset_seed", f"must be a whole number >= 0, got {v!r}")
+        kw["offset_seed"] = v
+    try:
+        return ChannelModel(states, cal, calibration_source=cal_src, **kw)
+    except DesignError:
+        raise
+    except SteradianError as exc:
+        key = next((k for k in ("gain_offset_db", "offset_span_deg") if k in str(exc)), "")
+        raise err(f"{section}.{key}" if key else section, str(exc)) from None
+
+
+# ---------------------------------------------------------------------------------------
+# Calibration CSV
+# ---------------------------------------------------------------------------------------
+_CAL_COLUMNS = ("element", "gain_db", "phase_deg")
+
+
+def read_calibration(path, n: int | None = None) -> np.ndarray:
+    """Per-channel complex calibration from a CSV file.
+
+    Layout (``#`` comment lines and blank lines ignored)::
+
+        # measured channel response relative to nominal
+        element,gain_db,phase_deg
+        0,0.21,-3.4
+        1,-0.08,1.9
+
+    Each element 0 .. N-1 exactly once, in any order. ``gain_db`` and ``phase_deg`` are the
+    measured response of the channel relative to nominal; the returned factor is
+    ``10**(gain_db/20) * exp(j phase_deg)``.
+
+    Raises
+    ------
+    FileFormatError
+        Naming the line for a bad number, a duplicate or missing element, or a wrong count.
+    """
+    path = Path(path)
+    text = path.read_text(encoding="utf-8-sig")
+    rows = []
+    header = None
+    for lineno, line in enumerate(text.splitlines(), 1):
+        s = line.strip()
+        if not s or s.startswith("#"):
+            continue
+        fields = [f.strip() for f in next(csv.reader(io.StringIO(s)))]
+        if header is None:
+            header = fields
+            for h in header:
+                if h not in _CAL_COLUMNS:
+                    hint = difflib.get_close_matches(h, _CAL_COLUMNS, n=1)
+                    extra = f" (did you mean {hint[0]!r}?)" if hint else ""
+                    raise FileFormatError(path, f"unknown column {h!r}{extra}; columns are "
+                                          f"{', '.join(_CAL_COLUMNS)}", lineno)
+            missing = [c for c in _CAL_COLUMNS if c not in header]
+            if missing:
+                raise FileFormatError(path, f"missing column {missing[0]!r}", lineno)
+            continue
+        if len(fields) != len(header):
+            raise FileFormatError(path, f"expected {len(header)} fields, got {len(fields)}",
+                                  lineno)
+        rows.append((lineno, dict(zip(header, fields, strict=True))))
+    if header is None or not rows:
+        raise FileFormatError(path, "no calibration rows (need a header line "
+                              "'element,gain_db,phase_deg' and one row per element)")
+    m = len(rows)
+    if n is not None and m != n:
+        raise FileFormatError(path, f"has {m} channel rows, the array has {n} elements")
+    cal = np.zeros(m, complex)
+    seen = {}
+    for lineno, r in rows:
+        try:
+            i = int(r["element"])
+        except ValueError:
+            raise FileFormatError(path, f"element {r['element']!r} is not a whole number",
+                                  lineno) from None
+        if not 0 <= i < m:
+            raise FileFormatError(path, f"element {i} is outside 0..{m - 1}", lineno)
+        if i in seen:
+            raise FileFormatError(path, f"element {i} appears twice (first on line "
+                                  f"{seen[i]})", lineno)
+        seen[i] = lineno
+        vals = []
+        for c in ("gain_db", "phase_deg"):
+            try:
+                v = float(r[c])
+            except ValueError:
+                raise FileFormatError(path, f"column {c!r}: {r[c]!r} is not a number",
+                                      lineno) from None
+            if not math.isfinite(v):
+                raise FileFormatError(path, f"column {c!r}: {r[c]!r} is not finite", lineno)
+            vals.append(v)
+        cal[i] = 10 ** (vals[0] / 20) * np.exp(1j * np.deg2rad(vals[1]))
+    return cal
