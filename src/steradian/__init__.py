@@ -38,6 +38,7 @@ from .geometry import (
     triangular,
 )
 from .grids import Directions, ThetaPhiGrid, UVGrid
+from .metrics import Cut, PatternMetrics, cut, pattern_metrics, principal_cuts
 from .radiation import (
     beam_solid_angle,
     directivity,
@@ -62,3 +63,4 @@ __all__ = [
     "radiated_power", "directivity", "peak_directivity", "beam_solid_angle",
     "taper_efficiency", "gain", "realized_gain", "eirp",
 ]
+__all__ += ["Cut", "PatternMetrics", "cut", "pattern_metrics", "principal_cuts"]
