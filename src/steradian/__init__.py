@@ -14,6 +14,18 @@ __version__ = "0.1.0"
 
 from ._validate import C0
 from .array import Array, Steering, direction
+from .beamtable import (
+    BeamEvaluator,
+    BeamTable,
+    az_el_directions,
+    beam_table_from_design,
+    build_beam_table,
+    read_weight_file,
+    theta_phi_directions,
+    verify_beam_table,
+    verify_weight_file,
+    write_weight_file,
+)
 from .elements import (
     CosinePower,
     Dipole,
@@ -39,6 +51,7 @@ from .geometry import (
 )
 from .grids import Directions, ThetaPhiGrid, UVGrid
 from .metrics import Cut, PatternMetrics, cut, pattern_metrics, principal_cuts
+from .quantize import ChannelModel, StateMap
 from .radiation import (
     beam_solid_angle,
     directivity,
@@ -64,3 +77,7 @@ __all__ = [
     "taper_efficiency", "gain", "realized_gain", "eirp",
 ]
 __all__ += ["Cut", "PatternMetrics", "cut", "pattern_metrics", "principal_cuts"]
+__all__ += ["ChannelModel", "StateMap", "BeamTable", "BeamEvaluator", "build_beam_table",
+            "verify_beam_table", "beam_table_from_design", "verify_weight_file",
+            "read_weight_file", "write_weight_file", "theta_phi_directions",
+            "az_el_directions"]

@@ -80,6 +80,10 @@ __all__ = [
     "verify_beam_table",
     "read_weight_file",
     "write_weight_file",
+    "write_beam_files",
+    "channel_of_design",
+    "beam_table_from_design",
+    "verify_weight_file",
 ]
 
 Encoding = Literal["codes", "iq"]
@@ -875,7 +879,11 @@ def _array_metadata(array, channel: ChannelModel, efficiency: float) -> dict:
                      "planar": g.is_planar},
         "element": array.element.describe(),
         "taper": {"amplitude_min_db": float(np.min(amp_db)),
-                  "phase_spread_deg": float(np.ptp(np.angle(array.taper, deg=True)))},
+                  "phase_spread_deg": float(np.ptp(np.angle(array.taper, deg=True))),
+                  # |sum w|^2 / (N sum |w|^2): the broadside taper efficiency of an equally
+                  # spaced planar array (common practice).
+                  "illumination_efficiency": float(abs(array.taper.sum()) ** 2 / (
+                      g.n * np.sum(np.abs(array.taper) ** 2)))},
         "steering_mode": array.steering.mode if array.steering is not None else "phase",
         "channel": channel.describe(),
         "radiation_efficiency": efficiency,
@@ -1043,6 +1051,23 @@ def write_weight_file(path, table: BeamTable, fmt: str | None = None, **options)
     return Path(path)
 
 
+def write_beam_files(table: BeamTable, prefix, formats=("csv", "json", "bin", "h"), *,
+                     bin_encoding: Encoding | None = None, c_prefix: str = "strd") -> dict:
+    """Write ``table`` as ``<prefix>.csv``, ``.json``, ``.bin``, ``.h`` (those in ``formats``).
+
+    ``bin_encoding`` chooses codes or Q1.15 I/Q for the binary file (default the table's);
+    ``c_prefix`` names the C header's identifiers. Returns ``{format: path}``.
+    """
+    ext = {v: k for k, v in FORMATS.items()}
+    out = {}
+    for f in formats:
+        choice("format", f, tuple(ext))
+        path = Path(f"{prefix}{ext[f]}")
+        opts = {"bin": {"encoding": bin_encoding}, "h": {"prefix": c_prefix}}.get(f, {})
+        out[f] = write_weight_file(path, table, f, **opts)
+    return out
+
+
 def read_weight_file(path, fmt: str | None = None) -> BeamTable:
     """Read a weight file written by :func:`write_weight_file` (format from the suffix)."""
     kind = _format_of(path, fmt)
@@ -1055,3 +1080,85 @@ def read_weight_file(path, fmt: str | None = None) -> BeamTable:
     else:
         from .io.beams_cheader import read_beams_cheader as r
     return r(path)
+
+
+# ---------------------------------------------------------------------------------------
+# From a design file
+# ---------------------------------------------------------------------------------------
+def channel_of_design(design) -> ChannelModel | None:
+    """The design's ``[channel]`` as a :class:`ChannelModel` (None when it has none)."""
+    from .quantize import channel_from_table
+
+    raw = design.sections.get("channel")
+    if raw is None:
+        return None
+    return channel_from_table(raw, design.array.n, source=design.source,
+                              base_dir=design.base_dir)
+
+
+def _design_metadata(design) -> dict:
+    meta = {"design": {"name": design.name, "description": design.description,
+                       "source": None if design.source is None else str(design.source)}}
+    if design.source is not None:
+        import tomllib
+
+        try:
+            doc = tomllib.loads(Path(design.source).read_text(encoding="utf-8"))
+        except (OSError, ValueError):
+            doc = {}
+        for key in ("taper", "synthesis", "beams"):
+            if key in doc:
+                meta[f"{key}_spec"] = doc[key]
+    return meta
+
+
+def beam_table_from_design(design, *, weights: WeightSource = None,
+                           evaluator: BeamEvaluator | None = None) -> BeamBuild:
+    """Build the beam table a design asks for (its ``[channel]`` and ``[beams]`` tables).
+
+    The ideal weights are the design's taper (``[taper]``, which may come from synthesis)
+    steered to each beam, unless ``weights`` is given (see :func:`steered_weights`). The
+    gain uses ``analysis.radiation_efficiency``.
+
+    Raises
+    ------
+    DesignError
+        When ``[channel]`` or ``[beams]`` is missing or malformed (naming the key).
+    """
+    ch = channel_of_design(design)
+    src = None if design.source is None else str(design.source)
+    if ch is None:
+        raise DesignError("channel", "the design has no [channel] table; a beam table needs "
+                          "the beamformer channel (phase_bits or phase_step_deg, ...)", src)
+    if "beams" not in design.sections:
+        raise DesignError("beams", "the design has no [beams] table; give the steering grid "
+                          "(grid = 'theta_phi', 'az_el' or 'list')", src)
+    d = beams_from_table(design.sections["beams"], source=src, base_dir=design.base_dir)
+    eff = design.options.radiation_efficiency
+    return build_beam_table(design.array, ch, d, weights=weights, efficiency=eff,
+                            evaluator=evaluator, metadata=_design_metadata(design))
+
+
+def verify_weight_file(design, path, fmt: str | None = None, *,
+                       weights: WeightSource = None,
+                       evaluator: BeamEvaluator | None = None) -> tuple[BeamTable, Verification]:
+    """Read any weight file and re-evaluate its beams against ``design``.
+
+    Without a ``[channel]`` table in the design the file's own states are used with no
+    calibration (a note says so).
+
+    Returns
+    -------
+    (BeamTable, Verification)
+    """
+    table = read_weight_file(path, fmt)
+    ch = channel_of_design(design)
+    notes = []
+    if ch is None:
+        ch = ChannelModel(table.states)
+        notes.append("the design has no [channel] table: the file's states are used, "
+                     "without calibration")
+    eff = design.options.radiation_efficiency
+    v = verify_beam_table(design.array, ch, table, weights=weights, efficiency=eff,
+                          evaluator=evaluator)
+    return table, replace(v, notes=notes + list(v.notes))

@@ -19,6 +19,8 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "demo": ("steradian.cli.demo", "demo"),
     "analyze": ("steradian.cli.analyze", "analyze"),
     "pattern": ("steradian.cli.pattern", "pattern"),
+    "beams": ("steradian.cli.beams", "beams"),
+    "verify": ("steradian.cli.verify", "verify"),
 }
 
 # One-line help shown by ``steradian --help`` without importing the command modules.
@@ -26,6 +28,8 @@ SHORT_HELP: dict[str, str] = {
     "demo": "Analyse the bundled demo design and write a pattern-cut PNG.",
     "analyze": "Analyse a TOML design: directivity, gain, beamwidths, sidelobes.",
     "pattern": "Export pattern cuts and u-v grids of a design to CSV.",
+    "beams": "Quantize a design's beam table and write firmware weight files.",
+    "verify": "Re-evaluate the beams of a weight file against its design.",
 }
 
 
