@@ -1,0 +1,281 @@
+"""Pattern CSV files: principal cuts and u-v directivity maps, long format.
+
+Cuts file (one row per sample, both cuts in one file)::
+
+    # steradian pattern cuts
+    # frequency_hz = 10000000000.0
+    cut,angle_deg,theta_deg,phi_deg,directivity_dbi
+    phi_plane,-90.0,...
+
+u-v file (one row per visible grid point; points with u^2 + v^2 > 1 are left out)::
+
+    # steradian u-v directivity map
+    # hemisphere = front
+    u,v,theta_deg,phi_deg,directivity_dbi
+    -1.0,0.0,...
+
+Numbers are written with Python's shortest round-trip representation, so reading a file back
+returns the same floats.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import FileFormatError, SteradianError
+from ._atomic import write_text
+from .positions_csv import parse_float, read_table, unknown_column
+
+__all__ = ["UVMap", "uv_map", "write_cuts", "read_cuts", "write_uv", "read_uv"]
+
+_CUT_COLUMNS = ["cut", "angle_deg", "theta_deg", "phi_deg", "directivity_dbi"]
+_UV_COLUMNS = ["u", "v", "theta_deg", "phi_deg", "directivity_dbi"]
+
+
+@dataclass(frozen=True, eq=False)
+class UVMap:
+    """Directivity on a regular u-v grid over one hemisphere.
+
+    Attributes
+    ----------
+    u, v : ndarray, shape (nu,), (nv,)
+        Direction cosines u = sin(theta) cos(phi) (columns), v = sin(theta) sin(phi) (rows).
+    directivity_dbi : ndarray, shape (nv, nu)
+        Directivity in dBi; NaN outside the unit circle (invisible space).
+    hemisphere : int
+        +1 for the front (w >= 0), -1 for the back.
+    """
+
+    u: np.ndarray
+    v: np.ndarray
+    directivity_dbi: np.ndarray
+    hemisphere: int = 1
+
+
+def uv_map(array, n: int = 201, *, frequency: float | None = None, power=None,
+           hemisphere: int = 1) -> UVMap:
+    """Directivity of ``array`` on an ``n`` x ``n`` u-v grid spanning [-1, 1].
+
+    Parameters
+    ----------
+    array : Array
+    n : int
+        Grid points per axis (>= 3).
+    frequency : float, optional
+        Evaluation frequency (Hz); default the design frequency.
+    power : RadiatedPower, optional
+        Radiated power for the normalisation (computed when omitted).
+    hemisphere : {1, -1}
+        Front (w >= 0) or back hemisphere.
+    """
+    from .._validate import count
+    from ..grids import UVGrid
+    from ..metrics import DB_FLOOR
+    from ..radiation import directivity, radiated_power, to_db
+
+    n = count("uv points", n, 3)
+    if hemisphere not in (1, -1):
+        raise SteradianError(f"hemisphere must be 1 or -1, got {hemisphere!r}")
+    grid = UVGrid.square(n, hemisphere)
+    p = power or radiated_power(array, frequency=frequency)
+    d = directivity(array, grid, frequency=frequency, power=p)
+    vis = grid.visible.reshape(grid.shape)
+    db = np.where(vis, np.maximum(to_db(np.where(vis, d, 1.0)), DB_FLOOR), np.nan)
+    return UVMap(grid.u.copy(), grid.v.copy(), db, hemisphere)
+
+
+def _fmt(x) -> str:
+    return repr(float(x))
+
+
+def _meta_lines(title: str, meta: dict | None) -> list[str]:
+    lines = [f"# {title}"]
+    for k, v in (meta or {}).items():
+        v = str(v)
+        if "\n" in v or "\r" in v:
+            raise SteradianError(f"meta value of {k!r} must fit on one line")
+        lines.append(f"# {k} = {v}")
+    return lines
+
+
+def write_cuts(path, cuts, meta: dict | None = None) -> None:
+    """Write pattern cuts (e.g. :func:`steradian.metrics.principal_cuts`) atomically.
+
+    Parameters
+    ----------
+    path : path-like
+    cuts : sequence of Cut
+        Each with ``name``, ``angle_deg``, ``theta_deg``, ``phi_deg``, ``directivity_dbi``.
+    meta : dict, optional
+        ``# key = value`` header lines (design name, frequency, ...).
+    """
+    lines = _meta_lines("steradian pattern cuts", meta)
+    lines.append(",".join(_CUT_COLUMNS))
+    for c in cuts:
+        if "," in c.name or not c.name:
+            raise SteradianError(f"cut name {c.name!r} must be non-empty and without commas")
+        for a, t, p, d in zip(c.angle_deg, c.theta_deg, c.phi_deg, c.directivity_dbi,
+                              strict=True):
+            lines.append(f"{c.name},{_fmt(a)},{_fmt(t)},{_fmt(p)},{_fmt(d)}")
+    write_text(path, "\n".join(lines) + "\n")
+
+
+def read_cuts(path) -> list:
+    """Read a cuts file back into :class:`steradian.metrics.Cut` objects (file order)."""
+    from ..metrics import Cut
+
+    path = Path(path)
+    header, rows, hline, _ = read_table(path)
+    for h in header:
+        if h not in _CUT_COLUMNS:
+            raise unknown_column(path, h, _CUT_COLUMNS, hline)
+    missing = [c for c in _CUT_COLUMNS if c not in header]
+    if missing:
+        raise FileFormatError(path, f"missing column(s) {', '.join(missing)}", hline)
+    if not rows:
+        raise FileFormatError(path, "no rows after the header", hline)
+    col = {h: i for i, h in enumerate(header)}
+    data: dict[str, list] = {}
+    for lineno, f in rows:
+        vals = [parse_float(path, lineno, c, f[col[c]]) for c in _CUT_COLUMNS[1:4]]
+        vals.append(parse_float(path, lineno, "directivity_dbi", f[col["directivity_dbi"]],
+                                allow_inf=True))
+        data.setdefault(f[col["cut"]], []).append(vals)
+    out = []
+    for name, vals in data.items():
+        a = np.array(vals)
+        th, ph = np.deg2rad(a[:, 1]), np.deg2rad(a[:, 2])
+        dirs = np.column_stack([np.sin(th) * np.cos(ph), np.sin(th) * np.sin(ph), np.cos(th)])
+        out.append(Cut(name, a[:, 0], dirs, a[:, 3], a[:, 1], a[:, 2]))
+    return out
+
+
+def write_uv(path, uvmap: UVMap, meta: dict | None = None) -> None:
+    """Write a :class:`UVMap` atomically (visible points only)."""
+    m = dict(meta or {})
+    m.setdefault("hemisphere", "front" if uvmap.hemisphere == 1 else "back")
+    m.setdefault("grid", f"{len(uvmap.u)} x {len(uvmap.v)}")
+    lines = _meta_lines("steradian u-v directivity map", m)
+    lines.append(",".join(_UV_COLUMNS))
+    uu, vv = np.meshgrid(uvmap.u, uvmap.v, indexing="xy")
+    s = np.hypot(uu, vv)
+    theta = np.rad2deg(np.arcsin(np.clip(s, 0.0, 1.0)))
+    if uvmap.hemisphere == -1:
+        theta = 180.0 - theta
+    phi = np.where(s > 0, np.rad2deg(np.arctan2(vv, uu)), 0.0)
+    d = uvmap.directivity_dbi
+    for iv in range(len(uvmap.v)):
+        for iu in range(len(uvmap.u)):
+            if np.isnan(d[iv, iu]):
+                continue
+            lines.append(f"{_fmt(uu[iv, iu])},{_fmt(vv[iv, iu])},{_fmt(theta[iv, iu])},"
+                         f"{_fmt(phi[iv, iu])},{_fmt(d[iv, iu])}")
+    write_text(path, "\n".join(lines) + "\n")
+
+
+def read_uv(path) -> UVMap:
+    """Read a u-v file back into a :class:`UVMap` (missing grid points become NaN)."""
+    path = Path(path)
+    header, rows, hline, comments = read_table(path)
+    for h in header:
+        if h not in _UV_COLUMNS:
+            raise unknown_column(path, h, _UV_COLUMNS, hline)
+    for c in ("u", "v", "directivity_dbi"):
+        if c not in header:
+            raise FileFormatError(path, f"missing column {c!r}", hline)
+    if not rows:
+        raise FileFormatError(path, "no rows after the header", hline)
+    col = {h: i for i, h in enumerate(header)}
+    pts = np.array([[parse_float(path, ln, "u", f[col["u"]]),
+                     parse_float(path, ln, "v", f[col["v"]]),
+                     parse_float(path, ln, "directivity_dbi", f[col["directivity_dbi"]],
+                                 allow_inf=True)] for ln, f in rows])
+    u = np.unique(pts[:, 0])
+    v = np.unique(pts[:, 1])
+    d = np.full((len(v), len(u)), np.nan)
+    d[np.searchsorted(v, pts[:, 1]), np.searchsorted(u, pts[:, 0])] = pts[:, 2]
+    hemi = 1
+    for c in comments:
+        if c.replace(" ", "") == "hemisphere=back":
+            hemi = -1
+    return UVMap(u, v, d, hemi)
+
+
+def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_png_path=None,
+                    uv_points: int = 201, span_deg: float = 90.0,
+                    frequency: float | None = None, meta: dict | None = None,
+                    title: str | None = None, metrics: dict | None = None) -> dict:
+    """Compute the principal cuts and/or the u-v map of ``array`` and write the files asked.
+
+    Parameters
+    ----------
+    array : Array
+    cuts_path, uv_path : path-like, optional
+        CSV outputs (cuts of :func:`steradian.metrics.principal_cuts`; :func:`uv_map`).
+    png_path, uv_png_path : path-like, optional
+        PNG outputs (:func:`steradian.plots.plot_cuts` annotated with both half-power
+        beamwidths and the peak sidelobe level; :func:`steradian.plots.plot_uv`).
+    uv_points : int
+        u-v grid points per axis.
+    span_deg : float
+        Half-span of each cut about the beam axis (deg, at most 180).
+    frequency : float, optional
+        Evaluation frequency (Hz).
+    meta : dict, optional
+        ``# key = value`` lines for the CSV headers.
+    title : str, optional
+        Plot title prefix.
+    metrics : dict, optional
+        ``PatternMetrics.to_dict()`` of this array at ``frequency`` (e.g. the ``metrics``
+        block of :func:`steradian.analysis.analyze`) for the plot annotations; computed with
+        :func:`steradian.metrics.pattern_metrics` when omitted and ``png_path`` is given.
+
+    Returns
+    -------
+    dict
+        ``peak_directivity_dbi``, ``peak_theta_deg``, ``peak_phi_deg`` and ``files`` (paths
+        written, in order).
+    """
+    from ..metrics import principal_cuts
+    from ..radiation import peak_directivity, radiated_power
+
+    power = radiated_power(array, frequency=frequency)
+    pk = peak_directivity(array, frequency=frequency, power=power)
+    m = {"frequency_hz": array.frequency if frequency is None else frequency, **(meta or {})}
+    written = []
+    if cuts_path is not None or png_path is not None:
+        cuts = principal_cuts(array, frequency=frequency, peak=pk, span_deg=span_deg)
+        if cuts_path is not None:
+            write_cuts(cuts_path, cuts, m)
+            written.append(str(cuts_path))
+        if png_path is not None:
+            from ..plots import plot_cuts
+
+            if metrics is None:
+                from ..metrics import pattern_metrics
+
+                metrics = pattern_metrics(array, frequency=frequency, peak=pk).to_dict()
+            hp = metrics.get("hpbw_deg") or {}
+            hpbw = [hp.get("phi_plane"), hp.get("cross_plane")]
+            psl = metrics.get("psl_db")
+            plot_cuts(cuts, png_path, hpbw_deg=hpbw, psl_db=psl,
+                      title=None if title is None else f"{title}: principal cuts, peak "
+                      f"{pk.directivity_dbi:.2f} dBi")
+            written.append(str(png_path))
+    if uv_path is not None or uv_png_path is not None:
+        uvm = uv_map(array, uv_points, frequency=frequency, power=power)
+        if uv_path is not None:
+            write_uv(uv_path, uvm, m)
+            written.append(str(uv_path))
+        if uv_png_path is not None:
+            from ..plots import plot_uv
+
+            top = float(np.nanmax(uvm.directivity_dbi))
+            plot_uv(uvm, uv_png_path, title=None if title is None else
+                    f"{title}: directivity over u-v, peak {top:.2f} dBi")
+            written.append(str(uv_png_path))
+    return {"peak_directivity_dbi": pk.directivity_dbi, "peak_theta_deg": pk.theta_deg,
+            "peak_phi_deg": pk.phi_deg, "files": written}
