@@ -2,10 +2,13 @@
 
 from __future__ import annotations
 
+import functools
 import warnings
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st_h
 
 import steradian as st
 from steradian.errors import SteradianError
@@ -369,18 +372,31 @@ def test_metrics_run_on_rings_and_3d_layouts():
     assert m.psl_db < 0 and m.main_lobe_power_fraction < 1
 
 
-def test_metrics_invariant_under_weight_scaling_and_translation():
+@settings(max_examples=4, deadline=None, derandomize=True)
+@given(offset=st_h.lists(st_h.floats(-5.0, 5.0), min_size=3, max_size=3),
+       scale=st_h.floats(0.1, 10.0), phase=st_h.floats(-np.pi, np.pi))
+def test_metrics_invariant_under_weight_scaling_and_translation(offset, scale, phase):
     """Invariants (definitions): a complex scale of all weights and a translation of the array
     change no metric."""
     g = st.rectangular(5, 4, 0.6)
-    base = st.Array(g, F, element=st.CosinePower(1.0), steering=st.Steering(20, 30))
-    other = st.Array(g.translated([3.0, -1.0, 0.0]), F, element=st.CosinePower(1.0),
-                     taper=np.full(g.n, 2.5 * np.exp(0.7j)), steering=st.Steering(20, 30))
-    a, b = pattern_metrics(base).to_dict(), pattern_metrics(other).to_dict()
-    for k in ("peak_directivity_dbi", "psl_db", "islr_db", "scan_loss_db", "beam_theta_deg"):
+    other = st.Array(g.translated(offset), F, element=st.CosinePower(1.0),
+                     taper=np.full(g.n, scale * np.exp(1j * phase)),
+                     steering=st.Steering(20, 30))
+    a, b = _base_metrics(), pattern_metrics(other).to_dict()
+    for k in ("peak_directivity_dbi", "psl_db", "islr_db", "scan_loss_db", "beam_theta_deg",
+              "front_to_back_hemisphere_db", "grating_lobe_free_scan_deg"):
         assert a[k] == pytest.approx(b[k], abs=1e-6)
     for k in ("phi_plane", "cross_plane"):
         assert a["hpbw_deg"][k] == pytest.approx(b["hpbw_deg"][k], abs=1e-6)
+        assert a["fnbw_deg"][k] == pytest.approx(b["fnbw_deg"][k], abs=1e-6)
+
+
+@functools.lru_cache(maxsize=1)
+def _base_metrics():
+    """Metrics of the untranslated, unit-weight panel of the invariance test."""
+    base = st.Array(st.rectangular(5, 4, 0.6), F, element=st.CosinePower(1.0),
+                    steering=st.Steering(20, 30))
+    return pattern_metrics(base).to_dict()
 
 
 def test_metrics_bad_input():
