@@ -1,0 +1,222 @@
+"""Beam tables: steering grids, re-evaluation of quantized beams, verification."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from scipy.optimize import minimize_scalar
+from scipy.signal.windows import taylor
+
+import steradian as st
+from steradian.beamtable import (
+    BeamEvaluator,
+    BeamTable,
+    az_el_directions,
+    az_el_to_theta_phi,
+    beams_from_table,
+    build_beam_table,
+    span,
+    theta_phi_directions,
+    verify_beam_table,
+)
+from steradian.errors import DesignError, SteradianError
+from steradian.quantize import ChannelModel
+
+N_LINE = 400
+
+
+@pytest.fixture(scope="module")
+def line():
+    """400 isotropic elements at half-wave spacing (1 m wavelength) and its evaluator."""
+    arr = st.Array(st.linear(N_LINE, 0.5), st.C0)
+    return arr, BeamEvaluator(arr)
+
+
+def _periodic_direction(bits):
+    """Steering whose phase ramp advances 0.0731 of a phase step per element: the rounding
+    error is a slowly sampled sawtooth and its lobes fall well inside visible space."""
+    u0 = 2 * 0.0731 / 2**bits  # k d u0 = pi u0 = 0.0731 * (2 pi / 2^b)
+    return np.array([[np.degrees(np.arcsin(u0)), 0.0]])
+
+
+def test_uniform_line_directivity_and_sidelobe(line):
+    """Uniform half-wave line of isotropic elements: D = N exactly (R. J. Mailloux, Phased
+    Array Antenna Handbook, 3rd ed., 2018, ch. 2) and first sidelobe of the Dirichlet kernel
+    |sin(N psi/2) / (N sin(psi/2))|^2, maximised here with scipy.optimize."""
+    arr, ev = line
+    res = build_beam_table(arr, ChannelModel.build(phase_bits=12), [[0.0, 0.0]], evaluator=ev)
+    m = res.metrics
+    assert m.ideal_directivity_dbi[0] == pytest.approx(10 * np.log10(N_LINE), abs=1e-9)
+    assert m.ideal_pointing_error_deg[0] < 1e-6
+    n = N_LINE
+
+    def neg(psi):
+        return -(np.sin(n * psi / 2) / (n * np.sin(psi / 2))) ** 2
+
+    r = minimize_scalar(neg, bounds=(2 * np.pi / n, 4 * np.pi / n), method="bounded",
+                        options={"xatol": 1e-12})
+    assert m.ideal_psl_db[0] == pytest.approx(10 * np.log10(-r.fun), abs=1e-6)
+
+
+def test_taylor_sidelobe_level(line):
+    """Ideal beams with scipy.signal.windows.taylor(nbar=5, sll=30) weights keep every
+    sidelobe at or below the 30 dB design level, the highest within 0.6 dB of it (T. T.
+    Taylor, "Design of line-source antennas for narrow beamwidth and low side lobes," IRE
+    Trans. Antennas Propag. AP-3, 1955; the window from scipy is the outside reference)."""
+    arr, ev = line
+    a = arr.with_taper(taylor(N_LINE, nbar=5, sll=30, norm=False))
+    m = build_beam_table(a, ChannelModel.build(phase_bits=10), [[0.0, 0.0], [30.0, 0.0]],
+                         evaluator=ev).metrics
+    assert np.all(m.ideal_psl_db <= -30.0 + 0.05)
+    assert np.all(m.ideal_psl_db >= -30.6)
+
+
+@pytest.mark.parametrize("bits", [3, 4])
+def test_directivity_loss_of_decorrelated_phase_error(line, bits):
+    """Mean directivity loss from decorrelated b-bit phase quantization against
+    D/D0 = 1 - (pi^2 / 3) 2^(-2b), i.e. 1 - sigma^2 with sigma^2 = (2 pi / 2^b)^2 / 12.
+
+    Source: R. J. Mailloux, *Phased Array Antenna Handbook*, 3rd ed., Artech House, 2018,
+    ch. 7 (expression quoted from memory); exact for a half-wave line of isotropic elements,
+    whose radiated power is sum |w|^2 whatever the phases. The randomised path offsets make
+    the errors uniform and independent from element to element.
+    """
+    arr, ev = line
+    rng = np.random.default_rng(5)
+    d = np.column_stack([rng.uniform(0, 60, 24), np.zeros(24)])
+    ch = ChannelModel.build(phase_bits=bits, phase_offsets="random", offset_seed=5)
+    m = build_beam_table(arr, ch, d, evaluator=ev).metrics
+    ratio = 10 ** (-m.loss_db / 10)
+    assert ratio.mean() == pytest.approx(1 - np.pi**2 / 3 * 2.0 ** (-2 * bits), abs=0.003)
+    step = 360 / 2**bits
+    assert np.median(m.rms_phase_error_deg) == pytest.approx(step / np.sqrt(12), rel=0.05)
+
+
+@pytest.mark.parametrize("bits", [3, 4])
+def test_periodic_quantization_lobe(line, bits):
+    """Peak quantization lobe of a periodic (un-randomised) b-bit phase error, relative to
+    the beam: about 2^(-2b) (R. J. Mailloux, Phased Array Antenna Handbook, 3rd ed., 2018,
+    ch. 7; C. J. Miller, 1964; both from memory). The exact value for a slowly sampled
+    sawtooth is the ratio of its Fourier coefficients, 1 / (2^b - 1)^2 (derived in the
+    test: exp(-j x) on one step, harmonics sinc((1 + p M) pi / M))."""
+    arr, ev = line
+    M = 2**bits
+    m = build_beam_table(arr, ChannelModel.build(phase_bits=bits), _periodic_direction(bits),
+                         evaluator=ev).metrics
+    exact = 10 * np.log10(1.0 / (M - 1) ** 2)
+    assert m.qlobe_db[0] == pytest.approx(exact, abs=0.1)
+    assert m.qlobe_db[0] == pytest.approx(10 * np.log10(2.0 ** (-2 * bits)), abs=1.3)
+
+
+def test_quantization_lobe_reduced_by_random_offsets(line):
+    """Randomised path offsets break up the periodic error (Miller 1964; Mailloux 2018,
+    ch. 7): the quantization lobe drops by more than 10 dB, to a floor near sigma^2 / N
+    (the average sidelobe level of random phase errors, common practice), while the
+    2-bit periodic lobe (1/9, -9.54 dB) is the highest sidelobe of the plain beam."""
+    arr, ev = line
+    d = _periodic_direction(2)
+    plain = build_beam_table(arr, ChannelModel.build(phase_bits=2), d, evaluator=ev).metrics
+    assert plain.psl_db[0] == pytest.approx(10 * np.log10(1 / 9), abs=0.4)
+    for bits in (2, 3, 4):
+        d = _periodic_direction(bits)
+        a = build_beam_table(arr, ChannelModel.build(phase_bits=bits), d, evaluator=ev)
+        b = build_beam_table(arr, ChannelModel.build(phase_bits=bits, phase_offsets="random",
+                                                     offset_seed=3), d, evaluator=ev)
+        assert b.metrics.qlobe_db[0] < a.metrics.qlobe_db[0] - 10
+        floor = 10 * np.log10((2 * np.pi / 2**bits) ** 2 / 12 / N_LINE)
+        assert floor + 3 < b.metrics.qlobe_db[0] < floor + 13
+
+
+def test_evaluator_matches_peak_search_and_pattern_metrics():
+    """Batched re-evaluation against steradian.radiation.peak_directivity (Nelder-Mead on
+    engine.field) and steradian.metrics.pattern_metrics, beam by beam."""
+    w = np.outer(taylor(8, nbar=3, sll=25), taylor(8, nbar=3, sll=25)).ravel()
+    arr = st.Array(st.rectangular(8, 8, 0.5), st.C0, element=st.CosinePower(1.0), taper=w)
+    ch = ChannelModel.build(phase_bits=4, attenuator_step_db=1.0, attenuator_span_db=20)
+    d = np.array([[35.0, 60.0], [10.0, -120.0]])
+    res = build_beam_table(arr, ch, d)
+    for i in range(len(d)):
+        a = arr.with_taper(res.quantized.realised[i]).with_steering(None)
+        pk = st.peak_directivity(a)
+        assert res.metrics.directivity_dbi[i] == pytest.approx(pk.directivity_dbi, abs=1e-7)
+        assert res.metrics.peak_theta_deg[i] == pytest.approx(pk.theta_deg, abs=1e-4)
+        assert res.metrics.peak_phi_deg[i] == pytest.approx(pk.phi_deg, abs=1e-4)
+        pm = st.pattern_metrics(a, peak=pk)
+        assert res.metrics.psl_db[i] == pytest.approx(pm.psl_db, abs=0.01)
+    assert np.allclose(res.metrics.gain_dbi, res.metrics.directivity_dbi)
+
+
+def test_verify_reproduces_build_and_catches_edits():
+    arr = st.Array(st.rectangular(6, 6, 0.5), st.C0, element=st.CosinePower(1.0))
+    ch = ChannelModel.build(phase_bits=5, attenuator_step_db=0.5, attenuator_span_db=15.5,
+                            phase_offsets="random", offset_seed=2)
+    d = theta_phi_directions([0, 20], [0, 90])
+    res = build_beam_table(arr, ch, d, efficiency=0.5)
+    assert res.table.n_beams == 3 and res.table.codes.shape == (3, 36, 2)
+    assert np.allclose(res.metrics.gain_dbi, res.metrics.directivity_dbi - 10 * np.log10(2))
+    v = verify_beam_table(arr, ch, res.table, efficiency=0.5)
+    assert max(v.differences.values()) == 0.0 and v.notes == []
+    codes = np.array(res.table.codes)
+    codes[1, :18, 0] = (codes[1, :18, 0] + 8) % 32  # a hand edit: half the panel 90 deg off
+    edited = BeamTable(res.table.states, d, codes, "codes", res.table.phase_offsets_deg,
+                       res.table.positions, metrics=res.table.metrics)
+    v2 = verify_beam_table(arr, ch, edited, efficiency=0.5)
+    assert v2.differences["directivity_dbi"] > 0.5
+    small = st.Array(st.rectangular(5, 5, 0.5), st.C0)
+    with pytest.raises(SteradianError, match="holds 36 weights per beam but the design has 25"):
+        verify_beam_table(small, ch, res.table)
+    other = ChannelModel.build(phase_bits=4)
+    with pytest.raises(SteradianError, match="phase_step_deg 11.25 .file. vs 22.5 .design."):
+        verify_beam_table(arr, other, res.table)
+    moved = st.Array(st.rectangular(6, 6, 0.51), st.C0)
+    with pytest.raises(SteradianError, match="element 0 is at"):
+        verify_beam_table(moved, ch, res.table)
+
+
+def test_custom_weights_callable():
+    """Per-beam weights from a callable (e.g. an optimizer) are used as given, masked."""
+    mask = np.ones(16, bool)
+    mask[5] = False
+    arr = st.Array(st.rectangular(4, 4, 0.5), st.C0, enabled=mask)
+
+    def w(theta, phi):
+        return np.full(16, np.exp(1j * np.deg2rad(theta)))
+
+    res = build_beam_table(arr, ChannelModel.build(phase_bits=8), [[0.0, 0.0], [45.0, 0.0]],
+                           weights=w)
+    assert res.ideal[1, 5] == 0 and np.allclose(np.angle(res.ideal[1, 0], deg=True), 45)
+    assert res.quantized.realised[0, 5] == 0
+
+
+def test_grids_and_conventions():
+    """Az-el to theta-phi: r = (cos el sin az, sin el, cos el cos az) (module convention)."""
+    t, p = az_el_to_theta_phi([30.0, 0.0, -20.0], [0.0, 40.0, 10.0])
+    assert t[0] == pytest.approx(30) and p[0] == pytest.approx(0)
+    assert t[1] == pytest.approx(40) and p[1] == pytest.approx(90)
+    v = st.direction(t[2], p[2])
+    az, el = np.radians(-20), np.radians(10)
+    assert np.allclose(v, [np.cos(el) * np.sin(az), np.sin(el), np.cos(el) * np.cos(az)])
+    assert span(-10, 10, 5).tolist() == [-10, -5, 0, 5, 10]
+    assert len(theta_phi_directions([0, 10, 20], [0, 120, 240])) == 7
+    assert az_el_directions(span(-50, 50, 5), span(-25, 25, 5)).shape == (231, 2)
+
+
+def test_beams_table(tmp_path):
+    d = beams_from_table({"grid": "theta_phi", "theta_deg": {"start": 0, "stop": 40,
+                                                             "step": 20},
+                          "phi_deg": [0, 180], "max_scan_deg": 25})
+    assert d.tolist() == [[0.0, 0.0], [20.0, 0.0], [20.0, 180.0]]
+    (tmp_path / "dirs.csv").write_text("# two beams\naz_deg,el_deg\n10,0\n0,-5\n")
+    d = beams_from_table({"grid": "list", "file": "dirs.csv"}, base_dir=tmp_path)
+    assert d[:, 0] == pytest.approx([10, 5]) and d[1, 1] == pytest.approx(-90)
+    assert beams_from_table({"grid": "list", "directions": [[5, 0]]}).tolist() == [[5, 0]]
+    with pytest.raises(DesignError, match=r"beams\.az_dg.*did you mean 'az_deg'"):
+        beams_from_table({"grid": "az_el", "az_dg": [0]})
+    with pytest.raises(DesignError, match=r"beams\.grid.*did you mean 'az_el'"):
+        beams_from_table({"grid": "az-el"})
+    with pytest.raises(DesignError, match=r"beams\.el_deg.*required"):
+        beams_from_table({"grid": "az_el", "az_deg": [0]})
+    with pytest.raises(DesignError, match=r"beams\.theta_deg.*does not apply"):
+        beams_from_table({"grid": "az_el", "az_deg": [0], "el_deg": [0], "theta_deg": [0]})
+    with pytest.raises(DesignError, match=r"beams\.phi_deg.*start, stop and step"):
+        beams_from_table({"grid": "theta_phi", "theta_deg": [0], "phi_deg": {"start": 0}})
