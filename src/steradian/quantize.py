@@ -199,7 +199,7 @@ class StateMap:
             return np.clip(c, 0, m - 1).astype(np.int64)
         return np.clip(np.rint(a * (m - 1)), 0, m - 1).astype(np.int64)
 
-    def check_codes(self, phase_codes, amplitude_codes, where: str = "weights") -> None:
+    def check_codes(self, phase_codes, amplitude_codes, where: str | None = None) -> None:
         """Raise naming the first code outside the channel's range (beam, element, code)."""
         for name, codes, n in (("phase", phase_codes, self.phase_states),
                                ("amplitude", amplitude_codes, self.amplitude_states)):
@@ -209,8 +209,9 @@ class StateMap:
                 idx = tuple(int(i) for i in np.argwhere(bad)[0])
                 loc = (f"beam {idx[0]}, element {idx[1]}" if len(idx) == 2
                        else f"element {idx[0]}")
+                pre = f"{where}: " if where else ""
                 raise SteradianError(
-                    f"{where}: {name} code {int(c[idx])} at {loc} is out of range 0..{n - 1}")
+                    f"{pre}{name} code {int(c[idx])} at {loc} is out of range 0..{n - 1}")
 
     # ---- description -----------------------------------------------------------------
     def to_dict(self) -> dict:

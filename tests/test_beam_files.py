@@ -1,0 +1,290 @@
+"""Weight files: exact round trips of every format, the documented binary layout, CRC checks,
+hand-edit detection, atomic writes and a C compiler reading the header."""
+
+from __future__ import annotations
+
+import json
+import shutil
+import struct
+import subprocess
+import tempfile
+import zlib
+from pathlib import Path
+
+import numpy as np
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as hs
+
+from steradian.beamtable import IQ_SCALE, BeamTable, read_weight_file, write_weight_file
+from steradian.errors import FileFormatError, SteradianError
+from steradian.io.beams_bin import HEADER_SIZE, MAGIC, read_beams_bin, write_beams_bin
+from steradian.io.beams_cheader import write_beams_cheader
+from steradian.quantize import ChannelModel, StateMap
+
+SUFFIXES = (".csv", ".json", ".bin", ".h")
+
+_text = hs.text(hs.characters(codec="utf-8"), max_size=12) | hs.sampled_from(
+    ["*/ end of comment", "a/b//c", "line\nbreak", "tab\there", "quote\"s", ""])
+_value = (hs.floats(allow_nan=False, allow_infinity=False) | hs.integers(-10**6, 10**6)
+          | _text | hs.booleans() | hs.none())
+
+
+@hs.composite
+def states(draw):
+    if draw(hs.booleans()):
+        b = draw(hs.integers(1, 10))
+        step, n_ph = 360.0 / 2**b, 2**b
+    else:
+        step = draw(hs.floats(0.5, 180.0))
+        n_ph = draw(hs.integers(1, int(np.ceil(360.0 / step - 1e-9))))
+    kind = draw(hs.sampled_from(["none", "attenuator", "dac"]))
+    if kind == "none":
+        return StateMap(step, n_ph)
+    if kind == "attenuator":
+        return StateMap(step, n_ph, "attenuator", draw(hs.floats(0.01, 3.0)),
+                        draw(hs.integers(1, 128)))
+    b = draw(hs.integers(1, 12))
+    return StateMap(step, n_ph, "dac", 1.0 / (2**b - 1), 2**b)
+
+
+@hs.composite
+def tables(draw):
+    """Random tables: element and beam counts, states, codes or I/Q, angles, offsets,
+    positions, metadata and metrics."""
+    n = draw(hs.integers(1, 12))
+    nb = draw(hs.integers(1, 5))
+    sm = draw(states())
+    enc = draw(hs.sampled_from(["codes", "iq"]))
+    rng = np.random.default_rng(draw(hs.integers(0, 2**32 - 1)))
+    if enc == "codes":
+        codes = np.stack([rng.integers(0, sm.phase_states, (nb, n)),
+                          rng.integers(0, sm.amplitude_states, (nb, n))], -1)
+    else:
+        codes = rng.integers(-IQ_SCALE, IQ_SCALE, (nb, n, 2))
+    dirs = np.column_stack([rng.uniform(0, 180, nb), rng.uniform(-360, 360, nb)])
+    dirs[0, 0] = draw(hs.sampled_from([0.0, 180.0, 1e-300, 90.0, float(dirs[0, 0])]))
+    off = rng.uniform(0, 360, n) * draw(hs.sampled_from([0.0, 1.0]))
+    pos = None
+    if draw(hs.booleans()):
+        pos = rng.normal(0, 1, (n, 3)) * 10.0 ** draw(hs.integers(-6, 3))
+        pos[0, 0] = draw(hs.floats(-1e300, 1e300, allow_nan=False))
+    meta = draw(hs.dictionaries(_text, _value, max_size=4))
+    metrics = None
+    if draw(hs.booleans()):
+        metrics = [{"psl_db": float(rng.normal(-20, 5)), "loss_db": None, "note": "x*/y"}
+                   for _ in range(nb)]
+    return BeamTable(sm, dirs, codes, enc, off, pos, meta, metrics)
+
+
+def _roundtrip(table, suffix):
+    with tempfile.TemporaryDirectory() as d:
+        p = Path(d) / f"t{suffix}"
+        write_weight_file(p, table)
+        return read_weight_file(p)
+
+
+@pytest.mark.parametrize("suffix", SUFFIXES)
+@settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(table=tables())
+def test_roundtrip_is_exact(suffix, table):
+    """Write then read returns bit-identical states, angles, offsets and positions (and, in
+    the text formats, the metadata and metrics)."""
+    back = _roundtrip(table, suffix)
+    assert back.same_weights(table)
+    assert np.array_equal(back.commanded(), table.commanded())
+    if suffix != ".bin":
+        assert back.metadata == table.metadata
+        assert back.metrics == table.metrics
+
+
+def test_fixed_point_iq_inverts_for_the_demo_channel():
+    """Every (phase, attenuator) state of a 6-bit, 0.5 dB x 64 channel survives Q1.15 I/Q:
+    codes -> I/Q -> codes is the identity, and the I/Q values are within half an LSB per
+    component (one LSB where +1.0 saturates to 32767 / 32768)."""
+    sm = ChannelModel.build(phase_bits=6, attenuator_step_db=0.5,
+                            attenuator_span_db=31.5).states
+    p, a = np.meshgrid(np.arange(64), np.arange(64), indexing="ij")
+    codes = np.stack([p.ravel(), a.ravel()], -1)[None]
+    t = BeamTable(sm, [[0.0, 0.0]], codes)
+    iq = t.as_encoding("iq")
+    c = t.commanded()
+    err = np.abs(iq.commanded() - c) * IQ_SCALE
+    full = (np.abs(c.real) > 1 - 1e-12) | (np.abs(c.imag) > 1 - 1e-12)
+    assert err[~full].max() <= np.sqrt(0.5) + 1e-9
+    assert err[full].max() <= 1.0 + 1e-9
+    assert iq.as_encoding("codes").same_weights(t)
+
+
+def _table(n=5, nb=3, enc="codes"):
+    sm = ChannelModel.build(phase_bits=6, attenuator_step_db=0.5, attenuator_span_db=31.5,
+                            ).states
+    rng = np.random.default_rng(1)
+    codes = np.stack([rng.integers(0, 64, (nb, n)), rng.integers(0, 64, (nb, n))], -1)
+    t = BeamTable(sm, np.column_stack([np.arange(nb) * 10.0, np.zeros(nb)]), codes, "codes",
+                  rng.uniform(0, 5.625, n), rng.normal(size=(n, 3)), {"design": "test"})
+    return t.as_encoding(enc)
+
+
+@pytest.mark.parametrize("enc", ["codes", "iq"])
+def test_binary_layout_as_documented(tmp_path, enc):
+    """Decode the file with struct at the offsets the module docstring documents, CRC-32 by
+    zlib (the ISO-HDLC CRC-32)."""
+    t = _table(enc=enc)
+    p = tmp_path / "w.bin"
+    write_beams_bin(p, t)
+    data = p.read_bytes()
+    assert data[:8] == b"SRBW\r\n\x1a\n" == MAGIC
+    ver, hsize, n, nb = struct.unpack_from("<HHII", data, 8)
+    encoding, amp, flags, res = struct.unpack_from("<BBBB", data, 20)
+    n_ph, n_amp = struct.unpack_from("<II", data, 24)
+    ph_step, amp_step = struct.unpack_from("<dd", data, 32)
+    psize, pcrc, res2, hcrc = struct.unpack_from("<IIII", data, 48)
+    assert (ver, hsize, n, nb) == (1, 64, 5, 3)
+    assert (encoding, amp, flags, res, res2) == ({"codes": 1, "iq": 2}[enc], 1, 3, 0, 0)
+    assert (n_ph, n_amp, ph_step, amp_step) == (64, 64, 5.625, 0.5)
+    payload = data[HEADER_SIZE:]
+    assert len(payload) == psize == 16 * nb + 24 * n + 8 * n + 4 * nb * n
+    assert pcrc == zlib.crc32(payload) and hcrc == zlib.crc32(data[:60])
+    assert np.array_equal(np.frombuffer(payload, "<f8", 2 * nb).reshape(nb, 2), t.directions)
+    fmt = "<HH" if enc == "codes" else "<hh"
+    for b in range(nb):
+        for e in range(n):
+            off = 16 * nb + 24 * n + 8 * n + 4 * (b * n + e)
+            assert list(struct.unpack_from(fmt, payload, off)) == t.codes[b, e].tolist()
+
+
+@settings(max_examples=40, deadline=None)
+@given(where=hs.integers(0, 10**6), bit=hs.integers(0, 7))
+def test_corrupted_binary_is_refused(where, bit):
+    """Any single flipped bit is refused: in the payload by its CRC-32 with a clear message,
+    in the header by the magic, version or header CRC-32."""
+    with tempfile.TemporaryDirectory() as d:
+        p = Path(d) / "w.bin"
+        write_beams_bin(p, _table())
+        data = bytearray(p.read_bytes())
+        i = where % len(data)
+        data[i] ^= 1 << bit
+        p.write_bytes(bytes(data))
+        with pytest.raises(FileFormatError) as exc:
+            read_beams_bin(p)
+    msg = str(exc.value)
+    if i >= HEADER_SIZE:
+        assert "payload CRC-32 mismatch" in msg and "corrupted" in msg
+    else:
+        assert "CRC-32" in msg or "magic" in msg or "layout version" in msg
+
+
+def test_truncated_and_padded_binary(tmp_path):
+    p = tmp_path / "w.bin"
+    write_beams_bin(p, _table())
+    data = p.read_bytes()
+    p.write_bytes(data[:-3])
+    with pytest.raises(FileFormatError, match="truncated"):
+        read_beams_bin(p)
+    p.write_bytes(data + b"\0")
+    with pytest.raises(FileFormatError, match="trailing bytes"):
+        read_beams_bin(p)
+    p.write_bytes(data[:10])
+    with pytest.raises(FileFormatError, match="shorter than the 64-byte header"):
+        read_beams_bin(p)
+
+
+def test_csv_hand_edits_are_caught(tmp_path):
+    p = tmp_path / "w.csv"
+    write_weight_file(p, _table())
+    lines = p.read_text().splitlines()
+    hdr = next(i for i, ln in enumerate(lines) if ln.startswith("beam,"))
+    cols = lines[hdr].split(",")
+
+    def edited(row, col, value):
+        out = list(lines)
+        f = out[hdr + 1 + row].split(",")
+        f[cols.index(col)] = value
+        out[hdr + 1 + row] = ",".join(f)
+        p.write_text("\n".join(out) + "\n")
+        return hdr + 2 + row  # 1-based line number
+
+    line = edited(4, "phase_deg", "12.5")
+    with pytest.raises(FileFormatError, match=rf"w.csv:{line}: column 'phase_deg'.*edit the "
+                       "state columns"):
+        read_weight_file(p)
+    line = edited(2, "phase_code", "64")
+    with pytest.raises(FileFormatError, match=rf"w.csv:{line}: phase code 64 at beam 0, "
+                       r"element 2 is out of range 0\.\.63"):
+        read_weight_file(p)
+    line = edited(7, "theta_deg", "3.0")
+    with pytest.raises(FileFormatError, match=rf"w.csv:{line}: beam 1 direction differs"):
+        read_weight_file(p)
+    line = edited(3, "element", "2")
+    with pytest.raises(FileFormatError, match=rf"w.csv:{line}: beam 0, element 2 appears "
+                       "twice"):
+        read_weight_file(p)
+
+
+def test_json_errors(tmp_path):
+    p = tmp_path / "w.json"
+    write_weight_file(p, _table())
+    doc = json.loads(p.read_text())
+    doc["beams"][1]["amplitude_code"][3] = 70
+    p.write_text(json.dumps(doc))
+    with pytest.raises(FileFormatError, match="amplitude code 70 at beam 1, element 3"):
+        read_weight_file(p)
+    doc["beams"][1]["amplitude_code"] = [0, 0]
+    p.write_text(json.dumps(doc))
+    with pytest.raises(FileFormatError, match=r"beams\[1\]\.amplitude_code has 2 entries but "
+                       "n_elements is 5"):
+        read_weight_file(p)
+    p.write_text('{"format": "steradian-beam-weights",\n "layout_version": 1,,}')
+    with pytest.raises(FileFormatError, match=r"w.json:2: not valid JSON"):
+        read_weight_file(p)
+
+
+def test_writes_are_atomic(tmp_path, monkeypatch):
+    """An export interrupted before the rename leaves the old file and no temporary file."""
+    import steradian.io._atomic as atomic
+
+    for suffix in SUFFIXES:
+        p = tmp_path / f"w{suffix}"
+        p.write_bytes(b"old")
+
+        def boom(fd):
+            raise OSError("disk full")
+
+        monkeypatch.setattr(atomic.os, "fsync", boom)
+        with pytest.raises(OSError, match="disk full"):
+            write_weight_file(p, _table())
+        monkeypatch.undo()
+        assert p.read_bytes() == b"old"
+    assert sorted(x.name for x in tmp_path.iterdir()) == sorted(f"w{s}" for s in SUFFIXES)
+
+
+def test_unknown_suffix_and_bad_prefix(tmp_path):
+    with pytest.raises(SteradianError, match="cannot tell the weight-file format"):
+        write_weight_file(tmp_path / "w.txt", _table())
+    with pytest.raises(SteradianError, match="C identifier"):
+        write_beams_cheader(tmp_path / "w.h", _table(), prefix="9bad")
+
+
+@pytest.mark.skipif(shutil.which("cc") is None, reason="no C compiler")
+@pytest.mark.parametrize("enc", ["codes", "iq"])
+def test_c_header_compiles_and_holds_the_values(tmp_path, enc):
+    """The system C compiler (C99, -pedantic) reads the header: counts, states and angles
+    printed by a C program equal the table's."""
+    t = _table(n=7, nb=4, enc=enc)
+    write_beams_cheader(tmp_path / "panel.h", t, prefix="panel")
+    (tmp_path / "main.c").write_text(
+        '#include <stdio.h>\n#include "panel.h"\n'
+        "int main(void) {\n"
+        '  printf("%d %d %d %d %d %.17g %.17g\\n", PANEL_N_BEAMS, PANEL_N_ELEMENTS,'
+        " PANEL_ENCODING, (int)panel_state[2][5][0], (int)panel_state[2][5][1],"
+        " panel_beam_theta_deg[3], panel_phase_offset_deg[6] + panel_beam_phi_deg[0]"
+        " + panel_element_position_m[1][2]);\n  return 0;\n}\n")
+    exe = tmp_path / "main"
+    subprocess.run(["cc", "-std=c99", "-pedantic", "-Wall", "-o", str(exe),
+                    str(tmp_path / "main.c")], check=True, capture_output=True)
+    out = subprocess.run([str(exe)], check=True, capture_output=True, text=True).stdout.split()
+    assert out[:5] == ["4", "7", "1" if enc == "codes" else "2",
+                       str(t.codes[2, 5, 0]), str(t.codes[2, 5, 1])]
+    assert float(out[5]) == t.directions[3, 0]
+    assert float(out[6]) == (t.phase_offsets_deg[6] + t.directions[0, 1] + t.positions[1, 2])
