@@ -94,6 +94,12 @@ IQ_SCALE = 32768
 DB_FLOOR = -300.0
 """Lowest level reported (dB) instead of -inf."""
 
+RESPONSE_BUDGET = 512 * 2**20
+"""Bytes of element responses on the search set a BeamEvaluator keeps (beyond: recomputed)."""
+
+BEAM_CHUNK_BYTES = 256 * 2**20
+"""Bytes of (directions x beams) work arrays one evaluation pass may use."""
+
 FORMATS = {".csv": "csv", ".json": "json", ".bin": "bin", ".h": "h"}
 """File suffix -> weight-file format name."""
 
@@ -613,17 +619,31 @@ class BeamEvaluator:
 
             self.nbr = cKDTree(self.dirs).query(self.dirs, k=9)[1][:, 1:]
         self._cache = {}
-        A = response_matrix(array, Directions.from_vectors(self.dirs))
-        self._A0 = np.ascontiguousarray(A[0])
-        self._A1 = np.ascontiguousarray(A[1]) if array.element.vector else None
+        self._A0 = self._A1 = None
+        self._vector = bool(array.element.vector)
+        if len(self.dirs) * array.n * 16 * (2 if self._vector else 1) <= RESPONSE_BUDGET:
+            A = response_matrix(array, Directions.from_vectors(self.dirs))
+            self._A0 = np.ascontiguousarray(A[0])
+            self._A1 = np.ascontiguousarray(A[1]) if self._vector else None
 
     # ---- pattern values ----------------------------------------------------------------
     def _grid(self, W):
         """Intensity on the search set, shape (M, B)."""
-        E = self._A0 @ W.T
-        out = np.abs(E) ** 2
-        if self._A1 is not None:
-            out += np.abs(self._A1 @ W.T) ** 2
+        if self._A0 is not None:
+            out = np.abs(self._A0 @ W.T) ** 2
+            if self._A1 is not None:
+                out += np.abs(self._A1 @ W.T) ** 2
+            return out
+        # Responses too large to keep: recompute them chunk by chunk of directions.
+        M = len(self.dirs)
+        out = np.empty((M, len(W)))
+        step = max(1, MEMORY_BUDGET // (32 * self.array.n))
+        for i in range(0, M, step):
+            A = response_matrix(self.array, Directions.from_vectors(self.dirs[i:i + step]))
+            u = np.abs(A[0] @ W.T) ** 2
+            if self._vector:
+                u += np.abs(A[1] @ W.T) ** 2
+            out[i:i + step] = u
         return out
 
     def _at(self, dirs, W):
@@ -635,7 +655,7 @@ class BeamEvaluator:
             A = response_matrix(self.array, Directions.from_vectors(dirs[i:i + step]))
             w = W[i:i + step]
             u = np.abs(np.einsum("kn,kn->k", A[0], w)) ** 2
-            if self._A1 is not None:
+            if self._vector:
                 u += np.abs(np.einsum("kn,kn->k", A[1], w)) ** 2
             out[i:i + step] = u
         return out
@@ -792,6 +812,14 @@ class BeamEvaluator:
                                  f"{self.array.n}")
         if d.shape != (B, 2):
             raise SteradianError(f"directions must have shape ({B}, 2), got {d.shape}")
+        chunk = max(1, int(BEAM_CHUNK_BYTES // (24 * len(self.dirs))))
+        if B > chunk:  # bound the (directions x beams) work arrays
+            W0 = None if ideal is None else np.atleast_2d(np.asarray(ideal, complex))
+            parts = [self.evaluate(W[i:i + chunk], d[i:i + chunk],
+                                   None if W0 is None else W0[i:i + chunk])
+                     for i in range(0, B, chunk)]
+            return BeamMetrics(**{f: np.concatenate([getattr(p, f) for p in parts])
+                                  for f in _METRIC_FIELDS})
         steer = np.array([direction(t, p) for t, p in d]).reshape(B, 3)
         P = self.power(W)
         if np.any(P <= 0):
