@@ -233,6 +233,23 @@ def test_islr_isotropic_square_counts_the_mirror_lobe():
         _af2(n, d, np.linspace(u1, 2 * u1, 20001)) / n**2))), abs=1e-6)
 
 
+def test_mirror_peak_behind_a_flat_array_is_reflected_to_the_front():
+    """A flat array of x-directed short dipoles radiates the same beam on both sides of its
+    plane (common practice: the dipole pattern and the array factor are both even in
+    cos(theta)). A peak reported behind the plane is the mirror of the steered beam: the
+    metrics and cuts use the front beam, so the pointing error is small."""
+    arr = st.Array(st.rectangular(6, 6, 0.5), F, element=st.ShortDipole("x"),
+                   steering=st.Steering(25, 130))
+    front = st.peak_directivity(arr)
+    t_back = 180.0 - front.theta_deg if front.theta_deg < 90 else front.theta_deg
+    back = type(front)(front.directivity, t_back, front.phi_deg, front.power)
+    m = pattern_metrics(arr, peak=back)
+    assert m.beam_theta_deg < 90 and m.pointing_error_deg < 2.0
+    assert m.peak_directivity_dbi == pytest.approx(front.directivity_dbi, abs=1e-6)
+    c0, _ = principal_cuts(arr, peak=back, n=181)
+    assert c0.theta_deg[90] == pytest.approx(m.beam_theta_deg, abs=1e-9)
+
+
 def test_grating_lobe_of_a_scanned_line():
     """Spacing d scanned to theta0 has a grating lobe at sin(theta) = sin(theta0) - lambda/d
     and is free of them for d/lambda < 1/(1 + |sin(theta0)|) (common practice; Mailloux,

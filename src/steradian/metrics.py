@@ -120,9 +120,17 @@ def _preferred_axis(array, peak: Peak, frequency) -> np.ndarray:
     """Beam axis: the peak found, or a standard direction when it ties with the peak.
 
     Standard directions, in order: the steering direction, +z, and for a collinear array the
-    points of the peak's cone nearest +z and +x.
+    points of the peak's cone nearest +z and +x. When the pattern is mirror symmetric about
+    the plane of a planar array, a peak found behind that plane (relative to the steering
+    direction, else +z) is reflected to the front first.
     """
     r_pk = peak.unit
+    kind, nrm = _symmetry(array, frequency)
+    if kind == "mirror":
+        side = (array.steering.unit if array.steering is not None
+                else np.array([0.0, 0.0, 1.0])) @ nrm
+        if side * (r_pk @ nrm) < 0:
+            r_pk = r_pk - 2.0 * (r_pk @ nrm) * nrm
     u_pk = float(_intensity(array, r_pk, frequency))
     prefs = []
     if array.steering is not None:
