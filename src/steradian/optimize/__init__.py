@@ -1,0 +1,33 @@
+"""Numerical synthesis on the array's real geometry, element pattern and steering.
+
+Convex problems (radiated-power objective with sidelobe, mask, null and hardware limits) are
+solved to a certified optimum by a conic interior-point solver (clarabel); non-convex ones
+(phase-only, thinning) by scipy's global and local optimisers with a stated stopping rule.
+Every result is re-checked on a dense grid independent of the constraint samples.
+"""
+
+from ._conic import Infeasible, SolverFailure
+from ._convex import (
+    DEFAULT_LOADING,
+    SynthesisInfeasible,
+    max_directivity,
+    min_sidelobe,
+    peak_sidelobe,
+)
+from ._masks import Mask, Notch, Null, itu_s465
+from ._result import SynthesisResult
+
+__all__ = [
+    "max_directivity",
+    "min_sidelobe",
+    "peak_sidelobe",
+    "SynthesisResult",
+    "SynthesisInfeasible",
+    "SolverFailure",
+    "Infeasible",
+    "Mask",
+    "Null",
+    "Notch",
+    "itu_s465",
+    "DEFAULT_LOADING",
+]

@@ -1,0 +1,336 @@
+"""The synthesis problem on the array's real geometry: beam direction, weight parametrisation,
+power matrix, per-sample constraint rows and the constraint families."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Literal, get_args
+
+import numpy as np
+
+from .._validate import choice
+from ..array import steering_phases
+from ..engine import response_matrix
+from ..errors import SteradianError
+from ..grids import Directions
+from ..radiation import fibonacci_directions, power_matrix
+from ._domain import Domain, choose_domain, tangent_neighbourhood
+from ._frame import Frame, Param, chebyshev_null, frame_of, parametrise, symmetry_maps
+from ._masks import Mask, Notch
+
+__all__ = ["Setup", "make_setup", "Rows", "rows_at", "SidelobeFamily", "NotchFamily",
+           "WeightsKind", "SymmetryKind"]
+
+WeightsKind = Literal["complex", "amplitude"]
+SymmetryKind = Literal["auto", "none", "centro", "quadrant"]
+
+_REAL_TOL = 1e-9
+_CHUNK = 2048
+
+
+@dataclass(eq=False)
+class Setup:
+    """Everything the solvers share for one array."""
+
+    array: object
+    enabled: np.ndarray
+    r0: np.ndarray
+    phases: np.ndarray
+    frame: Frame
+    domain: Domain
+    param: Param
+    Q: np.ndarray
+    Qs: np.ndarray
+    loading: float
+    c0: np.ndarray
+    g_wng: np.ndarray
+    vector: bool
+
+    @property
+    def n(self) -> int:
+        return self.param.n
+
+    @property
+    def wavelength(self) -> float:
+        return self.array.wavelength
+
+    def weights(self, x) -> np.ndarray:
+        return self.param.T @ np.asarray(x, float)
+
+    def wng(self, w) -> float:
+        """White-noise gain |E0|^2 / sum g_n |w_n|^2 (N for uniform weights)."""
+        e0 = self.e0(w)
+        den = float(np.sum(self.g_wng * np.abs(w) ** 2))
+        return e0**2 / den if den > 0 else 0.0
+
+    def e0(self, w) -> float:
+        A = response_matrix(self.array, Directions.from_vectors(self.r0[None, :]))
+        e = A[:, 0, :] @ w
+        return float(np.sqrt(np.sum(np.abs(e) ** 2)))
+
+    def halfwidths(self, level: float) -> np.ndarray:
+        """Default main-lobe zone: first null of the equivalent Dolph-Chebyshev line along
+        each principal axis at ``level`` (linear)."""
+        fr = self.frame
+        out = []
+        for L in fr.lengths:
+            n = max(int(round(L / fr.spacing)), 2)
+            out.append(chebyshev_null(level, n, L / n / self.wavelength))
+        return np.array(out)
+
+
+def _beam(array) -> np.ndarray:
+    if array.steering is not None:
+        return array.steering.unit
+    return np.array([0.0, 0.0, 1.0])
+
+
+def rows_at(setup_like, dirs: np.ndarray, T: np.ndarray | None = None):
+    """Constraint rows at unit vectors ``dirs`` (M, 3).
+
+    Returns ``(real, H, V)``: ``real`` (M,) bool marks samples whose field is a fixed complex
+    vector times a real linear form ``H[i] @ x`` (then |E| = |H[i] x|); ``V`` (M, k, n) holds
+    the real and imaginary parts of the field components (|E| = ||V[i] x||) for every sample.
+    """
+    array = setup_like.array
+    T = setup_like.param.T if T is None else T
+    vector = setup_like.vector
+    M = len(dirs)
+    n = T.shape[1]
+    k = 4 if vector else 2
+    real = np.zeros(M, bool)
+    H = np.zeros((M, n))
+    V = np.zeros((M, k, n))
+    for s in range(0, M, _CHUNK):
+        d = dirs[s:s + _CHUNK]
+        A = response_matrix(array, Directions.from_vectors(d))
+        B = A @ T  # (2, m, n)
+        nrm2 = np.abs(B[0]) ** 2 + np.abs(B[1]) ** 2
+        j = np.argmax(nrm2, axis=1)
+        m = len(d)
+        ii = np.arange(m)
+        big = np.sqrt(nrm2[ii, j])
+        u = B[:, ii, j] / np.where(big > 0, big, 1.0)  # (2, m)
+        h = (np.conj(u[0])[:, None] * B[0] + np.conj(u[1])[:, None] * B[1]).real
+        resid = np.abs(B - u[:, :, None] * h[None]).max(axis=(0, 2))
+        real[s:s + m] = resid <= _REAL_TOL * np.maximum(big, 1e-300)
+        H[s:s + m] = h
+        V[s:s + m, 0] = B[0].real
+        V[s:s + m, 1] = B[0].imag
+        if vector:
+            V[s:s + m, 2] = B[1].real
+            V[s:s + m, 3] = B[1].imag
+    return real, H, V
+
+
+@dataclass(eq=False)
+class _Probe:
+    array: object
+    param: Param
+    vector: bool
+
+
+def make_setup(array, weights: str = "complex", symmetry: str = "auto",
+               loading: float = 1e-5) -> Setup:
+    """Prepare the problem data for ``array`` (beam = its steering direction, else +z)."""
+    choice("weights", weights, get_args(WeightsKind))
+    choice("symmetry", symmetry, get_args(SymmetryKind))
+    if not (math.isfinite(float(loading)) and float(loading) >= 0):
+        raise SteradianError(f"loading must be zero or positive, got {loading}")
+    N = array.n
+    enabled = np.arange(N) if array.enabled is None else np.flatnonzero(array.enabled)
+    pos = array.positions
+    frame = frame_of(pos[enabled])
+    r0 = _beam(array)
+    phases = steering_phases(pos, r0, array.k())
+    vector = bool(array.element.vector)
+    if symmetry == "quadrant" and weights != "amplitude":
+        raise SteradianError("symmetry='quadrant' applies to amplitude-only tapers "
+                             "(weights='amplitude')")
+    if symmetry == "quadrant" and frame.rank != 2:
+        raise SteradianError("symmetry='quadrant' needs a planar layout")
+    resolved = symmetry
+    if symmetry == "auto":
+        maps = symmetry_maps(pos[enabled], frame)
+        resolved = "centro" if maps["centro"] is not None else "none"
+    param = parametrise(pos, enabled, phases, frame, weights, resolved)
+    if symmetry == "auto" and resolved == "centro":
+        # The conjugate-symmetric reduction is exact only when every sample's field is a
+        # fixed vector times a real form; check on probe directions (else keep all unknowns).
+        probe = np.vstack([r0[None, :], fibonacci_directions(48)])
+        real, _, _ = rows_at(_Probe(array, param, vector), probe)
+        if not real.all():
+            resolved = "none"
+            param = parametrise(pos, enabled, phases, frame, weights, "none")
+    Q = power_matrix(array)
+    diag = np.real(np.diag(Q))[enabled]
+    delta = float(loading) * float(np.mean(diag))
+    QL = Q + delta * np.eye(N)
+    T = param.T
+    Qs = np.real(T.conj().T @ QL @ T)
+    Qs = 0.5 * (Qs + Qs.T)
+    A0 = response_matrix(array, Directions.from_vectors(r0[None, :]))
+    g = np.abs(A0[0, 0]) ** 2 + np.abs(A0[1, 0]) ** 2
+    g = np.where(np.isin(np.arange(N), enabled), g, 0.0)
+    if not np.any(g > 0):
+        raise SteradianError("the elements do not radiate toward the beam direction")
+    _, H0, V0 = rows_at(_Probe(array, param, vector), r0[None, :])
+    c0 = H0[0]
+    domain = choose_domain(array, frame, r0)
+    return Setup(array, enabled, r0, phases, frame, domain, param, Q, Qs, delta, c0, g, vector)
+
+
+# ---- constraint families ---------------------------------------------------------------------
+
+class SidelobeFamily:
+    """Sidelobe level and/or mask over the domain outside the main-lobe zone.
+
+    Bounds are field ratios relative to the field at the beam direction: ``coef * tau`` for
+    the peak-sidelobe constraint (coef 1 where it applies), ``fixed`` for the mask.
+    """
+
+    name = "sidelobes"
+
+    def __init__(self, setup: Setup, halfwidths, psl: bool, mask: Mask | None,
+                 coarse_spacing: float, dense_spacing: float):
+        self.setup = setup
+        self.domain = setup.domain
+        self.h = np.asarray(halfwidths, float)
+        self.psl = bool(psl)
+        self.mask = mask
+        self.ref_dbi: float | None = None
+        self.coarse_spacing = coarse_spacing
+        self.dense_spacing = dense_spacing
+
+    def in_zone(self, dirs) -> np.ndarray:
+        E = self.setup.frame.axes[:, : self.setup.frame.rank]
+        q = (dirs - self.setup.r0) @ E
+        return np.sum((q / self.h) ** 2, axis=1) < 1.0
+
+    def _mask_linear(self, dirs) -> np.ndarray:
+        r0 = self.setup.r0
+        dom = self.domain
+
+        def rel(gamma):
+            return 10 ** (self.mask.relative_db(gamma, self.ref_dbi) / 20)
+
+        def gam(d):
+            return np.degrees(np.arccos(np.clip(d @ r0, -1, 1)))
+
+        if dom.symmetric == "mirror":
+            e3 = dom.e3
+            mirror = dirs - 2 * np.outer(dirs @ e3, e3)
+            return np.minimum(rel(gam(dirs)), rel(gam(mirror)))
+        if dom.symmetric == "cone":
+            u = dirs @ dom.e1
+            u0 = r0 @ dom.e1
+            phi = np.linspace(0, np.pi, 37)
+            c = (np.multiply.outer(u * u0, np.ones_like(phi))
+                 + np.multiply.outer(np.sqrt(1 - u**2) * math.sqrt(max(1 - u0**2, 0)),
+                                     np.cos(phi)))
+            g = np.degrees(np.arccos(np.clip(c, -1, 1)))
+            return rel(g).min(axis=1)
+        return rel(gam(dirs))
+
+    def bounds(self, dirs):
+        """(coef, fixed) per direction; zone directions get coef 0 and fixed inf."""
+        zone = self.in_zone(dirs)
+        coef = np.where(zone, 0.0, 1.0 if self.psl else 0.0)
+        fixed = np.full(len(dirs), np.inf)
+        if self.mask is not None:
+            fixed = np.where(zone, np.inf, self._mask_linear(dirs))
+        return coef, fixed
+
+    def coarse(self) -> np.ndarray:
+        d = np.vstack([self.domain.grid(self.coarse_spacing),
+                       self.domain.zone_ring(self.h * (1 + 1e-9), self.coarse_spacing)])
+        return d
+
+    def dense(self) -> np.ndarray:
+        return np.vstack([self.domain.grid(self.dense_spacing, shifted=True),
+                          self.domain.zone_ring(self.h * (1 + 1e-9), self.dense_spacing)])
+
+    def neighbourhood(self, dirs, step, m=3):
+        return self.domain.neighbourhood(dirs, step, m)
+
+    def keys(self, dirs):
+        dom = self.domain
+        if dom.kind == "line":
+            return (dirs @ dom.e1)[:, None]
+        if dom.kind == "plane":
+            return np.column_stack([dirs @ dom.e1, dirs @ dom.e2, 4.0 * np.sign(dirs @ dom.e3)])
+        return dirs
+
+
+class NotchFamily:
+    """A sector held below a depth (relative to the field at the beam direction)."""
+
+    psl = False
+
+    def __init__(self, notch: Notch, coarse_spacing: float, dense_spacing: float):
+        self.notch = notch
+        self.name = (f"notch theta {notch.theta_deg[0]:g}-{notch.theta_deg[1]:g}, phi "
+                     f"{notch.phi_deg[0]:g}-{notch.phi_deg[1]:g}")
+        self.depth = 10 ** (notch.depth_db / 20)
+        self.coarse_spacing = coarse_spacing
+        self.dense_spacing = dense_spacing
+
+    def bounds(self, dirs):
+        inside = self.notch.contains(dirs)
+        return np.zeros(len(dirs)), np.where(inside, self.depth, np.inf)
+
+    def coarse(self):
+        return self.notch.samples(self.coarse_spacing)
+
+    def dense(self):
+        return self.notch.samples(self.dense_spacing)
+
+    def neighbourhood(self, dirs, step, m=3):
+        o = step * np.arange(-m, m + 1)
+        oa, ob = np.meshgrid(o, o, indexing="ij")
+        return tangent_neighbourhood(np.asarray(dirs, float).reshape(-1, 3), oa.ravel(),
+                                     ob.ravel())
+
+    def keys(self, dirs):
+        return dirs
+
+
+class Rows:
+    """Accumulated constraint samples of one family with their rows and bounds."""
+
+    def __init__(self, family, setup: Setup):
+        self.family = family
+        self.setup = setup
+        self.dirs = np.zeros((0, 3))
+        self.real = np.zeros(0, bool)
+        self.H = np.zeros((0, setup.n))
+        self.V = np.zeros((0, 4 if setup.vector else 2, setup.n))
+        self.coef = np.zeros(0)
+        self.fixed = np.zeros(0)
+
+    def add(self, dirs) -> int:
+        dirs = np.asarray(dirs, float).reshape(-1, 3)
+        if len(dirs) == 0:
+            return 0
+        coef, fixed = self.family.bounds(dirs)
+        keep = (coef > 0) | np.isfinite(fixed)
+        dirs, coef, fixed = dirs[keep], coef[keep], fixed[keep]
+        if len(dirs) == 0:
+            return 0
+        real, H, V = rows_at(self.setup, dirs)
+        self.dirs = np.vstack([self.dirs, dirs])
+        self.real = np.concatenate([self.real, real])
+        self.H = np.vstack([self.H, H])
+        self.V = np.concatenate([self.V, V])
+        self.coef = np.concatenate([self.coef, coef])
+        self.fixed = np.concatenate([self.fixed, fixed])
+        return len(dirs)
+
+    def refresh_bounds(self) -> None:
+        """Recompute bounds (after an absolute mask's reference directivity changed)."""
+        if len(self.dirs):
+            self.coef, self.fixed = self.family.bounds(self.dirs)
+
+    def __len__(self):
+        return len(self.dirs)
