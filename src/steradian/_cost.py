@@ -18,7 +18,8 @@ from __future__ import annotations
 import math
 
 __all__ = ["MARGIN", "reference", "direct", "nufft3", "nufft1", "fft_lattice", "kernel_width",
-           "grid3", "SERIAL_TERMS"]
+           "grid3", "SERIAL_TERMS", "OVERHEADS", "GRID_LIMIT", "sinc_pairs",
+           "per_direction"]
 
 MARGIN = 1.5
 """A fast path must be estimated this many times faster than direct summation."""
@@ -40,6 +41,9 @@ _SIGMA = 2.0
 # Chirp-z FFT path: overhead and per (FFT length x log2 length) unit.
 _C_FFT = 2e-4
 _B_FFT = 2.5e-9
+
+OVERHEADS = (_C_NUFFT, _C_FFT)
+"""Fixed costs of the transform paths (s): below these, direct summation always wins."""
 
 GRID_LIMIT = 2**26
 """Largest oversampled transform grid (cells) the non-uniform FFT may use (1 GiB)."""
@@ -91,6 +95,20 @@ def nufft1(n: int, nu: int, nv: int, tol: float) -> float:
     if g > GRID_LIMIT:
         return math.inf
     return _C_NUFFT + _A_SPREAD[2] * n * w**2 + _B_GRID * g * math.log2(max(g, 2.0))
+
+
+_R_SINC = 1.5e8  # sinc pairs per second (numba, both threads)
+_PER_DIRECTION = 1.5e-7  # field(): element pattern, angles, intensity per direction
+
+
+def sinc_pairs(n: int) -> float:
+    """Closed-form radiated power of isotropic elements: N (N - 1) / 2 sinc pairs."""
+    return 5e-5 + n * (n - 1) / 2 / _R_SINC
+
+
+def per_direction(m: int) -> float:
+    """Work per direction outside the array factor (element pattern, intensity, rule sum)."""
+    return m * _PER_DIRECTION
 
 
 def _fft_len(n: int) -> float:

@@ -75,20 +75,21 @@ class Rows:
         return W
 
 
-def _spacing(vals: np.ndarray, slack: float, hint: float | None) -> float | None:
-    """Common step of the sorted distinct values (the hint if it fits), or None."""
-    d = np.diff(vals)
-    d = d[d > slack]
-    if len(d) == 0:
+def _fit_step(rel: np.ndarray, rough: float, slack: float) -> tuple[float, np.ndarray] | None:
+    """Step s and integer indices i with |rel - i s| <= slack (rel >= 0), or None.
+
+    The rough step (a hint or the smallest gap) fixes the indices; the step is then refitted
+    from the farthest point so rounding in the rough step does not grow with the index.
+    """
+    if not rough or rough <= slack:
         return None
-    cands = [hint] if hint else []
-    cands.append(float(d.min()))
-    for s in cands:
-        if s and s > slack:
-            q = d / s
-            if np.all(np.abs(q - np.round(q)) * s <= slack):
-                return s
-    return None
+    idx = np.round(rel / rough)
+    far = int(np.argmax(idx))
+    step = float(rel[far] / idx[far]) if idx[far] > 0 else float(rough)
+    idx = np.round(rel / step)
+    if np.abs(rel - idx * step).max(initial=0.0) > slack:
+        return None
+    return step, idx.astype(int)
 
 
 def _slack(pos: np.ndarray, k: float, tol: float) -> float:
@@ -97,7 +98,7 @@ def _slack(pos: np.ndarray, k: float, tol: float) -> float:
 
 
 def detect_rows(positions: np.ndarray, k: float, tol: float,
-                hint: tuple[float, float] | None = None) -> Rows | None:
+                hint: tuple[float | None, float | None] | None = None) -> Rows | None:
     """Row structure of ``positions`` within the phase tolerance, or None.
 
     ``hint`` gives the expected (dx, dy) (from the geometry's lattice vectors); otherwise the
@@ -108,6 +109,7 @@ def detect_rows(positions: np.ndarray, k: float, tol: float,
     if n < 2:
         return None
     slack = _slack(pos, k, tol)
+    hx, hy = hint if hint else (None, None)
     z = pos[:, 2]
     if np.ptp(z) > slack:
         return None
@@ -115,53 +117,51 @@ def detect_rows(positions: np.ndarray, k: float, tol: float,
     order = np.argsort(y, kind="stable")
     ys = y[order]
     breaks = np.flatnonzero(np.diff(ys) > slack) + 1
-    row_vals = np.concatenate([[ys[0]], ys[breaks]]) if len(ys) else ys
+    row_vals = np.concatenate([[ys[0]], ys[breaks]])
     if len(row_vals) == 1:
-        dy = 1.0
-        jr = np.zeros(1, int)
+        dy, jr = 1.0, np.zeros(1, int)
     else:
-        dy = _spacing(row_vals, slack, hint[1] if hint else None)
-        if dy is None:
+        fit = None
+        for rough in (hy, float(np.diff(row_vals).min())):
+            fit = _fit_step(row_vals - row_vals[0], rough, slack)
+            if fit is not None:
+                break
+        if fit is None:
             return None
-        jr = np.round((row_vals - row_vals[0]) / dy).astype(int)
-        if np.abs(row_vals - (row_vals[0] + jr * dy)).max() > slack:
-            return None
+        dy, jr = fit
     ny = int(jr[-1]) + 1
     row_of = np.empty(n, int)
     row_of[order] = np.repeat(np.arange(len(row_vals)), np.diff(np.r_[0, breaks, n]))
     j = jr[row_of]
     x = pos[:, 0]
-    # Common dx: from the hint or the smallest gap within any row.
     xo = np.lexsort((x, j))
     xs, js = x[xo], j[xo]
     same = js[1:] == js[:-1]
     gaps = (xs[1:] - xs[:-1])[same]
     gaps = gaps[gaps > slack]
-    if len(gaps) == 0:
-        dx = hint[0] if hint else 1.0
-    else:
-        dx = None
-        for s in ([hint[0]] if hint else []) + [float(gaps.min())]:
-            q = gaps / s
-            if np.all(np.abs(q - np.round(q)) * s <= slack):
-                dx = s
-                break
-        if dx is None:
-            return None
+    roughs = [hx] + ([float(gaps.min())] if len(gaps) else [])
     # One offset for every row if the rows share the x lattice, else one offset per row.
-    x0 = np.full(ny, float(x.min()))
-    i = np.round((x - x0[j]) / dx).astype(int)
-    if np.abs(x - (x0[j] + i * dx)).max() > slack:
-        x0 = np.zeros(ny)
-        first = np.ones(len(xs), bool)
-        first[1:] = ~same
-        x0[js[first]] = xs[first]
-        i = np.round((x - x0[j]) / dx).astype(int)
-        if np.abs(x - (x0[j] + i * dx)).max() > slack:
-            return None
-    # Rows with no elements keep x0 = 0; harmless (zero weights).
-    return Rows(i, j, int(i.max()) + 1, ny, float(dx), float(dy), x0, float(row_vals[0]),
-                float(z.mean()))
+    first = np.ones(len(xs), bool)
+    first[1:] = ~same
+    per_row = np.zeros(ny)
+    per_row[js[first]] = xs[first]
+    common = np.full(ny, float(x.min()))
+    for x0 in (common, per_row):
+        rel = x - x0[j]
+        if len(gaps) == 0:  # one element per row
+            dx = float(hx) if hx else 1.0
+            if np.abs(rel).max() <= slack:
+                return Rows(np.zeros(n, int), j, 1, ny, dx, float(dy), x0,
+                            float(row_vals[0]), float(z.mean()))
+            continue
+        for rough in roughs:
+            fit = _fit_step(rel, rough, slack)
+            if fit is not None:
+                dx, i = fit
+                # Rows with no elements keep an arbitrary offset; harmless (zero weights).
+                return Rows(i, j, int(i.max()) + 1, ny, float(dx), float(dy), x0,
+                            float(row_vals[0]), float(z.mean()))
+    return None
 
 
 def uniform_step(vals: np.ndarray) -> float | None:

@@ -117,3 +117,12 @@ def sinc_power(px, py, pz, wr, wi, k):  # pragma: no cover - jitted
             s += _sinc_row(m2, px, py, pz, wr, wi, k)
         acc[t] = s
     return acc.sum() + (wr * wr + wi * wi).sum()
+
+
+@njit(fastmath=True, cache=True)
+def sinc_power_serial(px, py, pz, wr, wi, k):  # pragma: no cover - jitted
+    """As :func:`sinc_power` on one thread (small arrays skip the thread pool)."""
+    s = 0.0
+    for m in range(px.shape[0]):
+        s += _sinc_row(m, px, py, pz, wr, wi, k)
+    return s + (wr * wr + wi * wi).sum()

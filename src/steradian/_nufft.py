@@ -170,11 +170,16 @@ def _reduce(positions: np.ndarray, k: float, tol: float):
 
 
 def type3(positions: np.ndarray, weights: np.ndarray, k: float, directions: np.ndarray,
-          tol: float) -> np.ndarray:
-    """Array factor at arbitrary ``directions`` (M, 3) by a type-3 transform."""
+          tol: float, keep=None, offset=None) -> np.ndarray:
+    """Array factor at arbitrary ``directions`` (M, 3) by a type-3 transform.
+
+    ``keep`` (varying coordinates) and ``offset`` (the constant ones) come from
+    :func:`_reduce` when not given.
+    """
     pos = np.ascontiguousarray(positions, float)
     dirs = np.ascontiguousarray(directions, float)
-    keep, offset = _reduce(pos, k, tol)
+    if keep is None:
+        keep, offset = _reduce(pos, k, tol)
     w = np.asarray(weights, complex)
     if not keep:  # every element at one point
         out = np.full(len(dirs), w.sum())

@@ -110,15 +110,49 @@ def _af_reference(pos, w, k, dirs):
     return out
 
 
+_SOA: dict = {}
+
+
+def _frozen(a) -> bool:
+    """True when neither ``a`` nor any array it views can be written (safe to memoise)."""
+    while isinstance(a, np.ndarray):
+        if a.flags.writeable:
+            return False
+        a = a.base
+    return a is None
+
+
+def _split(a: np.ndarray, fn):
+    """``fn(a)`` memoised by identity for frozen arrays (positions, memoised weights)."""
+    if not _frozen(a):
+        return fn(a)
+    got = _SOA.get(id(a))
+    if got is not None and got[0]() is a:
+        return got[1]
+    if len(_SOA) > 64:
+        _SOA.clear()
+    val = fn(a)
+    _SOA[id(a)] = (weakref.ref(a), val)
+    return val
+
+
+def _pos_soa(pos):
+    return tuple(np.ascontiguousarray(c) for c in np.asarray(pos, float).T)
+
+
+def _w_soa(w):
+    return np.ascontiguousarray(w.real), np.ascontiguousarray(w.imag)
+
+
 def _af_direct(pos, w, k, dirs):
     km = _k()
     out_re = np.empty(len(dirs))
     out_im = np.empty(len(dirs))
-    p = np.ascontiguousarray(pos.T)
+    px, py, pz = _split(pos, _pos_soa)
+    wr, wi = _split(w, _w_soa)
     d = np.ascontiguousarray(dirs.T)
     kern = km.af_direct_serial if len(pos) * len(dirs) < _cost.SERIAL_TERMS else km.af_direct
-    kern(p[0], p[1], p[2], np.ascontiguousarray(w.real), np.ascontiguousarray(w.imag),
-         float(k), d[0], d[1], d[2], out_re, out_im)
+    kern(px, py, pz, wr, wi, float(k), d[0], d[1], d[2], out_re, out_im)
     return out_re + 1j * out_im
 
 
@@ -141,8 +175,6 @@ class PathChoice:
     method: str
     detail: str
     estimates: dict = dc_field(default_factory=dict)
-    # Private: what the evaluator needs.
-    _run: object = None
 
 
 def _check_tol(tol) -> float:
@@ -155,27 +187,78 @@ def _check_tol(tol) -> float:
     return t
 
 
-def _planar_z(pos, k, tol):
-    """(True, z0) when every element is at one height within a phase of tol/100."""
-    z = pos[:, 2]
-    z0 = float(z.mean())
-    return (k * float(np.abs(z - z0).max(initial=0.0)) <= 1e-2 * tol), z0
+class _Layout:
+    """What the cost model needs to know about a set of positions (computed once per array).
+
+    ``keep``: coordinates that vary (a column whose spread is a phase below tol/100 counts as
+    constant, its mean going into ``offset``); ``half``: half-widths (m) of the kept columns;
+    ``planar``: constant z (at ``z0``); ``r_xy``: largest distance from the centroid in x-y.
+    """
+
+    def __init__(self, pos: np.ndarray, k: float, tol: float):
+        mean = pos.mean(axis=0)
+        dev = np.abs(pos - mean).max(axis=0)
+        self.keep = [i for i in range(3) if k * dev[i] > 1e-2 * tol]
+        self.offset = np.where([i not in self.keep for i in range(3)], mean, 0.0)
+        ptp = np.ptp(pos, axis=0)
+        self.half = [0.5 * float(ptp[i]) for i in self.keep]
+        self.planar = 2 not in self.keep
+        self.z0 = float(mean[2]) if self.planar else 0.0
+        d = pos[:, :2] - mean[:2]
+        self.r_xy = float(np.sqrt((d**2).sum(axis=1)).max(initial=0.0))
+        self._rows: dict = {}
+
+    def rows(self, pos, k, tol, hint):
+        key = hint
+        if key not in self._rows:
+            from . import _fft
+
+            self._rows[key] = _fft.detect_rows(pos, k, tol, hint) if self.planar else None
+        return self._rows[key]
 
 
-def _halfwidths(pos, dirs, k, tol):
-    """Varying position columns with their scaled half-widths and the targets' half-widths."""
-    from . import _nufft
+_LAYOUTS: dict = {}
 
-    keep, _ = _nufft._reduce(pos, k, tol)
-    xh = [0.5 * k * float(np.ptp(pos[:, i])) for i in keep]
-    sh = [0.5 * float(np.ptp(dirs[:, i])) if len(dirs) else 0.0 for i in keep]
-    return keep, xh, sh
+
+def _layout(pos: np.ndarray, k: float, tol: float) -> _Layout:
+    """Layout of ``pos``, memoised for frozen arrays (geometry positions) by identity."""
+    if not _frozen(pos):
+        return _Layout(pos, k, tol)
+    key = (id(pos), float(k), float(tol))
+    got = _LAYOUTS.get(key)
+    if got is not None and got[0]() is pos:
+        return got[1]
+    if len(_LAYOUTS) > 64:
+        for kk in [kk for kk, v in _LAYOUTS.items() if v[0]() is None] or list(_LAYOUTS):
+            del _LAYOUTS[kk]
+    lay = _Layout(pos, k, tol)
+    _LAYOUTS[key] = (weakref.ref(pos), lay)
+    return lay
 
 
 def _nufft_ok(ndim, tol):
     from . import _nufft
 
     return _nufft.available() and ndim >= 1 and tol >= _nufft.min_tol(ndim)
+
+
+def _min_tol_msg(ndim):
+    from . import _nufft
+
+    return f"{_nufft.min_tol(max(ndim, 1)):.1e}" if _nufft.available() else "(unavailable)"
+
+
+def _too_small(n, m):
+    """Direct summation costs less than any transform's fixed overhead: skip the analysis."""
+    return _cost.direct(n, m) * _cost.MARGIN < min(_cost.OVERHEADS)
+
+
+@dataclass(eq=False)
+class _Route:
+    name: str
+    detail: str
+    est: dict
+    run: object  # callable(weights) -> flat complex array
 
 
 def _pick(est, forced, what):
@@ -194,72 +277,92 @@ def _pick(est, forced, what):
     return best
 
 
-def _route_vectors(pos, k, dirs, tol, forced):
-    """Choice for arbitrary direction vectors (M, 3)."""
+def _base_est(n, m):
+    return {"reference": (_cost.reference(n, m), "numpy"),
+            "direct": (_cost.direct(n, m), "numba, one thread" if n * m < _cost.SERIAL_TERMS
+                       else "numba, all threads")}
+
+
+def _route_vectors(pos, k, dirs, tol, forced) -> _Route:
+    """Route for arbitrary direction vectors (M, 3)."""
     n, m = len(pos), len(dirs)
-    est = {"reference": (_cost.reference(n, m), "numpy"),
-           "direct": (_cost.direct(n, m), "numba")}
-    keep, xh, sh = _halfwidths(pos, dirs, k, tol)
-    if _nufft_ok(len(keep), tol):
-        est["nufft"] = (_cost.nufft3(n, m, xh, sh, tol), f"type 3, {len(keep)}-D")
-    elif forced == "nufft":
-        raise SteradianError(
-            f"method='nufft' needs tol >= {_min_tol_msg(len(keep))}, got tol={tol:g}")
+    est = _base_est(n, m)
+    lay = None
+    if forced in ("nufft", "fft") or (forced == "auto" and not _too_small(n, m)):
+        lay = _layout(pos, k, tol)
+        if _nufft_ok(len(lay.keep), tol):
+            sh = [0.5 * float(np.ptp(dirs[:, i])) for i in lay.keep] if m else []
+            est["nufft"] = (_cost.nufft3(n, m, [k * h for h in lay.half], sh, tol),
+                            f"type 3, {len(lay.keep)}-D")
+        elif forced == "nufft":
+            raise SteradianError(
+                f"method='nufft' needs tol >= {_min_tol_msg(len(lay.keep))}, got tol={tol:g}")
     name = _pick(est, forced, "arbitrary directions (use 'direct' or 'nufft')")
-    return name, est[name][1], est
+
+    def run(w):
+        if name == "reference":
+            return _af_reference(pos, w, k, dirs)
+        if name == "direct":
+            return _af_direct(pos, w, k, dirs)
+        from . import _nufft
+
+        return _nufft.type3(pos, w, k, dirs, tol, lay.keep, lay.offset)
+
+    return _Route(name, est[name][1], est, run)
 
 
-def _min_tol_msg(ndim):
-    from . import _nufft
-
-    return f"{_nufft.min_tol(max(ndim, 1)):.1e}" if _nufft.available() else "(unavailable)"
-
-
-def _uv_steps(grid):
-    from . import _fft
-
-    su, sv = _fft.uniform_step(grid.u), _fft.uniform_step(grid.v)
-    if su is None or sv is None:
-        return None
-    return su, sv
-
-
-def _route_uv(pos, k, grid, tol, forced, hint):
+def _route_uv(pos, k, grid: UVGrid, tol, forced, hint) -> _Route:
     from . import _fft
 
     n, nu, nv = len(pos), len(grid.u), len(grid.v)
     m = nu * nv
-    steps = _uv_steps(grid)
-    planar, z0 = _planar_z(pos, k, tol)
-    est = {"reference": (_cost.reference(n, m), "numpy"),
-           "direct": (_cost.direct(n, m), "numba")}
+    if forced == "auto" and _too_small(n, m):
+        return _route_vectors(pos, k, grid.vectors, tol, forced)
+    su, sv = _fft.uniform_step(grid.u), _fft.uniform_step(grid.v)
+    steps_ok = su is not None and sv is not None
+    lay = _layout(pos, k, tol)
+    est = _base_est(n, m)
     rows = None
-    if steps is not None and planar:
-        rows = _fft.detect_rows(pos, k, tol, hint)
+    if steps_ok and lay.planar:
+        rows = lay.rows(pos, k, tol, hint)
         if rows is not None and rows.cells <= 8 * n + 64:
             # Priced as non-separable (the weights may not factor): an upper bound.
             est["fft"] = (_cost.fft_lattice(rows.nx, rows.ny, nu, nv, False,
                                             not rows.common_offset), "chirp-z")
         if _nufft_ok(2, tol):
             est["nufft"] = (_cost.nufft1(n, nu, nv, tol), "type 1, u-v grid")
-    if "nufft" not in est:
-        dirs = grid.vectors
-        keep, xh, sh = _halfwidths(pos, dirs, k, tol)
-        if _nufft_ok(len(keep), tol):
-            est["nufft"] = (_cost.nufft3(n, m, xh, sh, tol), f"type 3, {len(keep)}-D")
     if forced == "fft" and "fft" not in est:
         raise SteradianError(
             "method='fft' needs a planar lattice (rows of equally spaced elements at one "
             "height) and a u-v grid with equal steps")
-    if forced == "nufft" and "nufft" not in est:
-        raise SteradianError(f"method='nufft' needs tol >= {_min_tol_msg(2)}, got tol={tol:g}")
+    if "nufft" not in est:
+        # Not planar or not equally spaced: arbitrary directions.
+        return _route_vectors(pos, k, grid.vectors, tol, forced)
     name = _pick(est, forced, "this u-v grid")
-    return name, est[name][1], est, rows, steps, z0
+    u0, v0 = float(grid.u[0]), float(grid.v[0])
+
+    def run(w):
+        if name == "fft":
+            return _fft.lattice_uv(rows, w, k, u0, su, nu, v0, sv, nv, grid.hemisphere, tol)
+        if name == "nufft":
+            from . import _nufft
+
+            s = _nufft.type1_uv(pos, w, k, u0, su, nu, v0, sv, nv, tol)
+            if lay.z0 != 0.0:
+                w2 = 1.0 - grid.u[None, :] ** 2 - grid.v[:, None] ** 2
+                s *= np.exp(1j * k * lay.z0 * grid.hemisphere
+                            * np.sqrt(np.clip(w2, 0.0, None)))
+            return s.ravel()
+        dirs = grid.vectors
+        return _af_reference(pos, w, k, dirs) if name == "reference" else _af_direct(
+            pos, w, k, dirs)
+
+    return _Route(name, est[name][1], est, run)
 
 
-def _mirror_rows(grid: ThetaPhiGrid, kr: float, tol: float):
-    """Number of rows h when theta_i + theta_(n-1-i) = pi for all i (else None)."""
-    t = np.asarray(grid.theta, float)
+def _mirror_rows(theta, kr: float, tol: float):
+    """Number of upper rows h when theta_i + theta_(n-1-i) = pi for all i (else None)."""
+    t = np.asarray(theta, float)
     n = len(t)
     if n < 2:
         return None
@@ -269,63 +372,49 @@ def _mirror_rows(grid: ThetaPhiGrid, kr: float, tol: float):
     return (n + 1) // 2
 
 
+def _route_thetaphi(pos, k, grid: ThetaPhiGrid, tol, forced) -> _Route:
+    n, m = len(pos), grid.shape[0] * grid.shape[1]
+    if forced == "auto" and _too_small(n, m):
+        return _route_vectors(pos, k, grid.vectors, tol, forced)
+    lay = _layout(pos, k, tol)
+    h = _mirror_rows(grid.theta, k * lay.r_xy, tol) if lay.planar else None
+    if h is None or h >= len(grid.theta):
+        return _route_vectors(pos, k, grid.vectors, tol, forced)
+    theta = np.asarray(grid.theta, float)
+    nt = len(theta)
+    inner = _route_vectors(pos, k, ThetaPhiGrid(theta[:h], grid.phi).vectors, tol, forced)
+
+    def run(w):
+        s = inner.run(w).reshape(h, -1)
+        full = np.empty((nt, s.shape[1]), complex)
+        full[:h] = s
+        full[h:] = s[: nt - h][::-1]
+        if lay.z0 != 0.0:
+            # AF = S exp(jk w z0) with S even in w: the mirror row differs by the w change.
+            dw = np.cos(theta[h:]) - np.cos(theta[: nt - h][::-1])
+            full[h:] *= np.exp(1j * k * lay.z0 * dw)[:, None]
+        return full.ravel()
+
+    est = {a: b for a, b in inner.est.items()}
+    return _Route(inner.name, inner.detail + ", upper half of a mirror-symmetric grid", est,
+                  run)
+
+
+def _route(pos, k, where, tol, forced, hint=None) -> _Route:
+    if isinstance(where, UVGrid):
+        return _route_uv(pos, k, where, tol, forced, hint)
+    if isinstance(where, ThetaPhiGrid):
+        return _route_thetaphi(pos, k, where, tol, forced)
+    return _route_vectors(pos, k, where.vectors, tol, forced)
+
+
 def _af_grid(pos, w, k, where, method, tol, hint=None):
     """Array factor at ``where`` (flat, in ``where.vectors`` order) on the chosen path."""
     if method == "reference":
         return _af_reference(pos, w, k, where.vectors)
     if method == "direct":
         return _af_direct(pos, w, k, where.vectors)
-    if isinstance(where, UVGrid):
-        name, _, _, rows, steps, z0 = _route_uv(pos, k, where, tol, method, hint)
-        if name == "fft":
-            from . import _fft
-
-            su, sv = steps
-            return _fft.lattice_uv(rows, w, k, float(where.u[0]), su, len(where.u),
-                                   float(where.v[0]), sv, len(where.v), where.hemisphere, tol)
-        if name == "nufft" and steps is not None and _planar_z(pos, k, tol)[0]:
-            from . import _nufft
-
-            su, sv = steps
-            s = _nufft.type1_uv(pos, w, k, float(where.u[0]), su, len(where.u),
-                                float(where.v[0]), sv, len(where.v), tol)
-            if z0 != 0.0:
-                s = s * np.exp(1j * k * z0 * where.vectors[:, 2].reshape(s.shape))
-            return s.ravel()
-        return _run_vectors(name, pos, w, k, where.vectors, tol)
-    if isinstance(where, ThetaPhiGrid):
-        planar, z0 = _planar_z(pos, k, tol)
-        if planar:
-            kr = k * float(np.sqrt(((pos[:, :2] - pos[:, :2].mean(0)) ** 2).sum(1)).max())
-            h = _mirror_rows(where, kr, tol)
-            if h is not None and h < len(where.theta):
-                half = ThetaPhiGrid(where.theta[:h], where.phi)
-                dh = half.vectors
-                name, _, _ = _route_vectors(pos, k, dh, tol, method)
-                s = _run_vectors(name, pos, w, k, dh, tol).reshape(h, -1)
-                nt = len(where.theta)
-                full = np.empty((nt, s.shape[1]), complex)
-                full[:h] = s
-                full[h:] = s[: nt - h][::-1]
-                if z0 != 0.0:
-                    # s holds AF of the upper rows: AF = S e^{jk w z0}; mirror w -> -w.
-                    wz = np.cos(where.theta)[h:, None]
-                    full[h:] *= np.exp(1j * k * z0 * (wz - np.cos(where.theta[: nt - h][::-1])
-                                                      [:, None]))
-                return full.ravel()
-    dirs = where.vectors
-    name, _, _ = _route_vectors(pos, k, dirs, tol, method)
-    return _run_vectors(name, pos, w, k, dirs, tol)
-
-
-def _run_vectors(name, pos, w, k, dirs, tol):
-    if name == "reference":
-        return _af_reference(pos, w, k, dirs)
-    if name == "direct":
-        return _af_direct(pos, w, k, dirs)
-    from . import _nufft
-
-    return _nufft.type3(pos, w, k, dirs, tol)
+    return _route(pos, k, where, tol, method, hint).run(w)
 
 
 def choose_path(positions, k: float, where, *, tol: float = DEFAULT_TOL,
@@ -348,26 +437,13 @@ def choose_path(positions, k: float, where, *, tol: float = DEFAULT_TOL,
     Returns
     -------
     PathChoice
-        The method, a detail string and the estimated seconds of each path considered.
+        The method, a detail string and the estimated seconds of each path considered
+        (transforms are not priced when direct summation costs less than their overhead).
     """
     pos = np.asarray(positions, float).reshape(-1, 3)
-    where = as_directions(where)
-    tol = _check_tol(tol)
-    if isinstance(where, UVGrid):
-        name, detail, est, *_ = _route_uv(pos, float(k), where, tol, "auto",
-                                           _lattice_hint(lattice))
-        return PathChoice(name, detail, {a: b[0] for a, b in est.items()})
-    if isinstance(where, ThetaPhiGrid):
-        planar, _ = _planar_z(pos, k, tol)
-        kr = k * float(np.sqrt(((pos[:, :2] - pos[:, :2].mean(0)) ** 2).sum(1)).max())
-        h = _mirror_rows(where, kr, tol) if planar else None
-        if h is not None and h < len(where.theta):
-            dh = ThetaPhiGrid(where.theta[:h], where.phi).vectors
-            name, detail, est = _route_vectors(pos, float(k), dh, tol, "auto")
-            return PathChoice(name, detail + ", upper half of a mirror-symmetric grid",
-                              {a: b[0] for a, b in est.items()})
-    name, detail, est = _route_vectors(pos, float(k), where.vectors, tol, "auto")
-    return PathChoice(name, detail, {a: b[0] for a, b in est.items()})
+    r = _route(pos, float(k), as_directions(where), _check_tol(tol), "auto",
+               _lattice_hint(lattice))
+    return PathChoice(r.name, r.detail, {a: b[0] for a, b in r.est.items()})
 
 
 def _lattice_hint(lattice):
@@ -376,10 +452,10 @@ def _lattice_hint(lattice):
         return None
     L = np.atleast_2d(np.asarray(lattice, float))
     a1 = L[0]
-    if abs(a1[1]) > 1e-12 * abs(a1[0]) or a1[0] == 0:
+    if a1[0] == 0 or abs(a1[1]) > 1e-12 * abs(a1[0]) or abs(a1[2]) > 1e-12 * abs(a1[0]):
         return None
-    dy = abs(L[1][1]) if len(L) > 1 else None
-    return (abs(float(a1[0])), float(dy) if dy else None)
+    dy = abs(float(L[1][1])) if len(L) > 1 and L[1][1] != 0 else None
+    return (abs(float(a1[0])), dy)
 
 
 def array_factor(positions, weights, k: float, directions, *, method: Method = "auto",
@@ -480,6 +556,8 @@ def _element_global(element, dirs, R):
 
 def _invisible(where):
     """Boolean mask (flat) of invisible u-v points, or None when every point is visible."""
+    if isinstance(where, (Directions, ThetaPhiGrid)):
+        return None  # always visible
     if not isinstance(where, UVGrid):
         vis = where.visible
         return None if vis.all() else ~vis

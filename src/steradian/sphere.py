@@ -9,22 +9,33 @@ integrates polynomials up to degree :math:`2n_\theta - 1` exactly and the unifor
 :math:`n_\phi = \lceil L\rceil + 2c` integrate the pattern to near machine precision with a
 margin c (default 20: measured residual 1e-11 to 1e-15 relative for random planar arrays).
 
+The Gauss-Legendre nodes and weights are computed by Newton's method in the angle
+:math:`\theta` (:math:`x = \cos\theta`), with the weights
+:math:`w_i = 2\sin^2\theta_i / (n\,P_{n-1}(x_i))^2` formed from :math:`\sin\theta_i`,
+so the nodes near the poles keep full relative accuracy (an eigenvalue method loses about
+1e-12 in the weights at 200 nodes). The rule is exactly symmetric, :math:`x_{n-1-i} = -x_i`,
+which the pattern engine uses to sum planar arrays on half the theta nodes.
+
 References
 ----------
 P. J. Davis and P. Rabinowitz, *Methods of Numerical Integration*, 2nd ed., Academic Press,
 1984, sec. 2.7 (Gauss-Legendre) and sec. 5.6 (product rules on the sphere).
+N. Hale and A. Townsend, "Fast and accurate computation of Gauss-Legendre and Gauss-Jacobi
+quadrature nodes and weights," *SIAM J. Sci. Comput.* 35 (2013) A652-A674 (Newton in the
+angle variable, the initial guess of Tricomi, the weight formula).
 """
 
 from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
 from .grids import ThetaPhiGrid
 
-__all__ = ["SphereRule", "sphere_rule", "rule_for"]
+__all__ = ["SphereRule", "sphere_rule", "rule_for", "gauss_legendre"]
 
 DEFAULT_MARGIN = 20
 
@@ -62,9 +73,57 @@ class SphereRule:
         return float(self.w_theta @ v.sum(axis=1) * self.w_phi)
 
 
+def _legendre_pair(n: int, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(P_n(x), P_{n-1}(x)) by the three-term recurrence."""
+    p0 = np.ones_like(x)
+    p1 = x.copy()
+    for j in range(2, n + 1):
+        p0, p1 = p1, ((2 * j - 1) * x * p1 - (j - 1) * p0) / j
+    return p1, p0
+
+
+@lru_cache(maxsize=64)
+def gauss_legendre(n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Gauss-Legendre nodes (ascending) and weights on [-1, 1], exactly symmetric.
+
+    Read-only arrays (cached). Newton's method in theta from Tricomi's initial guess
+    theta_i = pi (i - 1/4) / (n + 1/2); see the module references.
+    """
+    n = int(n)
+    if n < 1:
+        raise ValueError(f"Gauss-Legendre rule needs n >= 1, got {n}")
+    m = (n + 1) // 2
+    th = np.pi * (np.arange(1, m + 1) - 0.25) / (n + 0.5)  # nodes in (0, pi/2]
+    if n > 1:
+        done = False
+        for _ in range(30):
+            x = np.cos(th)
+            pn, pm = _legendre_pair(n, x)
+            # d/dtheta P_n(cos theta) = n (x P_n - P_{n-1}) / sin(theta)
+            step = pn * np.sin(th) / (n * (x * pn - pm))
+            th = th - step
+            if done:  # one more step after convergence: quadratic, so at rounding level
+                break
+            done = np.abs(step).max() < 1e-12
+    x = np.cos(th)
+    pn, pm = _legendre_pair(n, x) if n > 1 else (x, np.ones_like(x))
+    w = 2.0 * np.sin(th) ** 2 / (n * (x * pn - pm)) ** 2
+    xs = np.empty(n)
+    ws = np.empty(n)
+    xs[:m] = -x
+    ws[:m] = w
+    xs[n - m:] = x[::-1]
+    ws[n - m:] = w[::-1]
+    if n % 2:
+        xs[m - 1] = 0.0
+    xs.setflags(write=False)
+    ws.setflags(write=False)
+    return xs, ws
+
+
 def sphere_rule(n_theta: int, n_phi: int, front_only: bool = False) -> SphereRule:
     """Gauss-Legendre(cos theta) x uniform(phi) rule on the sphere or the front hemisphere."""
-    x, wx = np.polynomial.legendre.leggauss(int(n_theta))
+    x, wx = gauss_legendre(int(n_theta))
     if front_only:  # map [-1, 1] onto cos(theta) in [0, 1]
         x = 0.5 * (x + 1.0)
         wx = 0.5 * wx
