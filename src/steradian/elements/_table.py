@@ -540,8 +540,6 @@ def read_element_table(path) -> TabulatedElement:
     try:
         el = TabulatedElement(thetas, phis, comp[0], comp[1] if len(comp) > 1 else None,
                               front_only=front_only, source=str(path))
-    except FileFormatError:
-        raise
     except SteradianError as exc:
         raise FileFormatError(path, str(exc)) from None
     el.quantity = quantity
