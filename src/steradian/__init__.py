@@ -50,6 +50,9 @@ from .geometry import (
     triangular,
 )
 from .grids import Directions, ThetaPhiGrid, UVGrid
+from .io.design import Design, design_from_dict, load_design
+from .io.positions_csv import read_positions, write_positions
+from .io.weights_csv import read_weights, write_weights
 from .metrics import Cut, PatternMetrics, cut, pattern_metrics, principal_cuts
 from .quantize import ChannelModel, StateMap
 from .radiation import (
@@ -81,3 +84,5 @@ __all__ += ["ChannelModel", "StateMap", "BeamTable", "BeamEvaluator", "build_bea
             "verify_beam_table", "beam_table_from_design", "verify_weight_file",
             "read_weight_file", "write_weight_file", "theta_phi_directions",
             "az_el_directions"]
+__all__ += ["Design", "load_design", "design_from_dict", "read_positions", "write_positions",
+            "read_weights", "write_weights"]
