@@ -662,3 +662,34 @@ def response_matrix(array, where, *, frequency: float | None = None) -> np.ndarr
             out[0][:, idx] = (v * bt).sum(axis=1)[:, None] * ph_m
             out[1][:, idx] = (v * bp).sum(axis=1)[:, None] * ph_m
     return out
+
+
+def _gram(positions, k: float, dirs: np.ndarray, weights: np.ndarray) -> np.ndarray:
+    r"""Hermitian :math:`G_{mn} = \sum_i \omega_i e^{-jk\hat r_i\cdot r_m}
+    e^{+jk\hat r_i\cdot r_n}`.
+
+    For non-negative ``weights`` (M,) at directions ``dirs`` (M, 3). The phase block of each
+    chunk of directions (within :data:`MEMORY_BUDGET`) comes from the numba kernel and is
+    accumulated by a rank-k Hermitian update (BLAS zherk: half the work of a general product).
+    """
+    from scipy.linalg.blas import zherk
+
+    pos = np.asarray(positions, float)
+    n = len(pos)
+    wts = np.asarray(weights, float)
+    keep = wts > 0
+    dirs, wts = np.asarray(dirs, float)[keep], wts[keep]
+    km = _k()
+    px, py, pz = (np.ascontiguousarray(c) for c in pos.T)
+    G = np.zeros((n, n), complex, order="F")
+    step = max(1, MEMORY_BUDGET // (16 * max(n, 1)))
+    for i in range(0, len(dirs), step):
+        d = np.ascontiguousarray(dirs[i:i + step].T)
+        P = np.empty((d.shape[1], n), complex)
+        km.phase_matrix(px, py, pz, float(k), d[0], d[1], d[2], P)
+        np.conjugate(P, out=P)
+        P *= np.sqrt(wts[i:i + step])[:, None]
+        # A = conj(P)^T is Fortran-ordered (N, Mc) without a copy; G <- A A^H + G (upper).
+        G = zherk(1.0, P.T, beta=1.0, c=G, trans=0, lower=0, overwrite_c=1)
+    up = np.triu(G)
+    return up + np.triu(G, 1).conj().T

@@ -21,7 +21,7 @@ from ._validate import nonneg, positive
 from .elements import Isotropic
 from .engine import field
 from .errors import SteradianError
-from .grids import Directions
+from .grids import Directions, ThetaPhiGrid
 from .sphere import DEFAULT_MARGIN, rule_for, sphere_rule
 
 __all__ = [
@@ -360,6 +360,35 @@ def eirp(realized_gain_linear: float, element_power_w: float, weights) -> dict:
             "caution": RF_EXPOSURE_CAUTION}
 
 
+def _power_matrix_common(array, frequency, rule) -> np.ndarray:
+    """Q for elements sharing one orientation: Q = sum_i omega_i |e(r_i)|^2 p_i^H p_i.
+
+    The element field factors out of the response (a_i = e(r_i) p_i), so both polarisation
+    components fold into one intensity weight. For planar arrays (constant z) on a rule that
+    is symmetric about the horizon, the phase rows of mirror directions differ by a factor
+    common to every element, which cancels in p_i^H p_i: their weights are added and half
+    the rows are used.
+    """
+    from .engine import _gram
+
+    el = array.element_at(frequency)
+    th, ph = np.meshgrid(rule.theta, rule.phi, indexing="ij")
+    e_t, e_p = el.pattern(th.ravel(), ph.ravel())
+    g = (np.abs(e_t) ** 2 + np.abs(e_p) ** 2).reshape(rule.n_theta, rule.n_phi)
+    wts = rule.w_theta[:, None] * rule.w_phi * g
+    pos = array.positions
+    nt = rule.n_theta
+    symmetric = (not rule.front_only and np.ptp(pos[:, 2]) == 0.0
+                 and np.abs(rule.theta + rule.theta[::-1] - np.pi).max() < 1e-14)
+    if symmetric and nt > 1:
+        h = (nt + 1) // 2
+        folded = wts[:h].copy()
+        folded[: nt - h] += wts[h:][::-1]
+        dirs = ThetaPhiGrid(rule.theta[:h], rule.phi).vectors
+        return _gram(pos, array.k(frequency), dirs, folded.ravel())
+    return _gram(pos, array.k(frequency), rule.grid.vectors, wts.ravel())
+
+
 def power_matrix(array, *, frequency: float | None = None,
                  margin: int = DEFAULT_MARGIN) -> np.ndarray:
     r"""Hermitian radiated-power matrix Q with :math:`P_{rad} = w^H Q w` for any weights w.
@@ -378,6 +407,8 @@ def power_matrix(array, *, frequency: float | None = None,
     from .engine import response_matrix
 
     rule = rule_for(array, frequency, margin)
+    if array.geometry.orientations is None:
+        return _power_matrix_common(array, frequency, rule)
     A = response_matrix(array, rule.grid, frequency=frequency)  # (2, M, N)
     wts = (rule.w_theta[:, None] * np.full(rule.n_phi, rule.w_phi)[None, :]).ravel()
     Q = np.zeros((array.n, array.n), complex)
