@@ -1,7 +1,7 @@
 """Element models: complex vector far field in the element's own frame.
 
-Every model is an :class:`Element`. Models are looked up by name through :data:`MODELS`
-(used by the design-file reader).
+Every model is an :class:`Element`. The design-file reader (:mod:`steradian.io.design`) maps
+``[element] model = "..."`` names onto these classes.
 """
 
 from ._base import Element, angles_of, spherical_basis, unit_vectors

@@ -18,6 +18,10 @@ def atomic_open(path, mode: str = "w", **kwargs):
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    # mkstemp creates the file 0600; give it the permissions an ordinary open() would.
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(tmp, 0o666 & ~umask)
     try:
         with os.fdopen(fd, mode, **kwargs) as fh:
             yield fh
