@@ -183,6 +183,29 @@ def test_element_models_are_built_with_their_parameters():
     assert p.element.front_only
 
 
+def test_table_element_from_a_design(tmp_path):
+    """model = "table" reads an element pattern table; the file path resolves against the
+    design's folder. A single element's directivity equals the table's peak partial gain
+    (7.287 dBi in the example file, loss-free table; IEEE Std 145-2013 definitions)."""
+    src = Path(__file__).resolve().parent.parent / "configs" / "data"
+    (tmp_path / "el.csv").write_bytes((src / "element_patch_5800mhz_gain.csv").read_bytes())
+    p = _write(tmp_path, """
+        [design]
+        frequency_hz = 5.8e9
+        [geometry]
+        kind = "linear"
+        units = "m"
+        count = 1
+        spacing = 1.0
+        [element]
+        model = "table"
+        file = "el.csv"
+        """)
+    arr = load_design(p).array
+    assert type(arr.element).__name__ == "TabulatedElement"
+    assert st.peak_directivity(arr).directivity_dbi == pytest.approx(7.287287, abs=1e-3)
+
+
 def test_pass_through_sections_are_kept_raw():
     """[synthesis], [channel], [beams] are not validated here and come back unchanged."""
     d = _base(synthesis={"anything": [1, 2]}, beams={"grid": "x", "made_up": True})
