@@ -15,12 +15,18 @@ from ._convex import (
     peak_sidelobe,
 )
 from ._masks import Mask, Notch, Null, itu_s465
+from ._nonconvex import phase_only, thin
 from ._result import SynthesisResult
+from ._tradeoff import TradeCurve, tradeoff
 
 __all__ = [
     "max_directivity",
     "min_sidelobe",
     "peak_sidelobe",
+    "tradeoff",
+    "phase_only",
+    "thin",
+    "TradeCurve",
     "SynthesisResult",
     "SynthesisInfeasible",
     "SolverFailure",

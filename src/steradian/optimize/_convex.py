@@ -641,12 +641,28 @@ def max_directivity(array, *, psl_db: float | None = None, mainlobe=None,
     """
     t_start = time.perf_counter()
     level_db = _level("psl_db", psl_db)
-    dr, wng = _check_common(dynamic_range_db, wng_min_db, tol_db, max_rounds)
-    nl = _nulls(nulls)
-    nt = _notches(notches)
+    _check_common(dynamic_range_db, wng_min_db, tol_db, max_rounds)
     if mask is not None and not isinstance(mask, Mask):
         raise SteradianError("mask must be a steradian.optimize.Mask")
     setup = make_setup(array, weights, symmetry, loading)
+    return _max_directivity(setup, t_start=t_start, psl_db=level_db, mainlobe=mainlobe,
+                            mask=mask, nulls=nulls, notches=notches, nonnegative=nonnegative,
+                            dynamic_range_db=dynamic_range_db, wng_min_db=wng_min_db,
+                            tol_db=tol_db, max_rounds=max_rounds, oversample=oversample,
+                            dense_oversample=dense_oversample)[0]
+
+
+def _max_directivity(setup: Setup, *, t_start, psl_db, mainlobe, mask, nulls, notches,
+                     nonnegative, dynamic_range_db, wng_min_db, tol_db, max_rounds,
+                     oversample, dense_oversample, seed_dirs=None):
+    """max_directivity on a prepared setup (the trade curve reuses one setup).
+
+    Returns the result and the sidelobe sample directions of the final solve."""
+    level_db = psl_db
+    weights = setup.param.weights
+    dr, wng = _check_common(dynamic_range_db, wng_min_db, tol_db, max_rounds)
+    nl = _nulls(nulls)
+    nt = _notches(notches)
     coarse, dense = _spacings(setup, oversample, dense_oversample)
     constrained = (level_db is not None or mask is not None or nl or nt or dr is not None
                    or wng is not None or (weights == "amplitude" and nonnegative))
@@ -656,7 +672,8 @@ def max_directivity(array, *, psl_db: float | None = None, mainlobe=None,
         return _finish(setup, w, method="closed_form", families=[], nulls=[], h=None,
                        dense_spacing=dense, tol_db=tol_db, limit_db=None,
                        certificate={"status": "closed form", "loading": setup.loading},
-                       rounds=0, samples=0, notes=notes, t_start=t_start, psl_limit=None)
+                       rounds=0, samples=0, notes=notes, t_start=t_start,
+                       psl_limit=None), None
     tau = None if level_db is None else 10 ** (level_db / 20)
     families = []
     h = None
@@ -667,19 +684,28 @@ def max_directivity(array, *, psl_db: float | None = None, mainlobe=None,
     null_rows = _null_rows(setup, nl)
     kw = dict(mode="max", tau=tau, nonneg=nonnegative, dr_lin=dr, wng_min=wng, p_max=None,
               tol_db=tol_db, max_rounds=int(max_rounds))
+    rowsets = None
+    if seed_dirs is not None and families:
+        # Start from the coarse grid plus the maxima found for a neighbouring problem.
+        rowsets = [Rows(f, setup) for f in families]
+        rowsets[0].add(np.vstack([families[0].coarse(), seed_dirs]))
+        for rs in rowsets[1:]:
+            rs.add(rs.family.coarse())
     try:
         if mask is not None and mask.absolute:
             w, info, rounds, rowsets = _absolute_mask(setup, families, null_rows, kw)
         else:
-            w, _, info, rounds, rowsets = _adaptive(setup, families, null_rows, **kw)
+            w, _, info, rounds, rowsets = _adaptive(setup, families, null_rows,
+                                                    rowsets=rowsets, **kw)
     except Infeasible as exc:
         raise _infeasible(exc, setup, families, nl, tau, h, dynamic_range_db, wng_min_db,
                           nonnegative and weights == "amplitude") from None
-    return _finish(setup, w, method="max_directivity", families=families, nulls=nl, h=h,
-                   dense_spacing=dense, tol_db=tol_db, limit_db=level_db,
-                   certificate=_certificate(info, "max", setup), rounds=rounds,
-                   samples=sum(len(r) for r in rowsets), notes=notes, t_start=t_start,
-                   psl_limit=tau)
+    res = _finish(setup, w, method="max_directivity", families=families, nulls=nl, h=h,
+                  dense_spacing=dense, tol_db=tol_db, limit_db=level_db,
+                  certificate=_certificate(info, "max", setup), rounds=rounds,
+                  samples=sum(len(r) for r in rowsets), notes=notes, t_start=t_start,
+                  psl_limit=tau)
+    return res, (rowsets[0].dirs if rowsets else None)
 
 
 def _absolute_mask(setup, families, null_rows, kw):
