@@ -397,3 +397,27 @@ def test_kernels_match_numpy(rng):
     for kern in (km.sinc_power, km.sinc_power_serial):
         got = kern(*p, w.real.copy(), w.imag.copy(), K)
         assert abs(got - exact) < 1e-12 * (np.abs(w) ** 2).sum() * 23
+
+
+@pytest.mark.parametrize("element, planar", [(st.ShortDipole("x"), True),
+                                             (st.CosinePower(1.5), True),
+                                             (st.HalfWaveDipole(F1, "z"), False)])
+def test_power_matrix_common_orientation(element, planar, rng):
+    """Q of elements sharing one orientation (intensity-weighted Gram matrix, mirror-folded for
+    planar arrays) equals the plain sum over the rule nodes of a_i^H a_i written out with
+    numpy (the definition), and w^H Q w equals the quadrature radiated power at the same
+    rule."""
+    pos = disc(rng, 60, 2.0) if planar else cube(rng, 60, 1.0)
+    arr = st.Array(st.Geometry(pos), F1, element=element)
+    Q = radiation.power_matrix(arr)
+    rule = st.sphere.rule_for(arr)
+    th, ph = np.meshgrid(rule.theta, rule.phi, indexing="ij")
+    e_t, e_p = element.pattern(th.ravel(), ph.ravel())
+    dirs = rule.grid.vectors
+    A = np.exp(1j * K * dirs @ pos.T)
+    om = (rule.w_theta[:, None] * rule.w_phi * np.ones(rule.n_phi)).ravel()
+    ref = sum((c[:, None] * A).conj().T @ ((om * c)[:, None] * A) for c in (e_t, e_p))
+    assert np.abs(Q - ref).max() / np.abs(ref).max() < 1e-13
+    w = cweights(rng, 60)
+    p = rule.integrate(np.abs(A @ w) ** 2 * (np.abs(e_t) ** 2 + np.abs(e_p) ** 2))
+    assert abs(np.real(w.conj() @ Q @ w) - p) / p < 1e-12

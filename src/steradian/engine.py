@@ -249,8 +249,9 @@ def _min_tol_msg(ndim):
 
 
 def _too_small(n, m):
-    """Direct summation costs less than any transform's fixed overhead: skip the analysis."""
-    return _cost.direct(n, m) * _cost.MARGIN < min(_cost.OVERHEADS)
+    """No transform can beat direct summation by MARGIN (its fixed overhead alone is too
+    much): skip the analysis."""
+    return _cost.direct(n, m) < _cost.MARGIN * min(_cost.OVERHEADS)
 
 
 @dataclass(eq=False)
