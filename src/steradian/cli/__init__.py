@@ -21,6 +21,8 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "pattern": ("steradian.cli.pattern", "pattern"),
     "beams": ("steradian.cli.beams", "beams"),
     "verify": ("steradian.cli.verify", "verify"),
+    "synth": ("steradian.cli.synth", "synth"),
+    "tradeoff": ("steradian.cli.tradeoff", "tradeoff"),
 }
 
 # One-line help shown by ``steradian --help`` without importing the command modules.
@@ -30,6 +32,8 @@ SHORT_HELP: dict[str, str] = {
     "pattern": "Export pattern cuts and u-v grids of a design to CSV.",
     "beams": "Quantize a design's beam table and write firmware weight files.",
     "verify": "Re-evaluate the beams of a weight file against its design.",
+    "synth": "Synthesise optimal weights for a design and write a weights CSV.",
+    "tradeoff": "Trade curve: maximum directivity against peak sidelobe level.",
 }
 
 

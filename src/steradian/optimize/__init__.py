@@ -17,6 +17,7 @@ from ._convex import (
 from ._masks import Mask, Notch, Null, itu_s465
 from ._nonconvex import phase_only, thin
 from ._result import SynthesisResult
+from ._spec import METHODS, spec_mask, synthesize, tradeoff_from_spec
 from ._tradeoff import TradeCurve, tradeoff
 
 __all__ = [
@@ -26,6 +27,10 @@ __all__ = [
     "tradeoff",
     "phase_only",
     "thin",
+    "synthesize",
+    "tradeoff_from_spec",
+    "spec_mask",
+    "METHODS",
     "TradeCurve",
     "SynthesisResult",
     "SynthesisInfeasible",

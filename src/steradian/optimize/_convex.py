@@ -55,6 +55,7 @@ DEFAULT_LOADING = 1e-5
 """Diagonal loading of the radiated-power matrix, relative to its mean diagonal."""
 
 _SUPERDIRECTIVE_DB = 6.0  # warn when the white-noise gain is this far below N
+_OFF = 1e-4  # weights this far below the largest (-80 dB) count as switched off
 
 
 class SynthesisInfeasible(SteradianError):
@@ -397,7 +398,10 @@ def _finish(setup: Setup, w, *, method, families, nulls, h, dense_spacing, tol_d
         notes.append(msg)
         warnings.warn(msg, UserWarning, stacklevel=3)
     mags = np.abs(w)[setup.enabled]
-    nz = mags[mags > 1e-12 * mags.max()]
+    nz = mags[mags > _OFF * mags.max()]
+    if len(nz) < len(mags):
+        notes.append(f"{len(mags) - len(nz)} element(s) below {20 * math.log10(_OFF):.0f} dB "
+                     "(effectively off; left out of the dynamic range)")
     return SynthesisResult(
         array=arr, weights=w, method=method,
         directivity_dbi=10 * math.log10(d0), peak_directivity_dbi=pk.directivity_dbi,

@@ -49,7 +49,8 @@ class SynthesisResult:
         :math:`|E_0|^2/\\sum_n |a_n(r_0)|^2|w_n|^2` in dB; :math:`10\\log_{10}N` for uniform
         weights. Far below that means superdirective, tolerance-sensitive weights.
     dynamic_range_db : float
-        Largest over smallest non-zero weight magnitude, in dB.
+        Largest over smallest weight magnitude in dB, among weights above -80 dB (lower ones
+        are effectively off; a note counts them).
     null_depths_db : list of float
         Level toward each requested null, dB relative to the main-beam peak.
     mainlobe : list of float
