@@ -19,28 +19,31 @@ import math
 
 __all__ = ["MARGIN", "reference", "direct", "nufft3", "nufft1", "fft_lattice", "kernel_width",
            "grid3", "SERIAL_TERMS", "OVERHEADS", "GRID_LIMIT", "sinc_pairs",
-           "per_direction"]
+           "per_direction", "THREADS_FROM"]
 
 MARGIN = 1.5
 """A fast path must be estimated this many times faster than direct summation."""
 
 # Direct summation (numba, inlined polynomial sin/cos): terms per second and call overhead.
 SERIAL_TERMS = 2_000_000  # below this many terms, one thread (no pool wake-up)
-_R_SERIAL = 3.0e8
-_R_PARALLEL = 5.0e8
+_R_SERIAL = 4.0e8
+_R_PARALLEL = 6.0e8
 _C_SERIAL = 4e-6
 _C_PARALLEL = 6e-5
 # Plain numpy reference.
 _R_NUMPY = 1.4e7
 _C_NUMPY = 1e-5
-# Non-uniform FFT: overhead, per source and per target (per kernel-width**d), per grid cell.
+# Non-uniform FFT (ducc0): overhead, per source and target (per kernel-width**d), per grid
+# cell and log2 of the grid. Below THREADS_FROM seconds the transform runs on one thread:
+# waking ducc0's pool costs about 2 ms here, more than small transforms take.
 _C_NUFFT = 3e-4
-_A_SPREAD = {1: 4e-9, 2: 1.2e-9, 3: 2.5e-10}
-_B_GRID = 1.2e-9
+_A_SPREAD = {1: 2e-9, 2: 6.5e-10, 3: 2.5e-10}
+_B_GRID = {1: 3e-10, 2: 3e-10, 3: 7e-10}
 _SIGMA = 2.0
+THREADS_FROM = 0.02
 # Chirp-z FFT path: overhead and per (FFT length x log2 length) unit.
-_C_FFT = 2e-4
-_B_FFT = 2.5e-9
+_C_FFT = 4e-4
+_B_FFT = 1.0e-9
 
 OVERHEADS = (_C_NUFFT, _C_FFT)
 """Fixed costs of the transform paths (s): below these, direct summation always wins."""
@@ -85,7 +88,8 @@ def nufft3(n: int, m: int, x_half, s_half, tol: float) -> float:
     g = grid3(x_half, s_half, tol)
     if g > GRID_LIMIT:
         return math.inf
-    return _C_NUFFT + _A_SPREAD[d] * (n + m) * w**d + _B_GRID * g * math.log2(max(g, 2.0))
+    return (_C_NUFFT + _A_SPREAD[d] * (n + m) * w**d
+            + _B_GRID[d] * g * math.log2(max(g, 2.0)))
 
 
 def nufft1(n: int, nu: int, nv: int, tol: float) -> float:
@@ -94,16 +98,18 @@ def nufft1(n: int, nu: int, nv: int, tol: float) -> float:
     g = (_SIGMA * nu + w) * (_SIGMA * nv + w)
     if g > GRID_LIMIT:
         return math.inf
-    return _C_NUFFT + _A_SPREAD[2] * n * w**2 + _B_GRID * g * math.log2(max(g, 2.0))
+    return _C_NUFFT + _A_SPREAD[2] * n * w**2 + _B_GRID[2] * g * math.log2(max(g, 2.0))
 
 
-_R_SINC = 1.5e8  # sinc pairs per second (numba, both threads)
+_R_SINC = (2.2e8, 3.5e8)  # sinc pairs per second: one thread, both threads
+_SINC_SERIAL_PAIRS = 2_000_000  # radiation.closed_form_power switches at N^2 = 4e6
 _PER_DIRECTION = 1.5e-7  # field(): element pattern, angles, intensity per direction
 
 
 def sinc_pairs(n: int) -> float:
     """Closed-form radiated power of isotropic elements: N (N - 1) / 2 sinc pairs."""
-    return 5e-5 + n * (n - 1) / 2 / _R_SINC
+    pairs = n * (n - 1) / 2
+    return 5e-5 + pairs / _R_SINC[0 if pairs < _SINC_SERIAL_PAIRS else 1]
 
 
 def per_direction(m: int) -> float:

@@ -170,11 +170,11 @@ def _reduce(positions: np.ndarray, k: float, tol: float):
 
 
 def type3(positions: np.ndarray, weights: np.ndarray, k: float, directions: np.ndarray,
-          tol: float, keep=None, offset=None) -> np.ndarray:
+          tol: float, keep=None, offset=None, threads: int | None = None) -> np.ndarray:
     """Array factor at arbitrary ``directions`` (M, 3) by a type-3 transform.
 
     ``keep`` (varying coordinates) and ``offset`` (the constant ones) come from
-    :func:`_reduce` when not given.
+    :func:`_reduce` when not given; ``threads`` defaults to every available CPU.
     """
     pos = np.ascontiguousarray(positions, float)
     dirs = np.ascontiguousarray(directions, float)
@@ -184,12 +184,12 @@ def type3(positions: np.ndarray, weights: np.ndarray, k: float, directions: np.n
     if not keep:  # every element at one point
         out = np.full(len(dirs), w.sum())
     else:
-        fp, plan = _lookup((pos, dirs), ("t3", float(k), float(tol)))
+        fp, plan = _lookup((pos, dirs), ("t3", float(k), float(tol), threads))
         if plan is None:
             src = np.ascontiguousarray(k * pos[:, keep])
             dst = np.ascontiguousarray(dirs[:, keep])
             p3 = _plan3_class()(coord_in=src, coord_out=dst, epsilon=float(tol),
-                                nthreads=nthreads())
+                                nthreads=threads or nthreads())
             plan = _Plan(p3)
             _store(fp, (pos, dirs), plan, len(pos) + len(dirs))
         with plan.lock:
@@ -200,7 +200,8 @@ def type3(positions: np.ndarray, weights: np.ndarray, k: float, directions: np.n
 
 
 def type1_uv(positions: np.ndarray, weights: np.ndarray, k: float, u0: float, du: float,
-             nu: int, v0: float, dv: float, nv: int, tol: float) -> np.ndarray:
+             nu: int, v0: float, dv: float, nv: int, tol: float,
+             threads: int | None = None) -> np.ndarray:
     r"""Planar sum :math:`S(u_p, v_q) = \sum_n w_n e^{jk(u_p x_n + v_q y_n)}` on a regular grid.
 
     ``u_p = u0 + p du`` (p = 0..nu-1), likewise v; returns shape (nv, nu). The z coordinate is
@@ -212,7 +213,8 @@ def type1_uv(positions: np.ndarray, weights: np.ndarray, k: float, u0: float, du
     pu, pv = nu // 2, nv // 2
     uc, vc = u0 + pu * du, v0 + pv * dv
     x, y = pos[:, 0], pos[:, 1]
-    fp, plan = _lookup((pos,), ("t1", float(k), float(tol), float(du), float(dv), nu, nv))
+    fp, plan = _lookup((pos,), ("t1", float(k), float(tol), float(du), float(dv), nu, nv,
+                                threads))
     if plan is None:
         cu = k * du * x
         cv = k * dv * y
@@ -222,7 +224,7 @@ def type1_uv(positions: np.ndarray, weights: np.ndarray, k: float, u0: float, du
         coord[:, 1] = np.mod(cu + np.pi, 2 * np.pi) - np.pi
         nf = _lib()
         p1 = nf.plan(nu2u=True, coord=coord, grid_shape=(nv, nu), epsilon=float(tol),
-                     nthreads=nthreads())
+                     nthreads=threads or nthreads())
         plan = _Plan(p1)
         _store(fp, (pos,), plan, len(pos) + nu * nv)
     c = np.ascontiguousarray(w * np.exp(1j * k * (uc * x + vc * y)))

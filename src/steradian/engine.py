@@ -254,6 +254,13 @@ def _too_small(n, m):
     return _cost.direct(n, m) < _cost.MARGIN * min(_cost.OVERHEADS)
 
 
+def _threads(estimate: float) -> int:
+    """Threads for a transform: one below THREADS_FROM seconds (pool wake-up costs more)."""
+    from . import _nufft
+
+    return 1 if estimate < _cost.THREADS_FROM else _nufft.nthreads()
+
+
 @dataclass(eq=False)
 class _Route:
     name: str
@@ -307,7 +314,8 @@ def _route_vectors(pos, k, dirs, tol, forced) -> _Route:
             return _af_direct(pos, w, k, dirs)
         from . import _nufft
 
-        return _nufft.type3(pos, w, k, dirs, tol, lay.keep, lay.offset)
+        return _nufft.type3(pos, w, k, dirs, tol, lay.keep, lay.offset,
+                            _threads(est[name][0]))
 
     return _Route(name, est[name][1], est, run)
 
@@ -344,11 +352,12 @@ def _route_uv(pos, k, grid: UVGrid, tol, forced, hint) -> _Route:
 
     def run(w):
         if name == "fft":
-            return _fft.lattice_uv(rows, w, k, u0, su, nu, v0, sv, nv, grid.hemisphere, tol)
+            return _fft.lattice_uv(rows, w, k, u0, su, nu, v0, sv, nv, grid.hemisphere, tol,
+                                   workers=-1 if est[name][0] > _cost.THREADS_FROM else 1)
         if name == "nufft":
             from . import _nufft
 
-            s = _nufft.type1_uv(pos, w, k, u0, su, nu, v0, sv, nv, tol)
+            s = _nufft.type1_uv(pos, w, k, u0, su, nu, v0, sv, nv, tol, _threads(est[name][0]))
             if lay.z0 != 0.0:
                 w2 = 1.0 - grid.u[None, :] ** 2 - grid.v[:, None] ** 2
                 s *= np.exp(1j * k * lay.z0 * grid.hemisphere
