@@ -159,13 +159,13 @@ class _Plan:
 def _reduce(positions: np.ndarray, k: float, tol: float):
     """Columns of ``positions`` that vary, and the constant remainder.
 
-    A column whose spread contributes a phase below tol/100 is treated as constant (its mean
-    goes into ``offset``); returns (column indices, offset vector (3,)).
+    A column whose half-range contributes a phase below tol/100 is treated as constant (its
+    mid-range goes into ``offset``); returns (column indices, offset vector (3,)).
     """
-    mean = positions.mean(axis=0)
-    spread = np.abs(positions - mean).max(axis=0)
-    keep = [i for i in range(3) if k * spread[i] > 1e-2 * tol]
-    offset = np.where([i not in keep for i in range(3)], mean, 0.0)
+    lo, hi = positions.min(axis=0), positions.max(axis=0)
+    mid = 0.5 * (lo + hi)  # exact for a constant column
+    keep = [i for i in range(3) if k * 0.5 * (hi[i] - lo[i]) > 1e-2 * tol]
+    offset = np.where([i not in keep for i in range(3)], mid, 0.0)
     return keep, offset
 
 

@@ -190,21 +190,22 @@ def _check_tol(tol) -> float:
 class _Layout:
     """What the cost model needs to know about a set of positions (computed once per array).
 
-    ``keep``: coordinates that vary (a column whose spread is a phase below tol/100 counts as
-    constant, its mean going into ``offset``); ``half``: half-widths (m) of the kept columns;
-    ``planar``: constant z (at ``z0``); ``r_xy``: largest distance from the centroid in x-y.
+    ``keep``: coordinates that vary (a column whose half-range is a phase below tol/100 counts
+    as constant, its mid-range going into ``offset``); ``half``: half-widths (m) of the kept
+    columns; ``planar``: constant z (at ``z0``); ``r_xy``: largest distance from the centroid
+    in x-y.
     """
 
     def __init__(self, pos: np.ndarray, k: float, tol: float):
-        mean = pos.mean(axis=0)
-        dev = np.abs(pos - mean).max(axis=0)
-        self.keep = [i for i in range(3) if k * dev[i] > 1e-2 * tol]
-        self.offset = np.where([i not in self.keep for i in range(3)], mean, 0.0)
-        ptp = np.ptp(pos, axis=0)
-        self.half = [0.5 * float(ptp[i]) for i in self.keep]
+        lo, hi = pos.min(axis=0), pos.max(axis=0)
+        mid = 0.5 * (lo + hi)  # exact for a constant column
+        half = 0.5 * (hi - lo)
+        self.keep = [i for i in range(3) if k * half[i] > 1e-2 * tol]
+        self.offset = np.where([i not in self.keep for i in range(3)], mid, 0.0)
+        self.half = [float(half[i]) for i in self.keep]
         self.planar = 2 not in self.keep
-        self.z0 = float(mean[2]) if self.planar else 0.0
-        d = pos[:, :2] - mean[:2]
+        self.z0 = float(mid[2]) if self.planar else 0.0
+        d = pos[:, :2] - pos[:, :2].mean(axis=0)
         self.r_xy = float(np.sqrt((d**2).sum(axis=1)).max(initial=0.0))
         self._rows: dict = {}
 
