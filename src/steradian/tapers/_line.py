@@ -268,6 +268,8 @@ def taylor(N: int, nbar: int = 4, sll: float = 30.0, norm: bool = True) -> np.nd
     (0.2793, 0.9756)
     """
     N = count("N", N)
+    if N == 1:
+        return np.ones(1)
     w = taylor_aperture(cell_centres(N), nbar, sll)
     if norm:
         w = w / taylor_aperture(0.0, nbar, sll)

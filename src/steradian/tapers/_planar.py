@@ -42,10 +42,24 @@ def _median_spacing(xy: np.ndarray) -> float:
 
 
 def aperture_radius(geometry) -> float:
-    """Default circular-aperture radius (m): largest element radius plus half the median
-    nearest-neighbour spacing (so the edge elements' cells lie inside the aperture)."""
+    r"""Default circular-aperture radius (m) for sampling a continuous distribution.
+
+    The area-equivalent radius :math:`a = \sqrt{N A_{cell}/\pi}` (each element represents
+    one lattice cell: :math:`A_{cell} = |a_1 \times a_2|` from ``geometry.lattice``, else the
+    square of the median nearest-neighbour spacing) when it contains every element, as for a
+    lattice filled out to a circle; otherwise the largest element radius plus half a spacing
+    (layouts that are not filled circles, such as squares).
+    """
     xy = _xy(geometry)
-    return float(np.sqrt((xy**2).sum(axis=1)).max() + 0.5 * _median_spacing(xy))
+    s = _median_spacing(xy)
+    lat = getattr(geometry, "lattice", None)
+    if lat is not None and len(lat) == 2:
+        cell = float(np.linalg.norm(np.cross(lat[0], lat[1])))
+    else:
+        cell = s * s
+    rmax = float(np.sqrt((xy**2).sum(axis=1)).max())
+    a_eq = math.sqrt(len(xy) * cell / math.pi)
+    return a_eq if a_eq >= rmax * (1 + 1e-9) else rmax + 0.5 * s
 
 
 def _rho(geometry, radius):
