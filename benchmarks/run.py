@@ -29,12 +29,16 @@ def main(argv: list[str]) -> int:
         "Produced by `python benchmarks/run.py` (one benchmark: `python benchmarks/run.py NAME`).",
         "Every rate is measured in the same run as its baseline, the naive numpy expression",
         "`np.exp(1j*k*(pos @ dirs.T)) @ w`, on the machine below.\n",
-        f"Latest full run: {datetime.date.today().isoformat()}, {platform.processor() or 'cpu'}, "
-        f"Python {platform.python_version()}.\n",
+        f"Assembled {datetime.date.today().isoformat()} ({'all benchmarks' if not argv else 'ran: ' + ', '.join(names)}), "  # noqa: E501
+        f"{platform.processor() or 'cpu'}, Python {platform.python_version()}; each section "
+        "names the run that produced it.\n",
     ]
     for p in sorted((HERE / "results").glob("*.md")):
         parts.append(p.read_text())
-    (HERE / "README.md").write_text("\n".join(parts))
+    out = HERE / "README.md"
+    tmp = out.with_suffix(".md.tmp")
+    tmp.write_text("\n".join(parts))
+    tmp.replace(out)  # atomic: a failed run never leaves half a README
     return 0
 
 

@@ -16,6 +16,7 @@ w from the tolerance.
 from __future__ import annotations
 
 import math
+import os
 
 __all__ = ["MARGIN", "reference", "direct", "nufft3", "nufft1", "fft_lattice", "kernel_width",
            "grid3", "SERIAL_TERMS", "OVERHEADS", "GRID_LIMIT", "sinc_pairs",
@@ -62,9 +63,14 @@ def reference(n: int, m: int) -> float:
     return _C_NUMPY + n * m / _R_NUMPY
 
 
+# With NUMBA_DISABLE_JIT=1 (the CI job that checks kernels against their plain meaning) the
+# kernels run as Python loops, about a thousand times slower.
+_JIT_OFF = os.environ.get("NUMBA_DISABLE_JIT", "0").strip() not in ("", "0")
+
+
 def direct(n: int, m: int) -> float:
     """numba direct summation (one thread below SERIAL_TERMS terms)."""
-    t = n * m
+    t = n * m * (1000 if _JIT_OFF else 1)
     if t < SERIAL_TERMS:
         return _C_SERIAL + t / _R_SERIAL
     return _C_PARALLEL + t / _R_PARALLEL

@@ -205,9 +205,16 @@ class _Layout:
         self.half = [float(half[i]) for i in self.keep]
         self.planar = 2 not in self.keep
         self.z0 = float(mid[2]) if self.planar else 0.0
-        d = pos[:, :2] - pos[:, :2].mean(axis=0)
-        self.r_xy = float(np.sqrt((d**2).sum(axis=1)).max(initial=0.0))
+        self._pos = pos
+        self._r_xy = None
         self._rows: dict = {}
+
+    @property
+    def r_xy(self) -> float:
+        if self._r_xy is None:
+            d = self._pos[:, :2] - self._pos[:, :2].mean(axis=0)
+            self._r_xy = float(np.sqrt((d**2).sum(axis=1)).max(initial=0.0))
+        return self._r_xy
 
     def rows(self, pos, k, tol, hint):
         key = hint
@@ -276,13 +283,12 @@ def _pick(est, forced, what):
         if forced not in est or not math.isfinite(est[forced][0]):
             raise SteradianError(f"method={forced!r} does not apply to {what}")
         return forced
-    best = "direct"
-    t_best = est["direct"][0] / _cost.MARGIN
+    # The exact paths are the baseline; a transform must beat it by MARGIN.
+    best = "reference" if est["reference"][0] < est["direct"][0] else "direct"
+    t_best = est[best][0] / _cost.MARGIN
     for name, (t, _) in est.items():
         if name not in ("direct", "reference") and t < t_best:
             best, t_best = name, t
-    if best == "direct" and est["reference"][0] < est["direct"][0]:
-        best = "reference"
     return best
 
 
@@ -300,7 +306,11 @@ def _route_vectors(pos, k, dirs, tol, forced) -> _Route:
     if forced in ("nufft", "fft") or (forced == "auto" and not _too_small(n, m)):
         lay = _layout(pos, k, tol)
         if _nufft_ok(len(lay.keep), tol):
-            sh = [0.5 * float(np.ptp(dirs[:, i])) for i in lay.keep] if m else []
+            if m:
+                span = dirs.max(axis=0) - dirs.min(axis=0)
+                sh = [0.5 * float(span[i]) for i in lay.keep]
+            else:
+                sh = [0.0] * len(lay.keep)
             est["nufft"] = (_cost.nufft3(n, m, [k * h for h in lay.half], sh, tol),
                             f"type 3, {len(lay.keep)}-D")
         elif forced == "nufft":
@@ -425,6 +435,13 @@ def _af_grid(pos, w, k, where, method, tol, hint=None):
         return _af_reference(pos, w, k, where.vectors)
     if method == "direct":
         return _af_direct(pos, w, k, where.vectors)
+    if method == "auto":
+        n, m = len(pos), math.prod(where.shape)
+        if _too_small(n, m):  # no transform can win: skip building a route
+            dirs = where.vectors
+            if _cost.reference(n, m) < _cost.direct(n, m):
+                return _af_reference(pos, w, k, dirs)
+            return _af_direct(pos, w, k, dirs)
     return _route(pos, k, where, tol, method, hint).run(w)
 
 
