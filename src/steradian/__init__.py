@@ -12,6 +12,7 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
+from . import optimize, tapers
 from ._validate import C0
 from .array import Array, Steering, direction
 from .beamtable import (
@@ -54,6 +55,16 @@ from .io.design import Design, design_from_dict, load_design
 from .io.positions_csv import read_positions, write_positions
 from .io.weights_csv import read_weights, write_weights
 from .metrics import Cut, PatternMetrics, cut, pattern_metrics, principal_cuts
+from .optimize import (
+    SynthesisInfeasible,
+    SynthesisResult,
+    max_directivity,
+    min_sidelobe,
+    phase_only,
+    synthesize,
+    thin,
+    tradeoff,
+)
 from .quantize import ChannelModel, StateMap
 from .radiation import (
     beam_solid_angle,
@@ -86,3 +97,5 @@ __all__ += ["ChannelModel", "StateMap", "BeamTable", "BeamEvaluator", "build_bea
             "az_el_directions"]
 __all__ += ["Design", "load_design", "design_from_dict", "read_positions", "write_positions",
             "read_weights", "write_weights"]
+__all__ += ["tapers", "optimize", "max_directivity", "min_sidelobe", "tradeoff", "phase_only",
+            "thin", "synthesize", "SynthesisResult", "SynthesisInfeasible"]

@@ -187,8 +187,10 @@ def _assemble(setup: Setup, rowsets, null_rows, *, mode: str, tau, nonneg: bool,
         Vp = np.concatenate([V, np.zeros((len(V), V.shape[1], nv - n))], axis=2)
         Hp = pad(H)
         if mode == "max":
-            b = np.minimum(fixed, np.where(coef > 0, coef * (tau if tau is not None else np.inf),
-                                           np.inf))
+            b = fixed.copy()
+            if tau is not None:
+                ps = coef > 0
+                b[ps] = np.minimum(b[ps], coef[ps] * tau)
             ok = np.isfinite(b)
             r = re & ok
             prog.leq(np.vstack([Hp[r], -Hp[r]]), np.concatenate([b[r], b[r]]))
@@ -464,8 +466,13 @@ def _diagnose(setup: Setup, families, nulls, level, h, dr_db, wng_min_db, nonneg
                       "the other constraints")
     if nonneg and setup.param.weights == "amplitude":
         causes.append("amplitude-only weights are held non-negative (nonnegative=True)")
+    for fam in families:
+        if isinstance(fam, SidelobeFamily) and fam.mask is not None:
+            causes.append("the mask may be lower, near the main lobe, than this aperture can "
+                          f"reach ({fam.mask.description})")
     if not causes:
-        causes.append("the constraints conflict (no single cause identified)")
+        causes.append("the constraints conflict: the level may be lower than this layout "
+                      "reaches outside the main-lobe zone (widen mainlobe or raise the level)")
     return causes
 
 

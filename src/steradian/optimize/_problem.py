@@ -15,7 +15,7 @@ from ..engine import response_matrix
 from ..errors import SteradianError
 from ..grids import Directions
 from ..radiation import fibonacci_directions, power_matrix
-from ._domain import Domain, choose_domain, tangent_neighbourhood
+from ._domain import Domain, choose_domain
 from ._frame import Frame, Param, chebyshev_null, frame_of, parametrise, symmetry_maps
 from ._masks import Mask, Notch
 
@@ -252,7 +252,32 @@ class SidelobeFamily:
                           self.domain.zone_ring(self.h * (1 + 1e-9), self.dense_spacing)])
 
     def neighbourhood(self, dirs, step, m=3):
-        return self.domain.neighbourhood(dirs, step, m)
+        """Domain neighbourhoods with points inside the main-lobe zone moved onto its
+        boundary (so a maximum on the boundary is reached, not rejected)."""
+        cand = self.domain.neighbourhood(dirs, step, m)
+        dom = self.domain
+        if dom.kind == "sphere":
+            return cand
+        K, P, _ = cand.shape
+        flat = cand.reshape(-1, 3)
+        inside = self.in_zone(flat)
+        if not np.any(inside):
+            return cand
+        r0 = self.setup.r0
+        if dom.kind == "line":
+            u0 = r0 @ dom.e1
+            q = flat[inside] @ dom.e1 - u0
+            sgn = np.where(q >= 0, 1.0, -1.0)
+            flat[inside] = dom.from_u(u0 + sgn * self.h[0] * (1 + 1e-9))
+        else:
+            u0, v0 = r0 @ dom.e1, r0 @ dom.e2
+            q = np.column_stack([flat[inside] @ dom.e1 - u0, flat[inside] @ dom.e2 - v0])
+            rho = np.sqrt(np.sum((q / self.h[:2]) ** 2, axis=1))
+            q = q / np.maximum(rho, 1e-300)[:, None] * (1 + 1e-9)
+            q = np.where(rho[:, None] > 0, q, np.array([[self.h[0] * (1 + 1e-9), 0.0]]))
+            s = np.where(flat[inside] @ dom.e3 < 0, -1.0, 1.0)
+            flat[inside] = dom.from_uv(u0 + q[:, 0], v0 + q[:, 1], s)
+        return flat.reshape(K, P, 3)
 
     def keys(self, dirs):
         dom = self.domain
@@ -287,10 +312,20 @@ class NotchFamily:
         return self.notch.samples(self.dense_spacing)
 
     def neighbourhood(self, dirs, step, m=3):
+        """Local (theta, phi) grids clipped into the sector, so its edges are reachable."""
+        d = np.asarray(dirs, float).reshape(-1, 3)
+        th = np.arccos(np.clip(d[:, 2], -1, 1))
+        ph = np.arctan2(d[:, 1], d[:, 0])
+        lo = math.radians(self.notch.phi_deg[0])
+        ph = lo + np.mod(ph - lo, 2 * math.pi)
         o = step * np.arange(-m, m + 1)
         oa, ob = np.meshgrid(o, o, indexing="ij")
-        return tangent_neighbourhood(np.asarray(dirs, float).reshape(-1, 3), oa.ravel(),
-                                     ob.ravel())
+        t = th[:, None] + oa.ravel()[None, :]
+        p = ph[:, None] + ob.ravel()[None, :] / np.maximum(np.sin(th), 1e-3)[:, None]
+        t = np.clip(t, *np.radians(self.notch.theta_deg))
+        p = np.clip(p, *np.radians(self.notch.phi_deg))
+        st = np.sin(t)
+        return np.stack([st * np.cos(p), st * np.sin(p), np.cos(t)], axis=-1)
 
     def keys(self, dirs):
         return dirs
