@@ -25,8 +25,9 @@ largest error 8e-15 of :math:`\sum|w_n|`; finufft 2.5 type 3 0.71 s (set points 
 execute 0.27 s), error 4e-14; at 1e-11, 0.10 s against 0.44 s. ducc0 runs its own thread pool
 (no second OpenMP runtime beside numba's), writes nothing to stderr and needs no input
 folding for type 3. Its type-3 transform sits in ``ducc0.nufft.experimental``: the adapter
-below is the only code that names it, looks it up in both namespaces, and falls back to
-direct summation (with a warning) if neither holds it.
+below is the only code that names it and looks it up in both namespaces; if neither holds
+it, :func:`available` is False and the cost model never offers the non-uniform FFT (direct
+summation and the chirp-z FFT still work).
 
 References
 ----------
