@@ -542,11 +542,6 @@ def test_rotation_keeps_directivity(name, q):
         assert d == pytest.approx(ref.directivity, rel=1e-9 + 6 * max(p.error, ref.power.error))
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "integrator limitation: a rotated front-half-space element is integrated on the full-"
-    "sphere rule; with an odd theta node count its node on the horizon counts the full "
-    "front value (1.7 % here, estimate 0.6 %). Remove this marker once sphere.rule_for "
-    "integrates rotated front-only elements on their own hemisphere."))
 def test_integrator_rotated_front_only_element():
     """A patch turned 180 deg about its own normal (still facing +z) has the same radiated
     power as the unturned patch, to 1e-9.

@@ -100,6 +100,14 @@ class Geometry:
         return float(np.sqrt(((self.positions - c) ** 2).sum(axis=1)).max())
 
     @property
+    def common_orientation(self) -> np.ndarray | None:
+        """The rotation every element shares, or ``None`` (default frame, or mixed)."""
+        R = self.orientations
+        if R is None or not np.allclose(R, R[0], atol=1e-12):
+            return None
+        return R[0]
+
+    @property
     def is_planar(self) -> bool:
         """True when every element lies in the x-y plane (z = 0) with default orientation."""
         return bool(np.all(self.positions[:, 2] == 0.0)) and self.orientations is None

@@ -276,10 +276,13 @@ def peak_directivity(array, *, frequency: float | None = None,
     tangent plane.
     """
     power = power or radiated_power(array, frequency=frequency)
-    front = array.element.front_only and array.geometry.orientations is None
+    R = array.geometry.common_orientation
+    front = array.element.front_only and (array.geometry.orientations is None or R is not None)
     sp = search_spacing(array, frequency)
     n = int(4 * np.pi / sp**2 / (2 if front else 1))
     dirs = fibonacci_directions(n, front)
+    if front and R is not None:
+        dirs = dirs @ R.T
 
     def inten(v):
         return field(array, Directions.from_vectors(v), frequency=frequency).intensity
@@ -288,11 +291,14 @@ def peak_directivity(array, *, frequency: float | None = None,
     starts = [dirs[i] for i in local_maxima_candidates(vals, dirs, sp, 6)]
     if array.steering is not None:
         starts.insert(0, array.steering.unit)
-    best_v, best_f = None, -np.inf
-    for s in starts:
-        v, f = refine_max(inten, s, sp)
-        if f > best_f:
-            best_v, best_f = v, f
+    refined = [refine_max(inten, s, sp) for s in starts]
+    best_f = max(f for _, f in refined)
+    # Ties (a flat array's mirror lobe, a line array's cone) go to the lobe nearest the
+    # steering direction, or nearest +z when unsteered, so the reported peak is the beam the
+    # engineer pointed, not its mirror image.
+    aim = array.steering.unit if array.steering is not None else np.array([0.0, 0.0, 1.0])
+    tied = [(v, f) for v, f in refined if f >= best_f * (1 - 1e-9)]
+    best_v, best_f = max(tied, key=lambda vf: float(vf[0] @ aim))
     theta = math.degrees(math.acos(float(np.clip(best_v[2], -1, 1))))
     phi = math.degrees(math.atan2(best_v[1], best_v[0])) if theta > 1e-9 else 0.0
     return Peak(4 * np.pi * best_f / power.value, theta, phi, power)

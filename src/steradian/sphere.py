@@ -28,12 +28,12 @@ angle variable, the initial guess of Tricomi, the weight formula).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import lru_cache
 
 import numpy as np
 
-from .grids import ThetaPhiGrid
+from .grids import Directions, ThetaPhiGrid
 
 __all__ = ["SphereRule", "sphere_rule", "rule_for", "gauss_legendre"]
 
@@ -53,6 +53,9 @@ class SphereRule:
     phi: np.ndarray
     w_phi: float
     front_only: bool = False
+    rotation: np.ndarray | None = None
+    """Local -> global rotation of the rule's frame (a hemisphere rule turned with its
+    elements); ``None`` for the array frame."""
 
     @property
     def n_theta(self) -> int:
@@ -63,9 +66,12 @@ class SphereRule:
         return len(self.phi)
 
     @property
-    def grid(self) -> ThetaPhiGrid:
-        """The nodes as a :class:`ThetaPhiGrid`."""
-        return ThetaPhiGrid(self.theta, self.phi)
+    def grid(self) -> ThetaPhiGrid | Directions:
+        """The nodes: a :class:`ThetaPhiGrid`, or :class:`Directions` for a rotated rule."""
+        g = ThetaPhiGrid(self.theta, self.phi)
+        if self.rotation is None:
+            return g
+        return Directions.from_vectors(g.vectors @ self.rotation.T)
 
     def integrate(self, values: np.ndarray) -> float:
         """Integral over the sphere of samples at the nodes, shape (n_theta, n_phi)."""
@@ -145,5 +151,11 @@ def rule_for(array, frequency: float | None = None, margin: int = DEFAULT_MARGIN
     L = 2 * kr + el.degree(array.k(frequency))
     n_theta = math.ceil(L / 2) + margin
     n_phi = math.ceil(L) + 2 * margin
-    front = el.front_only and array.geometry.orientations is None
-    return sphere_rule(n_theta, n_phi, front_only=front)
+    geo = array.geometry
+    R = geo.common_orientation
+    front = el.front_only and (geo.orientations is None or R is not None)
+    rule = sphere_rule(n_theta, n_phi, front_only=front)
+    if front and R is not None:
+        # Every element faces the same way: integrate on the elements' own front hemisphere.
+        rule = replace(rule, rotation=R)
+    return rule
