@@ -49,8 +49,9 @@ def pattern_rows():
         array_factor(pos, w, k, d[:8], method="direct")  # compile / load cache
         # Naive numpy on a slice sized to ~40 MB of complex temporaries.
         mm = max(1, min(m, 2_500_000 // n))
-        t_naive, ref = best_of(lambda mm=mm: naive(pos, w, k, d[:mm]))
-        t_direct, out = best_of(lambda: array_factor(pos, w, k, d, method="direct"))
+        t_naive, ref = best_of(lambda mm=mm, pos=pos, w=w, d=d: naive(pos, w, k, d[:mm]))
+        t_direct, out = best_of(
+            lambda pos=pos, w=w, d=d: array_factor(pos, w, k, d, method="direct"))
         err = np.abs(out[:mm] - ref).max() / np.abs(ref).max()
         r_naive = n * mm / t_naive
         r_direct = n * m / t_direct
