@@ -553,15 +553,28 @@ def _drive(array, frequency):
     return got
 
 
+_GROUP_CACHE: dict[int, tuple[np.ndarray, list]] = {}
+
+
 def _groups(orientations, n):
-    """Yield (rotation or None, element indices) for each distinct orientation."""
+    """(rotation or None, element indices) for each distinct orientation.
+
+    Geometry orientations are read-only arrays, so the grouping is cached on the array's
+    identity (checked with ``is``) and computed once per geometry, not once per evaluation.
+    """
     if orientations is None:
-        yield None, slice(None)
-        return
+        return [(None, slice(None))]
+    hit = _GROUP_CACHE.get(id(orientations))
+    if hit is not None and hit[0] is orientations:
+        return hit[1]
     flat = np.round(orientations.reshape(n, 9), 12)
     uniq, inv = np.unique(flat, axis=0, return_inverse=True)
-    for g in range(len(uniq)):
-        yield uniq[g].reshape(3, 3), np.flatnonzero(inv.ravel() == g)
+    inv = inv.ravel()
+    groups = [(uniq[g].reshape(3, 3), np.flatnonzero(inv == g)) for g in range(len(uniq))]
+    if len(_GROUP_CACHE) >= 8:
+        _GROUP_CACHE.pop(next(iter(_GROUP_CACHE)))
+    _GROUP_CACHE[id(orientations)] = (orientations, groups)
+    return groups
 
 
 def _element_global(element, dirs, R):
