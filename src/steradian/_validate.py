@@ -76,6 +76,29 @@ def choice(name: str, value: Any, allowed) -> str:
     return value
 
 
+def suggest(word, options) -> str:
+    """" (did you mean 'x'?)" for the closest of ``options`` to ``word``, or ""."""
+    import difflib
+
+    hint = difflib.get_close_matches(str(word), [str(o) for o in options], n=1)
+    return f" (did you mean {hint[0]!r}?)" if hint else ""
+
+
+def check_table_keys(section: str, table, allowed, source=None) -> None:
+    """Raise DesignError naming ``section.key`` for a non-table or an unknown key.
+
+    The message suggests the closest valid key and lists them all.
+    """
+    from .errors import DesignError
+
+    if not isinstance(table, dict):
+        raise DesignError(section, f"must be a table, got {type(table).__name__}", source)
+    for k in table:
+        if k not in allowed:
+            raise DesignError(f"{section}.{k}", f"unknown key{suggest(k, allowed)}; valid "
+                              f"keys: {', '.join(allowed)}", source)
+
+
 def doubtful(message: str) -> None:
     """Warn about legal but doubtful input."""
     warnings.warn(message, UserWarning, stacklevel=3)

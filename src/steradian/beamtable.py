@@ -49,7 +49,7 @@ from typing import Literal, get_args
 
 import numpy as np
 
-from ._validate import choice, positive
+from ._validate import check_table_keys, choice, positive
 from .array import Steering, direction
 from .elements import Isotropic
 from .engine import MEMORY_BUDGET, response_matrix
@@ -393,14 +393,7 @@ def beams_from_table(table: dict, *, source=None, base_dir=None,
         Naming ``beams.<key>``, with the closest valid key for an unknown one.
     """
     src = None if source is None else str(source)
-    if not isinstance(table, dict):
-        raise DesignError(section, f"must be a table, got {type(table).__name__}", src)
-    for k in table:
-        if k not in BEAMS_KEYS:
-            hint = difflib.get_close_matches(str(k), BEAMS_KEYS, n=1)
-            extra = f" (did you mean {hint[0]!r}?)" if hint else ""
-            raise DesignError(f"{section}.{k}", f"unknown key{extra}; valid keys: "
-                              f"{', '.join(BEAMS_KEYS)}", src)
+    check_table_keys(section, table, BEAMS_KEYS, src)
     kinds = get_args(GridKind)
     grid = table.get("grid")
     if grid not in kinds:

@@ -63,7 +63,7 @@ from typing import Literal, get_args
 
 import numpy as np
 
-from ._validate import choice, count
+from ._validate import check_table_keys, choice, count
 from .errors import DesignError, FileFormatError, SteradianError
 
 __all__ = [
@@ -574,14 +574,7 @@ def channel_from_table(table: dict, n_elements: int | None = None, *, source=Non
         Naming ``channel.<key>``, with the closest valid key for an unknown one.
     """
     src = None if source is None else str(source)
-    if not isinstance(table, dict):
-        raise DesignError(section, f"must be a table, got {type(table).__name__}", src)
-    for k in table:
-        if k not in CHANNEL_KEYS:
-            hint = difflib.get_close_matches(str(k), CHANNEL_KEYS, n=1)
-            extra = f" (did you mean {hint[0]!r}?)" if hint else ""
-            raise DesignError(f"{section}.{k}", f"unknown key{extra}; valid keys: "
-                              f"{', '.join(CHANNEL_KEYS)}", src)
+    check_table_keys(section, table, CHANNEL_KEYS, src)
 
     def err(key, msg):
         return DesignError(key, msg, src)
