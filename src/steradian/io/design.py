@@ -29,7 +29,7 @@ from typing import Any
 
 import numpy as np
 
-from .._validate import C0
+from .._validate import C0, positive
 from ..analysis import AnalysisOptions
 from ..array import Array, Steering
 from ..elements import CosinePower, Dipole, Element, Isotropic
@@ -109,21 +109,11 @@ class Design:
 
         opt = self.options
         if frequency is not None:
-            opt = replace(opt, frequency=_positive_value("--frequency", frequency, " Hz"))
+            opt = replace(opt, frequency=positive("frequency", frequency, " Hz"))
         out = {"design": {"name": self.name, "description": self.description,
                           "source": None if self.source is None else str(self.source)}}
         out.update(analyze(self.array, opt))
         return out
-
-
-def _positive_value(name, value, unit=""):
-    try:
-        x = float(value)
-    except (TypeError, ValueError):
-        raise SteradianError(f"{name} must be a number, got {value!r}") from None
-    if not math.isfinite(x) or x <= 0:
-        raise SteradianError(f"{name} must be positive, got {value!r}{unit}")
-    return x
 
 
 # --------------------------------------------------------------------------------------------
