@@ -30,7 +30,7 @@ sys.path.insert(0, str(HERE.parent / "src"))
 
 import steradian as st  # noqa: E402
 from steradian import _nufft, engine, radiation  # noqa: E402
-from steradian.grids import UVGrid  # noqa: E402
+from steradian.directions import UVGrid  # noqa: E402
 
 K = 2 * np.pi  # 1 m wavelength
 F1 = st.C0

@@ -11,7 +11,7 @@ import pytest
 matplotlib.use("Agg")
 os.environ.setdefault("MPLBACKEND", "Agg")
 
-from steradian._validate import C0  # noqa: E402
+from steradian.units import C0  # noqa: E402
 
 F1 = C0
 """Frequency with a 1 m wavelength."""

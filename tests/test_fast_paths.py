@@ -21,9 +21,9 @@ from hypothesis import strategies as hst
 
 import steradian as st
 from steradian import _fft, _nufft, engine, radiation
+from steradian.directions import Directions, ThetaPhiGrid, UVGrid
 from steradian.engine import DEFAULT_TOL, array_factor, choose_path
 from steradian.errors import SteradianError
-from steradian.grids import Directions, ThetaPhiGrid, UVGrid
 from steradian.sphere import gauss_legendre, sphere_rule
 
 F1 = st.C0

@@ -15,7 +15,7 @@ from scipy import integrate
 
 import steradian as st
 from steradian import engine, radiation
-from steradian.grids import Directions
+from steradian.directions import Directions
 
 F1 = st.C0
 K = 2 * np.pi  # wavenumber at 1 m wavelength

@@ -9,7 +9,6 @@ from hypothesis import strategies as hs
 from scipy import integrate
 
 import steradian as st
-from steradian._validate import C0
 from steradian.radiation import (
     RF_EXPOSURE_CAUTION,
     closed_form_power,
@@ -18,6 +17,7 @@ from steradian.radiation import (
     radiated_power,
 )
 from steradian.sphere import sphere_rule
+from steradian.units import C0
 
 F1 = C0  # 1 m wavelength
 

@@ -18,9 +18,9 @@ from scipy.special import comb, j0, j1, jn_zeros
 
 import steradian as st
 from steradian import tapers
+from steradian.directions import Directions
 from steradian.engine import field
 from steradian.errors import DesignError, SteradianError
-from steradian.grids import Directions
 from steradian.metrics import pattern_metrics
 
 F = st.C0  # 1 m wavelength

@@ -10,10 +10,7 @@ Conventions: right-handed x, y, z; planar arrays in the x-y plane, broadside +z;
 
 from __future__ import annotations
 
-__version__ = "0.1.0"
-
 from . import optimize, tapers
-from ._validate import C0
 from .array import Array, Steering, direction
 from .beamtable import (
     BeamEvaluator,
@@ -27,6 +24,7 @@ from .beamtable import (
     verify_weight_file,
     write_weight_file,
 )
+from .directions import Directions, ThetaPhiGrid, UVGrid
 from .elements import (
     CosinePower,
     Dipole,
@@ -36,8 +34,6 @@ from .elements import (
     Patch,
     ShortDipole,
     TabulatedElement,
-    read_element_table,
-    write_element_table,
 )
 from .engine import Field, field
 from .errors import DesignError, FileFormatError, SteradianError
@@ -50,8 +46,8 @@ from .geometry import (
     rotation_to,
     triangular,
 )
-from .grids import Directions, ThetaPhiGrid, UVGrid
 from .io.design import Design, design_from_dict, load_design
+from .io.element_table import read_element_table, write_element_table
 from .io.positions_csv import read_positions, write_positions
 from .io.weights_csv import read_weights, write_weights
 from .metrics import Cut, PatternMetrics, cut, pattern_metrics, principal_cuts
@@ -76,6 +72,8 @@ from .radiation import (
     realized_gain,
     taper_efficiency,
 )
+from .units import C0
+from .version import VERSION as __version__
 
 __all__ = [
     "__version__", "C0",

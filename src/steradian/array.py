@@ -7,10 +7,11 @@ from typing import Literal, get_args
 
 import numpy as np
 
-from ._validate import C0, choice, finite_array, positive
 from .elements import Element, Isotropic
 from .errors import SteradianError
 from .geometry import Geometry
+from .units import C0
+from .validate import choice, finite_array, positive
 
 __all__ = ["Array", "Steering", "direction", "steering_phases"]
 

@@ -37,9 +37,9 @@ from typing import Literal, get_args
 import numpy as np
 
 from . import _cost
+from .directions import Directions, ThetaPhiGrid, UVGrid, as_directions
 from .elements import Isotropic, angles_of, spherical_basis
 from .errors import SteradianError
-from .grids import Directions, ThetaPhiGrid, UVGrid, as_directions
 
 __all__ = ["Field", "field", "array_factor", "response_matrix", "MEMORY_BUDGET", "DEFAULT_TOL",
            "PathChoice", "choose_path", "clear_plan_cache"]

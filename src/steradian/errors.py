@@ -7,7 +7,7 @@ stderr and exit code 2; library callers can catch them as ``ValueError``.
 
 from __future__ import annotations
 
-__all__ = ["SteradianError", "DesignError", "FileFormatError"]
+__all__ = ["SteradianError", "DesignError", "FileFormatError", "suggest"]
 
 
 class SteradianError(ValueError):
@@ -52,3 +52,15 @@ class FileFormatError(SteradianError):
         self.line = line
         loc = f"{path}:{line}" if line is not None else f"{path}"
         super().__init__(f"{loc}: {message}")
+
+
+def suggest(word, options, cutoff: float = 0.6) -> str:
+    """The hint ``" (did you mean 'x'?)"`` for the closest of ``options`` to ``word``, or "".
+
+    The one "did you mean" helper of the package: every unknown key, column, kind or name a
+    user can misspell is reported through it, so hints read the same everywhere.
+    """
+    import difflib
+
+    hint = difflib.get_close_matches(str(word), [str(o) for o in options], n=1, cutoff=cutoff)
+    return f" (did you mean {hint[0]!r}?)" if hint else ""

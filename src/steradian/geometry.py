@@ -11,10 +11,12 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ._validate import count, finite_array, positive
 from .errors import SteradianError
+from .validate import count, finite_array, positive
 
 __all__ = [
+    "PrincipalAxes",
+    "principal_axes",
     "Geometry",
     "linear",
     "rectangular",
@@ -254,3 +256,57 @@ def rotation_to(normal, reference=(1.0, 0.0, 0.0)) -> np.ndarray:
     y = np.cross(nrm, x)
     R = np.stack([x, y, nrm], axis=2)
     return R[0] if np.ndim(normal) == 1 else R
+
+
+@dataclass(frozen=True)
+class PrincipalAxes:
+    """Shape of a point set about its centroid (see :func:`principal_axes`).
+
+    Attributes
+    ----------
+    dimension : int
+        0 (one point), 1 (collinear), 2 (coplanar) or 3.
+    axes : ndarray (3, 3)
+        Rows: unit principal directions, largest spread first; right-handed. For a line,
+        ``axes[0]`` is its direction; for a plane, ``axes[2]`` is its normal.
+    spread : ndarray (3,)
+        Singular values of the centred positions, largest first (zeros beyond N - 1).
+    centroid : ndarray (3,)
+    """
+
+    dimension: int
+    axes: np.ndarray
+    spread: np.ndarray
+    centroid: np.ndarray
+
+
+def principal_axes(positions, rtol: float = 1e-9) -> PrincipalAxes:
+    """Collinear / planar / volumetric test of points (N, 3): the one place it is done.
+
+    An economy SVD of the centred N x 3 positions (memory O(N), never an N x N factor);
+    directions whose singular value is below ``rtol`` times the largest do not count.
+    """
+    pos = np.asarray(positions, float).reshape(-1, 3)
+    c = pos.mean(axis=0) if len(pos) else np.zeros(3)
+    d = pos - c
+    spread = np.zeros(3)
+    axes = np.eye(3)
+    if len(pos) >= 2:
+        _, s, vt = np.linalg.svd(d, full_matrices=False)
+        spread[: len(s)] = s
+        axes[: len(vt)] = vt
+    dim = int(np.sum(spread > rtol * max(spread[0], 1e-300))) if spread[0] > 0 else 0
+    # Complete a right-handed orthonormal set (fewer than 3 points give fewer rows).
+    if len(pos) < 3 or dim < 3:
+        a0 = axes[0] if dim >= 1 else np.array([1.0, 0.0, 0.0])
+        if dim >= 2:
+            a1 = axes[1]
+        else:
+            ref = np.array([0.0, 0.0, 1.0]) if abs(a0[2]) < 0.9 else np.array([1.0, 0.0, 0.0])
+            a1 = np.cross(ref, a0)
+            a1 /= np.linalg.norm(a1)
+        axes = np.array([a0, a1, np.cross(a0, a1)])
+    elif np.linalg.det(axes) < 0:
+        axes = axes.copy()
+        axes[2] = -axes[2]
+    return PrincipalAxes(dim, axes, spread, c)

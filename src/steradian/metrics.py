@@ -43,12 +43,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ._validate import count, positive
+from .directions import Directions
 from .elements import Isotropic, angles_of
 from .engine import field
 from .errors import SteradianError
-from .grids import Directions
 from .radiation import Peak, RadiatedPower, peak_directivity, radiated_power, to_db
+from .validate import count, positive
 
 __all__ = ["Cut", "principal_cuts", "cut", "DB_FLOOR"]
 

@@ -63,8 +63,8 @@ from typing import Literal, get_args
 
 import numpy as np
 
-from ._validate import check_table_keys, choice, count
 from .errors import DesignError, FileFormatError, SteradianError
+from .validate import check_table_keys, choice, count
 
 __all__ = [
     "StateMap",

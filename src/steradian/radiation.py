@@ -17,12 +17,12 @@ from typing import Literal
 
 import numpy as np
 
-from ._validate import nonneg, positive
+from .directions import Directions, ThetaPhiGrid
 from .elements import Isotropic
 from .engine import field
 from .errors import SteradianError
-from .grids import Directions, ThetaPhiGrid
 from .sphere import DEFAULT_MARGIN, rule_for, sphere_rule
+from .validate import nonneg, positive
 
 __all__ = [
     "RadiatedPower",

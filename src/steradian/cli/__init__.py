@@ -11,8 +11,8 @@ import logging
 
 import click
 
-from .. import __version__
 from ..errors import SteradianError
+from ..version import VERSION as __version__
 
 # name -> (module, function). Add one line per command; the module holds a click.Command.
 COMMANDS: dict[str, tuple[str, str]] = {

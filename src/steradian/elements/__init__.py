@@ -7,7 +7,7 @@ Every model is an :class:`Element`. The design-file reader (:mod:`steradian.io.d
 from ._base import Element, angles_of, spherical_basis, unit_vectors
 from ._patch import Patch
 from ._simple import CosinePower, Dipole, HalfWaveDipole, Isotropic, ShortDipole
-from ._table import TabulatedElement, read_element_table, write_element_table
+from ._table import TabulatedElement
 
 __all__ = [
     "Element",
@@ -18,8 +18,6 @@ __all__ = [
     "HalfWaveDipole",
     "Patch",
     "TabulatedElement",
-    "read_element_table",
-    "write_element_table",
     "unit_vectors",
     "spherical_basis",
     "angles_of",

@@ -11,8 +11,9 @@ import math
 
 import numpy as np
 
-from .._validate import C0, doubtful, positive
 from ..errors import SteradianError
+from ..units import C0
+from ..validate import doubtful, positive
 from ._base import Element
 from ._table import _peak_intensity
 

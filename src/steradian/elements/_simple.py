@@ -7,7 +7,7 @@ from typing import Literal, get_args
 
 import numpy as np
 
-from .._validate import choice, nonneg, positive
+from ..validate import choice, nonneg, positive
 from ._base import Element, spherical_basis, unit_vectors
 
 __all__ = ["Isotropic", "CosinePower", "Dipole", "ShortDipole", "HalfWaveDipole"]

@@ -47,18 +47,15 @@ Example::
 
 from __future__ import annotations
 
-import difflib
 import math
-import re
-from pathlib import Path
 
 import numpy as np
 
-from .._validate import doubtful
-from ..errors import FileFormatError, SteradianError
+from ..errors import SteradianError
+from ..validate import doubtful
 from ._base import Element, angles_of, spherical_basis, unit_vectors
 
-__all__ = ["TabulatedElement", "read_element_table", "write_element_table", "COLUMNS"]
+__all__ = ["TabulatedElement", "COLUMNS", "table_grid"]
 
 COLUMNS: dict[tuple[str, str], tuple[str, ...]] = {
     ("field", "theta_phi"): ("theta_deg", "phi_deg", "re_e_theta", "im_e_theta", "re_e_phi",
@@ -354,14 +351,15 @@ class TabulatedElement(Element):
     def from_element(cls, element: Element, theta_step_deg: float = 2.0,
                      phi_step_deg: float = 2.0) -> TabulatedElement:
         """Sample any element model on a regular grid (e.g. to test or export it)."""
-        th, ph = _grid(element.front_only, theta_step_deg, phi_step_deg)
+        th, ph = table_grid(element.front_only, theta_step_deg, phi_step_deg)
         t, p = np.meshgrid(np.deg2rad(th), np.deg2rad(ph), indexing="ij")
         e_t, e_p = element.pattern(t, p)
         return cls(th, ph, e_t, e_p if element.vector else None, element.front_only,
                    source=f"sampled {type(element).__name__}")
 
 
-def _grid(front_only, dth, dph):
+def table_grid(front_only, dth, dph):
+    """Theta and phi samples (degrees) of a regular table grid with the given steps."""
     top = 90.0 if front_only else 180.0
     nt = round(top / dth)
     npf = round(360.0 / dph)
@@ -371,261 +369,3 @@ def _grid(front_only, dth, dph):
     if npf < 4 or abs(npf * dph - 360.0) > _GRID_TOL:
         raise SteradianError(f"phi_step_deg must divide 360 into at least 4 steps, got {dph!r}")
     return np.linspace(0.0, top, nt + 1), 360.0 * np.arange(npf) / npf
-
-
-# ---- CSV reader ---------------------------------------------------------------------------
-
-_KEY_RE = re.compile(r"^([A-Za-z_][A-Za-z0-9_]*)\s*=\s*(.*?)\s*$")
-
-
-def _suggest(word, allowed):
-    hint = difflib.get_close_matches(word, list(allowed), n=1)
-    return f" (did you mean {hint[0]!r}?)" if hint else ""
-
-
-def read_element_table(path) -> TabulatedElement:
-    """Read an element pattern table (the CSV layout in this module's documentation).
-
-    Parameters
-    ----------
-    path : str or Path
-
-    Returns
-    -------
-    TabulatedElement
-
-    Raises
-    ------
-    FileFormatError
-        Naming the file and, where one is at fault, the line: unreadable rows, NaN values,
-        duplicate or missing (theta, phi) points, a grid that does not cover the sphere (or
-        the front half-space), unknown or missing header keys.
-    """
-    path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise FileFormatError(path, f"cannot read element table: {exc}") from None
-
-    header: dict[str, tuple[str, int]] = {}
-    rows: list[tuple[int, str]] = []
-    for n, raw in enumerate(text.splitlines(), start=1):
-        line = raw.strip()
-        if not line:
-            continue
-        if line.startswith("#"):
-            m = _KEY_RE.match(line[1:].strip())
-            if m is None or rows:
-                continue  # free-text comment (keys are read only before the data)
-            key, value = m.group(1), m.group(2)
-            if key not in _KEYS:
-                raise FileFormatError(path, f"unknown header key {key!r}"
-                                      f"{_suggest(key, _KEYS)}; keys are {', '.join(_KEYS)}", n)
-            if key in header and key != "note":
-                raise FileFormatError(path, f"header key {key!r} given twice (first on line "
-                                      f"{header[key][1]})", n)
-            header[key] = (value, n)
-            continue
-        rows.append((n, line))
-
-    def need(key):
-        if key not in header:
-            raise FileFormatError(path, f"missing header line '# {key} = ...'")
-        return header[key]
-
-    quantity, qline = need("quantity")
-    if quantity not in ("field", "gain_dbi"):
-        raise FileFormatError(path, f"quantity must be 'field' or 'gain_dbi', got {quantity!r}"
-                              f"{_suggest(quantity, ('field', 'gain_dbi'))}", qline)
-    components, cline = header.get("components", ("theta_phi", qline))
-    if components not in ("theta_phi", "scalar"):
-        raise FileFormatError(path, f"components must be 'theta_phi' or 'scalar', got "
-                              f"{components!r}{_suggest(components, ('theta_phi', 'scalar'))}",
-                              cline)
-    front_txt, fline = header.get("front_only", ("false", None))
-    if front_txt.lower() not in ("true", "false"):
-        raise FileFormatError(path, f"front_only must be 'true' or 'false', got {front_txt!r}",
-                              fline)
-    front_only = front_txt.lower() == "true"
-    if "frequency_hz" in header:
-        ftxt, fl = header["frequency_hz"]
-        try:
-            freq = float(ftxt)
-        except ValueError:
-            freq = math.nan
-        if not (math.isfinite(freq) and freq > 0):
-            raise FileFormatError(path, f"frequency_hz must be a positive number, got {ftxt!r}",
-                                  fl)
-
-    expected = COLUMNS[(quantity, components)]
-    col_txt, col_line = need("columns")
-    cols = [c.strip() for c in col_txt.split(",")]
-    for c in cols:
-        if c not in expected:
-            raise FileFormatError(path, f"unknown column {c!r}{_suggest(c, expected)} for "
-                                  f"quantity={quantity}, components={components}; expected "
-                                  f"{', '.join(expected)}", col_line)
-    dup = [c for c in cols if cols.count(c) > 1]
-    if dup:
-        raise FileFormatError(path, f"column {dup[0]!r} listed twice", col_line)
-    missing = [c for c in expected if c not in cols]
-    if missing:
-        raise FileFormatError(path, f"columns lack {', '.join(missing)} (quantity={quantity},"
-                              f" components={components} needs {', '.join(expected)})",
-                              col_line)
-    idx = {c: cols.index(c) for c in expected}
-    db_cols = {c for c in expected if c.endswith("dbi")}
-    if not rows:
-        raise FileFormatError(path, "no data rows")
-
-    data = np.empty((len(rows), len(expected)))
-    for r, (n, line) in enumerate(rows):
-        fields = [s.strip() for s in line.split(",")]
-        if len(fields) != len(cols):
-            raise FileFormatError(path, f"expected {len(cols)} comma-separated values "
-                                  f"({', '.join(cols)}), got {len(fields)}", n)
-        for j, c in enumerate(expected):
-            s = fields[idx[c]]
-            try:
-                x = float(s)
-            except ValueError:
-                raise FileFormatError(path, f"cannot read {c}={s!r} as a number", n) from None
-            if math.isnan(x):
-                raise FileFormatError(path, f"{c} is NaN", n)
-            if math.isinf(x) and not (c in db_cols and x < 0):
-                raise FileFormatError(path, f"{c} is infinite"
-                                      + (" (only -inf dBi, a zero field, is allowed)"
-                                         if c in db_cols else ""), n)
-            data[r, j] = x
-        th = data[r, 0]
-        if not 0.0 <= th <= 180.0:
-            raise FileFormatError(path, f"theta_deg={th:g} is outside 0..180", n)
-        if front_only and th > 90.0 + _GRID_TOL:
-            raise FileFormatError(path, f"theta_deg={th:g} is behind the front half-space of a "
-                                  "front_only table (theta must be at most 90)", n)
-
-    # Assemble the grid: every (theta, phi) exactly once.
-    lines = np.array([n for n, _ in rows])
-    tkey = np.round(data[:, 0], 6)
-    pkey = np.round(data[:, 1], 6)
-    thetas = np.unique(tkey)
-    phis = np.unique(pkey)
-    it = np.searchsorted(thetas, tkey)
-    ip = np.searchsorted(phis, pkey)
-    seen = np.full((len(thetas), len(phis)), -1)
-    for r in range(len(rows)):
-        if seen[it[r], ip[r]] >= 0:
-            raise FileFormatError(path, f"duplicate point theta={data[r, 0]:g}, "
-                                  f"phi={data[r, 1]:g} (first on line "
-                                  f"{lines[seen[it[r], ip[r]]]})", int(lines[r]))
-        seen[it[r], ip[r]] = r
-    if (seen < 0).any():
-        a, b = np.argwhere(seen < 0)[0]
-        raise FileFormatError(
-            path, f"missing point theta={thetas[a]:g}, phi={phis[b]:g}: the rows must form the "
-            f"full grid of {len(thetas)} theta x {len(phis)} phi values "
-            f"({int((seen < 0).sum())} of {seen.size} points missing)")
-    if phis[-1] - phis[0] > 360.0 + _GRID_TOL:
-        raise FileFormatError(path, f"phi values span {phis[-1] - phis[0]:g} deg, more than "
-                              "the full circle")
-    vals = data[seen]  # (n_theta, n_phi, ncol)
-    if quantity == "field":
-        comp = [vals[..., 2] + 1j * vals[..., 3]]
-        if components == "theta_phi":
-            comp.append(vals[..., 4] + 1j * vals[..., 5])
-    else:
-        comp = [10 ** (vals[..., 2] / 20) * np.exp(1j * np.deg2rad(vals[..., 3]))]
-        if components == "theta_phi":
-            comp.append(10 ** (vals[..., 4] / 20) * np.exp(1j * np.deg2rad(vals[..., 5])))
-    try:
-        el = TabulatedElement(thetas, phis, comp[0], comp[1] if len(comp) > 1 else None,
-                              front_only=front_only, source=str(path))
-    except SteradianError as exc:
-        raise FileFormatError(path, str(exc)) from None
-    el.quantity = quantity
-    if "frequency_hz" in header:
-        el.frequency_hz = float(header["frequency_hz"][0])
-    return el
-
-
-# ---- CSV writer ---------------------------------------------------------------------------
-
-def _element_power(element: Element, k) -> float:
-    """Integral of the element's power pattern over the sphere (its own quadrature)."""
-    from ..sphere import sphere_rule
-
-    n = max(element.degree(k) // 2 + 40, 64)
-    rule = sphere_rule(n, 2 * n, front_only=element.front_only)
-    t, p = np.meshgrid(rule.theta, rule.phi, indexing="ij")
-    a, b = element.pattern(t, p)
-    return rule.integrate(np.abs(a) ** 2 + np.abs(b) ** 2)
-
-
-def write_element_table(path, element: Element, *, theta_step_deg: float | None = None,
-                        phi_step_deg: float | None = None, quantity: str = "field",
-                        frequency_hz: float | None = None, note: str | None = None,
-                        digits: int = 17) -> None:
-    """Sample ``element`` on a regular grid and write it as an element table (atomically).
-
-    Parameters
-    ----------
-    path : str or Path
-    element : Element
-        Any model; its ``front_only`` and ``vector`` flags set the table's.
-    theta_step_deg, phi_step_deg : float, optional
-        Grid steps (default: a table's own grid, else 2 degrees).
-    quantity : {"field", "gain_dbi"}
-        ``gain_dbi`` writes partial directivities in dBi (lossless element, gain = directivity)
-        with phases in degrees; the radiated power is integrated numerically.
-    frequency_hz : float, optional
-        Recorded in the header.
-    note : str, optional
-        A one-line note recorded in the header.
-    digits : int
-        Significant digits written (17 round-trips doubles exactly).
-    """
-    from ..io._atomic import atomic_open
-
-    if quantity not in ("field", "gain_dbi"):
-        raise SteradianError(f"quantity must be 'field' or 'gain_dbi', got {quantity!r}")
-    if isinstance(element, TabulatedElement):
-        dth, dph = element.steps_deg
-    else:
-        dth = dph = 2.0
-    dth = dth if theta_step_deg is None else float(theta_step_deg)
-    dph = dph if phi_step_deg is None else float(phi_step_deg)
-    th, ph = _grid(element.front_only, dth, dph)
-    t, p = np.meshgrid(np.deg2rad(th), np.deg2rad(ph), indexing="ij")
-    e_t, e_p = element.pattern(t, p)
-    components = "theta_phi" if element.vector else "scalar"
-    cols = COLUMNS[(quantity, components)]
-    comps = [e_t, e_p] if element.vector else [e_t]
-    if quantity == "gain_dbi":
-        k = None if frequency_hz is None else 2 * math.pi * frequency_hz / 299_792_458.0
-        scale = 4 * math.pi / _element_power(element, k)
-        out = []
-        for c in comps:
-            g = scale * np.abs(c) ** 2
-            with np.errstate(divide="ignore"):
-                out += [np.where(g > 0, 10 * np.log10(np.where(g > 0, g, 1.0)), -np.inf),
-                        np.where(g > 0, np.rad2deg(np.angle(c)), 0.0)]
-    else:
-        out = [x for c in comps for x in (c.real, c.imag)]
-
-    def fmt(x):
-        return "-inf" if x == -np.inf else f"{x:.{digits}g}"
-
-    with atomic_open(path, "w", encoding="utf-8", newline="\n") as fh:
-        fh.write("# steradian element pattern table\n")
-        fh.write(f"# quantity = {quantity}\n")
-        fh.write(f"# components = {components}\n")
-        fh.write(f"# front_only = {'true' if element.front_only else 'false'}\n")
-        if frequency_hz is not None:
-            fh.write(f"# frequency_hz = {float(frequency_hz):.12g}\n")
-        if note:
-            fh.write(f"# note = {' '.join(str(note).split())}\n")
-        fh.write(f"# columns = {', '.join(cols)}\n")
-        for i in range(len(th)):
-            for j in range(len(ph)):
-                vals = ",".join(fmt(o[i, j]) for o in out)
-                fh.write(f"{th[i]:.10g},{ph[j]:.10g},{vals}\n")

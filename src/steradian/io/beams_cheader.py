@@ -78,7 +78,7 @@ def write_beams_cheader(path, table: BeamTable, prefix: str = "strd") -> None:
     prefix : str
         C identifier prefix: arrays are ``<prefix>_...`` and macros ``<PREFIX>_...``.
     """
-    from .. import __version__
+    from ..version import VERSION as __version__
 
     if not isinstance(prefix, str) or not _IDENT.match(prefix):
         raise SteradianError(f"C prefix must be a C identifier, got {prefix!r}")

@@ -75,7 +75,7 @@ def _reading(c):
 
 def write_beams_csv(path, table: BeamTable) -> None:
     """Write ``table`` as CSV (atomically)."""
-    from .. import __version__
+    from ..version import VERSION as __version__
 
     enc = table.encoding
     head = [("format", FORMAT_ID), ("layout_version", str(LAYOUT_VERSION)),

@@ -54,7 +54,7 @@ def _dump(v) -> str:
 
 def write_beams_json(path, table: BeamTable) -> None:
     """Write ``table`` as JSON (atomically)."""
-    from .. import __version__
+    from ..version import VERSION as __version__
 
     enc = table.encoding
     codes = table.codes

@@ -16,10 +16,8 @@ file, in one line; unknown keys come with the closest valid key.
 
 from __future__ import annotations
 
-import difflib
 import importlib
 import importlib.util
-import math
 import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
@@ -29,11 +27,10 @@ from typing import Any
 
 import numpy as np
 
-from .._validate import C0, positive
 from ..analysis import AnalysisOptions
 from ..array import Array, Steering
 from ..elements import CosinePower, Dipole, Element, Isotropic
-from ..errors import DesignError, FileFormatError, SteradianError
+from ..errors import DesignError, FileFormatError, SteradianError, suggest
 from ..geometry import (
     Geometry,
     concentric_rings,
@@ -43,6 +40,9 @@ from ..geometry import (
     rotation_to,
     triangular,
 )
+from ..schema import Section, type_name
+from ..units import C0
+from ..validate import positive
 
 __all__ = ["Design", "load_design", "design_from_dict", "demo_design", "SECTIONS",
            "PASS_THROUGH_SECTIONS", "GEOMETRY_KINDS", "ELEMENT_MODELS", "LENGTH_UNITS"]
@@ -56,9 +56,6 @@ PASS_THROUGH_SECTIONS = ("synthesis", "channel", "beams")
 LENGTH_UNITS = {"m": 1.0, "mm": 1e-3, "wavelength": None}
 """Values of ``geometry.units`` and their size in metres (wavelength: at the design
 frequency)."""
-
-_MISSING = object()
-
 
 # --------------------------------------------------------------------------------------------
 # The result
@@ -119,143 +116,6 @@ class Design:
 # --------------------------------------------------------------------------------------------
 # Typed access to one table, with errors naming the dotted key
 # --------------------------------------------------------------------------------------------
-def _type_name(v) -> str:
-    return {bool: "boolean", int: "integer", float: "number", str: "string", list: "array",
-            dict: "table"}.get(type(v), type(v).__name__)
-
-
-class _Table:
-    """One TOML table: typed getters that raise DesignError naming ``section.key``."""
-
-    def __init__(self, name: str, data, source: str | None):
-        if not isinstance(data, dict):
-            raise DesignError(name, f"must be a table [{name}], got {_type_name(data)}", source)
-        self.name = name
-        self.data = data
-        self.source = source
-
-    def error(self, key: str | None, message: str) -> DesignError:
-        return DesignError(f"{self.name}.{key}" if key else self.name, message, self.source)
-
-    def __contains__(self, key):
-        return key in self.data
-
-    def _get(self, key, default):
-        if key not in self.data:
-            if default is _MISSING:
-                raise self.error(key, "required key is missing")
-            return default, False
-        return self.data[key], True
-
-    def number(self, key, default=_MISSING, *, minimum=None, above=None, maximum=None):
-        v, given = self._get(key, default)
-        if not given:
-            return v
-        return self._check_number(key, v, minimum=minimum, above=above, maximum=maximum)
-
-    def _check_number(self, key, v, *, minimum=None, above=None, maximum=None):
-        if isinstance(v, bool) or not isinstance(v, (int, float)):
-            raise self.error(key, f"must be a number, got {_type_name(v)} {v!r}")
-        x = float(v)
-        if not math.isfinite(x):
-            raise self.error(key, f"must be a finite number, got {v!r}")
-        if above is not None and not x > above:
-            word = "positive" if above == 0 else f"greater than {above:g}"
-            raise self.error(key, f"must be {word}, got {v!r}")
-        if minimum is not None and x < minimum:
-            word = "zero or positive" if minimum == 0 else f"at least {minimum:g}"
-            raise self.error(key, f"must be {word}, got {v!r}")
-        if maximum is not None and x > maximum:
-            raise self.error(key, f"must be at most {maximum:g}, got {v!r}")
-        return x
-
-    def integer(self, key, default=_MISSING, *, minimum=None):
-        v, given = self._get(key, default)
-        if not given:
-            return v
-        return self._check_int(key, v, minimum=minimum)
-
-    def _check_int(self, key, v, *, minimum=None):
-        if isinstance(v, bool) or not isinstance(v, int):
-            raise self.error(key, f"must be a whole number, got {_type_name(v)} {v!r}")
-        if minimum is not None and v < minimum:
-            raise self.error(key, f"must be at least {minimum}, got {v}")
-        return v
-
-    def string(self, key, default=_MISSING, *, choices=None):
-        v, given = self._get(key, default)
-        if not given:
-            return v
-        if not isinstance(v, str):
-            raise self.error(key, f"must be a string, got {_type_name(v)} {v!r}")
-        if choices is not None and v not in choices:
-            raise self.error(key, f"must be one of {', '.join(map(repr, choices))}, got "
-                             f"{v!r}{_hint(v, choices)}")
-        return v
-
-    def boolean(self, key, default=_MISSING):
-        v, given = self._get(key, default)
-        if given and not isinstance(v, bool):
-            raise self.error(key, f"must be true or false, got {_type_name(v)} {v!r}")
-        return v
-
-    def numbers(self, key, default=_MISSING, *, above=None, nonempty=True):
-        v, given = self._get(key, default)
-        if not given:
-            return v
-        if not isinstance(v, list):
-            raise self.error(key, f"must be an array of numbers, got {_type_name(v)} {v!r}")
-        if nonempty and not v:
-            raise self.error(key, "must not be empty")
-        return [self._check_number(f"{key}[{i}]", x, above=above) for i, x in enumerate(v)]
-
-    def integers(self, key, default=_MISSING, *, minimum=None, nonempty=True):
-        v, given = self._get(key, default)
-        if not given:
-            return v
-        if not isinstance(v, list):
-            raise self.error(key, f"must be an array of whole numbers, got {_type_name(v)} "
-                             f"{v!r}")
-        if nonempty and not v:
-            raise self.error(key, "must not be empty")
-        return [self._check_int(f"{key}[{i}]", x, minimum=minimum) for i, x in enumerate(v)]
-
-    def vector3(self, key, default=_MISSING):
-        v, given = self._get(key, default)
-        if not given:
-            return v
-        if not isinstance(v, list) or len(v) != 3:
-            raise self.error(key, f"must be an array of 3 numbers, got {v!r}")
-        x = np.array([self._check_number(f"{key}[{i}]", c) for i, c in enumerate(v)])
-        if not np.linalg.norm(x) > 0:
-            raise self.error(key, "must be a non-zero vector")
-        return x
-
-    def path(self, key, base_dir: Path) -> Path:
-        p = self.string(key)
-        if not p.strip():
-            raise self.error(key, "must be a file name, got an empty string")
-        full = Path(p).expanduser()
-        full = full if full.is_absolute() else base_dir / full
-        if not full.is_file():
-            raise self.error(key, f"file not found: {full}")
-        return full
-
-    def only(self, allowed, context: str = "") -> None:
-        """Raise for the first key not in ``allowed``, suggesting the closest one."""
-        allowed = list(allowed)
-        for k in self.data:
-            if k not in allowed:
-                where = f" {context}" if context else ""
-                raise self.error(k, f"unknown key{where}{_hint(k, allowed)}; allowed: "
-                                 f"{', '.join(allowed)}")
-
-
-def _hint(word: str, options) -> str:
-    m = difflib.get_close_matches(str(word), [str(o) for o in options], n=1, cutoff=0.6)
-    return f" (did you mean {m[0]!r}?)" if m else ""
-
-
 @dataclass(frozen=True)
 class _Context:
     source: str | None
@@ -284,7 +144,7 @@ GEOMETRY_KINDS: dict[str, tuple[str, ...]] = {
 """Geometry kinds and their keys (besides kind, units, disabled, facing, local_x_toward)."""
 
 
-def _geometry(t: _Table, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
+def _geometry(t: Section, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
     kind = t.string("kind", choices=tuple(GEOMETRY_KINDS))
     t.only((*_GEOMETRY_COMMON, *GEOMETRY_KINDS[kind]), f"for kind = {kind!r}")
     enabled = None
@@ -330,7 +190,7 @@ def _csv_has_normals(path: Path) -> bool:
     return "normal_x" in header
 
 
-def _lattice(t: _Table, kind: str, s: float) -> Geometry:
+def _lattice(t: Section, kind: str, s: float) -> Geometry:
     if kind == "linear":
         return linear(t.integer("count", minimum=1), t.number("spacing", above=0) * s,
                       t.string("axis", "x", choices=("x", "y", "z")))
@@ -361,7 +221,7 @@ def _lattice(t: _Table, kind: str, s: float) -> Geometry:
                             t.boolean("centre_element", False), start)
 
 
-def _facing(t: _Table, geom: Geometry) -> Geometry:
+def _facing(t: Section, geom: Geometry) -> Geometry:
     """Apply ``geometry.facing``: "broadside", "outward" (from the z axis) or a vector."""
     if "facing" not in t:
         if "local_x_toward" in t and geom.orientations is None:
@@ -404,14 +264,14 @@ ELEMENT_MODELS: dict[str, tuple[str, ...]] = {
 """Element models and their keys (besides ``model``)."""
 
 
-def _axis(t: _Table):
+def _axis(t: Section):
     v = t.data.get("axis", "z")
     if isinstance(v, str):
         return t.string("axis", "z", choices=("x", "y", "z"))
     return t.vector3("axis")
 
 
-def _element(t: _Table, ctx: _Context) -> Element:
+def _element(t: Section, ctx: _Context) -> Element:
     model = t.string("model", choices=tuple(ELEMENT_MODELS))
     t.only(("model", *ELEMENT_MODELS[model]), f"for model = {model!r}")
     try:
@@ -434,19 +294,16 @@ def _element(t: _Table, ctx: _Context) -> Element:
         if model == "patch":
             return _patch(t, ctx)
         # table
-        from .. import elements
+        from .element_table import read_element_table
 
-        reader = getattr(elements, "read_element_table", None)
-        if reader is None:
-            raise t.error("model", "'table' is not available in this installation")
-        return reader(t.path("file", ctx.base_dir))
+        return read_element_table(t.path("file", ctx.base_dir))
     except (DesignError, FileFormatError):
         raise
     except SteradianError as exc:
         raise t.error(None, str(exc)) from None
 
 
-def _patch(t: _Table, ctx: _Context) -> Element:
+def _patch(t: Section, ctx: _Context) -> Element:
     from .. import elements
 
     patch = getattr(elements, "Patch", None)
@@ -466,7 +323,7 @@ def _patch(t: _Table, ctx: _Context) -> Element:
 # --------------------------------------------------------------------------------------------
 # [taper], [steering], [analysis], [design]
 # --------------------------------------------------------------------------------------------
-def _taper(t: _Table | None, geom: Geometry, ctx: _Context) -> np.ndarray | None:
+def _taper(t: Section | None, geom: Geometry, ctx: _Context) -> np.ndarray | None:
     if t is None:
         return None
     if "file" in t:
@@ -504,7 +361,7 @@ def _taper(t: _Table | None, geom: Geometry, ctx: _Context) -> np.ndarray | None
     return np.asarray(w, complex)
 
 
-def _steering(t: _Table | None) -> Steering | None:
+def _steering(t: Section | None) -> Steering | None:
     if t is None:
         return None
     t.only(("theta_deg", "phi_deg", "mode"))
@@ -518,7 +375,7 @@ _ANALYSIS_KEYS = ("frequency_hz", "radiation_efficiency", "vswr", "return_loss_d
                   "element_power_w", "metrics")
 
 
-def _analysis(t: _Table | None) -> AnalysisOptions:
+def _analysis(t: Section | None) -> AnalysisOptions:
     if t is None:
         return AnalysisOptions()
     t.only(_ANALYSIS_KEYS)
@@ -536,7 +393,7 @@ def _analysis(t: _Table | None) -> AnalysisOptions:
 
 
 def _check_horizon(steering: Steering | None, element: Element, geom: Geometry,
-                   enabled: np.ndarray | None, t: _Table | None) -> None:
+                   enabled: np.ndarray | None, t: Section | None) -> None:
     """Steering must point in front of the element's ground plane (front-half-space models)."""
     if steering is None or not element.front_only:
         return
@@ -585,17 +442,17 @@ def design_from_dict(d: Mapping, source=None, *, base_dir=None) -> Design:
     """
     src = None if source is None else str(source)
     if not isinstance(d, Mapping):
-        raise DesignError("", f"a design must be a table of sections, got {_type_name(d)}", src)
+        raise DesignError("", f"a design must be a table of sections, got {type_name(d)}", src)
     known = (*SECTIONS, *PASS_THROUGH_SECTIONS)
     for k, v in d.items():
         if k not in known:
-            raise DesignError(k, f"unknown section{_hint(k, known)}; allowed: "
+            raise DesignError(k, f"unknown section{suggest(k, known)}; allowed: "
                               f"{', '.join(known)}", src)
         if k in SECTIONS and not isinstance(v, dict):
             hint = ""
             if k not in ("design",):
                 hint = f" (write it as a [{k}] table)"
-            raise DesignError(k, f"must be a table, got {_type_name(v)} {v!r}{hint}", src)
+            raise DesignError(k, f"must be a table, got {type_name(v)} {v!r}{hint}", src)
     if "design" not in d:
         raise DesignError("design", "missing section [design] (name, frequency_hz)", src)
     if "geometry" not in d:
@@ -604,7 +461,7 @@ def design_from_dict(d: Mapping, source=None, *, base_dir=None) -> Design:
         base_dir = Path(source).resolve().parent if source is not None else Path.cwd()
     base_dir = Path(base_dir)
 
-    td = _Table("design", d["design"], src)
+    td = Section("design", d["design"], src)
     td.only(("name", "description", "frequency_hz", "speed_m_s"))
     default_name = Path(source).stem if source is not None else "design"
     name = td.string("name", default_name)
@@ -614,13 +471,13 @@ def design_from_dict(d: Mapping, source=None, *, base_dir=None) -> Design:
     ctx = _Context(src, base_dir, td.number("frequency_hz", above=0),
                    td.number("speed_m_s", C0, above=0))
 
-    geom, enabled = _geometry(_Table("geometry", d["geometry"], src), ctx)
-    element = _element(_Table("element", d.get("element", {"model": "isotropic"}), src), ctx)
-    tt = _Table("taper", d["taper"], src) if "taper" in d else None
+    geom, enabled = _geometry(Section("geometry", d["geometry"], src), ctx)
+    element = _element(Section("element", d.get("element", {"model": "isotropic"}), src), ctx)
+    tt = Section("taper", d["taper"], src) if "taper" in d else None
     taper = _taper(tt, geom, ctx)
-    ts = _Table("steering", d["steering"], src) if "steering" in d else None
+    ts = Section("steering", d["steering"], src) if "steering" in d else None
     steering = _steering(ts)
-    options = _analysis(_Table("analysis", d["analysis"], src) if "analysis" in d else None)
+    options = _analysis(Section("analysis", d["analysis"], src) if "analysis" in d else None)
 
     _check_horizon(steering, element, geom, enabled, ts)
     try:

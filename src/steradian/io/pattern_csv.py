@@ -71,10 +71,10 @@ def uv_map(array, n: int = 201, *, frequency: float | None = None, power=None,
     hemisphere : {1, -1}
         Front (w >= 0) or back hemisphere.
     """
-    from .._validate import count
-    from ..grids import UVGrid
+    from ..directions import UVGrid
     from ..metrics import DB_FLOOR
     from ..radiation import directivity, radiated_power, to_db
+    from ..validate import count
 
     n = count("uv points", n, 3)
     if hemisphere not in (1, -1):

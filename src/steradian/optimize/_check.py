@@ -10,8 +10,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..directions import Directions
 from ..engine import field
-from ..grids import Directions
 
 __all__ = ["field_magnitude", "check_family", "main_peak", "local_maxima", "refine_max"]
 

@@ -14,8 +14,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .._validate import finite_array, positive
 from ..errors import SteradianError
+from ..validate import finite_array, positive
 
 __all__ = ["Mask", "Null", "Notch", "itu_s465"]
 

@@ -38,10 +38,10 @@ from dataclasses import replace
 
 import numpy as np
 
-from .._validate import count
+from ..directions import Directions
 from ..engine import response_matrix
 from ..errors import SteradianError
-from ..grids import Directions
+from ..validate import count
 from ._check import check_family, field_magnitude
 from ._convex import (
     _finish,

@@ -9,12 +9,12 @@ from typing import Literal, get_args
 
 import numpy as np
 
-from .._validate import choice
 from ..array import steering_phases
+from ..directions import Directions
 from ..engine import response_matrix
 from ..errors import SteradianError
-from ..grids import Directions
 from ..radiation import fibonacci_directions, power_matrix
+from ..validate import choice
 from ._domain import Domain, choose_domain
 from ._frame import Frame, Param, chebyshev_null, frame_of, parametrise, symmetry_maps
 from ._masks import Mask, Notch

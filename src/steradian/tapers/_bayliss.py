@@ -9,8 +9,8 @@ from importlib import resources
 
 import numpy as np
 
-from .._validate import count, doubtful
 from ..errors import SteradianError
+from ..validate import count, doubtful
 from ._line import sidelobe_ratio
 
 __all__ = ["line_table_zeros", "circular_zeros", "FIT_RANGE_DB"]

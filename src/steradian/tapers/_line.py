@@ -19,8 +19,8 @@ import math
 
 import numpy as np
 
-from .._validate import count, doubtful, nonneg, positive
 from ..errors import SteradianError
+from ..validate import count, doubtful, nonneg, positive
 
 __all__ = [
     "uniform",

@@ -12,9 +12,9 @@ from collections.abc import Callable
 
 import numpy as np
 
-from .._validate import count, doubtful, positive
 from ..errors import SteradianError
 from ..geometry import Geometry
+from ..validate import count, doubtful, positive
 from ._line import sidelobe_ratio
 
 __all__ = ["taylor_circular", "bayliss_circular", "separable", "radial", "aperture_radius",

@@ -7,13 +7,7 @@ from typing import Any
 
 import numpy as np
 
-from .errors import SteradianError
-
-C0 = 299_792_458.0
-"""Speed of light in vacuum, m/s (exact, SI 2019)."""
-
-ETA0 = 376.730313412
-"""Impedance of free space, ohm (CODATA 2018)."""
+from .errors import DesignError, SteradianError, suggest
 
 
 def positive(name: str, value: Any, unit: str = "") -> float:
@@ -67,21 +61,9 @@ def finite_array(name: str, a: Any, shape_tail: tuple[int, ...] | None = None,
 def choice(name: str, value: Any, allowed) -> str:
     """Check ``value`` is one of ``allowed`` (e.g. ``typing.get_args`` of a Literal)."""
     if value not in allowed:
-        import difflib
-
-        hint = difflib.get_close_matches(str(value), [str(a) for a in allowed], n=1)
-        extra = f" (did you mean {hint[0]!r}?)" if hint else ""
-        raise SteradianError(
-            f"{name} must be one of {', '.join(map(repr, allowed))}, got {value!r}{extra}")
+        raise SteradianError(f"{name} must be one of {', '.join(map(repr, allowed))}, got "
+                             f"{value!r}{suggest(value, allowed)}")
     return value
-
-
-def suggest(word, options) -> str:
-    """" (did you mean 'x'?)" for the closest of ``options`` to ``word``, or ""."""
-    import difflib
-
-    hint = difflib.get_close_matches(str(word), [str(o) for o in options], n=1)
-    return f" (did you mean {hint[0]!r}?)" if hint else ""
 
 
 def check_table_keys(section: str, table, allowed, source=None) -> None:
@@ -89,8 +71,6 @@ def check_table_keys(section: str, table, allowed, source=None) -> None:
 
     The message suggests the closest valid key and lists them all.
     """
-    from .errors import DesignError
-
     if not isinstance(table, dict):
         raise DesignError(section, f"must be a table, got {type(table).__name__}", source)
     for k in table:

@@ -1,0 +1,81 @@
+r"""Beam tables: steering grids, quantized weights per beam, and their re-evaluation.
+
+A beam table is what a beamformer loads: for each steering direction, one hardware state
+per element. :func:`build_beam_table` computes each beam's ideal weights (the array's taper,
+or any weights you supply, steered), rounds them with a :class:`~steradian.quantize.ChannelModel`
+and re-evaluates what the quantized beam really radiates. :func:`verify_beam_table` does the
+re-evaluation for a table read from a file, so a file produced elsewhere or edited by hand is
+checked against the design before it reaches hardware.
+
+Per beam the evaluation reports (levels in dB, angles in degrees):
+
+- ``directivity_dbi``, ``gain_dbi``: peak directivity of the realised beam and gain
+  :math:`G = \xi D` with the radiation efficiency :math:`\xi` given;
+- ``peak_theta_deg``, ``peak_phi_deg`` and ``pointing_error_deg``: the refined peak and its
+  angle from the commanded direction (for a collinear array of isotropic elements, the error
+  of the cone angle from the array axis);
+- ``psl_db``: highest sidelobe (any local maximum outside the main lobe, quantization and
+  grating lobes included) relative to the peak;
+- ``qlobe_db``: *quantization-lobe level*, the peak of the pattern radiated by the
+  quantization error alone, :math:`e = w_q - s\,w_0` with :math:`s = w_0^H w_q / w_0^H w_0`
+  the least-squares scale of the ideal weights :math:`w_0`, relative to the realised peak;
+- ``ideal_directivity_dbi``, ``ideal_psl_db``, ``ideal_pointing_error_deg`` and ``loss_db``:
+  the ideal beam's peak directivity, sidelobe level and pointing error, and the directivity
+  lost to quantization (ideal minus realised peak directivity);
+- ``rms_phase_error_deg``: RMS phase difference between realised and best-fit ideal weights.
+
+Speed: work that does not depend on the weights is done once per array by
+:class:`BeamEvaluator`: the radiated-power matrix :math:`Q` (so :math:`P = w^H Q w` per
+beam), and the element responses on a search set of directions (so every beam's pattern on
+it is one matrix product). Peaks are then refined off the grid by a few batched Newton steps
+on :math:`\ln U` in the tangent plane.
+
+Direction conventions: theta from +z, phi from +x toward +y. Azimuth-elevation grids use
+:math:`\hat r = (\cos el \sin az,\ \sin el,\ \cos el \cos az)`: azimuth turns from +z toward
++x in the x-z plane, elevation lifts toward +y, so (0, 0) is broadside of a planar array.
+"""
+
+from __future__ import annotations
+
+from ._build import BeamBuild, Verification, build_beam_table, steered_weights, verify_beam_table
+from ._design import beam_table_from_design, channel_of_design, verify_weight_file
+from ._evaluate import BeamEvaluator, BeamMetrics
+from ._files import read_weight_file, write_beam_files, write_weight_file
+from ._grids import (
+    BEAMS_KEYS,
+    az_el_directions,
+    az_el_to_theta_phi,
+    beams_from_table,
+    read_directions,
+    span,
+    theta_phi_directions,
+)
+from ._table import DB_FLOOR, FORMATS, IQ_SCALE, BeamTable, Encoding
+
+__all__ = [
+    "BeamTable",
+    "BeamMetrics",
+    "BeamBuild",
+    "Verification",
+    "BeamEvaluator",
+    "Encoding",
+    "IQ_SCALE",
+    "FORMATS",
+    "DB_FLOOR",
+    "span",
+    "theta_phi_directions",
+    "az_el_directions",
+    "az_el_to_theta_phi",
+    "read_directions",
+    "beams_from_table",
+    "BEAMS_KEYS",
+    "steered_weights",
+    "build_beam_table",
+    "verify_beam_table",
+    "read_weight_file",
+    "write_weight_file",
+    "write_beam_files",
+    "channel_of_design",
+    "beam_table_from_design",
+    "verify_weight_file",
+]

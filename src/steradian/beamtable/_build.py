@@ -1,0 +1,209 @@
+"""Part of :mod:`steradian.beamtable` (see the package docstring)."""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..array import Steering
+from ..errors import SteradianError
+from ..quantize import ChannelModel, wrap_deg
+from ._evaluate import _METRIC_FIELDS, BeamEvaluator, BeamMetrics
+from ._table import BeamTable
+
+# ---------------------------------------------------------------------------------------
+# Building and verifying
+# ---------------------------------------------------------------------------------------
+WeightSource = np.ndarray | Callable[[float, float], np.ndarray] | None
+
+
+def steered_weights(array, directions, weights: WeightSource = None) -> np.ndarray:
+    """Ideal weights (B, N) of ``array`` steered to each (theta_deg, phi_deg).
+
+    ``weights``: ``None`` uses the array's own taper (and mask) with its steering mode;
+    an (N,) array is a taper to steer instead; a callable ``f(theta_deg, phi_deg)`` returns
+    each beam's weights directly (e.g. a per-beam optimizer result), masked by the array.
+    """
+    d = np.atleast_2d(np.asarray(directions, float))
+    mode = array.steering.mode if array.steering is not None else "phase"
+    base = array if weights is None or callable(weights) else array.with_taper(weights)
+    out = np.empty((len(d), array.n), complex)
+    for i, (t, p) in enumerate(d):
+        if callable(weights):
+            w = np.asarray(weights(float(t), float(p)), complex).reshape(-1)
+            if w.shape != (array.n,):
+                raise SteradianError(f"weights for beam {i} have {w.size} entries, the array "
+                                     f"has {array.n} elements")
+            if array.enabled is not None:
+                w = np.where(array.enabled, w, 0.0)
+            out[i] = w
+        else:
+            out[i] = base.with_steering(Steering(float(t), float(p), mode)).weights()
+    return out
+
+
+def _array_metadata(array, channel: ChannelModel, efficiency: float) -> dict:
+    from ..version import VERSION as __version__
+
+    g = array.geometry
+    amp = np.abs(array.taper)
+    with np.errstate(divide="ignore"):
+        amp_db = 20 * np.log10(amp / amp.max())
+    return {
+        "steradian_version": __version__,
+        "design_frequency_hz": array.frequency,
+        "speed_m_s": array.speed,
+        "wavelength_m": array.wavelength,
+        "geometry": {"n_elements": g.n,
+                     "n_enabled": int(g.n if array.enabled is None
+                                      else np.count_nonzero(array.enabled)),
+                     "extent_m": g.extent().tolist(),
+                     "lattice_m": None if g.lattice is None else g.lattice.tolist(),
+                     "planar": g.is_planar},
+        "element": array.element.describe(),
+        "taper": {"amplitude_min_db": float(np.min(amp_db)),
+                  "phase_spread_deg": float(np.ptp(np.angle(array.taper, deg=True))),
+                  # |sum w|^2 / (N sum |w|^2): the broadside taper efficiency of an equally
+                  # spaced planar array (common practice).
+                  "illumination_efficiency": float(abs(array.taper.sum()) ** 2 / (
+                      g.n * np.sum(np.abs(array.taper) ** 2)))},
+        "steering_mode": array.steering.mode if array.steering is not None else "phase",
+        "channel": channel.describe(),
+        "radiation_efficiency": efficiency,
+    }
+
+
+@dataclass(frozen=True, eq=False)
+class BeamBuild:
+    """Result of :func:`build_beam_table`: the table and how its beams perform."""
+
+    table: BeamTable
+    metrics: BeamMetrics
+    quantized: object
+    ideal: np.ndarray
+
+
+def build_beam_table(array, channel: ChannelModel, directions, *,
+                     weights: WeightSource = None, efficiency: float = 1.0,
+                     evaluator: BeamEvaluator | None = None, metadata: dict | None = None,
+                     evaluate: bool = True) -> BeamBuild:
+    """Quantized beam table of ``array`` over ``directions`` (B, 2) in degrees.
+
+    Parameters
+    ----------
+    array : Array
+        The design (geometry, element, taper, mask, design frequency).
+    channel : ChannelModel
+        Beamformer channel.
+    directions : array_like, shape (B, 2)
+        (theta_deg, phi_deg) per beam, e.g. from :func:`theta_phi_directions`.
+    weights : None, array (N,) or callable
+        Ideal weights, see :func:`steered_weights`.
+    efficiency : float
+        Radiation efficiency for the reported gain.
+    evaluator : BeamEvaluator, optional
+        Reuse one across calls on the same array.
+    metadata : dict, optional
+        Extra metadata merged into the table's (e.g. the design file and its taper spec).
+    evaluate : bool
+        Re-evaluate the quantized beams (the predicted metrics stored in the table).
+
+    Returns
+    -------
+    BeamBuild
+    """
+    d = np.atleast_2d(np.asarray(directions, float))
+    w0 = steered_weights(array, d, weights)
+    q = channel.quantize(w0, mask=array.enabled)
+    codes = np.stack([q.phase_codes, q.amplitude_codes], -1)
+    meta = _array_metadata(array, channel, efficiency)
+    meta.update(metadata or {})
+    metrics = None
+    if evaluate:
+        ev = evaluator or BeamEvaluator(array, efficiency=efficiency)
+        metrics = ev.evaluate(q.realised, d, ideal=w0)
+    table = BeamTable(channel.states, d, codes, "codes", q.phase_offsets_deg,
+                      array.positions, meta, None if metrics is None else metrics.rows())
+    return BeamBuild(table, metrics, q, w0)
+
+
+@dataclass(frozen=True, eq=False)
+class Verification:
+    """Result of :func:`verify_beam_table`.
+
+    Attributes
+    ----------
+    metrics : BeamMetrics
+        Re-evaluated from the file's states.
+    differences : dict
+        Largest absolute difference per metric against the metrics stored in the file
+        (empty when the file stores none).
+    notes : list of str
+        Things worth knowing that are not errors (e.g. offsets differing from the design's).
+    """
+
+    metrics: BeamMetrics
+    differences: dict
+    notes: list
+
+    def to_dict(self) -> dict:
+        return {"summary": self.metrics.summary(), "differences_vs_file": self.differences,
+                "notes": list(self.notes), "beams": self.metrics.rows()}
+
+
+def verify_beam_table(array, channel: ChannelModel, table: BeamTable, *,
+                      weights: WeightSource = None, efficiency: float = 1.0,
+                      evaluator: BeamEvaluator | None = None) -> Verification:
+    """Re-evaluate the beams a weight file holds against the design.
+
+    The realised weights are the file's states (codes, or I/Q) through the design's channel
+    (calibration) with the file's phase offsets and the design's element mask. The ideal
+    beam for the loss is the design's (or ``weights``) steered to each commanded direction.
+
+    Raises
+    ------
+    SteradianError
+        When the file does not fit the design: a different element count, different channel
+        states, or element positions that differ from the design's.
+    """
+    n = array.n
+    if table.n_elements != n:
+        raise SteradianError(f"weight file holds {table.n_elements} weights per beam but the "
+                             f"design has {n} elements")
+    if table.states != channel.states:
+        a, b = table.states.to_dict(), channel.states.to_dict()
+        diff = [f"{k} {a[k]!r} (file) vs {b[k]!r} (design)" for k in a if a[k] != b[k]]
+        raise SteradianError("weight file states differ from the design's channel: "
+                             + "; ".join(diff))
+    notes = []
+    if table.positions is not None:
+        tol = 1e-9 * max(1.0, float(np.abs(array.positions).max()))
+        dev = np.abs(table.positions - array.positions).max(axis=1)
+        if np.any(dev > tol):
+            i = int(np.argmax(dev))
+            raise SteradianError(
+                f"element {i} is at {table.positions[i].tolist()} m in the weight file but at "
+                f"{array.positions[i].tolist()} m in the design")
+    own = channel.offsets_deg(n)
+    dev = np.abs(wrap_deg(table.phase_offsets_deg - own))
+    if np.any(dev > 1e-9):
+        notes.append(f"phase offsets in the file differ from the design's channel by up to "
+                     f"{dev.max():.4g} deg; the file's offsets are used")
+    real = channel.realise(table.commanded(), table.phase_offsets_deg, array.enabled)
+    w0 = steered_weights(array, table.directions, weights)
+    ev = evaluator or BeamEvaluator(array, efficiency=efficiency)
+    m = ev.evaluate(real, table.directions, ideal=w0)
+    diffs = {}
+    if table.metrics is not None:
+        rows = m.rows()
+        for f in _METRIC_FIELDS:
+            vals = [(r[f], s.get(f)) for r, s in zip(rows, table.metrics, strict=True)]
+            dv = [abs(a - b) for a, b in vals
+                  if isinstance(a, (int, float)) and isinstance(b, (int, float))]
+            if dv:
+                diffs[f] = max(dv)
+    return Verification(m, diffs, notes)
+
+

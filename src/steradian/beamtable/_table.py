@@ -1,0 +1,209 @@
+"""Part of :mod:`steradian.beamtable` (see the package docstring)."""
+
+from __future__ import annotations
+
+import json
+import math
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+from typing import Literal, get_args
+
+import numpy as np
+
+from ..array import direction
+from ..errors import SteradianError
+from ..quantize import StateMap
+from ..validate import choice
+
+Encoding = Literal["codes", "iq"]
+
+IQ_SCALE = 32768
+"""Fixed-point I/Q is Q1.15: value = integer / 32768, integers in [-32768, 32767]."""
+
+DB_FLOOR = -300.0
+"""Lowest level reported (dB) instead of -inf."""
+
+RESPONSE_BUDGET = 512 * 2**20
+"""Bytes of element responses on the search set a BeamEvaluator keeps (beyond: recomputed)."""
+
+BEAM_CHUNK_BYTES = 256 * 2**20
+"""Bytes of (directions x beams) work arrays one evaluation pass may use."""
+
+FORMATS = {".csv": "csv", ".json": "json", ".bin": "bin", ".h": "h"}
+"""File suffix -> weight-file format name."""
+
+
+def _db(x):
+    x = np.asarray(x, float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.maximum(10 * np.log10(np.maximum(x, 0.0)), DB_FLOOR)
+
+
+def _jsonable(obj):
+    """numpy / tuples / non-finite floats -> plain JSON types (non-finite -> None)."""
+    if isinstance(obj, dict):
+        return {str(k): _jsonable(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_jsonable(v) for v in obj]
+    if isinstance(obj, np.ndarray):
+        return _jsonable(obj.tolist())
+    if isinstance(obj, (bool, np.bool_)):
+        return bool(obj)
+    if isinstance(obj, (int, np.integer)):
+        return int(obj)
+    if isinstance(obj, (float, np.floating)):
+        x = float(obj)
+        return x if math.isfinite(x) else None
+    if isinstance(obj, Path):
+        return str(obj)
+    if obj is None or isinstance(obj, str):
+        return obj
+    return str(obj)
+
+
+def _normal_json(obj):
+    return json.loads(json.dumps(_jsonable(obj)))
+
+
+# ---------------------------------------------------------------------------------------
+# The weight-file content
+# ---------------------------------------------------------------------------------------
+@dataclass(frozen=True, eq=False)
+class BeamTable:
+    """Hardware states of B beams over N elements: what every weight file holds.
+
+    Parameters
+    ----------
+    states : StateMap
+        Meaning of the codes.
+    directions : array_like, shape (B, 2)
+        Commanded (theta_deg, phi_deg) of each beam.
+    codes : array_like of int, shape (B, N, 2)
+        ``encoding="codes"``: (phase code, amplitude code) per beam and element.
+        ``encoding="iq"``: the (I, Q) integers of the commanded state in Q1.15
+        (value = integer / :data:`IQ_SCALE`).
+    encoding : {"codes", "iq"}
+    phase_offsets_deg : array_like, shape (N,), optional
+        Channel path phases the hardware adds (zeros by default).
+    positions : array_like, shape (N, 3), optional
+        Element positions (m), carried for reference and checked against the design.
+    metadata : dict, optional
+        JSON-friendly description (design frequency, geometry, taper, channel, version ...).
+    metrics : sequence of dict, optional
+        Predicted metrics of each beam (as built).
+    """
+
+    states: StateMap
+    directions: np.ndarray
+    codes: np.ndarray
+    encoding: Encoding = "codes"
+    phase_offsets_deg: np.ndarray | None = None
+    positions: np.ndarray | None = None
+    metadata: dict = field(default_factory=dict)
+    metrics: tuple | None = None
+
+    def __post_init__(self):
+        if not isinstance(self.states, StateMap):
+            raise SteradianError("states must be a StateMap")
+        choice("encoding", self.encoding, get_args(Encoding))
+        d = np.asarray(self.directions, float)
+        if d.ndim != 2 or d.shape[1] != 2 or len(d) == 0:
+            raise SteradianError(f"directions must have shape (B, 2) with B >= 1, got {d.shape}")
+        if not np.all(np.isfinite(d)):
+            raise SteradianError("beam directions contain NaN or infinity")
+        bad = (d[:, 0] < 0) | (d[:, 0] > 180)
+        if bad.any():
+            b = int(np.flatnonzero(bad)[0])
+            raise SteradianError(f"beam {b}: theta_deg {d[b, 0]} is outside [0, 180]")
+        raw = np.asarray(self.codes)
+        if raw.ndim != 3 or raw.shape[2] != 2 or raw.shape[0] != len(d) or raw.shape[1] == 0:
+            raise SteradianError(f"codes must have shape ({len(d)}, N, 2), got {raw.shape}")
+        if raw.dtype.kind == "f":
+            if not np.all(np.isfinite(raw)) or np.any(raw != np.rint(raw)):
+                raise SteradianError("codes must be whole numbers")
+        elif raw.dtype.kind not in "iu":
+            raise SteradianError(f"codes must be integers, got dtype {raw.dtype}")
+        c = raw.astype(np.int64)
+        if self.encoding == "codes":
+            self.states.check_codes(c[..., 0], c[..., 1])
+        else:
+            bad = (c < -IQ_SCALE) | (c >= IQ_SCALE)
+            if bad.any():
+                b, n, k = (int(i) for i in np.argwhere(bad)[0])
+                raise SteradianError(f"beam {b}, element {n}: {'IQ'[k]} value {int(c[b, n, k])}"
+                                     f" is outside the Q1.15 range -32768..32767")
+        n = c.shape[1]
+        off = (np.zeros(n) if self.phase_offsets_deg is None
+               else np.asarray(self.phase_offsets_deg, float).reshape(-1))
+        if off.shape != (n,) or not np.all(np.isfinite(off)):
+            raise SteradianError(f"phase offsets must be {n} finite values, got shape "
+                                 f"{off.shape}")
+        pos = None
+        if self.positions is not None:
+            pos = np.asarray(self.positions, float)
+            if pos.shape != (n, 3) or not np.all(np.isfinite(pos)):
+                raise SteradianError(f"positions must be finite with shape ({n}, 3), got "
+                                     f"{pos.shape}")
+        for name, a in (("directions", d), ("codes", c), ("phase_offsets_deg", off),
+                        ("positions", pos)):
+            if a is not None:
+                a = np.ascontiguousarray(a)
+                a.setflags(write=False)
+            object.__setattr__(self, name, a)
+        object.__setattr__(self, "metadata", _normal_json(dict(self.metadata or {})))
+        if self.metrics is not None:
+            m = _normal_json(list(self.metrics))
+            if len(m) != len(d) or not all(isinstance(x, dict) for x in m):
+                raise SteradianError(f"metrics must be one dict per beam ({len(d)}), got "
+                                     f"{len(m)}")
+            object.__setattr__(self, "metrics", tuple(m))
+
+    @property
+    def n_beams(self) -> int:
+        return self.codes.shape[0]
+
+    @property
+    def n_elements(self) -> int:
+        return self.codes.shape[1]
+
+    def commanded(self) -> np.ndarray:
+        """Nominal complex channel states, shape (B, N)."""
+        if self.encoding == "codes":
+            return self.states.commanded(self.codes[..., 0], self.codes[..., 1])
+        return (self.codes[..., 0] + 1j * self.codes[..., 1]) / IQ_SCALE
+
+    def as_encoding(self, encoding: Encoding) -> BeamTable:
+        """The same table in the other encoding.
+
+        codes -> iq rounds each commanded state to Q1.15 (saturating at 32767);
+        iq -> codes takes the nearest phase and amplitude state of each I/Q value.
+        """
+        choice("encoding", encoding, get_args(Encoding))
+        if encoding == self.encoding:
+            return self
+        c = self.commanded()
+        if encoding == "iq":
+            iq = np.stack([c.real, c.imag], -1) * IQ_SCALE
+            new = np.clip(np.rint(iq), -IQ_SCALE, IQ_SCALE - 1).astype(np.int64)
+        else:
+            pc = self.states.nearest_phase_code(np.angle(c, deg=True))
+            ac = self.states.nearest_amplitude_code(np.abs(c))
+            new = np.stack([pc, ac], -1)
+        return replace(self, codes=new, encoding=encoding)
+
+    def same_weights(self, other: BeamTable) -> bool:
+        """Exact equality of everything a weight file carries (metadata aside)."""
+        def eq(a, b):
+            if a is None or b is None:
+                return a is None and b is None
+            return a.shape == b.shape and bool(np.all(a == b))
+        return (self.states == other.states and self.encoding == other.encoding
+                and eq(self.directions, other.directions) and eq(self.codes, other.codes)
+                and eq(self.phase_offsets_deg, other.phase_offsets_deg)
+                and eq(self.positions, other.positions))
+
+    def units(self) -> np.ndarray:
+        """Commanded directions as unit vectors, shape (B, 3)."""
+        return np.array([direction(t, p) for t, p in self.directions])
+
+
