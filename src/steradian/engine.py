@@ -42,7 +42,7 @@ from .elements import Isotropic, angles_of, spherical_basis
 from .errors import SteradianError
 
 __all__ = ["Field", "field", "array_factor", "response_matrix", "MEMORY_BUDGET", "DEFAULT_TOL",
-           "PathChoice", "choose_path", "clear_plan_cache"]
+           "PathChoice", "choose_path", "clear_plan_cache", "sinc_power_sum", "gram_matrix"]
 
 MEMORY_BUDGET = 64 * 2**20
 """Bytes of temporary complex storage any single evaluation may use (chunking limit)."""
@@ -705,7 +705,7 @@ def response_matrix(array, where, *, frequency: float | None = None) -> np.ndarr
     return out
 
 
-def _gram(positions, k: float, dirs: np.ndarray, weights: np.ndarray) -> np.ndarray:
+def gram_matrix(positions, k: float, dirs: np.ndarray, weights: np.ndarray) -> np.ndarray:
     r"""Hermitian :math:`G_{mn} = \sum_i \omega_i e^{-jk\hat r_i\cdot r_m}
     e^{+jk\hat r_i\cdot r_n}`.
 
@@ -734,3 +734,15 @@ def _gram(positions, k: float, dirs: np.ndarray, weights: np.ndarray) -> np.ndar
         G = zherk(1.0, P.T, beta=1.0, c=G, trans=0, lower=0, overwrite_c=1)
     up = np.triu(G)
     return up + np.triu(G, 1).conj().T
+
+
+def sinc_power_sum(positions, weights, k: float) -> float:
+    r""":math:`\sum_{mn} w_m w_n^* \mathrm{sinc}(k|r_m - r_n|)` with sinc(x) = sin(x)/x
+    (half the pairs, numba; one thread below a few million pairs, where waking the thread
+    pool costs more than it saves)."""
+    km = _k()
+    p = np.ascontiguousarray(np.asarray(positions, float).T)
+    w = np.asarray(weights, complex)
+    kern = km.sinc_power_serial if len(w) ** 2 < 4_000_000 else km.sinc_power
+    return float(kern(p[0], p[1], p[2], np.ascontiguousarray(w.real),
+                      np.ascontiguousarray(w.imag), float(k)))

@@ -124,16 +124,9 @@ def closed_form_power(positions, weights, k) -> float:
     R. J. Mailloux, *Phased Array Antenna Handbook*, 3rd ed., Artech House, 2018, ch. 2
     (directivity of arrays of isotropic elements).
     """
-    from . import engine
+    from .engine import sinc_power_sum
 
-    km = engine._k()
-    p = np.ascontiguousarray(np.asarray(positions, float).T)
-    w = np.asarray(weights, complex)
-    # One thread below a few million pairs: waking the pool costs more than it saves.
-    kern = km.sinc_power_serial if len(w) ** 2 < 4_000_000 else km.sinc_power
-    s = kern(p[0], p[1], p[2], np.ascontiguousarray(w.real), np.ascontiguousarray(w.imag),
-             float(k))
-    return 4 * np.pi * float(s)
+    return 4 * np.pi * sinc_power_sum(positions, weights, k)
 
 
 def radiated_power(array, *, frequency: float | None = None, method: PowerMethod = "auto",
@@ -378,7 +371,7 @@ def _power_matrix_common(array, frequency, rule) -> np.ndarray:
     common to every element, which cancels in p_i^H p_i: their weights are added and half
     the rows are used.
     """
-    from .engine import _gram
+    from .engine import gram_matrix
 
     el = array.element_at(frequency)
     th, ph = np.meshgrid(rule.theta, rule.phi, indexing="ij")
@@ -394,8 +387,8 @@ def _power_matrix_common(array, frequency, rule) -> np.ndarray:
         folded = wts[:h].copy()
         folded[: nt - h] += wts[h:][::-1]
         dirs = ThetaPhiGrid(rule.theta[:h], rule.phi).vectors
-        return _gram(pos, array.k(frequency), dirs, folded.ravel())
-    return _gram(pos, array.k(frequency), rule.grid.vectors, wts.ravel())
+        return gram_matrix(pos, array.k(frequency), dirs, folded.ravel())
+    return gram_matrix(pos, array.k(frequency), rule.grid.vectors, wts.ravel())
 
 
 def power_matrix(array, *, frequency: float | None = None,
