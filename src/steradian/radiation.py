@@ -98,18 +98,16 @@ def _quadrature(array, frequency, margin):
 
 def _closed_form_cheaper(array, frequency, margin) -> bool:
     """Cost model: the N^2/2 sinc pair sum against the two quadrature rules on the engine."""
-    from . import _cost
-    from .engine import choose_path
+    from .engine import field_seconds, sinc_power_seconds
 
-    t_closed = _cost.sinc_pairs(array.n)
+    t_closed = sinc_power_seconds(array.n)
     if t_closed < 1e-3:  # not worth pricing the alternative
         return True
     t_quad = 0.0
     for c in (margin, margin + 10):
         rule = rule_for(array, frequency, c)
-        pc = choose_path(array.positions, array.k(frequency), rule.grid,
-                         lattice=array.geometry.lattice)
-        t_quad += pc.estimates[pc.method] + _cost.per_direction(rule.n_theta * rule.n_phi)
+        t_quad += field_seconds(array.positions, array.k(frequency), rule.grid,
+                                lattice=array.geometry.lattice)
     return t_closed <= t_quad
 
 

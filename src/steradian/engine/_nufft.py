@@ -15,9 +15,9 @@ The exponent sign is always passed explicitly (``forward=False`` is :math:`e^{+i
 matching the engine's convention) rather than left to a default, because defaults differ
 between transform types and libraries.
 
-Plans are cached (least recently used, a few entries) on the exact content of positions,
-directions, wavenumber and tolerance: repeated evaluations with fixed positions and
-directions and new weights (synthesis loops, beam tables) only execute the transform.
+Plans are cached (the engine's one least-recently-used memo, four entries) on the exact
+content of positions, directions, wavenumber and tolerance: repeated evaluations with fixed
+positions and directions and new weights (synthesis loops, beam tables) only execute the transform.
 
 Why ducc0 (measured here, 2 cores, 10,000 random planar elements onto 1,000,000 random
 directions, tolerance 1e-12): ducc0 type 3 0.15 s one-shot (plan 0.08 s, execute 0.08 s),
@@ -42,18 +42,16 @@ from __future__ import annotations
 
 import os
 import threading
-from collections import OrderedDict
 
 import numpy as np
 
-__all__ = ["available", "min_tol", "type3", "type1_uv", "clear_cache", "cache_info"]
+from ._cache import LRU
+
+__all__ = ["available", "min_tol", "nthreads", "type3", "type1_uv", "clear_cache",
+           "cache_info"]
 
 _ducc = None
-_LOCK = threading.Lock()
-_CACHE: OrderedDict = OrderedDict()
-_CACHE_ENTRIES = 4
-_CACHE_POINTS = 8_000_000  # total targets + sources held by cached plans
-_stats = {"hits": 0, "misses": 0}
+_PLANS = LRU(size=4, budget=8_000_000)  # budget: total targets + sources held by the plans
 
 
 def _lib():
@@ -69,7 +67,8 @@ def _lib():
     return _ducc or None
 
 
-def _plan3_class():
+def plan3_class():
+    """The library's type-3 plan class (None when unavailable)."""
     nf = _lib()
     if nf is None:
         return None
@@ -81,7 +80,7 @@ def _plan3_class():
 
 def available() -> bool:
     """True when the non-uniform FFT library (with type 3) is importable."""
-    return _plan3_class() is not None
+    return plan3_class() is not None
 
 
 def nthreads() -> int:
@@ -92,7 +91,7 @@ def nthreads() -> int:
         return max(1, os.cpu_count() or 1)
 
 
-_MIN_TOL: dict[int, float] = {}
+_MIN_TOL: dict[int, float] = {}  # one constant per dimension (1, 2, 3): never evicted
 
 
 def min_tol(ndim: int) -> float:
@@ -112,87 +111,59 @@ def _fingerprint(a: np.ndarray) -> tuple:
     return (a.shape, a[::step].tobytes())
 
 
-def _lookup(key_arrays, key_scalars):
+def _cached_plan(key_arrays, key_scalars, make, points: int):
+    """The plan for these arrays and scalars: from the cache (content compared in full), or
+    made by ``make()`` and stored."""
     fp = (key_scalars, tuple(_fingerprint(a) for a in key_arrays))
-    with _LOCK:
-        for k, entry in _CACHE.items():
-            if k == fp and all(np.array_equal(a, b) for a, b in zip(key_arrays, entry[0],
-                                                                   strict=True)):
-                _CACHE.move_to_end(k)
-                _stats["hits"] += 1
-                return fp, entry[1]
-    _stats["misses"] += 1
-    return fp, None
-
-
-def _store(fp, key_arrays, value, points: int):
-    if points > _CACHE_POINTS:
-        return
-    with _LOCK:
-        _CACHE[fp] = ([np.array(a, copy=True) for a in key_arrays], value, points)
-        _CACHE.move_to_end(fp)
-        while len(_CACHE) > _CACHE_ENTRIES or sum(e[2] for e in _CACHE.values()) > _CACHE_POINTS:
-            _CACHE.popitem(last=False)
+    got = _PLANS.get(fp, check=lambda v: all(
+        np.array_equal(a, b) for a, b in zip(key_arrays, v[0], strict=True)))
+    if got is not None:
+        return got[1]
+    plan = _Plan(make())
+    _PLANS.put(fp, ([np.array(a, copy=True) for a in key_arrays], plan), points)
+    return plan
 
 
 def clear_cache() -> None:
     """Forget every cached transform plan."""
-    with _LOCK:
-        _CACHE.clear()
-        _stats["hits"] = _stats["misses"] = 0
+    _PLANS.clear()
 
 
 def cache_info() -> dict:
     """Number of cached plans and the hit/miss counts since the last clear."""
-    with _LOCK:
-        return {"plans": len(_CACHE), **_stats}
+    info = _PLANS.info()
+    return {"plans": info["entries"], "hits": info["hits"], "misses": info["misses"]}
 
 
 class _Plan:
     """A ducc0 plan with a lock (its methods must not run concurrently on one object)."""
 
-    def __init__(self, plan, extra=None):
+    def __init__(self, plan):
         self.plan = plan
-        self.extra = extra
         self.lock = threading.Lock()
 
 
-def _reduce(positions: np.ndarray, k: float, tol: float):
-    """Columns of ``positions`` that vary, and the constant remainder.
-
-    A column whose half-range contributes a phase below tol/100 is treated as constant (its
-    mid-range goes into ``offset``); returns (column indices, offset vector (3,)).
-    """
-    lo, hi = positions.min(axis=0), positions.max(axis=0)
-    mid = 0.5 * (lo + hi)  # exact for a constant column
-    keep = [i for i in range(3) if k * 0.5 * (hi[i] - lo[i]) > 1e-2 * tol]
-    offset = np.where([i not in keep for i in range(3)], mid, 0.0)
-    return keep, offset
-
-
 def type3(positions: np.ndarray, weights: np.ndarray, k: float, directions: np.ndarray,
-          tol: float, keep=None, offset=None, threads: int | None = None) -> np.ndarray:
+          tol: float, keep, offset, threads: int | None = None) -> np.ndarray:
     """Array factor at arbitrary ``directions`` (M, 3) by a type-3 transform.
 
-    ``keep`` (varying coordinates) and ``offset`` (the constant ones) come from
-    :func:`_reduce` when not given; ``threads`` defaults to every available CPU.
+    ``keep`` lists the coordinates that vary and ``offset`` (3,) holds the constant ones (the
+    engine's layout analysis); ``threads`` defaults to every available CPU.
     """
     pos = np.ascontiguousarray(positions, float)
     dirs = np.ascontiguousarray(directions, float)
-    if keep is None:
-        keep, offset = _reduce(pos, k, tol)
     w = np.asarray(weights, complex)
     if not keep:  # every element at one point
         out = np.full(len(dirs), w.sum())
     else:
-        fp, plan = _lookup((pos, dirs), ("t3", float(k), float(tol), threads))
-        if plan is None:
+        def make():
             src = np.ascontiguousarray(k * pos[:, keep])
             dst = np.ascontiguousarray(dirs[:, keep])
-            p3 = _plan3_class()(coord_in=src, coord_out=dst, epsilon=float(tol),
-                                nthreads=threads or nthreads())
-            plan = _Plan(p3)
-            _store(fp, (pos, dirs), plan, len(pos) + len(dirs))
+            return plan3_class()(coord_in=src, coord_out=dst, epsilon=float(tol),
+                                 nthreads=threads or nthreads())
+
+        plan = _cached_plan((pos, dirs), ("t3", float(k), float(tol), threads), make,
+                            len(pos) + len(dirs))
         with plan.lock:
             out = plan.plan.exec(forward=False, points_in=np.ascontiguousarray(w))
     if np.any(offset):
@@ -214,20 +185,17 @@ def type1_uv(positions: np.ndarray, weights: np.ndarray, k: float, u0: float, du
     pu, pv = nu // 2, nv // 2
     uc, vc = u0 + pu * du, v0 + pv * dv
     x, y = pos[:, 0], pos[:, 1]
-    fp, plan = _lookup((pos,), ("t1", float(k), float(tol), float(du), float(dv), nu, nv,
-                                threads))
-    if plan is None:
-        cu = k * du * x
-        cv = k * dv * y
+
+    def make():
         coord = np.empty((len(pos), 2))
         # Fold into [-pi, pi): exact, the transform's modes are integers.
-        coord[:, 0] = np.mod(cv + np.pi, 2 * np.pi) - np.pi
-        coord[:, 1] = np.mod(cu + np.pi, 2 * np.pi) - np.pi
-        nf = _lib()
-        p1 = nf.plan(nu2u=True, coord=coord, grid_shape=(nv, nu), epsilon=float(tol),
-                     nthreads=threads or nthreads())
-        plan = _Plan(p1)
-        _store(fp, (pos,), plan, len(pos) + nu * nv)
+        coord[:, 0] = np.mod(k * dv * y + np.pi, 2 * np.pi) - np.pi
+        coord[:, 1] = np.mod(k * du * x + np.pi, 2 * np.pi) - np.pi
+        return _lib().plan(nu2u=True, coord=coord, grid_shape=(nv, nu), epsilon=float(tol),
+                           nthreads=threads or nthreads())
+
+    plan = _cached_plan((pos,), ("t1", float(k), float(tol), float(du), float(dv), nu, nv,
+                                 threads), make, len(pos) + nu * nv)
     c = np.ascontiguousarray(w * np.exp(1j * k * (uc * x + vc * y)))
     with plan.lock:
         return plan.plan.nu2u(forward=False, points=c, out=np.empty((nv, nu), complex))

@@ -34,10 +34,11 @@ Audio Electroacoust.* 17 (1969) 86-92.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import lru_cache
 
 import numpy as np
 import scipy.fft as sfft
+
+from ._cache import LRU
 
 __all__ = ["Rows", "detect_rows", "uniform_step", "czt", "lattice_uv"]
 
@@ -73,6 +74,13 @@ class Rows:
         W = np.zeros((self.ny, self.nx), complex)
         np.add.at(W, (self.j, self.i), weights)
         return W
+
+    def factors(self, weights: np.ndarray, tol: float):
+        """(b, a) with the weight grid equal to outer(b, a) within tol/10 of sum |w|, when
+        every row shares one offset (the chirp-z path then needs two 1-D transforms); else
+        None."""
+        return _rank1(self.grid(np.asarray(weights, complex)), tol) if self.common_offset \
+            else None
 
 
 def _fit_step(rel: np.ndarray, rough: float, slack: float) -> tuple[float, np.ndarray] | None:
@@ -184,9 +192,19 @@ def _chirp(alpha: float, t: np.ndarray) -> np.ndarray:
     return np.exp(1j * ph.astype(float))
 
 
-@lru_cache(maxsize=32)
+_KERNELS = LRU(size=32)  # Bluestein chirps and kernel spectra by (alpha, n, m)
+
+
 def _bluestein(alpha: float, n: int, m: int):
-    """Chirps and the FFT of the convolution kernel for an n -> m transform."""
+    """Chirps and the FFT of the convolution kernel for an n -> m transform (memoised)."""
+    got = _KERNELS.get((alpha, n, m))
+    if got is None:
+        got = _bluestein_make(alpha, n, m)
+        _KERNELS.put((alpha, n, m), got)
+    return got
+
+
+def _bluestein_make(alpha: float, n: int, m: int):
     L = sfft.next_fast_len(n + m - 1)
     c_in = _chirp(alpha, np.arange(n))
     c_out = _chirp(alpha, np.arange(m))
@@ -244,6 +262,7 @@ def lattice_uv(rows: Rows, weights: np.ndarray, k: float, u0: float, du: float, 
                workers: int = -1) -> np.ndarray:
     """Array factor on the (nv, nu) u-v grid for a row-structured layout; flat (nv*nu,)."""
     W = rows.grid(np.asarray(weights, complex))
+    sep = _rank1(W, tol) if rows.common_offset else None
     u = u0 + du * np.arange(nu)
     v = v0 + dv * np.arange(nv)
     # exp(jk u_p i dx) = exp(jk u0 dx i) exp(j (k du dx) p i); likewise for rows. The row
@@ -254,7 +273,6 @@ def lattice_uv(rows: Rows, weights: np.ndarray, k: float, u0: float, du: float, 
     pv = np.exp(1j * k * rows.y0 * v)
     alpha_u = k * du * rows.dx
     alpha_v = k * dv * rows.dy
-    sep = _rank1(W, tol) if rows.common_offset else None
     if sep is not None:
         b, a = sep
         A = czt(a * ai, alpha_u, nu, workers=workers, post=pu)

@@ -1,0 +1,64 @@
+"""The exact paths: the plain-numpy definition and numba direct summation."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from . import _cost
+from ._cache import LRU
+
+__all__ = ["kernels", "af_reference", "af_direct", "budget_rows"]
+
+MEMORY_BUDGET = 64 * 2**20
+"""Bytes of temporary complex storage any single evaluation may use (chunking limit)."""
+
+_kernels = None
+
+
+def kernels():
+    """The numba kernels module, imported on first use (keeps ``import steradian`` fast)."""
+    global _kernels
+    if _kernels is None:
+        from . import _kernels as kmod
+
+        _kernels = kmod
+    return _kernels
+
+
+def budget_rows(row_bytes: int) -> int:
+    """Rows of ``row_bytes`` bytes each that fit in :data:`MEMORY_BUDGET` (at least one)."""
+    return max(1, MEMORY_BUDGET // max(int(row_bytes), 1))
+
+
+def af_reference(pos, w, k, dirs):
+    """Plain-numpy array factor, chunked to MEMORY_BUDGET."""
+    m = len(dirs)
+    out = np.empty(m, complex)
+    step = budget_rows(16 * len(pos))
+    for i in range(0, m, step):
+        out[i:i + step] = np.exp(1j * k * (dirs[i:i + step] @ pos.T)) @ w
+    return out
+
+
+_COLUMNS = LRU(size=64)  # contiguous columns of frozen positions and weights
+
+
+def _xyz(pos):
+    return tuple(np.ascontiguousarray(c) for c in np.asarray(pos, float).T)
+
+
+def _re_im(w):
+    return np.ascontiguousarray(w.real), np.ascontiguousarray(w.imag)
+
+
+def af_direct(pos, w, k, dirs):
+    """numba direct summation (one thread below :data:`._cost.SERIAL_TERMS` terms)."""
+    km = kernels()
+    out_re = np.empty(len(dirs))
+    out_im = np.empty(len(dirs))
+    px, py, pz = _COLUMNS.by_identity(pos, "xyz", _xyz)
+    wr, wi = _COLUMNS.by_identity(w, "re-im", _re_im)
+    d = np.ascontiguousarray(dirs.T)
+    kern = km.af_direct_serial if len(pos) * len(dirs) < _cost.SERIAL_TERMS else km.af_direct
+    kern(px, py, pz, wr, wi, float(k), d[0], d[1], d[2], out_re, out_im)
+    return out_re + 1j * out_im

@@ -1,0 +1,246 @@
+"""Fields of arrays: :func:`field` (pattern x array factor) and :func:`response_matrix`."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..directions import Directions, ThetaPhiGrid, UVGrid, angles_of, as_directions, spherical_basis
+from ..elements import Isotropic
+from ..errors import SteradianError
+from ._cache import LRU
+from ._direct import budget_rows
+from ._evaluate import DEFAULT_TOL, Method, check_method, check_tol, evaluate
+from ._layout import lattice_hint
+
+__all__ = ["Field", "field", "response_matrix", "response_blocks", "RESULT_BUDGET"]
+
+RESULT_BUDGET = 2 * 2**30
+"""Bytes the full result of :func:`response_matrix` may take; beyond it, the call is refused
+(:func:`response_blocks` takes the directions a chunk at a time)."""
+
+
+@dataclass(frozen=True, eq=False)
+class Field:
+    """Far field of an array on a set of directions.
+
+    Attributes
+    ----------
+    e_theta, e_phi : ndarray of complex
+        Field components in the global spherical basis, shaped like ``where.shape``; NaN at
+        invisible u-v points. Scalar element models put their field in ``e_theta``.
+    where : Directions, ThetaPhiGrid or UVGrid
+        The directions evaluated.
+    """
+
+    e_theta: np.ndarray
+    e_phi: np.ndarray
+    where: Directions | ThetaPhiGrid | UVGrid
+
+    @property
+    def intensity(self) -> np.ndarray:
+        """|E_theta|^2 + |E_phi|^2 (radiation intensity up to a constant)."""
+        return np.abs(self.e_theta) ** 2 + np.abs(self.e_phi) ** 2
+
+
+_DRIVES = LRU(size=64)  # (k, weights, element) by array identity and frequency
+
+
+def _drive(array, frequency):
+    """(k, weights, element) of ``array`` at ``frequency``, memoised per array object.
+
+    Arrays are immutable, so repeated evaluations (peak refinement, synthesis loops) skip
+    recomputing N steering phases per call.
+    """
+    def make(a):
+        w = np.asarray(a.weights(frequency), complex)
+        w.setflags(write=False)
+        return a.k(frequency), w, a.element_at(frequency)
+
+    key = None if frequency is None else float(frequency)
+    return _DRIVES.by_identity(array, key, make, immutable=True)
+
+
+_GROUPS = LRU(size=8)  # orientation groups by identity of a frozen orientations array
+
+
+def _groups(orientations, n):
+    """(rotation or None, element indices) for each distinct orientation.
+
+    Geometry orientations are read-only arrays, so the grouping is memoised on the array's
+    identity and computed once per geometry, not once per evaluation.
+    """
+    if orientations is None:
+        return [(None, slice(None))]
+
+    def make(R):
+        flat = np.round(R.reshape(n, 9), 12)
+        uniq, inv = np.unique(flat, axis=0, return_inverse=True)
+        inv = inv.ravel()
+        return [(uniq[g].reshape(3, 3), np.flatnonzero(inv == g)) for g in range(len(uniq))]
+
+    return _GROUPS.by_identity(orientations, n, make)
+
+
+def _element_global(element, dirs, R):
+    """Element field at global directions for local->global rotation R.
+
+    Returns (scalar, None) for scalar models or (None, cartesian (M,3) complex) for vector
+    models, in the global frame.
+    """
+    local = dirs if R is None else dirs @ R
+    th, ph = angles_of(local)
+    e_t, e_p = element.pattern(th, ph)
+    if not element.vector:
+        return e_t, None
+    bt, bp = spherical_basis(th, ph)
+    vec = e_t[:, None] * bt + e_p[:, None] * bp
+    if R is not None:
+        vec = vec @ R.T
+    return None, vec
+
+
+def _invisible(where):
+    """Boolean mask (flat) of invisible u-v points, or None when every point is visible."""
+    if isinstance(where, (Directions, ThetaPhiGrid)):
+        return None  # always visible
+    if not isinstance(where, UVGrid):
+        vis = where.visible
+        return None if vis.all() else ~vis
+    u = np.asarray(where.u, float)
+    v = np.asarray(where.v, float)
+    if u.size and v.size and np.abs(u).max() ** 2 + np.abs(v).max() ** 2 <= 1.0:
+        return None
+    return ((u[None, :] ** 2 + v[:, None] ** 2) > 1.0).ravel()
+
+
+def _grouped(array, el, pos, w, k, where, method, tol):
+    """(e_theta, e_phi) flat for elements with orientations: one array factor per group of
+    equal orientation, each times its rotated element pattern."""
+    dirs = where.vectors
+    scalar = np.zeros(len(dirs), complex)
+    vec = np.zeros((len(dirs), 3), complex)
+    for R, idx in _groups(array.geometry.orientations, array.n):
+        af = evaluate(pos[idx], w[idx], k, where, method, tol)
+        s, v = _element_global(el, dirs, R)
+        if v is None:
+            scalar += s * af
+        else:
+            vec += v * af[:, None]
+    if not el.vector:
+        return scalar, np.zeros_like(scalar)
+    bt, bp = spherical_basis(*angles_of(dirs))
+    return (vec * bt).sum(axis=1), (vec * bp).sum(axis=1)
+
+
+def field(array, where, *, frequency: float | None = None, method: Method = "auto",
+          tol: float = DEFAULT_TOL) -> Field:
+    """Far field of ``array`` at ``where`` (directions or a grid).
+
+    Parameters
+    ----------
+    array : Array
+        The array (geometry, element, weights).
+    where : Directions, ThetaPhiGrid, UVGrid or array_like (..., 3)
+        Directions to evaluate.
+    frequency : float, optional
+        Evaluation frequency in Hz (default: the design frequency). Phase-steered arrays squint
+        off-frequency; true-time-delay arrays do not.
+    method : str
+        Leave at "auto" (the cost model picks); "reference" forces the plain-numpy path, and
+        "direct", "fft", "nufft" force the others (for tests).
+    tol : float
+        Accuracy of the transform paths relative to the sum of |weights| (default
+        :data:`DEFAULT_TOL`: directivity within 1e-9 of direct summation).
+
+    Returns
+    -------
+    Field
+        Components in the global (theta, phi) basis, shaped like ``where``.
+    """
+    check_method(method)
+    tol = check_tol(tol)
+    where = as_directions(where)
+    k, w, el = _drive(array, frequency)
+    pos = array.positions
+    geo = array.geometry
+    if geo.orientations is not None:
+        e_t, e_p = _grouped(array, el, pos, w, k, where, method, tol)
+    else:
+        af = evaluate(pos, w, k, where, method, tol, lattice_hint(geo.lattice))
+        if type(el) is Isotropic:  # unit pattern: skip the angles
+            e_t, e_p = af, np.zeros(af.shape, complex)
+        else:
+            e_t, e_p = el.pattern(*angles_of(where.vectors))
+            e_t = e_t * af
+            e_p = e_p * af
+    hidden = _invisible(where)
+    if hidden is not None:
+        # e_t and e_p are fresh arrays here (products, or the array factor itself).
+        e_t[hidden] = np.nan
+        e_p[hidden] = np.nan
+    return Field(e_t.reshape(where.shape), e_p.reshape(where.shape), where)
+
+
+def _responses_into(out, el, k, pos, groups, dirs):
+    """Fill ``out`` (2, m, N), zero on entry, with the element responses at ``dirs``."""
+    bt = bp = None
+    if el.vector:
+        bt, bp = spherical_basis(*angles_of(dirs))
+    for R, idx in groups:
+        ph_m = np.exp(1j * k * (dirs @ pos[idx].T))
+        s, v = _element_global(el, dirs, R)
+        if v is None:
+            out[0][:, idx] = s[:, None] * ph_m
+        else:
+            out[0][:, idx] = (v * bt).sum(axis=1)[:, None] * ph_m
+            out[1][:, idx] = (v * bp).sum(axis=1)[:, None] * ph_m
+
+
+def _response_setup(array, where, frequency):
+    dirs = as_directions(where).vectors
+    return (dirs, array.k(frequency), array.element_at(frequency), array.positions,
+            _groups(array.geometry.orientations, array.n))
+
+
+def response_blocks(array, where, *, frequency: float | None = None, rows: int | None = None):
+    """The rows of :func:`response_matrix` a chunk of directions at a time.
+
+    Yields ``(start, block)`` with ``block`` of shape (2, m, N) for directions
+    ``start .. start + m - 1`` of ``where`` (in ``where.vectors`` order); ``rows`` directions
+    per block (default: as many as fit in :data:`MEMORY_BUDGET`). For callers that reduce the
+    responses as they go (a Gram matrix, a pattern for many weight vectors).
+    """
+    dirs, k, el, pos, groups = _response_setup(array, where, frequency)
+    step = int(rows) if rows else budget_rows(64 * array.n)
+    for i in range(0, len(dirs), step):
+        d = dirs[i:i + step]
+        block = np.zeros((2, len(d), array.n), complex)
+        _responses_into(block, el, k, pos, groups, d)
+        yield i, block
+
+
+def response_matrix(array, where, *, frequency: float | None = None) -> np.ndarray:
+    """Per-element responses: ``E = A @ w`` for any weights ``w``.
+
+    Returns an array of shape (2, M, N): the theta and phi field components of each element
+    (element pattern times its phase term) at the M directions, without weights. For scalar
+    models the second component is zero. Used by synthesis, which needs patterns linear in the
+    weights. Intermediates are computed in chunks of directions within
+    :data:`MEMORY_BUDGET`; a result larger than :data:`RESULT_BUDGET` is refused (use
+    :func:`response_blocks`).
+    """
+    dirs, k, el, pos, groups = _response_setup(array, where, frequency)
+    m, n = len(dirs), array.n
+    need = 2 * m * n * 16
+    if need > RESULT_BUDGET:
+        raise SteradianError(
+            f"response_matrix would need {need / 2**30:.1f} GiB for {m} directions x {n} "
+            f"elements (limit {RESULT_BUDGET / 2**30:.0f} GiB): use "
+            "engine.response_blocks to take the directions a chunk at a time")
+    out = np.zeros((2, m, n), complex)
+    step = budget_rows(32 * n)
+    for i in range(0, m, step):
+        _responses_into(out[:, i:i + step], el, k, pos, groups, dirs[i:i + step])
+    return out
