@@ -8,7 +8,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as hs
 
 import steradian as st
-from steradian.engine import array_factor, response_matrix
+from steradian.engine import RESULT_BUDGET, array_factor, response_blocks, response_matrix
+from steradian.errors import SteradianError
 
 
 def _random_case(rng, n, m, planar=False):
@@ -79,3 +80,29 @@ def test_theta_phi_grid_shape(f1):
     fld = st.field(a, g)
     assert fld.intensity.shape == (3, 2)
     assert fld.intensity[0, 0] == pytest.approx(64.0)
+
+
+def test_response_matrix_chunks_and_blocks(rng, f1):
+    """response_matrix filled chunk by chunk equals one block per direction chunk of
+    response_blocks, and both equal the definition exp(+jk r.r_n) times the element
+    pattern (here a short dipole rotated per element: two orientation groups)."""
+    pos, w, d = _random_case(rng, 11, 57)
+    R = np.stack([np.eye(3) if i % 2 else st.rotation_to((1.0, 0, 0), (0, 0, 1.0))
+                  for i in range(11)])
+    a = st.Array(st.Geometry(pos, orientations=R), f1, element=st.ShortDipole("x"), taper=w)
+    A = response_matrix(a, d)
+    B = np.concatenate([blk for _, blk in response_blocks(a, d, rows=10)], axis=1)
+    np.testing.assert_array_equal(A, B)
+    fld = st.field(a, d, method="reference")
+    np.testing.assert_allclose(A[0] @ w, fld.e_theta, atol=1e-12)
+    np.testing.assert_allclose(A[1] @ w, fld.e_phi, atol=1e-12)
+
+
+def test_response_matrix_refuses_a_result_over_budget(f1):
+    """A result larger than RESULT_BUDGET is refused in one line saying what it would need,
+    before anything is allocated."""
+    a = st.Array(st.rectangular(40, 40, 0.5), f1)
+    m = RESULT_BUDGET // (2 * 16 * a.n) + 1
+    d = np.tile([0.0, 0.0, 1.0], (m, 1))
+    with pytest.raises(SteradianError, match=r"would need 2\.0 GiB .*response_blocks"):
+        response_matrix(a, d)

@@ -40,7 +40,7 @@ import scipy.fft as sfft
 
 from ._cache import LRU
 
-__all__ = ["Rows", "detect_rows", "uniform_step", "czt", "lattice_uv"]
+__all__ = ["Rows", "detect_rows", "uniform_step", "czt", "lattice_uv", "height_phase"]
 
 _EPS = np.finfo(float).eps
 _TWO_PI_L = 8 * np.arctan(np.longdouble(1))  # 2 pi in extended precision where available
@@ -284,7 +284,13 @@ def lattice_uv(rows: Rows, weights: np.ndarray, k: float, u0: float, du: float, 
             S *= np.exp(1j * k * np.outer(rows.x0 - rows.x0[0], u))
         S *= bj[:, None]
         out = czt(S, alpha_v, nv, axis=0, workers=workers, post=pv)
-    if rows.z0 != 0.0:
-        w2 = 1.0 - u[None, :] ** 2 - v[:, None] ** 2
-        out *= np.exp(1j * k * rows.z0 * hemisphere * np.sqrt(np.clip(w2, 0.0, None)))
+    height_phase(out, k, rows.z0, u, v, hemisphere)
     return out.ravel()
+
+
+def height_phase(s: np.ndarray, k: float, z0: float, u, v, hemisphere: int) -> None:
+    """Multiply the planar sum ``s`` (nv, nu) on a u-v grid in place by exp(jk w z0), w the
+    third direction cosine on the grid's hemisphere (nothing to do for z0 = 0)."""
+    if z0 != 0.0:
+        w2 = 1.0 - np.asarray(u)[None, :] ** 2 - np.asarray(v)[:, None] ** 2
+        s *= np.exp(1j * k * z0 * hemisphere * np.sqrt(np.clip(w2, 0.0, None)))

@@ -148,6 +148,7 @@ def _nufft_estimate(p):
 
 def _nufft_run(p, w, seconds):
     from . import _nufft
+    from ._fft import height_phase
 
     lay = p.layout
     if not p.uv_planar:
@@ -156,9 +157,7 @@ def _nufft_run(p, w, seconds):
     g, (su, sv) = p.where, p.uv_steps
     s = _nufft.type1_uv(p.pos, w, p.k, float(g.u[0]), su, len(g.u), float(g.v[0]), sv,
                         len(g.v), p.tol, _threads(seconds))
-    if lay.z0 != 0.0:
-        w2 = 1.0 - g.u[None, :] ** 2 - g.v[:, None] ** 2
-        s *= np.exp(1j * p.k * lay.z0 * g.hemisphere * np.sqrt(np.clip(w2, 0.0, None)))
+    height_phase(s, p.k, lay.z0, g.u, g.v, g.hemisphere)
     return s.ravel()
 
 
