@@ -54,9 +54,6 @@ class LRU:
         self.hits = 0
         self.misses = 0
 
-    def __len__(self) -> int:
-        return len(self._d)
-
     def get(self, key: Hashable, default=None, check: Callable[[Any], bool] | None = None):
         """The value stored under ``key`` (marked as recently used), else ``default``.
 
