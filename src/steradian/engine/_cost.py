@@ -19,7 +19,7 @@ import math
 import os
 
 __all__ = ["MARGIN", "reference", "direct", "nufft3", "nufft1", "fft_lattice", "kernel_width",
-           "grid3", "SERIAL_TERMS", "OVERHEADS", "GRID_LIMIT", "sinc_pairs",
+           "grid3", "SERIAL_TERMS", "SINC_SERIAL_PAIRS", "OVERHEADS", "GRID_LIMIT", "sinc_pairs",
            "per_direction", "THREADS_FROM"]
 
 MARGIN = 1.5
@@ -108,14 +108,15 @@ def nufft1(n: int, nu: int, nv: int, tol: float) -> float:
 
 
 _R_SINC = (2.2e8, 3.5e8)  # sinc pairs per second: one thread, both threads
-_SINC_SERIAL_PAIRS = 2_000_000  # radiation.closed_form_power switches at N^2 = 4e6
+SINC_SERIAL_PAIRS = 2_000_000
+"""Below this many element pairs the sinc pair sum runs on one thread (no pool wake-up)."""
 _PER_DIRECTION = 1.5e-7  # field(): element pattern, angles, intensity per direction
 
 
 def sinc_pairs(n: int) -> float:
     """Closed-form radiated power of isotropic elements: N (N - 1) / 2 sinc pairs."""
     pairs = n * (n - 1) / 2
-    return 5e-5 + pairs / _R_SINC[0 if pairs < _SINC_SERIAL_PAIRS else 1]
+    return 5e-5 + pairs / _R_SINC[0 if pairs < SINC_SERIAL_PAIRS else 1]
 
 
 def per_direction(m: int) -> float:

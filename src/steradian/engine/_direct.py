@@ -7,7 +7,7 @@ import numpy as np
 from . import _cost
 from ._cache import LRU
 
-__all__ = ["kernels", "af_reference", "af_direct", "budget_rows"]
+__all__ = ["kernels", "af_reference", "af_direct", "budget_rows", "xyz_columns", "re_im_columns"]
 
 MEMORY_BUDGET = 64 * 2**20
 """Bytes of temporary complex storage any single evaluation may use (chunking limit)."""
@@ -51,13 +51,24 @@ def _re_im(w):
     return np.ascontiguousarray(w.real), np.ascontiguousarray(w.imag)
 
 
+def xyz_columns(pos) -> tuple:
+    """Contiguous x, y, z columns of positions (N, 3), as the kernels take them (memoised
+    for frozen arrays)."""
+    return _COLUMNS.by_identity(pos, "xyz", _xyz)
+
+
+def re_im_columns(w) -> tuple:
+    """Contiguous real and imaginary parts of complex weights (memoised for frozen arrays)."""
+    return _COLUMNS.by_identity(w, "re-im", _re_im)
+
+
 def af_direct(pos, w, k, dirs):
     """numba direct summation (one thread below :data:`._cost.SERIAL_TERMS` terms)."""
     km = kernels()
     out_re = np.empty(len(dirs))
     out_im = np.empty(len(dirs))
-    px, py, pz = _COLUMNS.by_identity(pos, "xyz", _xyz)
-    wr, wi = _COLUMNS.by_identity(w, "re-im", _re_im)
+    px, py, pz = xyz_columns(pos)
+    wr, wi = re_im_columns(w)
     d = np.ascontiguousarray(dirs.T)
     kern = km.af_direct_serial if len(pos) * len(dirs) < _cost.SERIAL_TERMS else km.af_direct
     kern(px, py, pz, wr, wi, float(k), d[0], d[1], d[2], out_re, out_im)

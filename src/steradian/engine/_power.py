@@ -8,7 +8,7 @@ import numpy as np
 
 from ..directions import as_directions
 from . import _cost
-from ._direct import budget_rows, kernels
+from ._direct import budget_rows, kernels, re_im_columns, xyz_columns
 from ._evaluate import DEFAULT_TOL, choose_path
 
 __all__ = ["gram_matrix", "sinc_power_sum", "sinc_power_seconds", "field_seconds"]
@@ -30,7 +30,7 @@ def gram_matrix(positions, k: float, dirs: np.ndarray, weights: np.ndarray) -> n
     keep = wts > 0
     dirs, wts = np.asarray(dirs, float)[keep], wts[keep]
     km = kernels()
-    px, py, pz = (np.ascontiguousarray(c) for c in pos.T)
+    px, py, pz = xyz_columns(pos)
     G = np.zeros((n, n), complex, order="F")
     step = budget_rows(16 * n)
     for i in range(0, len(dirs), step):
@@ -50,11 +50,10 @@ def sinc_power_sum(positions, weights, k: float) -> float:
     (half the pairs, numba; one thread below a few million pairs, where waking the thread
     pool costs more than it saves)."""
     km = kernels()
-    p = np.ascontiguousarray(np.asarray(positions, float).T)
     w = np.asarray(weights, complex)
-    kern = km.sinc_power_serial if len(w) ** 2 < 4_000_000 else km.sinc_power
-    return float(kern(p[0], p[1], p[2], np.ascontiguousarray(w.real),
-                      np.ascontiguousarray(w.imag), float(k)))
+    n = len(w)
+    kern = km.sinc_power_serial if n * (n - 1) / 2 < _cost.SINC_SERIAL_PAIRS else km.sinc_power
+    return float(kern(*xyz_columns(np.asarray(positions, float)), *re_im_columns(w), float(k)))
 
 
 def sinc_power_seconds(n: int) -> float:
