@@ -38,21 +38,16 @@ from dataclasses import replace
 
 import numpy as np
 
-from ..directions import Directions
+from ..directions import Directions, unit_vectors_deg
 from ..engine import response_matrix
 from ..errors import SteradianError
+from ..units import from_db20
 from ..validate import count
 from ._check import check_family, field_magnitude
-from ._convex import (
-    _finish,
-    _halfwidths,
-    _level,
-    _nulls,
-    _spacings,
-    _unit,
-)
-from ._frame import _orbits, symmetry_maps
+from ._frame import orbits, symmetry_maps
+from ._levels import below_peak, halfwidths, null_list, spacings
 from ._problem import SidelobeFamily, make_setup
+from ._report import finish
 from ._result import SynthesisResult
 
 __all__ = ["phase_only", "thin"]
@@ -74,8 +69,9 @@ class _Samples:
         self.b = np.zeros(0)
         self.A0 = None
         self.A1 = None
-        self.null_dirs = np.array([_unit(n.theta_deg, n.phi_deg) for n in nulls]).reshape(-1, 3)
-        self.null_b = np.array([10 ** ((n.depth_db if n.depth_db is not None else -60.0) / 20)
+        self.null_dirs = np.array([unit_vectors_deg(n.theta_deg, n.phi_deg)
+                                   for n in nulls]).reshape(-1, 3)
+        self.null_b = np.array([from_db20(n.depth_db if n.depth_db is not None else -60.0)
                                 for n in nulls])
         a0, a1 = _responses(setup.array, setup.r0[None, :])
         self.beam0, self.beam1 = a0, a1
@@ -185,15 +181,15 @@ def phase_only(array, *, psl_db: float | None = None, mainlobe=None, nulls=(),
     from scipy.optimize import basinhopping, minimize
 
     t_start = time.perf_counter()
-    level_db = _level("psl_db", psl_db)
-    nl = _nulls(nulls)
+    level_db = below_peak("psl_db", psl_db)
+    nl = null_list(nulls)
     hops = count("hops", hops, minimum=0)
     setup = make_setup(array, "complex", "none", 0.0)
     # Denser starting samples than the convex methods: a local optimiser exploits gaps.
-    coarse, dense = _spacings(setup, oversample if oversample is not None else 2.0,
+    coarse, dense = spacings(setup, oversample if oversample is not None else 2.0,
                               dense_oversample)
-    tau = 10 ** ((level_db if level_db is not None else -20.0) / 20)
-    h = _halfwidths(setup, mainlobe, tau)
+    tau = from_db20(level_db if level_db is not None else -20.0)
+    h = halfwidths(setup, mainlobe, tau)
     fam = SidelobeFamily(setup, h, True, None, coarse, dense)
     samples = _Samples(setup, fam, 1.0, nl)
     samples.add(fam.coarse())
@@ -237,16 +233,16 @@ def phase_only(array, *, psl_db: float | None = None, mainlobe=None, nulls=(),
         e2, _ = samples.fields(w[:, None])
         k = len(samples.null_b)
         cur = math.sqrt(float(np.max(e2[k:, 0]))) / e0 if len(e2) > k else 0.0
-        viol = chk["ratio"] > cur * 10 ** (tol_db / 20)
+        viol = chk["ratio"] > cur * from_db20(tol_db)
         if samples.add(chk["dirs"][viol]) == 0:
             break
     notes.append("phase-only (non-convex): L-BFGS-B with a sharpening soft maximum "
                  "(p = 8, 32, 128 then 512; gtol 1e-9, 200 iterations per stage)"
                  + (f"; {stop}" if stop else "") + f"; {rounds} sampling round(s)")
-    res = _finish(setup, w, method="phase_only", families=[fam] if level_db is not None
-                  else [], nulls=nl, h=h, dense_spacing=dense, tol_db=tol_db,
-                  limit_db=level_db, certificate={}, rounds=rounds, samples=len(samples.b),
-                  notes=notes, t_start=t_start, psl_limit=tau if level_db is not None else None)
+    res = finish(setup, w, method="phase_only", families=[fam] if level_db is not None
+                 else [], nulls=nl, h=h, dense_spacing=dense, tol_db=tol_db,
+                 limit_db=level_db, certificate={}, rounds=rounds, samples=len(samples.b),
+                 notes=notes, t_start=t_start, psl_limit=tau if level_db is not None else None)
     return res
 
 
@@ -288,17 +284,17 @@ def thin(array, *, fill: int | None = None, mainlobe=None, generations: int = 30
         fill = count("fill", fill, minimum=2)
         if fill > ne:
             raise SteradianError(f"fill={fill} exceeds the {ne} enabled elements")
-    coarse, dense = _spacings(setup, oversample if oversample is not None else 2.0,
+    coarse, dense = spacings(setup, oversample if oversample is not None else 2.0,
                               dense_oversample)
     if mainlobe is None:
         h = 1.2 * setup.wavelength / setup.frame.lengths
     else:
-        h = _halfwidths(setup, mainlobe, None)
+        h = halfwidths(setup, mainlobe, None)
     fam = SidelobeFamily(setup, h, True, None, coarse, dense)
     samples = _Samples(setup, fam, 1.0, [])
     samples.add(fam.coarse())
     maps = symmetry_maps(array.positions[idx], setup.frame) if symmetric else {"centro": None}
-    groups = (_orbits(ne, [maps["centro"]]) if maps["centro"] is not None
+    groups = (orbits(ne, [maps["centro"]]) if maps["centro"] is not None
               else [np.array([i]) for i in range(ne)])
     G = np.zeros((ne, len(groups)))
     for j, g in enumerate(groups):
@@ -339,7 +335,7 @@ def thin(array, *, fill: int | None = None, mainlobe=None, generations: int = 30
     w = arr.weights()
     notes = [f"thinning (non-convex): differential evolution, {res.nit} generations "
              f"(stop: {res.message}); {int(on.sum())} of {ne} elements on"]
-    return _finish(setup2, w, method="thinning", families=[], nulls=[], h=h,
-                   dense_spacing=dense, tol_db=0.01, limit_db=None, certificate={},
-                   rounds=1, samples=len(samples.b), notes=notes, t_start=t_start,
-                   psl_limit=None)
+    return finish(setup2, w, method="thinning", families=[], nulls=[], h=h,
+                  dense_spacing=dense, tol_db=0.01, limit_db=None, certificate={},
+                  rounds=1, samples=len(samples.b), notes=notes, t_start=t_start,
+                  psl_limit=None)

@@ -10,23 +10,32 @@ from typing import Literal, get_args
 import numpy as np
 
 from ..array import steering_phases
-from ..directions import Directions
+from ..directions import Directions, fibonacci_directions
 from ..engine import response_matrix
 from ..errors import SteradianError
-from ..radiation import fibonacci_directions, power_matrix
+from ..radiation import power_matrix
 from ..validate import choice
 from ._domain import Domain, choose_domain
 from ._frame import Frame, Param, chebyshev_null, frame_of, parametrise, symmetry_maps
 from ._masks import Mask, Notch
 
 __all__ = ["Setup", "make_setup", "Rows", "rows_at", "SidelobeFamily", "NotchFamily",
-           "WeightsKind", "SymmetryKind"]
+           "WeightsKind", "SymmetryKind", "cholesky"]
 
 WeightsKind = Literal["complex", "amplitude"]
 SymmetryKind = Literal["auto", "none", "centro", "quadrant"]
 
 _REAL_TOL = 1e-9
 _CHUNK = 2048
+
+
+def cholesky(M: np.ndarray, what: str) -> np.ndarray:
+    """Lower Cholesky factor of ``M``, or an error naming the ``what`` matrix."""
+    try:
+        return np.linalg.cholesky(M)
+    except np.linalg.LinAlgError:
+        raise SteradianError(f"the {what} matrix is not positive definite; raise the diagonal "
+                             "loading") from None
 
 
 @dataclass(eq=False)
@@ -46,6 +55,7 @@ class Setup:
     c0: np.ndarray
     g_wng: np.ndarray
     vector: bool
+    _whiten: np.ndarray | None = None
 
     @property
     def n(self) -> int:
@@ -68,6 +78,15 @@ class Setup:
         A = response_matrix(self.array, Directions.from_vectors(self.r0[None, :]))
         e = A[:, 0, :] @ w
         return float(np.sqrt(np.sum(np.abs(e) ** 2)))
+
+    def whitener(self) -> np.ndarray:
+        """L^{-T} with L L^T = Q_s (computed once)."""
+        if self._whiten is None:
+            from scipy.linalg import solve_triangular
+
+            L = cholesky(self.Qs, "radiated-power")
+            self._whiten = solve_triangular(L, np.eye(self.n), lower=True).T
+        return self._whiten
 
     def halfwidths(self, level: float) -> np.ndarray:
         """Default main-lobe zone: first null of the equivalent Dolph-Chebyshev line along
