@@ -108,12 +108,10 @@ def max_directivity(array, *, psl_db: float | None = None, mainlobe=None,
     dynamic_range_db : float, optional
         Largest over smallest weight magnitude (dB).
     wng_min_db : float, optional
-        White-noise-gain floor (dB; 10 log10 N for uniform weights), against superdirective,
-        tolerance-sensitive weights.
+        White-noise-gain floor (dB; 10 log10 N for uniform weights) against superdirectivity.
     loading : float
-        Diagonal loading of the radiated-power matrix relative to its mean diagonal (default
-        1e-5, which changes the directivity by well under 0.03 dB and keeps badly conditioned
-        problems solvable).
+        Diagonal loading of the power matrix relative to its mean diagonal (1e-5 changes the
+        directivity by well under 0.03 dB and keeps badly conditioned problems solvable).
     tol_db : float
         Allowed excess over the constraints on the dense re-check (dB).
     max_rounds : int
@@ -136,23 +134,18 @@ def max_directivity(array, *, psl_db: float | None = None, mainlobe=None,
     -----
     With no constraints the maximum directivity of an N-element uniform line of isotropic
     elements at half-wavelength spacing is N (its power matrix is :math:`4\pi I`); at
-    smaller spacings it exceeds N with superdirective weights, and a warning says so.
-
-    References
-    ----------
-    See :mod:`steradian.optimize._convex`.
+    smaller spacings it exceeds N with superdirective weights, and a warning says so. The
+    formulation and its published references: :mod:`steradian.optimize._convex`.
     """
     t_start = time.perf_counter()
     level_db = below_peak("psl_db", psl_db)
     hardware_limits(dynamic_range_db, wng_min_db, tol_db, max_rounds)
-    if mask is not None and not isinstance(mask, Mask):
-        raise SteradianError("mask must be a steradian.optimize.Mask")
     setup = make_setup(array, weights, symmetry, loading)
     return max_directivity_on(setup, t_start=t_start, psl_db=level_db, mainlobe=mainlobe,
-                            mask=mask, nulls=nulls, notches=notches, nonnegative=nonnegative,
-                            dynamic_range_db=dynamic_range_db, wng_min_db=wng_min_db,
-                            tol_db=tol_db, max_rounds=max_rounds, oversample=oversample,
-                            dense_oversample=dense_oversample)[0]
+                              mask=mask, nulls=nulls, notches=notches, nonnegative=nonnegative,
+                              dynamic_range_db=dynamic_range_db, wng_min_db=wng_min_db,
+                              tol_db=tol_db, max_rounds=max_rounds, oversample=oversample,
+                              dense_oversample=dense_oversample)[0]
 
 
 def max_directivity_on(setup: Setup, *, t_start, psl_db, mainlobe, mask, nulls, notches,
@@ -163,6 +156,8 @@ def max_directivity_on(setup: Setup, *, t_start, psl_db, mainlobe, mask, nulls, 
     Returns the result and the sidelobe sample directions of the final solve."""
     level_db = psl_db
     weights = setup.param.weights
+    if mask is not None and not isinstance(mask, Mask):
+        raise SteradianError("mask must be a steradian.optimize.Mask")
     dr, wng = hardware_limits(dynamic_range_db, wng_min_db, tol_db, max_rounds)
     nl = null_list(nulls)
     nt = notch_list(notches)
