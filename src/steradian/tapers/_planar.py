@@ -21,15 +21,20 @@ from ._common import aperture_positions, axis_coordinates, sidelobe_ratio
 __all__ = ["taylor_circular", "bayliss_circular", "separable", "radial", "aperture_radius"]
 
 
-def _xy(geometry) -> np.ndarray:
+def _positions(geometry) -> np.ndarray:
+    """Element positions (N, 2|3) of a Geometry or an array."""
     if isinstance(geometry, Geometry):
-        pos = geometry.positions
-    else:
-        pos = np.asarray(geometry, float)
-        if pos.ndim != 2 or pos.shape[1] not in (2, 3):
-            raise SteradianError(f"positions must have shape (N, 2) or (N, 3), got {pos.shape}")
-    xy = pos[:, :2] - pos[:, :2].mean(axis=0)
-    return xy
+        return geometry.positions
+    pos = np.asarray(geometry, float)
+    if pos.ndim != 2 or pos.shape[1] not in (2, 3):
+        raise SteradianError(f"positions must have shape (N, 2) or (N, 3), got {pos.shape}")
+    return pos
+
+
+def _xy(geometry) -> np.ndarray:
+    """x-y coordinates about the centroid."""
+    pos = _positions(geometry)
+    return pos[:, :2] - pos[:, :2].mean(axis=0)
 
 
 def _median_spacing(xy: np.ndarray) -> float:
@@ -224,9 +229,7 @@ def separable(geometry, wx, wy) -> np.ndarray:
     the principal-plane sidelobes equal the line tapers' and the off-plane sidelobes are far
     lower (common practice; the optimizer exploits that margin).
     """
-    pos = geometry.positions if isinstance(geometry, Geometry) else np.asarray(geometry, float)
-    if pos.ndim != 2 or pos.shape[1] not in (2, 3):
-        raise SteradianError(f"positions must have shape (N, 2) or (N, 3), got {pos.shape}")
+    pos = _positions(geometry)
     return _axis_weights(wx, pos[:, 0], "x") * _axis_weights(wy, pos[:, 1], "y")
 
 
