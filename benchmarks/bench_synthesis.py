@@ -33,7 +33,7 @@ import steradian as st
 from steradian import optimize as opt
 from steradian import tapers
 from steradian.metrics import pattern_metrics
-from steradian.optimize._frame import chebyshev_null
+from steradian.optimize import chebyshev_null
 
 HERE = Path(__file__).resolve().parent
 F = st.C0

@@ -87,7 +87,7 @@ def test_synth_options_override_and_dolph_optimum(tmp_path):
     p = tmp_path / "bs.toml"
     p.write_text(textwrap.dedent(LINE.format(f=C0, extra="")).replace(
         "theta_deg = 20.0", "theta_deg = 0.0"))
-    from steradian.optimize._frame import chebyshev_null
+    from steradian.optimize import chebyshev_null
 
     h = chebyshev_null(10 ** -1.5, 16, 0.5)
     out = tmp_path / "w.csv"

@@ -150,7 +150,7 @@ def test_bayliss_fit_reproduces_tabulated_zeros():
     xi_1..xi_4 tabulated with them (values at 20, 30 and 40 dB as widely reproduced from
     Bayliss, Bell Syst. Tech. J. 47, 1968; from memory, cross-checked against an independent
     public reproduction) to the tables' four decimals."""
-    from steradian.tapers._bayliss import line_table_zeros
+    from steradian.tapers import line_table_zeros
 
     table = {20: (1.2247, 1.6962, 2.3698, 3.2473, 4.1854),
              30: (1.6413, 2.0708, 2.6275, 3.4314, 4.3276),

@@ -27,6 +27,7 @@ def tradeoff(design_file, output, csv_path, start_db, stop_db, points, weights_k
     Limits and levels come from [synthesis] and [synthesis.tradeoff]; options override.
     """
     from ..io.design import load_design
+    from ..io.trade_curve import write_trade_curve_csv, write_trade_curve_png
     from ..optimize import tradeoff_from_spec
     from ._common import emit_json
 
@@ -35,9 +36,10 @@ def tradeoff(design_file, output, csv_path, start_db, stop_db, points, weights_k
                                start_db=start_db, stop_db=stop_db, points=points,
                                weights=weights_kind)
     if output is not None:
-        curve.figure(output, title=f"{design.name}: directivity against sidelobe level")
+        write_trade_curve_png(output, curve,
+                              title=f"{design.name}: directivity against sidelobe level")
     if csv_path is not None:
-        curve.write_csv(csv_path)
+        write_trade_curve_csv(csv_path, curve)
     if as_json:
         emit_json({"design": design.name} | curve.to_dict()
                   | {"figure": None if output is None else str(output),

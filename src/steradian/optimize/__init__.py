@@ -7,15 +7,12 @@ Every result is re-checked on a dense grid independent of the constraint samples
 """
 
 from ._conic import Infeasible, SolverFailure
-from ._convex import (
-    DEFAULT_LOADING,
-    SynthesisInfeasible,
-    max_directivity,
-    min_sidelobe,
-    peak_sidelobe,
-)
+from ._convex import DEFAULT_LOADING, max_directivity, min_sidelobe
+from ._diagnose import SynthesisInfeasible
+from ._frame import chebyshev_null
 from ._masks import Mask, Notch, Null, itu_s465
 from ._nonconvex import phase_only, thin
+from ._report import peak_sidelobe
 from ._result import SynthesisResult
 from ._spec import METHODS, spec_mask, synthesize, tradeoff_from_spec
 from ._tradeoff import TradeCurve, tradeoff
@@ -41,4 +38,5 @@ __all__ = [
     "Notch",
     "itu_s465",
     "DEFAULT_LOADING",
+    "chebyshev_null",
 ]

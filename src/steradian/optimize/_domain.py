@@ -21,7 +21,7 @@ import math
 
 import numpy as np
 
-from ..radiation import fibonacci_directions
+from ..directions import fibonacci_directions, tangent_frames
 from ._frame import Frame
 
 __all__ = ["Domain", "choose_domain"]
@@ -156,11 +156,7 @@ class Domain:
 
 def tangent_neighbourhood(dirs, oa, ob, front_only=False):
     """Directions r + a t1 + b t2 (normalised) in the tangent plane of each r: (K, P, 3)."""
-    ref = np.where(np.abs(dirs[:, 2:3]) < 0.9, np.array([[0.0, 0.0, 1.0]]),
-                   np.array([[1.0, 0.0, 0.0]]))
-    t1 = np.cross(ref, dirs)
-    t1 /= np.linalg.norm(t1, axis=1, keepdims=True)
-    t2 = np.cross(dirs, t1)
+    t1, t2 = tangent_frames(dirs)
     p = dirs[:, None, :] + oa[None, :, None] * t1[:, None, :] + ob[None, :, None] * t2[:, None, :]
     if front_only:
         p[..., 2] = np.maximum(p[..., 2], 0.0)

@@ -14,6 +14,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..directions import angles_deg, unit_vectors
 from ..errors import SteradianError
 from ..validate import finite_array, positive
 
@@ -166,8 +167,7 @@ class Notch:
 
     def contains(self, dirs: np.ndarray) -> np.ndarray:
         """Which unit vectors (M, 3) lie in the sector."""
-        th = np.degrees(np.arccos(np.clip(dirs[:, 2], -1, 1)))
-        ph = np.degrees(np.arctan2(dirs[:, 1], dirs[:, 0]))
+        th, ph = angles_deg(np.asarray(dirs, float).reshape(-1, 3))
         lo, hi = self.phi_deg
         # phi ranges may be given in any 360-degree window: compare modulo 360.
         rel = np.mod(ph - lo, 360.0)
@@ -185,7 +185,5 @@ class Notch:
             arc = (p1 - p0) * max(math.sin(t), 1e-3)
             npp = max(int(math.ceil(arc / spacing_rad)) + 1, 2)
             ph = np.linspace(p0, p1, npp)
-            st = math.sin(t)
-            out.append(np.column_stack([st * np.cos(ph), st * np.sin(ph),
-                                        np.full(npp, math.cos(t))]))
+            out.append(unit_vectors(np.full(npp, t), ph))
         return np.concatenate(out)

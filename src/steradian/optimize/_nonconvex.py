@@ -38,21 +38,16 @@ from dataclasses import replace
 
 import numpy as np
 
-from ..directions import Directions
+from ..directions import Directions, unit_vectors_deg
 from ..engine import response_matrix
 from ..errors import SteradianError
+from ..units import from_db20
 from ..validate import count
 from ._check import check_family, field_magnitude
-from ._convex import (
-    _finish,
-    _halfwidths,
-    _level,
-    _nulls,
-    _spacings,
-    _unit,
-)
-from ._frame import _orbits, symmetry_maps
+from ._frame import orbits, symmetry_maps
+from ._levels import below_peak, halfwidths, null_list, spacings
 from ._problem import SidelobeFamily, make_setup
+from ._report import finish
 from ._result import SynthesisResult
 
 __all__ = ["phase_only", "thin"]
@@ -74,8 +69,9 @@ class _Samples:
         self.b = np.zeros(0)
         self.A0 = None
         self.A1 = None
-        self.null_dirs = np.array([_unit(n.theta_deg, n.phi_deg) for n in nulls]).reshape(-1, 3)
-        self.null_b = np.array([10 ** ((n.depth_db if n.depth_db is not None else -60.0) / 20)
+        self.null_dirs = np.array([unit_vectors_deg(n.theta_deg, n.phi_deg)
+                                   for n in nulls]).reshape(-1, 3)
+        self.null_b = np.array([from_db20(n.depth_db if n.depth_db is not None else -60.0)
                                 for n in nulls])
         a0, a1 = _responses(setup.array, setup.r0[None, :])
         self.beam0, self.beam1 = a0, a1
@@ -152,6 +148,47 @@ def _phase_objective(samples, amp, idx, p):
     return f
 
 
+_LOCAL = {"jac": True, "method": "L-BFGS-B", "options": {"maxiter": 200, "gtol": 1e-9}}
+
+
+def _descend(samples, amp, idx, phi, first: bool, hops: int, seed: int, target):
+    """One sampling round of the phase search: the sharpening L-BFGS-B stages (8, 32, 128 in
+    the first round, 128 after), basin hopping in the first round, then p = 512.
+
+    Returns the phases and the basin-hopping stopping note ("" when it did not run)."""
+    from scipy.optimize import basinhopping, minimize
+
+    stop = ""
+    for p in ((8.0, 32.0, 128.0) if first else (128.0,)):
+        phi = minimize(_phase_objective(samples, amp, idx, p), phi, **_LOCAL).x
+    if hops and first:
+        f = _phase_objective(samples, amp, idx, 128.0)
+        state = {"best": f(phi)[0]}
+
+        def cb(x, fx, accept, state=state):
+            state["best"] = min(state["best"], fx)
+            return target is not None and state["best"] <= target
+
+        bh = basinhopping(f, phi, niter=hops, stepsize=0.3, niter_success=5, seed=seed,
+                          minimizer_kwargs=_LOCAL, callback=cb)
+        phi = bh.x
+        stop = f"basin hopping: {bh.nit} hops ({bh.message[0] if bh.message else ''})"
+    return minimize(_phase_objective(samples, amp, idx, 512.0), phi, **_LOCAL).x, stop
+
+
+def _add_maxima(array, setup, samples, fam, w, tol_db) -> int:
+    """Add the dense-check maxima of weights ``w`` that exceed the largest sidelobe ratio on
+    the current samples (nulls excluded) by more than the tolerance; return how many."""
+    arr = replace(array, taper=w * np.conj(setup.phases) if array.steering is not None else w)
+    e0 = field_magnitude(arr, setup.r0[None, :])[0]
+    chk = check_family(arr, fam, e0, 1.0)
+    e2, _ = samples.fields(w[:, None])
+    k = len(samples.null_b)
+    cur = math.sqrt(float(np.max(e2[k:, 0]))) / e0 if len(e2) > k else 0.0
+    viol = chk["ratio"] > cur * from_db20(tol_db)
+    return samples.add(chk["dirs"][viol])
+
+
 def phase_only(array, *, psl_db: float | None = None, mainlobe=None, nulls=(),
                hops: int = 10, seed: int = 0, tol_db: float = 0.01, max_rounds: int = 4,
                oversample: float | None = None,
@@ -182,18 +219,16 @@ def phase_only(array, *, psl_db: float | None = None, mainlobe=None, nulls=(),
         ``method="phase_only"``; ``certificate`` is empty (no optimality certificate) and
         ``notes`` states the stopping rule that ended the search.
     """
-    from scipy.optimize import basinhopping, minimize
-
     t_start = time.perf_counter()
-    level_db = _level("psl_db", psl_db)
-    nl = _nulls(nulls)
+    level_db = below_peak("psl_db", psl_db)
+    nl = null_list(nulls)
     hops = count("hops", hops, minimum=0)
     setup = make_setup(array, "complex", "none", 0.0)
     # Denser starting samples than the convex methods: a local optimiser exploits gaps.
-    coarse, dense = _spacings(setup, oversample if oversample is not None else 2.0,
-                              dense_oversample)
-    tau = 10 ** ((level_db if level_db is not None else -20.0) / 20)
-    h = _halfwidths(setup, mainlobe, tau)
+    coarse, dense = spacings(setup, oversample if oversample is not None else 2.0,
+                             dense_oversample)
+    tau = from_db20(level_db if level_db is not None else -20.0)
+    h = halfwidths(setup, mainlobe, tau)
     fam = SidelobeFamily(setup, h, True, None, coarse, dense)
     samples = _Samples(setup, fam, 1.0, nl)
     samples.add(fam.coarse())
@@ -209,45 +244,52 @@ def phase_only(array, *, psl_db: float | None = None, mainlobe=None, nulls=(),
     notes = []
     stop = ""
     rounds = 0
-    local = {"jac": True, "method": "L-BFGS-B", "options": {"maxiter": 200, "gtol": 1e-9}}
     for rounds in range(1, max_rounds + 1):  # noqa: B007 (rounds reported)
-        for p in ((8.0, 32.0, 128.0) if rounds == 1 else (128.0,)):
-            phi = minimize(_phase_objective(samples, amp, idx, p), phi, **local).x
-        if hops and rounds == 1:
-            f = _phase_objective(samples, amp, idx, 128.0)
-            state = {"best": f(phi)[0]}
-
-            def cb(x, fx, accept, state=state):
-                state["best"] = min(state["best"], fx)
-                return target is not None and state["best"] <= target
-
-            bh = basinhopping(f, phi, niter=hops, stepsize=0.3, niter_success=5, seed=seed,
-                              minimizer_kwargs=local, callback=cb)
-            phi = bh.x
-            stop = f"basin hopping: {bh.nit} hops ({bh.message[0] if bh.message else ''})"
-        phi = minimize(_phase_objective(samples, amp, idx, 512.0), phi, **local).x
+        phi, stop_now = _descend(samples, amp, idx, phi, rounds == 1, hops, seed, target)
+        stop = stop_now or stop
         w = np.zeros(array.n, complex)
         w[idx] = amp * np.exp(1j * phi)
-        arr = replace(array, taper=w * np.conj(setup.phases) if array.steering is not None
-                      else w)
-        e0 = field_magnitude(arr, setup.r0[None, :])[0]
-        chk = check_family(arr, fam, e0, 1.0)
-        # Largest sidelobe ratio on the current samples (nulls excluded): dense maxima above
-        # it by more than the tolerance are new samples.
-        e2, _ = samples.fields(w[:, None])
-        k = len(samples.null_b)
-        cur = math.sqrt(float(np.max(e2[k:, 0]))) / e0 if len(e2) > k else 0.0
-        viol = chk["ratio"] > cur * 10 ** (tol_db / 20)
-        if samples.add(chk["dirs"][viol]) == 0:
+        if _add_maxima(array, setup, samples, fam, w, tol_db) == 0:
             break
     notes.append("phase-only (non-convex): L-BFGS-B with a sharpening soft maximum "
                  "(p = 8, 32, 128 then 512; gtol 1e-9, 200 iterations per stage)"
                  + (f"; {stop}" if stop else "") + f"; {rounds} sampling round(s)")
-    res = _finish(setup, w, method="phase_only", families=[fam] if level_db is not None
-                  else [], nulls=nl, h=h, dense_spacing=dense, tol_db=tol_db,
-                  limit_db=level_db, certificate={}, rounds=rounds, samples=len(samples.b),
-                  notes=notes, t_start=t_start, psl_limit=tau if level_db is not None else None)
+    res = finish(setup, w, method="phase_only", families=[fam] if level_db is not None
+                 else [], nulls=nl, h=h, dense_spacing=dense, tol_db=tol_db,
+                 limit_db=level_db, certificate={}, rounds=rounds, samples=len(samples.b),
+                 notes=notes, t_start=t_start, psl_limit=tau if level_db is not None else None)
     return res
+
+
+def _thinning_energy(array, samples, idx, G, fill):
+    """Vectorised objective of thinning: sampled peak sidelobe ratio of the on/off columns
+    (group variables, expanded by ``G``), plus 0.05 per element off the asked fill."""
+    ngroups = G.shape[1]
+    base = np.zeros(array.n, complex)
+    base[idx] = array.weights()[idx]
+    A = samples.A0[:, idx] * base[idx][None, :]
+    B0 = samples.beam0[0, idx] * base[idx]
+    A1 = None if samples.A1 is None else samples.A1[:, idx] * base[idx][None, :]
+    B1 = None if samples.beam1 is None else samples.beam1[0, idx] * base[idx]
+
+    def energy(X):
+        X = np.atleast_2d(X)
+        if X.shape[0] != ngroups:
+            X = X.T
+        on = G @ np.round(X)  # (ne, P)
+        e = np.abs(A @ on) ** 2
+        e0 = np.abs(B0 @ on) ** 2
+        if A1 is not None:
+            e = e + np.abs(A1 @ on) ** 2
+            e0 = e0 + np.abs(B1 @ on) ** 2
+        val = np.sqrt(e.max(axis=0) / np.maximum(e0, 1e-300))
+        cnt = on.sum(axis=0)
+        if fill is not None:
+            val = val + 0.05 * np.abs(cnt - fill)
+        val = np.where(cnt >= 2, val, 10.0)
+        return val
+
+    return energy
 
 
 def thin(array, *, fill: int | None = None, mainlobe=None, generations: int = 300,
@@ -288,44 +330,22 @@ def thin(array, *, fill: int | None = None, mainlobe=None, generations: int = 30
         fill = count("fill", fill, minimum=2)
         if fill > ne:
             raise SteradianError(f"fill={fill} exceeds the {ne} enabled elements")
-    coarse, dense = _spacings(setup, oversample if oversample is not None else 2.0,
-                              dense_oversample)
+    coarse, dense = spacings(setup, oversample if oversample is not None else 2.0,
+                             dense_oversample)
     if mainlobe is None:
         h = 1.2 * setup.wavelength / setup.frame.lengths
     else:
-        h = _halfwidths(setup, mainlobe, None)
+        h = halfwidths(setup, mainlobe, None)
     fam = SidelobeFamily(setup, h, True, None, coarse, dense)
     samples = _Samples(setup, fam, 1.0, [])
     samples.add(fam.coarse())
     maps = symmetry_maps(array.positions[idx], setup.frame) if symmetric else {"centro": None}
-    groups = (_orbits(ne, [maps["centro"]]) if maps["centro"] is not None
+    groups = (orbits(ne, [maps["centro"]]) if maps["centro"] is not None
               else [np.array([i]) for i in range(ne)])
     G = np.zeros((ne, len(groups)))
     for j, g in enumerate(groups):
         G[g, j] = 1.0
-    base = np.zeros(array.n, complex)
-    base[idx] = array.weights()[idx]
-    A = samples.A0[:, idx] * base[idx][None, :]
-    B0 = samples.beam0[0, idx] * base[idx]
-    A1 = None if samples.A1 is None else samples.A1[:, idx] * base[idx][None, :]
-    B1 = None if samples.beam1 is None else samples.beam1[0, idx] * base[idx]
-
-    def energy(X):
-        X = np.atleast_2d(X)
-        if X.shape[0] != len(groups):
-            X = X.T
-        on = G @ np.round(X)  # (ne, P)
-        e = np.abs(A @ on) ** 2
-        e0 = np.abs(B0 @ on) ** 2
-        if A1 is not None:
-            e = e + np.abs(A1 @ on) ** 2
-            e0 = e0 + np.abs(B1 @ on) ** 2
-        val = np.sqrt(e.max(axis=0) / np.maximum(e0, 1e-300))
-        cnt = on.sum(axis=0)
-        if fill is not None:
-            val = val + 0.05 * np.abs(cnt - fill)
-        val = np.where(cnt >= 2, val, 10.0)
-        return val
+    energy = _thinning_energy(array, samples, idx, G, fill)
 
     res = differential_evolution(
         energy, [(0, 1)] * len(groups), integrality=np.ones(len(groups), bool),
@@ -339,7 +359,7 @@ def thin(array, *, fill: int | None = None, mainlobe=None, generations: int = 30
     w = arr.weights()
     notes = [f"thinning (non-convex): differential evolution, {res.nit} generations "
              f"(stop: {res.message}); {int(on.sum())} of {ne} elements on"]
-    return _finish(setup2, w, method="thinning", families=[], nulls=[], h=h,
-                   dense_spacing=dense, tol_db=0.01, limit_db=None, certificate={},
-                   rounds=1, samples=len(samples.b), notes=notes, t_start=t_start,
-                   psl_limit=None)
+    return finish(setup2, w, method="thinning", families=[], nulls=[], h=h,
+                  dense_spacing=dense, tol_db=0.01, limit_db=None, certificate={},
+                  rounds=1, samples=len(samples.b), notes=notes, t_start=t_start,
+                  psl_limit=None)

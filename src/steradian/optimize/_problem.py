@@ -10,23 +10,39 @@ from typing import Literal, get_args
 import numpy as np
 
 from ..array import steering_phases
-from ..directions import Directions
+from ..directions import (
+    Directions,
+    angle_between_deg,
+    angles_of,
+    fibonacci_directions,
+    unit_vectors,
+)
 from ..engine import response_matrix
 from ..errors import SteradianError
-from ..radiation import fibonacci_directions, power_matrix
+from ..radiation import power_matrix
+from ..units import from_db20
 from ..validate import choice
 from ._domain import Domain, choose_domain
 from ._frame import Frame, Param, chebyshev_null, frame_of, parametrise, symmetry_maps
 from ._masks import Mask, Notch
 
 __all__ = ["Setup", "make_setup", "Rows", "rows_at", "SidelobeFamily", "NotchFamily",
-           "WeightsKind", "SymmetryKind"]
+           "WeightsKind", "SymmetryKind", "cholesky"]
 
 WeightsKind = Literal["complex", "amplitude"]
 SymmetryKind = Literal["auto", "none", "centro", "quadrant"]
 
 _REAL_TOL = 1e-9
 _CHUNK = 2048
+
+
+def cholesky(M: np.ndarray, what: str) -> np.ndarray:
+    """Lower Cholesky factor of ``M``, or an error naming the ``what`` matrix."""
+    try:
+        return np.linalg.cholesky(M)
+    except np.linalg.LinAlgError:
+        raise SteradianError(f"the {what} matrix is not positive definite; raise the diagonal "
+                             "loading") from None
 
 
 @dataclass(eq=False)
@@ -46,6 +62,7 @@ class Setup:
     c0: np.ndarray
     g_wng: np.ndarray
     vector: bool
+    _whiten: np.ndarray | None = None
 
     @property
     def n(self) -> int:
@@ -68,6 +85,15 @@ class Setup:
         A = response_matrix(self.array, Directions.from_vectors(self.r0[None, :]))
         e = A[:, 0, :] @ w
         return float(np.sqrt(np.sum(np.abs(e) ** 2)))
+
+    def whitener(self) -> np.ndarray:
+        """L^{-T} with L L^T = Q_s (computed once)."""
+        if self._whiten is None:
+            from scipy.linalg import solve_triangular
+
+            L = cholesky(self.Qs, "radiated-power")
+            self._whiten = solve_triangular(L, np.eye(self.n), lower=True).T
+        return self._whiten
 
     def halfwidths(self, level: float) -> np.ndarray:
         """Default main-lobe zone: first null of the equivalent Dolph-Chebyshev line along
@@ -213,10 +239,10 @@ class SidelobeFamily:
         dom = self.domain
 
         def rel(gamma):
-            return 10 ** (self.mask.relative_db(gamma, self.ref_dbi) / 20)
+            return from_db20(self.mask.relative_db(gamma, self.ref_dbi))
 
         def gam(d):
-            return np.degrees(np.arccos(np.clip(d @ r0, -1, 1)))
+            return angle_between_deg(d, r0)
 
         if dom.symmetric == "mirror":
             e3 = dom.e3
@@ -297,7 +323,7 @@ class NotchFamily:
         self.notch = notch
         self.name = (f"notch theta {notch.theta_deg[0]:g}-{notch.theta_deg[1]:g}, phi "
                      f"{notch.phi_deg[0]:g}-{notch.phi_deg[1]:g}")
-        self.depth = 10 ** (notch.depth_db / 20)
+        self.depth = from_db20(notch.depth_db)
         self.coarse_spacing = coarse_spacing
         self.dense_spacing = dense_spacing
 
@@ -314,8 +340,7 @@ class NotchFamily:
     def neighbourhood(self, dirs, step, m=3):
         """Local (theta, phi) grids clipped into the sector, so its edges are reachable."""
         d = np.asarray(dirs, float).reshape(-1, 3)
-        th = np.arccos(np.clip(d[:, 2], -1, 1))
-        ph = np.arctan2(d[:, 1], d[:, 0])
+        th, ph = angles_of(d)
         lo = math.radians(self.notch.phi_deg[0])
         ph = lo + np.mod(ph - lo, 2 * math.pi)
         o = step * np.arange(-m, m + 1)
@@ -324,8 +349,7 @@ class NotchFamily:
         p = ph[:, None] + ob.ravel()[None, :] / np.maximum(np.sin(th), 1e-3)[:, None]
         t = np.clip(t, *np.radians(self.notch.theta_deg))
         p = np.clip(p, *np.radians(self.notch.phi_deg))
-        st = np.sin(t)
-        return np.stack([st * np.cos(p), st * np.sin(p), np.cos(t)], axis=-1)
+        return unit_vectors(t, p)
 
     def keys(self, dirs):
         return dirs

@@ -6,11 +6,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..units import db20
+
 __all__ = ["SynthesisResult"]
-
-
-def _db(x: float) -> float:
-    return float(10 * np.log10(max(x, 1e-300)))
 
 
 @dataclass(frozen=True, eq=False)
@@ -127,7 +125,6 @@ class SynthesisResult:
         w = self.weights
         out = self.summary()
         out["weights"] = {"re": w.real.tolist(), "im": w.imag.tolist(),
-                          "amplitude_db": (20 * np.log10(np.maximum(np.abs(w), 1e-300)))
-                          .tolist(),
+                          "amplitude_db": np.atleast_1d(db20(w)).tolist(),
                           "phase_deg": np.degrees(np.angle(w)).tolist()}
         return out

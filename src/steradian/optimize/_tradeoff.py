@@ -3,7 +3,6 @@ the knee."""
 
 from __future__ import annotations
 
-import io
 import math
 import time
 from dataclasses import dataclass, field
@@ -11,8 +10,9 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..errors import SteradianError
-from ..io._atomic import write_bytes, write_text
-from ._convex import DEFAULT_LOADING, SynthesisInfeasible, _closed_form, _max_directivity
+from ..units import db10
+from ._convex import DEFAULT_LOADING, closed_form, max_directivity_on
+from ._diagnose import SynthesisInfeasible
 from ._problem import make_setup
 
 __all__ = ["TradeCurve", "tradeoff", "COLUMNS"]
@@ -41,6 +41,13 @@ class TradeCurve:
         The :class:`SynthesisResult` of each feasible level (same order, None if infeasible).
     seconds : float
         Wall time of the sweep.
+    columns : tuple of str
+        :data:`COLUMNS` (the keys of each row, in table order).
+
+    Notes
+    -----
+    Synthesis produces values only: the CSV and PNG writers are in
+    :mod:`steradian.io.trade_curve`.
     """
 
     rows: list
@@ -48,6 +55,7 @@ class TradeCurve:
     knee: dict | None
     results: list = field(default_factory=list)
     seconds: float = 0.0
+    columns = COLUMNS
 
     def table(self) -> str:
         """Human-readable table."""
@@ -71,46 +79,6 @@ class TradeCurve:
         return {"max_directivity_dbi": self.max_directivity_dbi, "rows": self.rows,
                 "knee_limit_db": None if self.knee is None else self.knee["limit_db"],
                 "seconds": self.seconds}
-
-    def write_csv(self, path) -> None:
-        """Write the table as CSV (atomically)."""
-        out = [",".join(COLUMNS)]
-        for r in self.rows:
-            out.append(",".join("" if r[c] is None else
-                                (repr(float(r[c])) if isinstance(r[c], float) else
-                                 str(r[c]).replace(",", ";")) for c in COLUMNS))
-        write_text(path, "\n".join(out) + "\n")
-
-    def figure(self, path, title: str | None = None) -> None:
-        """Directivity against peak sidelobe level as a PNG (atomic write)."""
-        from matplotlib.figure import Figure
-
-        ok = [r for r in self.rows if r["directivity_dbi"] is not None]
-        fig = Figure(figsize=(6.4, 4.2))
-        ax = fig.add_subplot(1, 1, 1)
-        if ok:
-            x = [r["psl_db"] for r in ok]
-            y = [r["directivity_dbi"] for r in ok]
-            ax.plot(x, y, "o-", color="C0", label="optimum (dense-checked PSL)")
-        ax.axhline(self.max_directivity_dbi, color="0.5", ls="--",
-                   label=f"unconstrained {self.max_directivity_dbi:.2f} dBi")
-        if self.knee is not None:
-            ax.plot([self.knee["psl_db"]], [self.knee["directivity_dbi"]], "s", ms=10,
-                    mfc="none", color="C3", label=f"knee ({self.knee['limit_db']:.1f} dB)")
-        bad = [r["limit_db"] for r in self.rows if r["directivity_dbi"] is None]
-        for b in bad:
-            ax.axvline(b, color="C3", alpha=0.25, lw=4)
-        if bad:
-            ax.plot([], [], color="C3", alpha=0.25, lw=4, label="infeasible level")
-        ax.set_xlabel("peak sidelobe level (dB)")
-        ax.set_ylabel("directivity (dBi)")
-        ax.grid(True, alpha=0.4)
-        ax.set_title(title or "maximum directivity against peak sidelobe level")
-        ax.legend(loc="lower right", fontsize=8)
-        fig.tight_layout()
-        buf = io.BytesIO()
-        fig.savefig(buf, format="png", dpi=120)
-        write_bytes(path, buf.getvalue())
 
 
 def _knee(rows):
@@ -170,14 +138,14 @@ def tradeoff(array, levels_db=None, *, start_db: float = -15.0, stop_db: float =
                              f"{levels.tolist()}")
     levels = np.sort(levels)[::-1]  # from the loosest limit down
     setup = make_setup(array, weights, symmetry, loading)
-    _, pmin = _closed_form(setup)
-    dmax = 10 * math.log10(4 * math.pi / pmin)
+    _, pmin = closed_form(setup)
+    dmax = db10(4 * math.pi / pmin)
     rows, results = [], []
     seed = None
     for lv in levels:
         t1 = time.perf_counter()
         try:
-            res, seed_new = _max_directivity(
+            res, seed_new = max_directivity_on(
                 setup, t_start=t1, psl_db=float(lv), mainlobe=mainlobe, mask=None,
                 nulls=nulls, notches=notches, nonnegative=nonnegative,
                 dynamic_range_db=dynamic_range_db, wng_min_db=wng_min_db, tol_db=tol_db,

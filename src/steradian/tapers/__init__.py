@@ -9,15 +9,15 @@ element. ``sll`` is always the design sidelobe level in dB *below* the peak (pos
 Use a taper with an array: ``Array(geometry, f, taper=steradian.tapers.taylor(16, 4, 30))``.
 """
 
+from ._bayliss import line_table_zeros
+from ._common import cell_centres, sidelobe_ratio
 from ._line import (
     bayliss,
     bayliss_aperture,
     binomial,
-    cell_centres,
     cosine_pedestal,
     cosine_pedestal_aperture,
     dolph_chebyshev,
-    sidelobe_ratio,
     taylor,
     taylor_aperture,
     taylor_coefficients,
@@ -46,6 +46,7 @@ __all__ = [
     "aperture_radius",
     "cell_centres",
     "sidelobe_ratio",
+    "line_table_zeros",
     "from_spec",
     "KINDS",
 ]

@@ -11,9 +11,10 @@ import numpy as np
 
 from ..errors import SteradianError
 from ..validate import count, doubtful
-from ._line import sidelobe_ratio
+from ._common import sidelobe_ratio
 
-__all__ = ["line_table_zeros", "circular_zeros", "FIT_RANGE_DB"]
+__all__ = ["line_table_zeros", "circular_zeros", "circular_mu", "circular_zero_set",
+           "circular_pattern", "FIT_RANGE_DB"]
 
 FIT_RANGE_DB = (15.0, 40.0)
 """Sidelobe levels (dB) over which Bayliss's polynomial fits were made."""
@@ -55,22 +56,32 @@ def line_table_zeros(nbar: int, sll: float):
     return A, xi
 
 
-def _circ_mu(nbar: int) -> np.ndarray:
-    """mu_0, mu_1, ...: zeros of J1'(pi mu) (nbar + 8 of them)."""
+def circular_mu(nbar: int) -> np.ndarray:
+    r"""mu_0, mu_1, ...: zeros of :math:`J_1'(\pi\mu)` (nbar + 8 of them)."""
     from scipy.special import jnp_zeros
 
     return jnp_zeros(1, nbar + 8) / np.pi
+
+
+def circular_zero_set(A: float, xi_near, nbar: int):
+    r"""The circular difference pattern's :math:`\mu_m` and its moved zeros :math:`z_n`.
+
+    :math:`\xi_n` are ``xi_near`` then :math:`\sqrt{A^2 + n^2}` up to n = nbar;
+    :math:`\sigma = \mu_{\bar n}/\xi_{\bar n}` and :math:`z_n = \sigma\xi_n`,
+    n = 1 .. nbar-1. Returns ``(mu, z)``.
+    """
+    mu = circular_mu(nbar)
+    xi = np.array([*xi_near] + [math.sqrt(A**2 + n**2) for n in range(len(xi_near) + 1,
+                                                                         nbar + 1)])
+    sigma = mu[nbar] / xi[nbar - 1]
+    return mu, sigma * xi[: nbar - 1]
 
 
 def circular_pattern(u, A, xi_near, nbar):
     """Bayliss circular difference pattern F(u) (unnormalised) and its zeros."""
     from scipy.special import jvp
 
-    mu = _circ_mu(nbar)
-    xi = np.array([*xi_near] + [math.sqrt(A**2 + n**2) for n in range(len(xi_near) + 1,
-                                                                         nbar + 1)])
-    sigma = mu[nbar] / xi[nbar - 1]
-    z = sigma * xi[: nbar - 1]
+    mu, z = circular_zero_set(A, xi_near, nbar)
     u = np.asarray(u, float)
     num = np.ones_like(u)
     for zn in z:

@@ -1,16 +1,10 @@
 r"""Closed-form line distributions: samples for N equally spaced elements and, where the
 published distribution is a continuous aperture function, that function itself.
 
-Conventions (shared by every function here):
-
-* ``sll`` is the design sidelobe level in dB **below** the main-beam peak, a positive
-  number (``sll=30`` means sidelobes at -30 dB), as in :mod:`scipy.signal.windows`.
-* Sampled tapers are returned as real numpy arrays of length N, element 0 at the most
-  negative coordinate, normalised to a largest magnitude of 1 unless a function says
-  otherwise (``taylor(norm=True)`` follows scipy and sets the centre to 1).
-* Continuous aperture functions take the normalised coordinate :math:`t = x/L` with
-  :math:`t\in[-1/2, 1/2]` over an aperture of length L. An N-element line of spacing d is
-  sampled at the centres of N equal cells, :math:`t_n = (n - (N-1)/2)/N`, so L = N d.
+Conventions: ``sll`` and the normalised aperture coordinate t are those of
+:mod:`steradian.tapers._common`. Sampled tapers are returned as real numpy arrays of length
+N, element 0 at the most negative coordinate, normalised to a largest magnitude of 1 unless a
+function says otherwise (``taylor(norm=True)`` follows scipy and sets the centre to 1).
 """
 
 from __future__ import annotations
@@ -21,46 +15,12 @@ import numpy as np
 
 from ..errors import SteradianError
 from ..validate import count, doubtful, nonneg, positive
+from ._bayliss import line_table_zeros
+from ._common import cell_centres, normalise_peak, sidelobe_ratio
 
-__all__ = [
-    "uniform",
-    "binomial",
-    "dolph_chebyshev",
-    "taylor",
-    "taylor_aperture",
-    "bayliss",
-    "bayliss_aperture",
-    "cosine_pedestal",
-    "cosine_pedestal_aperture",
-    "window",
-    "cell_centres",
-    "sidelobe_ratio",
-]
-
-
-def sidelobe_ratio(sll) -> float:
-    """Main-lobe to sidelobe voltage ratio :math:`R = 10^{sll/20}` for ``sll`` in dB (> 0)."""
-    try:
-        x = float(sll)
-    except (TypeError, ValueError):
-        raise SteradianError(f"sll must be a number of dB, got {sll!r}") from None
-    if not math.isfinite(x) or x <= 0:
-        hint = f" (did you mean sll={-x:g}?)" if math.isfinite(x) and x < 0 else ""
-        raise SteradianError(
-            "sll is the sidelobe level in dB below the peak and must be positive, "
-            f"got sll={sll!r}{hint}")
-    return 10.0 ** (x / 20.0)
-
-
-def cell_centres(n: int) -> np.ndarray:
-    """Normalised coordinates :math:`t_n = (n - (N-1)/2)/N` of N equal cells (length 1)."""
-    n = count("N", n)
-    return (np.arange(n) - (n - 1) / 2) / n
-
-
-def _normalise_peak(w: np.ndarray) -> np.ndarray:
-    m = np.max(np.abs(w))
-    return w / m if m > 0 else w
+__all__ = ["uniform", "binomial", "dolph_chebyshev", "taylor", "taylor_aperture",
+           "taylor_coefficients", "bayliss", "bayliss_aperture", "bayliss_coefficients",
+           "cosine_pedestal", "cosine_pedestal_aperture", "window"]
 
 
 def uniform(N: int) -> np.ndarray:
@@ -93,7 +53,7 @@ def binomial(N: int) -> np.ndarray:
     N = count("N", N)
     from scipy.special import comb
 
-    return _normalise_peak(comb(N - 1, np.arange(N), exact=False))
+    return normalise_peak(comb(N - 1, np.arange(N), exact=False))
 
 
 def _chebyshev_t(m: int, x: np.ndarray) -> np.ndarray:
@@ -179,7 +139,7 @@ def dolph_chebyshev(N: int, sll: float = 30.0, d: float = 0.5) -> np.ndarray:
         a = (x0 + 1.0) / (1.0 - math.cos(kd))
         b = x0 - a
         w = _weights_from_pattern(lambda psi: _chebyshev_t(M, a * np.cos(psi) + b), N)
-        return _normalise_peak(w)
+        return normalise_peak(w)
     x0 = math.cosh(math.acosh(R) / (N - 1))
     if d < 0.5:
         doubtful(f"dolph_chebyshev: Riblet's generalisation for d={d:g} < 1/2 needs an odd N; "
@@ -190,7 +150,7 @@ def dolph_chebyshev(N: int, sll: float = 30.0, d: float = 0.5) -> np.ndarray:
             doubtful(f"dolph_chebyshev: spacing d={d:g} wavelengths exceeds {dmax:.4f}, above "
                      f"which the broadside pattern rises over -{float(sll):g} dB near endfire")
     w = _weights_from_pattern(lambda psi: _chebyshev_t(N - 1, x0 * np.cos(psi / 2)), N)
-    return _normalise_peak(w)
+    return normalise_peak(w)
 
 
 def _taylor_params(nbar: int, sll: float):
@@ -278,13 +238,6 @@ def taylor(N: int, nbar: int = 4, sll: float = 30.0, norm: bool = True) -> np.nd
 
 # ---- Bayliss difference distribution (line source) ----------------------------------------
 
-def _bayliss_line_zeros(nbar: int, sll: float):
-    """A and the zero positions xi_1..xi_nbar of Bayliss's line-source design."""
-    from ._bayliss import line_table_zeros
-
-    return line_table_zeros(nbar, sll)
-
-
 def bayliss_coefficients(nbar: int, sll: float) -> np.ndarray:
     r"""Coefficients :math:`B_m \propto F(m + 1/2)`, m = 0 .. nbar-1, of Bayliss's line source.
 
@@ -302,7 +255,7 @@ def bayliss_coefficients(nbar: int, sll: float) -> np.ndarray:
     (-1)^m \pi u_m / 2`).
     """
     nbar = count("nbar", nbar, minimum=2)
-    _, xi = _bayliss_line_zeros(nbar, sll)
+    _, xi = line_table_zeros(nbar, sll)
     sigma = (nbar + 0.5) / xi[nbar - 1]
     um = np.arange(nbar) + 0.5
     zeros = sigma * xi[: nbar - 1]
@@ -349,7 +302,7 @@ def bayliss(N: int, nbar: int = 5, sll: float = 30.0) -> np.ndarray:
     N = count("N", N)
     if N < 2:
         raise SteradianError(f"a difference taper needs at least 2 elements, got N={N}")
-    return _normalise_peak(bayliss_aperture(cell_centres(N), nbar, sll))
+    return normalise_peak(bayliss_aperture(cell_centres(N), nbar, sll))
 
 
 # ---- cosine on a pedestal -------------------------------------------------------------------
@@ -375,7 +328,7 @@ def cosine_pedestal_aperture(t, pedestal: float = 0.1, exponent: float = 2.0) ->
 
 def cosine_pedestal(N: int, pedestal: float = 0.1, exponent: float = 2.0) -> np.ndarray:
     """Cosine on a pedestal sampled at the N cell centres, peak 1 (see the aperture form)."""
-    return _normalise_peak(cosine_pedestal_aperture(cell_centres(N), pedestal, exponent))
+    return normalise_peak(cosine_pedestal_aperture(cell_centres(N), pedestal, exponent))
 
 
 # ---- scipy windows ---------------------------------------------------------------------------
@@ -400,4 +353,4 @@ def window(name: str, N: int, *params) -> np.ndarray:
         w = get_window(spec, N, fftbins=False)
     except (ValueError, TypeError) as exc:
         raise SteradianError(f"window {name!r} with parameters {list(params)}: {exc}") from None
-    return _normalise_peak(np.asarray(w, float))
+    return normalise_peak(np.asarray(w, float))

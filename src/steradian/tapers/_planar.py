@@ -15,21 +15,26 @@ import numpy as np
 from ..errors import SteradianError
 from ..geometry import Geometry
 from ..validate import count, doubtful, positive
-from ._line import sidelobe_ratio
+from ._bayliss import circular_zero_set, circular_zeros
+from ._common import aperture_positions, axis_coordinates, sidelobe_ratio
 
-__all__ = ["taylor_circular", "bayliss_circular", "separable", "radial", "aperture_radius",
-           "axis_coordinates"]
+__all__ = ["taylor_circular", "bayliss_circular", "separable", "radial", "aperture_radius"]
+
+
+def _positions(geometry) -> np.ndarray:
+    """Element positions (N, 2|3) of a Geometry or an array."""
+    if isinstance(geometry, Geometry):
+        return geometry.positions
+    pos = np.asarray(geometry, float)
+    if pos.ndim != 2 or pos.shape[1] not in (2, 3):
+        raise SteradianError(f"positions must have shape (N, 2) or (N, 3), got {pos.shape}")
+    return pos
 
 
 def _xy(geometry) -> np.ndarray:
-    if isinstance(geometry, Geometry):
-        pos = geometry.positions
-    else:
-        pos = np.asarray(geometry, float)
-        if pos.ndim != 2 or pos.shape[1] not in (2, 3):
-            raise SteradianError(f"positions must have shape (N, 2) or (N, 3), got {pos.shape}")
-    xy = pos[:, :2] - pos[:, :2].mean(axis=0)
-    return xy
+    """x-y coordinates about the centroid."""
+    pos = _positions(geometry)
+    return pos[:, :2] - pos[:, :2].mean(axis=0)
 
 
 def _median_spacing(xy: np.ndarray) -> float:
@@ -162,16 +167,11 @@ def bayliss_circular(geometry, nbar: int = 5, sll: float = 30.0, radius: float |
     """
     from scipy.special import j1
 
-    from ._bayliss import _circ_mu, circular_zeros
-
     sidelobe_ratio(sll)
     nbar = count("nbar", nbar, minimum=5)
     xy, rho, _ = _rho(geometry, radius)
     A, near = circular_zeros(nbar, float(sll))
-    mu = _circ_mu(nbar)
-    xi = np.array([*near] + [math.sqrt(A**2 + n**2) for n in range(5, nbar + 1)])
-    sigma = mu[nbar] / xi[nbar - 1]
-    z = sigma * xi[: nbar - 1]
+    mu, z = circular_zero_set(A, near, nbar)
     radial_part = np.zeros_like(rho)
     for m in range(nbar):
         others = mu[:nbar][np.arange(nbar) != m]
@@ -187,31 +187,10 @@ def bayliss_circular(geometry, nbar: int = 5, sll: float = 30.0, radius: float |
     return g / np.max(np.abs(g))
 
 
-def axis_coordinates(coords: np.ndarray, tol: float = 1e-9):
-    """Distinct coordinate values along one axis (sorted) and each element's index into them."""
-    c = np.asarray(coords, float)
-    order = np.argsort(c)
-    keys = np.empty(len(c), int)
-    vals = []
-    for i in order:
-        if not vals or c[i] - vals[-1] > tol * max(1.0, abs(c[i])):
-            vals.append(c[i])
-        keys[i] = len(vals) - 1
-    return np.array(vals), keys
-
-
-def _aperture_length(vals: np.ndarray) -> float:
-    if len(vals) < 2:
-        return 1.0
-    return float(vals[-1] - vals[0] + np.median(np.diff(vals)))
-
-
 def _axis_weights(spec, coords, name):
     vals, idx = axis_coordinates(coords)
     if callable(spec):
-        L = _aperture_length(vals)
-        t = (vals - 0.5 * (vals[0] + vals[-1])) / L
-        wv = np.asarray(spec(t), float)
+        wv = np.asarray(spec(aperture_positions(vals)), float)
         if wv.shape != vals.shape:
             raise SteradianError(f"separable: the {name} function returned shape {wv.shape}, "
                                  f"expected {vals.shape}")
@@ -250,9 +229,7 @@ def separable(geometry, wx, wy) -> np.ndarray:
     the principal-plane sidelobes equal the line tapers' and the off-plane sidelobes are far
     lower (common practice; the optimizer exploits that margin).
     """
-    pos = geometry.positions if isinstance(geometry, Geometry) else np.asarray(geometry, float)
-    if pos.ndim != 2 or pos.shape[1] not in (2, 3):
-        raise SteradianError(f"positions must have shape (N, 2) or (N, 3), got {pos.shape}")
+    pos = _positions(geometry)
     return _axis_weights(wx, pos[:, 0], "x") * _axis_weights(wy, pos[:, 1], "y")
 
 
