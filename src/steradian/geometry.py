@@ -24,9 +24,11 @@ __all__ = [
     "ring",
     "concentric_rings",
     "rotation_to",
+    "COINCIDENT_TOL",
 ]
 
-_COINCIDENT_TOL = 1e-9  # metres; elements closer than this are "at the same position"
+COINCIDENT_TOL = 1e-9
+"""Metres: elements closer than this are "at the same position"."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -135,7 +137,7 @@ def _check_coincident(pos: np.ndarray) -> None:
         return
     from scipy.spatial import cKDTree
 
-    pairs = cKDTree(pos).query_pairs(_COINCIDENT_TOL, output_type="ndarray")
+    pairs = cKDTree(pos).query_pairs(COINCIDENT_TOL, output_type="ndarray")
     if len(pairs):
         i, j = sorted(pairs[0].tolist())
         raise SteradianError(

@@ -12,7 +12,7 @@ from collections.abc import Sequence
 
 import numpy as np
 
-from .io._atomic import write_bytes
+from .io.atomic import write_bytes
 
 __all__ = ["plot_cuts", "plot_uv", "CUT_LABELS"]
 
@@ -88,7 +88,7 @@ def plot_uv(uvmap, path, *, title: str | None = None, range_db: float = 40.0) ->
     Parameters
     ----------
     uvmap : UVMap
-        From :func:`steradian.io.pattern_csv.uv_map`.
+        From :func:`steradian.workflows.uv_map` (or :func:`steradian.io.pattern_csv.read_uv`).
     path : path-like
         Output PNG (written atomically).
     title : str, optional

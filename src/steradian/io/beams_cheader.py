@@ -44,7 +44,7 @@ import numpy as np
 from ..beamtable import IQ_SCALE, BeamTable
 from ..errors import FileFormatError, SteradianError
 from ..quantize import StateMap
-from ._atomic import write_text
+from .atomic import write_text
 
 __all__ = ["write_beams_cheader", "read_beams_cheader", "LAYOUT_VERSION"]
 

@@ -45,7 +45,7 @@ import numpy as np
 from ..beamtable import IQ_SCALE, BeamTable
 from ..errors import FileFormatError, SteradianError
 from ..quantize import StateMap, wrap_deg
-from ._atomic import write_text
+from .atomic import write_text
 
 __all__ = ["write_beams_csv", "read_beams_csv"]
 

@@ -37,7 +37,7 @@ import numpy as np
 from ..beamtable import BeamTable
 from ..errors import FileFormatError, SteradianError
 from ..quantize import StateMap
-from ._atomic import write_text
+from .atomic import write_text
 
 __all__ = ["write_beams_json", "read_beams_json", "FORMAT_ID", "LAYOUT_VERSION"]
 

@@ -2,7 +2,8 @@
 
 A design file names the array, its geometry, the element model, the taper, the steering and
 what to analyse. :func:`load_design` reads one into a :class:`Design` holding a ready
-:class:`~steradian.Array` and :class:`~steradian.analysis.AnalysisOptions`. Every length in
+:class:`~steradian.Array` and the ``[analysis]`` settings (:class:`AnalysisSettings`; the
+recipes of :mod:`steradian.workflows` run the analysis). Every length in
 ``[geometry]`` is in the unit stated by ``geometry.units``; relative file paths resolve
 against the design file's folder. The full schema is in the README ("Design files").
 
@@ -16,20 +17,17 @@ file, in one line; unknown keys come with the closest valid key.
 
 from __future__ import annotations
 
-import importlib
-import importlib.util
 import tomllib
 from collections.abc import Mapping
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from pathlib import Path
 from types import MappingProxyType
 from typing import Any
 
 import numpy as np
 
-from ..analysis import AnalysisOptions
 from ..array import Array, Steering
-from ..elements import CosinePower, Dipole, Element, Isotropic
+from ..elements import CosinePower, Dipole, Element, Isotropic, Patch
 from ..errors import DesignError, FileFormatError, SteradianError, suggest
 from ..geometry import (
     Geometry,
@@ -42,10 +40,9 @@ from ..geometry import (
 )
 from ..schema import Section, type_name
 from ..units import C0
-from ..validate import positive
 
-__all__ = ["Design", "load_design", "design_from_dict", "demo_design", "SECTIONS",
-           "PASS_THROUGH_SECTIONS", "GEOMETRY_KINDS", "ELEMENT_MODELS", "LENGTH_UNITS"]
+__all__ = ["Design", "AnalysisSettings", "load_design", "design_from_dict", "demo_design",
+           "SECTIONS", "PASS_THROUGH_SECTIONS", "GEOMETRY_KINDS", "ELEMENT_MODELS", "LENGTH_UNITS"]
 
 SECTIONS = ("design", "geometry", "element", "taper", "steering", "analysis")
 """Sections this module validates."""
@@ -60,6 +57,34 @@ frequency)."""
 # --------------------------------------------------------------------------------------------
 # The result
 # --------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class AnalysisSettings:
+    """The ``[analysis]`` table as read: the fields of
+    :class:`steradian.analysis.AnalysisOptions`, which :func:`steradian.workflows.analyze_design`
+    builds from them (files do not run analyses).
+
+    Attributes
+    ----------
+    frequency : float or None
+        ``analysis.frequency_hz`` (None: the design frequency).
+    radiation_efficiency : float
+        ``analysis.radiation_efficiency`` (default 1).
+    vswr, return_loss_db : float or None
+        Mismatch for realized gain (at most one).
+    element_power_w : float or None
+        Transmit power per element channel (W), for EIRP.
+    metrics : bool
+        ``analysis.metrics`` (default true).
+    """
+
+    frequency: float | None = None
+    radiation_efficiency: float = 1.0
+    vswr: float | None = None
+    return_loss_db: float | None = None
+    element_power_w: float | None = None
+    metrics: bool = True
+
+
 @dataclass(frozen=True, eq=False)
 class Design:
     """A design read from a TOML file or dictionary.
@@ -72,7 +97,7 @@ class Design:
         ``design.description`` (default empty).
     array : Array
         Geometry, element, taper, steering and element mask at the design frequency.
-    options : AnalysisOptions
+    options : AnalysisSettings
         From ``[analysis]``.
     sections : Mapping[str, Any]
         Raw tables of the pass-through sections present (``synthesis``, ``channel``,
@@ -86,7 +111,7 @@ class Design:
     name: str
     description: str
     array: Array
-    options: AnalysisOptions
+    options: AnalysisSettings
     sections: Mapping[str, Any] = field(default_factory=dict)
     source: Path | None = None
     base_dir: Path = field(default_factory=Path.cwd)
@@ -95,22 +120,6 @@ class Design:
     def wavelength(self) -> float:
         """Wavelength at the design frequency (m)."""
         return self.array.wavelength
-
-    def analyze(self, frequency: float | None = None) -> dict:
-        """Run :func:`steradian.analysis.analyze` with the design's options.
-
-        ``frequency`` (Hz) overrides ``analysis.frequency_hz``. The returned dictionary is
-        the analysis summary with a ``design`` block (name, description, source) added.
-        """
-        from ..analysis import analyze
-
-        opt = self.options
-        if frequency is not None:
-            opt = replace(opt, frequency=positive("frequency", frequency, " Hz"))
-        out = {"design": {"name": self.name, "description": self.description,
-                          "source": None if self.source is None else str(self.source)}}
-        out.update(analyze(self.array, opt))
-        return out
 
 
 # --------------------------------------------------------------------------------------------
@@ -184,7 +193,7 @@ def _geometry(t: Section, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
 
 
 def _csv_has_normals(path: Path) -> bool:
-    from .positions_csv import read_table
+    from .csv_table import read_table
 
     header = read_table(path)[0]
     return "normal_x" in header
@@ -304,20 +313,15 @@ def _element(t: Section, ctx: _Context) -> Element:
 
 
 def _patch(t: Section, ctx: _Context) -> Element:
-    from .. import elements
-
-    patch = getattr(elements, "Patch", None)
-    if patch is None:
-        raise t.error("model", "'patch' is not available in this installation")
     eps_r = t.number("eps_r", minimum=1)
     h = t.number("height_m", above=0)
     w = t.number("width_m", None, above=0)
     length = t.number("length_m", None, above=0)
     if length is None:
-        return patch.resonant(ctx.frequency, eps_r, h, width_m=w)
+        return Patch.resonant(ctx.frequency, eps_r, h, width_m=w)
     if w is None:
         raise t.error("width_m", "required when element.length_m is given")
-    return patch(ctx.frequency, w, length, eps_r, h, speed=ctx.speed)
+    return Patch(ctx.frequency, w, length, eps_r, h, speed=ctx.speed)
 
 
 # --------------------------------------------------------------------------------------------
@@ -344,10 +348,8 @@ def _taper(t: Section | None, geom: Geometry, ctx: _Context) -> np.ndarray | Non
     if kind == "uniform":
         t.only(("kind",), "for kind = 'uniform'")
         return None
-    if importlib.util.find_spec("steradian.tapers") is None:
-        raise t.error("kind", f"unknown taper kind {kind!r}: this installation knows "
-                      "'uniform' and taper.file only")
-    tapers = importlib.import_module("steradian.tapers")
+    from .. import tapers
+
     try:
         w = tapers.from_spec(geom, dict(t.data), ctx.wavelength)
     except DesignError as exc:
@@ -375,14 +377,14 @@ _ANALYSIS_KEYS = ("frequency_hz", "radiation_efficiency", "vswr", "return_loss_d
                   "element_power_w", "metrics")
 
 
-def _analysis(t: Section | None) -> AnalysisOptions:
+def _analysis(t: Section | None) -> AnalysisSettings:
     if t is None:
-        return AnalysisOptions()
+        return AnalysisSettings()
     t.only(_ANALYSIS_KEYS)
     if "vswr" in t and "return_loss_db" in t:
         raise t.error("return_loss_db", "give analysis.vswr or analysis.return_loss_db, "
                       "not both")
-    return AnalysisOptions(
+    return AnalysisSettings(
         frequency=t.number("frequency_hz", None, above=0),
         radiation_efficiency=t.number("radiation_efficiency", 1.0, above=0, maximum=1),
         vswr=t.number("vswr", None, minimum=1),

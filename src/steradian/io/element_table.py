@@ -232,7 +232,7 @@ def write_element_table(path, element: Element, *, theta_step_deg: float | None 
     digits : int
         Significant digits written (17 round-trips doubles exactly).
     """
-    from ._atomic import atomic_open
+    from .atomic import atomic_open
 
     if quantity not in ("field", "gain_dbi"):
         raise SteradianError(f"quantity must be 'field' or 'gain_dbi', got {quantity!r}")

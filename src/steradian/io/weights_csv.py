@@ -34,8 +34,8 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import FileFormatError, SteradianError
-from ._atomic import write_text
-from .positions_csv import parse_float, read_table, unknown_column
+from .atomic import write_text
+from .csv_table import parse_float, read_table, unknown_column
 
 __all__ = ["WeightsTable", "read_weights", "read_weights_table", "write_weights"]
 

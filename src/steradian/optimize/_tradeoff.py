@@ -11,7 +11,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..errors import SteradianError
-from ..io._atomic import write_bytes, write_text
+from ..io.atomic import write_bytes, write_text
 from ._convex import DEFAULT_LOADING, SynthesisInfeasible, _closed_form, _max_directivity
 from ._problem import make_setup
 
