@@ -44,8 +44,10 @@ import numpy as np
 
 from ..beamtable import IQ_SCALE, BeamTable
 from ..errors import FileFormatError, SteradianError
-from ..quantize import StateMap, wrap_deg
+from ..quantize import StateMap
+from ..units import from_db20, wrap_deg
 from .atomic import write_text
+from .csv_table import read_lines, split_fields
 
 __all__ = ["write_beams_csv", "read_beams_csv"]
 
@@ -116,24 +118,16 @@ def read_beams_csv(path) -> BeamTable:
         state columns, or codes outside the states' range.
     """
     path = Path(path)
-    lines = path.read_text(encoding="utf-8-sig").splitlines()
-    meta, header, hline = {}, None, 0
-    body = []
-    for i, line in enumerate(lines, 1):
-        s = line.strip()
-        if not s:
-            continue
-        if s.startswith("#"):
-            m = _META.match(s[1:])
-            if m and header is None:
-                meta[m.group(1)] = (m.group(2).strip(), i)
-            continue
-        if header is None:
-            header, hline = [h.strip() for h in s.split(",")], i
-        else:
-            body.append((i, s))
-    if header is None:
+    comments, lines = read_lines(path)
+    if not lines:
         raise FileFormatError(path, "no header line")
+    (hline, first), body = lines[0], lines[1:]
+    header = split_fields(first)
+    meta = {}
+    for i, text in comments:
+        m = _META.match(text)
+        if m and i < hline:
+            meta[m.group(1)] = (m.group(2).strip(), i)
 
     def need(key):
         if key not in meta:
@@ -306,7 +300,7 @@ def _check_reading(path, table, reading, row_line):
     big = amp > 1e-6
     with np.errstate(invalid="ignore"):
         d_bad = np.where(big, np.abs(reading[..., 1] - db) > 1e-6,
-                         np.abs(10 ** (reading[..., 1] / 20) - amp) > tol)
+                         np.abs(from_db20(reading[..., 1]) - amp) > tol)
     p_bad = big & (np.abs(wrap_deg(reading[..., 2] - ph)) > 1e-6)
     for name, bad, want in (("amplitude", a_bad, amp), ("amplitude_db", d_bad, db),
                             ("phase_deg", p_bad, ph)):

@@ -16,7 +16,37 @@ from pathlib import Path
 
 from ..errors import FileFormatError, suggest
 
-__all__ = ["read_table", "parse_float", "unknown_column"]
+__all__ = ["read_lines", "split_fields", "read_table", "parse_float", "unknown_column"]
+
+
+def read_lines(path) -> tuple[list[tuple[int, str]], list[tuple[int, str]]]:
+    """The lines of a text table: ``(comments, rows)``, each a list of ``(line, text)``.
+
+    Line numbers are 1-based; ``comments`` holds the text after ``#`` (stripped), ``rows``
+    every other non-blank line (stripped). Raises :class:`FileFormatError` for a file that is
+    not UTF-8 text (a byte-order mark is allowed); ``OSError`` passes through.
+    """
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise FileFormatError(path, f"not a UTF-8 text file ({exc.reason})") from None
+    comments: list[tuple[int, str]] = []
+    rows: list[tuple[int, str]] = []
+    for lineno, line in enumerate(text.splitlines(), start=1):
+        s = line.strip()
+        if not s:
+            continue
+        if s.startswith("#"):
+            comments.append((lineno, s[1:].strip()))
+        else:
+            rows.append((lineno, s))
+    return comments, rows
+
+
+def split_fields(line: str) -> list[str]:
+    """The comma-separated fields of one line (CSV quoting honoured), each stripped."""
+    return [f.strip() for f in next(csv.reader(io.StringIO(line)))]
 
 
 def read_table(path) -> tuple[list[str], list[tuple[int, list[str]]], int, list[str]]:
@@ -27,37 +57,23 @@ def read_table(path) -> tuple[list[str], list[tuple[int, list[str]]], int, list[
     without their ``#``. Raises :class:`FileFormatError` for an empty file or a row whose
     field count differs from the header's.
     """
-    path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise FileFormatError(path, f"not a UTF-8 text file ({exc.reason})") from None
-    header: list[str] | None = None
-    header_line = 0
+    comments, lines = read_lines(path)
+    if not lines:
+        raise FileFormatError(path, "no header row (file is empty or only comments)")
+    header_line, first = lines[0]
+    header = [f.lower() for f in split_fields(first)]
+    dup = [h for h in header if header.count(h) > 1]
+    if dup:
+        raise FileFormatError(path, f"column {dup[0]!r} appears twice", header_line)
     rows: list[tuple[int, list[str]]] = []
-    comments: list[str] = []
-    for lineno, line in enumerate(text.splitlines(), start=1):
-        s = line.strip()
-        if not s:
-            continue
-        if s.startswith("#"):
-            comments.append(s[1:].strip())
-            continue
-        fields = [f.strip() for f in next(csv.reader(io.StringIO(line)))]
-        if header is None:
-            header, header_line = [f.lower() for f in fields], lineno
-            dup = [h for h in header if header.count(h) > 1]
-            if dup:
-                raise FileFormatError(path, f"column {dup[0]!r} appears twice", lineno)
-            continue
+    for lineno, line in lines[1:]:
+        fields = split_fields(line)
         if len(fields) != len(header):
             raise FileFormatError(
                 path, f"expected {len(header)} fields ({', '.join(header)}), got {len(fields)}",
                 lineno)
         rows.append((lineno, fields))
-    if header is None:
-        raise FileFormatError(path, "no header row (file is empty or only comments)")
-    return header, rows, header_line, comments
+    return header, rows, header_line, [c for _, c in comments]
 
 
 def parse_float(path, lineno: int, column: str, text: str, *, allow_inf: bool = False) -> float:
