@@ -17,7 +17,7 @@ import numpy as np
 
 from ..errors import FileFormatError
 from ..units import from_db20
-from .csv_table import parse_float, read_table, unknown_column
+from .csv_table import check_columns, parse_float, parse_index, read_table
 
 __all__ = ["read_calibration", "CALIBRATION_COLUMNS"]
 
@@ -38,29 +38,17 @@ def read_calibration(path, n: int | None = None) -> np.ndarray:
         Naming the line for a bad number, a duplicate or missing element, or a wrong count.
     """
     header, rows, hline, _ = read_table(path)
-    for h in header:
-        if h not in CALIBRATION_COLUMNS:
-            raise unknown_column(path, h, CALIBRATION_COLUMNS, hline)
-    missing = [c for c in CALIBRATION_COLUMNS if c not in header]
-    if missing:
-        raise FileFormatError(path, f"missing column {missing[0]!r}", hline)
+    col = check_columns(path, header, CALIBRATION_COLUMNS, CALIBRATION_COLUMNS, hline)
     if not rows:
         raise FileFormatError(path, "no calibration rows (need a header line "
                               "'element,gain_db,phase_deg' and one row per element)")
     m = len(rows)
     if n is not None and m != n:
         raise FileFormatError(path, f"has {m} channel rows, the array has {n} elements")
-    col = {h: i for i, h in enumerate(header)}
     cal = np.zeros(m, complex)
     seen: dict[int, int] = {}
     for lineno, f in rows:
-        e = f[col["element"]]
-        try:
-            i = int(e)
-        except ValueError:
-            raise FileFormatError(path, f"element {e!r} is not a whole number", lineno) from None
-        if not 0 <= i < m:
-            raise FileFormatError(path, f"element {i} is outside 0..{m - 1}", lineno)
+        i = parse_index(path, lineno, "element", f[col["element"]], m)
         if i in seen:
             raise FileFormatError(path, f"element {i} appears twice (first on line "
                                   f"{seen[i]})", lineno)

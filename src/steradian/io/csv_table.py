@@ -16,7 +16,8 @@ from pathlib import Path
 
 from ..errors import FileFormatError, suggest
 
-__all__ = ["read_lines", "split_fields", "read_table", "parse_float", "unknown_column"]
+__all__ = ["read_lines", "split_fields", "read_table", "parse_float", "unknown_column",
+           "check_columns", "parse_index"]
 
 
 def read_lines(path) -> tuple[list[tuple[int, str]], list[tuple[int, str]]]:
@@ -93,3 +94,30 @@ def unknown_column(path, column: str, allowed, lineno: int) -> FileFormatError:
     """Error for an unexpected column, suggesting the closest allowed name."""
     return FileFormatError(path, f"unknown column {column!r}{suggest(column, allowed)}; allowed: "
                            f"{', '.join(allowed)}", lineno)
+
+
+def check_columns(path, header, allowed, required, line: int) -> dict[str, int]:
+    """Check a header: every column in ``allowed``, every ``required`` one present.
+
+    Returns ``{column: index}``. Raises :class:`FileFormatError` on ``line`` for an unknown
+    column (with the closest allowed name) or the missing required ones.
+    """
+    for h in header:
+        if h not in allowed:
+            raise unknown_column(path, h, allowed, line)
+    missing = [c for c in required if c not in header]
+    if missing:
+        raise FileFormatError(path, "missing column " + ", ".join(map(repr, missing)), line)
+    return {h: i for i, h in enumerate(header)}
+
+
+def parse_index(path, lineno: int, column: str, text: str, count: int) -> int:
+    """Parse an index field in ``0 .. count - 1`` (element numbers), naming line and column."""
+    try:
+        i = int(text)
+    except ValueError:
+        raise FileFormatError(path, f"column {column!r}: {text!r} is not a whole number",
+                              lineno) from None
+    if not 0 <= i < count:
+        raise FileFormatError(path, f"column {column!r}: {i} is outside 0..{count - 1}", lineno)
+    return i

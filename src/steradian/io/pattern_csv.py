@@ -29,7 +29,7 @@ import numpy as np
 from ..directions import unit_vectors_deg
 from ..errors import FileFormatError, SteradianError
 from .atomic import write_text
-from .csv_table import parse_float, read_table, unknown_column
+from .csv_table import check_columns, parse_float, read_table
 
 __all__ = ["UVMap", "write_cuts", "read_cuts", "write_uv", "read_uv"]
 
@@ -99,15 +99,9 @@ def read_cuts(path) -> list:
 
     path = Path(path)
     header, rows, hline, _ = read_table(path)
-    for h in header:
-        if h not in _CUT_COLUMNS:
-            raise unknown_column(path, h, _CUT_COLUMNS, hline)
-    missing = [c for c in _CUT_COLUMNS if c not in header]
-    if missing:
-        raise FileFormatError(path, f"missing column(s) {', '.join(missing)}", hline)
+    col = check_columns(path, header, _CUT_COLUMNS, _CUT_COLUMNS, hline)
     if not rows:
         raise FileFormatError(path, "no rows after the header", hline)
-    col = {h: i for i, h in enumerate(header)}
     data: dict[str, list] = {}
     for lineno, f in rows:
         vals = [parse_float(path, lineno, c, f[col[c]]) for c in _CUT_COLUMNS[1:4]]
@@ -149,15 +143,9 @@ def read_uv(path) -> UVMap:
     """Read a u-v file back into a :class:`UVMap` (missing grid points become NaN)."""
     path = Path(path)
     header, rows, hline, comments = read_table(path)
-    for h in header:
-        if h not in _UV_COLUMNS:
-            raise unknown_column(path, h, _UV_COLUMNS, hline)
-    for c in ("u", "v", "directivity_dbi"):
-        if c not in header:
-            raise FileFormatError(path, f"missing column {c!r}", hline)
+    col = check_columns(path, header, _UV_COLUMNS, ("u", "v", "directivity_dbi"), hline)
     if not rows:
         raise FileFormatError(path, "no rows after the header", hline)
-    col = {h: i for i, h in enumerate(header)}
     pts = np.array([[parse_float(path, ln, "u", f[col["u"]]),
                      parse_float(path, ln, "v", f[col["v"]]),
                      parse_float(path, ln, "directivity_dbi", f[col["directivity_dbi"]],
