@@ -25,6 +25,7 @@ __all__ = [
     "concentric_rings",
     "rotation_to",
     "COINCIDENT_TOL",
+    "coincident_pair",
 ]
 
 COINCIDENT_TOL = 1e-9
@@ -132,14 +133,25 @@ class Geometry:
         return np.ptp(self.positions, axis=0)
 
 
-def _check_coincident(pos: np.ndarray) -> None:
+def coincident_pair(positions) -> tuple[int, int] | None:
+    """The first element ``j`` (in index order) within :data:`COINCIDENT_TOL` of an earlier
+    element ``i``, as ``(i, j)``; None when all positions are distinct."""
+    pos = np.asarray(positions, float)
     if len(pos) < 2:
-        return
+        return None
     from scipy.spatial import cKDTree
 
     pairs = cKDTree(pos).query_pairs(COINCIDENT_TOL, output_type="ndarray")
-    if len(pairs):
-        i, j = sorted(pairs[0].tolist())
+    if not len(pairs):
+        return None
+    i, j = sorted(pairs[np.argmin(pairs.max(axis=1))].tolist())
+    return i, j
+
+
+def _check_coincident(pos: np.ndarray) -> None:
+    pair = coincident_pair(pos)
+    if pair is not None:
+        i, j = pair
         raise SteradianError(
             f"elements {i} and {j} are at the same position {pos[i].round(12).tolist()} m")
 

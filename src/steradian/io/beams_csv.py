@@ -129,6 +129,37 @@ def read_beams_csv(path) -> BeamTable:
         if m and i < hline:
             meta[m.group(1)] = (m.group(2).strip(), i)
 
+    enc, n, nb, states, jsons = _header_values(path, meta)
+    with_pos = "x_m" in header
+    want = _columns(enc, with_pos)
+    if header != want:
+        missing = [c for c in want if c not in header]
+        extra = [c for c in header if c not in want]
+        what = (f"missing column {missing[0]!r}" if missing else
+                f"unexpected column {extra[0]!r}" if extra else "columns out of order")
+        raise FileFormatError(path, f"{what}; expected {','.join(want)}", hline)
+    if len(body) != n * nb:
+        raise FileFormatError(path, f"has {len(body)} rows, expected n_beams x n_elements = "
+                              f"{nb} x {n} = {n * nb}")
+    parsed = _parse_fast(body, n, nb, with_pos, len(want))
+    if parsed is None:  # something is wrong: the row-by-row pass names the line
+        parsed = _parse_rows(path, body, n, nb, with_pos, enc, len(want))
+    dirs, pos, off, codes, reading, row_line = parsed
+    try:
+        table = BeamTable(states, dirs, codes, enc, off, pos, jsons.get("metadata") or {},
+                          None if jsons.get("metrics") is None else tuple(jsons["metrics"]))
+    except SteradianError as exc:
+        m = re.search(r"beam (\d+), element (\d+)", str(exc))
+        line = int(row_line[int(m.group(1)), int(m.group(2))]) if m else None
+        raise FileFormatError(path, str(exc), line) from None
+    _check_reading(path, table, reading, row_line)
+    return table
+
+
+
+def _header_values(path, meta: dict):
+    """(encoding, n_elements, n_beams, states, {json key: value}) from the ``#`` lines."""
+
     def need(key):
         if key not in meta:
             raise FileFormatError(path, f"missing '# {key} = ...' line")
@@ -165,32 +196,7 @@ def read_beams_csv(path) -> BeamTable:
         states = StateMap.from_dict(jsons["states"])
     except (SteradianError, TypeError) as exc:
         raise FileFormatError(path, f"states: {exc}", meta["states"][1]) from None
-
-    with_pos = "x_m" in header
-    want = _columns(enc, with_pos)
-    if header != want:
-        missing = [c for c in want if c not in header]
-        extra = [c for c in header if c not in want]
-        what = (f"missing column {missing[0]!r}" if missing else
-                f"unexpected column {extra[0]!r}" if extra else "columns out of order")
-        raise FileFormatError(path, f"{what}; expected {','.join(want)}", hline)
-    if len(body) != n * nb:
-        raise FileFormatError(path, f"has {len(body)} rows, expected n_beams x n_elements = "
-                              f"{nb} x {n} = {n * nb}")
-    parsed = _parse_fast(body, n, nb, with_pos, len(want))
-    if parsed is None:  # something is wrong: the row-by-row pass names the line
-        parsed = _parse_rows(path, body, n, nb, with_pos, enc, len(want))
-    dirs, pos, off, codes, reading, row_line = parsed
-    try:
-        table = BeamTable(states, dirs, codes, enc, off, pos, jsons.get("metadata") or {},
-                          None if jsons.get("metrics") is None else tuple(jsons["metrics"]))
-    except SteradianError as exc:
-        m = re.search(r"beam (\d+), element (\d+)", str(exc))
-        line = int(row_line[int(m.group(1)), int(m.group(2))]) if m else None
-        raise FileFormatError(path, str(exc), line) from None
-    _check_reading(path, table, reading, row_line)
-    return table
-
+    return enc, n, nb, states, jsons
 
 
 def _parse_fast(body, n, nb, with_pos, ncol):

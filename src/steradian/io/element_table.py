@@ -77,13 +77,38 @@ def read_element_table(path) -> TabulatedElement:
     except OSError as exc:
         raise FileFormatError(path, f"cannot read element table: {exc}") from None
     header = _header_keys(path, comments, rows[0][0] if rows else math.inf)
+    quantity, components, front_only, freq = _settings(path, header)
+    expected = COLUMNS[(quantity, components)]
+    cols = _columns(path, header, expected, f"quantity={quantity}, components={components}")
+    if not rows:
+        raise FileFormatError(path, "no data rows")
+    data = _samples(path, rows, cols, expected, front_only)
+    thetas, phis, vals = _grid(path, rows, data)
+    if quantity == "field":
+        comp = [vals[..., 2] + 1j * vals[..., 3]]
+        if components == "theta_phi":
+            comp.append(vals[..., 4] + 1j * vals[..., 5])
+    else:
+        comp = [from_db20(vals[..., 2]) * np.exp(1j * np.deg2rad(vals[..., 3]))]
+        if components == "theta_phi":
+            comp.append(from_db20(vals[..., 4]) * np.exp(1j * np.deg2rad(vals[..., 5])))
+    try:
+        return TabulatedElement(thetas, phis, comp[0], comp[1] if len(comp) > 1 else None,
+                                front_only=front_only, source=str(path), quantity=quantity,
+                                frequency_hz=freq)
+    except SteradianError as exc:
+        raise FileFormatError(path, str(exc)) from None
 
-    def need(key):
-        if key not in header:
-            raise FileFormatError(path, f"missing header line '# {key} = ...'")
-        return header[key]
 
-    quantity, qline = need("quantity")
+def _need(path, header, key):
+    if key not in header:
+        raise FileFormatError(path, f"missing header line '# {key} = ...'")
+    return header[key]
+
+
+def _settings(path, header) -> tuple[str, str, bool, float | None]:
+    """(quantity, components, front_only, frequency_hz) from the header keys."""
+    quantity, qline = _need(path, header, "quantity")
     if quantity not in ("field", "gain_dbi"):
         raise FileFormatError(path, f"quantity must be 'field' or 'gain_dbi', got {quantity!r}"
                               f"{suggest(quantity, ('field', 'gain_dbi'))}", qline)
@@ -96,7 +121,6 @@ def read_element_table(path) -> TabulatedElement:
     if front_txt.lower() not in ("true", "false"):
         raise FileFormatError(path, f"front_only must be 'true' or 'false', got {front_txt!r}",
                               fline)
-    front_only = front_txt.lower() == "true"
     freq = None
     if "frequency_hz" in header:
         ftxt, fl = header["frequency_hz"]
@@ -107,28 +131,31 @@ def read_element_table(path) -> TabulatedElement:
         if not (math.isfinite(freq) and freq > 0):
             raise FileFormatError(path, f"frequency_hz must be a positive number, got {ftxt!r}",
                                   fl)
+    return quantity, components, front_txt.lower() == "true", freq
 
-    expected = COLUMNS[(quantity, components)]
-    col_txt, col_line = need("columns")
+
+def _columns(path, header, expected, kind: str) -> list[str]:
+    """The ``# columns = ...`` list, checked against the columns ``kind`` needs."""
+    col_txt, col_line = _need(path, header, "columns")
     cols = [c.strip() for c in col_txt.split(",")]
     for c in cols:
         if c not in expected:
             raise FileFormatError(path, f"unknown column {c!r}{suggest(c, expected)} for "
-                                  f"quantity={quantity}, components={components}; expected "
-                                  f"{', '.join(expected)}", col_line)
+                                  f"{kind}; expected {', '.join(expected)}", col_line)
     dup = [c for c in cols if cols.count(c) > 1]
     if dup:
         raise FileFormatError(path, f"column {dup[0]!r} listed twice", col_line)
     missing = [c for c in expected if c not in cols]
     if missing:
-        raise FileFormatError(path, f"columns lack {', '.join(missing)} (quantity={quantity},"
-                              f" components={components} needs {', '.join(expected)})",
-                              col_line)
+        raise FileFormatError(path, f"columns lack {', '.join(missing)} ({kind} needs "
+                              f"{', '.join(expected)})", col_line)
+    return cols
+
+
+def _samples(path, rows, cols, expected, front_only) -> np.ndarray:
+    """The rows as numbers, shape (rows, len(expected)), in ``expected`` column order."""
     idx = {c: cols.index(c) for c in expected}
     db_cols = {c for c in expected if c.endswith("dbi")}
-    if not rows:
-        raise FileFormatError(path, "no data rows")
-
     data = np.empty((len(rows), len(expected)))
     for r, (n, line) in enumerate(rows):
         fields = split_fields(line)
@@ -154,8 +181,11 @@ def read_element_table(path) -> TabulatedElement:
         if front_only and th > 90.0 + GRID_TOL:
             raise FileFormatError(path, f"theta_deg={th:g} is behind the front half-space of a "
                                   "front_only table (theta must be at most 90)", n)
+    return data
 
-    # Assemble the grid: every (theta, phi) exactly once.
+
+def _grid(path, rows, data):
+    """(thetas, phis, values (n_theta, n_phi, ncol)): every (theta, phi) exactly once."""
     lines = np.array([n for n, _ in rows])
     tkey = np.round(data[:, 0], 6)
     pkey = np.round(data[:, 1], 6)
@@ -179,21 +209,7 @@ def read_element_table(path) -> TabulatedElement:
     if phis[-1] - phis[0] > 360.0 + GRID_TOL:
         raise FileFormatError(path, f"phi values span {phis[-1] - phis[0]:g} deg, more than "
                               "the full circle")
-    vals = data[seen]  # (n_theta, n_phi, ncol)
-    if quantity == "field":
-        comp = [vals[..., 2] + 1j * vals[..., 3]]
-        if components == "theta_phi":
-            comp.append(vals[..., 4] + 1j * vals[..., 5])
-    else:
-        comp = [from_db20(vals[..., 2]) * np.exp(1j * np.deg2rad(vals[..., 3]))]
-        if components == "theta_phi":
-            comp.append(from_db20(vals[..., 4]) * np.exp(1j * np.deg2rad(vals[..., 5])))
-    try:
-        return TabulatedElement(thetas, phis, comp[0], comp[1] if len(comp) > 1 else None,
-                                front_only=front_only, source=str(path), quantity=quantity,
-                                frequency_hz=freq)
-    except SteradianError as exc:
-        raise FileFormatError(path, str(exc)) from None
+    return thetas, phis, data[seen]
 
 
 # ---- CSV writer ---------------------------------------------------------------------------

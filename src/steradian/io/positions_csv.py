@@ -30,9 +30,9 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import FileFormatError, SteradianError
-from ..geometry import COINCIDENT_TOL, Geometry, rotation_to
+from ..geometry import Geometry, coincident_pair, rotation_to
 from .atomic import write_text
-from .csv_table import parse_float, read_table, unknown_column
+from .csv_table import check_columns, parse_float, read_table
 
 __all__ = ["ElementLayout", "read_layout", "read_positions", "write_positions", "LENGTH_UNITS"]
 
@@ -110,16 +110,7 @@ def read_layout(path, wavelength: float | None = None,
     path = Path(path)
     header, rows, hline, _ = read_table(path)
     unit = _coordinate_unit(path, header, hline)
-    coords = [f"{a}_{unit}" for a in "xyz"]
-    has_normals = [c in header for c in _NORMALS]
-    if any(has_normals) and not all(has_normals):
-        missing = [c for c, h in zip(_NORMALS, has_normals, strict=True) if not h]
-        raise FileFormatError(path, f"normal columns need all three; missing "
-                              f"{', '.join(missing)}", hline)
-    allowed = ["element", *coords, *_NORMALS, "enabled"]
-    for h in header:
-        if h not in allowed:
-            raise unknown_column(path, h, allowed, hline)
+    col = _layout_columns(path, header, unit, hline)
     if not rows:
         raise FileFormatError(path, "no element rows after the header", hline)
     scale = LENGTH_UNITS[unit]
@@ -128,10 +119,40 @@ def read_layout(path, wavelength: float | None = None,
             raise FileFormatError(path, "coordinates are in wavelengths (*_wl) but no "
                                   "wavelength was given (set the design frequency)", hline)
         scale = float(wavelength)
-    col = {h: i for i, h in enumerate(header)}
+    pos, normals, enabled = _layout_rows(path, rows, col, unit, scale)
+    pair = coincident_pair(pos)
+    if pair is not None:
+        i, j = pair
+        raise FileFormatError(path, f"element {j} is at the same position as element {i} "
+                              f"(line {rows[i][0]})", rows[j][0])
+    if enabled is not None and not enabled.any():
+        raise FileFormatError(path, "every element is disabled (column 'enabled')")
+    R = None
+    if normals is not None:
+        R = rotation_to(normals, np.asarray(local_x_toward, float))
+    try:
+        geom = Geometry(pos, R)
+    except SteradianError as exc:
+        raise FileFormatError(path, str(exc)) from None
+    return ElementLayout(geom, enabled, unit)
+
+
+def _layout_columns(path, header, unit: str, hline: int) -> dict[str, int]:
+    has_normals = [c in header for c in _NORMALS]
+    if any(has_normals) and not all(has_normals):
+        missing = [c for c, h in zip(_NORMALS, has_normals, strict=True) if not h]
+        raise FileFormatError(path, f"normal columns need all three; missing "
+                              f"{', '.join(missing)}", hline)
+    allowed = ["element", *(f"{a}_{unit}" for a in "xyz"), *_NORMALS, "enabled"]
+    return check_columns(path, header, allowed, (), hline)
+
+
+def _layout_rows(path, rows, col, unit: str, scale: float):
+    """(positions in metres, normals or None, enabled mask or None) of the rows."""
+    coords = [f"{a}_{unit}" for a in "xyz"]
     n = len(rows)
     pos = np.zeros((n, 3))
-    normals = np.zeros((n, 3)) if all(has_normals) else None
+    normals = np.zeros((n, 3)) if "normal_x" in col else None
     enabled = np.ones(n, bool) if "enabled" in col else None
     for r, (lineno, fields) in enumerate(rows):
         if "element" in col:
@@ -153,25 +174,7 @@ def read_layout(path, wavelength: float | None = None,
                 raise FileFormatError(path, f"column 'enabled': {fields[col['enabled']]!r} "
                                       "is not 1/0, true/false or yes/no", lineno)
             enabled[r] = v in _TRUE
-    if n > 1:
-        from scipy.spatial import cKDTree
-
-        pairs = cKDTree(pos).query_pairs(COINCIDENT_TOL, output_type="ndarray")
-        if len(pairs):
-            # report the first repeat in file order
-            i, j = sorted(pairs[np.argmin(pairs.max(axis=1))].tolist())
-            raise FileFormatError(path, f"element {j} is at the same position as element {i} "
-                                  f"(line {rows[i][0]})", rows[j][0])
-    if enabled is not None and not enabled.any():
-        raise FileFormatError(path, "every element is disabled (column 'enabled')")
-    R = None
-    if normals is not None:
-        R = rotation_to(normals, np.asarray(local_x_toward, float))
-    try:
-        geom = Geometry(pos, R)
-    except SteradianError as exc:
-        raise FileFormatError(path, str(exc)) from None
-    return ElementLayout(geom, enabled, unit)
+    return pos, normals, enabled
 
 
 def read_positions(path, wavelength: float | None = None) -> Geometry:
