@@ -63,7 +63,7 @@ import numpy as np
 
 from .errors import DesignError, SteradianError
 from .schema import Section
-from .units import wrap_deg  # noqa: F401  (also imported from here by beamtable._evaluate)
+from .units import db20, from_db20, wrap_deg
 from .validate import choice, count
 
 __all__ = [
@@ -157,7 +157,7 @@ class StateMap:
         if self.amplitude == "none":
             return np.ones_like(c)
         if self.amplitude == "attenuator":
-            return 10.0 ** (-c * self.amplitude_step / 20.0)
+            return from_db20(-c * self.amplitude_step)
         return c / (self.amplitude_states - 1)
 
     def commanded(self, phase_codes, amplitude_codes) -> np.ndarray:
@@ -186,9 +186,8 @@ class StateMap:
         if self.amplitude == "none":
             return np.zeros(a.shape, np.int64)
         if self.amplitude == "attenuator":
-            with np.errstate(divide="ignore"):
-                att = -20.0 * np.log10(a)
-            c = np.where(a > 0, np.rint(np.minimum(att, 1e6) / self.amplitude_step), m - 1)
+            att = -db20(np.where(a > 0, a, 1.0))
+            c = np.where(a > 0, np.rint(att / self.amplitude_step), m - 1)
             return np.clip(c, 0, m - 1).astype(np.int64)
         return np.clip(np.rint(a * (m - 1)), 0, m - 1).astype(np.int64)
 
@@ -275,9 +274,8 @@ class QuantizedWeights:
         """Realised over scaled ideal amplitude (dB), NaN where either weight is zero."""
         ref = np.abs(self.ideal) * self.scale[:, None]
         ok = (ref > 0) & (np.abs(self.realised) > 0)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            r = 20 * np.log10(np.abs(self.realised) / np.where(ok, ref, 1.0))
-        return np.where(ok, r, np.nan)
+        r = np.where(ok, np.abs(self.realised), 1.0) / np.where(ok, ref, 1.0)
+        return np.where(ok, db20(r), np.nan)
 
     def rms_phase_error_deg(self) -> np.ndarray:
         """RMS phase error per beam (degrees) over elements with non-zero weights."""
@@ -438,7 +436,7 @@ class ChannelModel:
         if np.any(peak == 0):
             raise SteradianError(f"beam {int(np.flatnonzero(peak == 0)[0])} has no non-zero "
                                  "weight on an enabled element")
-        full = 10.0 ** (self.gain_offset_db / 20.0)
+        full = from_db20(self.gain_offset_db)
         s = full / peak
         amp = np.abs(t) * s[:, None]
         ph = np.angle(t, deg=True) - off
@@ -461,6 +459,8 @@ class ChannelModel:
             c = self.calibration
             d["calibration"] = {
                 "source": self.calibration_source, "channels": int(c.size),
+                # 20 log10 |c| (not units.db20 = 10 log10 |c|^2): written into beam-table
+                # metadata, whose bytes stay those of earlier files.
                 "gain_db_range": [float(20 * np.log10(np.abs(c)).min()),
                                   float(20 * np.log10(np.abs(c)).max())],
                 "phase_deg_rms": float(np.sqrt(np.mean(np.angle(c, deg=True) ** 2)))}
