@@ -125,6 +125,7 @@ def write_uv(path, uvmap: UVMap, meta: dict | None = None) -> None:
     lines.append(",".join(_UV_COLUMNS))
     uu, vv = np.meshgrid(uvmap.u, uvmap.v, indexing="xy")
     s = np.hypot(uu, vv)
+    # theta from arcsin |(u, v)|, not arccos w (directions.angles_deg): exact near the pole.
     theta = np.rad2deg(np.arcsin(np.clip(s, 0.0, 1.0)))
     if uvmap.hemisphere == -1:
         theta = 180.0 - theta
