@@ -23,16 +23,10 @@ from pathlib import Path
 import numpy as np
 
 import steradian as st
-from steradian.beamtable import (
-    BeamEvaluator,
-    beam_table_from_design,
-    channel_of_design,
-    read_weight_file,
-    verify_weight_file,
-    write_beam_files,
-    write_weight_file,
-)
+from steradian.beamtable import BeamEvaluator
 from steradian.io.design import load_design
+from steradian.io.formats import read_weight_file, write_beam_files, write_weight_file
+from steradian.workflows import beam_table_from_design, channel_of_design, verify_weight_file
 
 HERE = Path(__file__).resolve().parent
 DESIGN = HERE.parent / "configs" / "balloon_downlink_tile.toml"

@@ -16,10 +16,11 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as hs
 
-from steradian.beamtable import IQ_SCALE, BeamTable, read_weight_file, write_weight_file
+from steradian.beamtable import IQ_SCALE, BeamTable
 from steradian.errors import FileFormatError, SteradianError
 from steradian.io.beams_bin import HEADER_SIZE, MAGIC, read_beams_bin, write_beams_bin
 from steradian.io.beams_cheader import write_beams_cheader
+from steradian.io.formats import read_weight_file, write_weight_file
 from steradian.quantize import ChannelModel, StateMap
 
 SUFFIXES = (".csv", ".json", ".bin", ".h")
@@ -242,7 +243,7 @@ def test_json_errors(tmp_path):
 
 def test_writes_are_atomic(tmp_path, monkeypatch):
     """An export interrupted before the rename leaves the old file and no temporary file."""
-    import steradian.io._atomic as atomic
+    import steradian.io.atomic as atomic
 
     for suffix in SUFFIXES:
         p = tmp_path / f"w{suffix}"

@@ -20,6 +20,7 @@ from steradian.beamtable import (
     verify_beam_table,
 )
 from steradian.errors import DesignError, SteradianError
+from steradian.io.directions_csv import read_directions
 from steradian.quantize import ChannelModel
 
 N_LINE = 400
@@ -207,7 +208,8 @@ def test_beams_table(tmp_path):
                           "phi_deg": [0, 180], "max_scan_deg": 25})
     assert d.tolist() == [[0.0, 0.0], [20.0, 0.0], [20.0, 180.0]]
     (tmp_path / "dirs.csv").write_text("# two beams\naz_deg,el_deg\n10,0\n0,-5\n")
-    d = beams_from_table({"grid": "list", "file": "dirs.csv"}, base_dir=tmp_path)
+    d = beams_from_table({"grid": "list", "file": "dirs.csv"}, base_dir=tmp_path,
+                         read_file=read_directions)
     assert d[:, 0] == pytest.approx([10, 5]) and d[1, 1] == pytest.approx(-90)
     assert beams_from_table({"grid": "list", "directions": [[5, 0]]}).tolist() == [[5, 0]]
     with pytest.raises(DesignError, match=r"beams\.az_dg.*did you mean 'az_deg'"):

@@ -32,8 +32,9 @@ from scipy.spatial.distance import pdist, squareform
 from scipy.special import spherical_jn
 
 import steradian as st
+from steradian.io.csv_table import read_table
 from steradian.io.design import load_design
-from steradian.io.positions_csv import read_table
+from steradian.workflows import analyze_design
 
 CONFIGS = sorted((Path(__file__).resolve().parent.parent / "configs").glob("*.toml"))
 
@@ -41,7 +42,7 @@ CONFIGS = sorted((Path(__file__).resolve().parent.parent / "configs").glob("*.to
 @functools.cache
 def _analysed(path: Path):
     des = load_design(path)
-    return des, des.analyze()
+    return des, analyze_design(des)
 
 
 def _raw(path: Path) -> dict:

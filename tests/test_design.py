@@ -22,9 +22,10 @@ from scipy.special import spherical_jn
 import steradian as st
 from steradian.errors import DesignError, FileFormatError
 from steradian.io.design import design_from_dict, load_design
-from steradian.io.pattern_csv import read_cuts, read_uv, uv_map, write_cuts, write_uv
+from steradian.io.pattern_csv import read_cuts, read_uv, write_cuts, write_uv
 from steradian.io.positions_csv import read_layout, read_positions, write_positions
 from steradian.io.weights_csv import read_weights, read_weights_table, write_weights
+from steradian.workflows import uv_map
 
 C0 = st.C0
 

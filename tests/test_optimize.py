@@ -17,9 +17,10 @@ import steradian as st
 from steradian import optimize as opt
 from steradian import tapers
 from steradian.errors import SteradianError
-from steradian.io.trade_curve import write_trade_curve_csv, write_trade_curve_png
+from steradian.io.trade_curve import write_trade_curve_csv
 from steradian.metrics import pattern_metrics
 from steradian.optimize import chebyshev_null
+from steradian.plots import plot_trade_curve
 
 F = st.C0  # 1 m wavelength
 
@@ -251,7 +252,7 @@ def test_trade_curve_is_monotone_and_written(tmp_path):
     assert all(r["met"] and r["psl_db"] <= r["limit_db"] + 0.01 for r in tc.rows)
     assert tc.max_directivity_dbi == pytest.approx(10 * math.log10(16), abs=1e-4)  # loaded
     assert tc.knee in tc.rows
-    write_trade_curve_png(tmp_path / "t.png", tc)
+    plot_trade_curve(tc, tmp_path / "t.png")
     write_trade_curve_csv(tmp_path / "t.csv", tc)
     assert (tmp_path / "t.png").read_bytes()[:4] == b"\x89PNG"
     lines = (tmp_path / "t.csv").read_text().splitlines()

@@ -8,13 +8,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as hs
 
 from steradian.errors import DesignError, FileFormatError, SteradianError
-from steradian.quantize import (
-    ChannelModel,
-    StateMap,
-    channel_from_table,
-    read_calibration,
-    wrap_deg,
-)
+from steradian.io.calibration_csv import read_calibration
+from steradian.quantize import ChannelModel, StateMap, channel_from_table
+from steradian.units import wrap_deg
 
 
 def _uniform_phases(rng, n):
@@ -183,7 +179,7 @@ def test_calibration_csv(tmp_path):
     assert cal[0] == pytest.approx(1.0)
     assert cal[1] == pytest.approx(0.5j, abs=1e-5)
     ch = channel_from_table({"phase_bits": 3, "calibration_file": "cal.csv"}, 2,
-                            base_dir=tmp_path)
+                            base_dir=tmp_path, read_file=read_calibration)
     assert np.allclose(ch.calibration, cal)
     p.write_text("element,gain_db,phase_deg\n0,0,0\n0,1,1\n")
     with pytest.raises(FileFormatError, match=r"cal.csv:3: element 0 appears twice"):

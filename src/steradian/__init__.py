@@ -12,19 +12,14 @@ from __future__ import annotations
 
 from . import optimize, tapers
 from .array import Array, Steering, direction
-from .beamtable import (
-    BeamEvaluator,
-    BeamTable,
+from .beamtable import BeamEvaluator, BeamTable, build_beam_table, verify_beam_table
+from .directions import (
+    Directions,
+    ThetaPhiGrid,
+    UVGrid,
     az_el_directions,
-    beam_table_from_design,
-    build_beam_table,
-    read_weight_file,
     theta_phi_directions,
-    verify_beam_table,
-    verify_weight_file,
-    write_weight_file,
 )
-from .directions import Directions, ThetaPhiGrid, UVGrid
 from .elements import (
     CosinePower,
     Dipole,
@@ -48,6 +43,7 @@ from .geometry import (
 )
 from .io.design import Design, design_from_dict, load_design
 from .io.element_table import read_element_table, write_element_table
+from .io.formats import read_weight_file, write_weight_file
 from .io.positions_csv import read_positions, write_positions
 from .io.weights_csv import read_weights, write_weights
 from .metrics import Cut, PatternMetrics, cut, pattern_metrics, principal_cuts
@@ -74,6 +70,7 @@ from .radiation import (
 )
 from .units import C0
 from .version import VERSION as __version__
+from .workflows import beam_table_from_design, verify_weight_file
 
 __all__ = [
     "__version__", "C0",

@@ -7,6 +7,7 @@ from typing import Literal, get_args
 
 import numpy as np
 
+from .directions import unit_vectors_deg
 from .elements import Element, Isotropic
 from .errors import SteradianError
 from .geometry import Geometry
@@ -20,8 +21,7 @@ SteerMode = Literal["phase", "delay"]
 
 def direction(theta_deg: float, phi_deg: float) -> np.ndarray:
     """Unit vector for angles in degrees (theta from +z, phi from +x toward +y)."""
-    t, p = np.deg2rad(theta_deg), np.deg2rad(phi_deg)
-    return np.array([np.sin(t) * np.cos(p), np.sin(t) * np.sin(p), np.cos(t)])
+    return unit_vectors_deg(float(theta_deg), float(phi_deg))
 
 
 @dataclass(frozen=True)

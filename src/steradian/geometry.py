@@ -7,6 +7,7 @@ local x, y and z axes expressed in array coordinates (local -> global).
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -24,9 +25,13 @@ __all__ = [
     "ring",
     "concentric_rings",
     "rotation_to",
+    "COINCIDENT_TOL",
+    "coincident_pair",
+    "LATTICE_KINDS",
 ]
 
-_COINCIDENT_TOL = 1e-9  # metres; elements closer than this are "at the same position"
+COINCIDENT_TOL = 1e-9
+"""Metres: elements closer than this are "at the same position"."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -130,14 +135,25 @@ class Geometry:
         return np.ptp(self.positions, axis=0)
 
 
-def _check_coincident(pos: np.ndarray) -> None:
+def coincident_pair(positions) -> tuple[int, int] | None:
+    """The first element ``j`` (in index order) within :data:`COINCIDENT_TOL` of an earlier
+    element ``i``, as ``(i, j)``; None when all positions are distinct."""
+    pos = np.asarray(positions, float)
     if len(pos) < 2:
-        return
+        return None
     from scipy.spatial import cKDTree
 
-    pairs = cKDTree(pos).query_pairs(_COINCIDENT_TOL, output_type="ndarray")
-    if len(pairs):
-        i, j = sorted(pairs[0].tolist())
+    pairs = cKDTree(pos).query_pairs(COINCIDENT_TOL, output_type="ndarray")
+    if not len(pairs):
+        return None
+    i, j = sorted(pairs[np.argmin(pairs.max(axis=1))].tolist())
+    return i, j
+
+
+def _check_coincident(pos: np.ndarray) -> None:
+    pair = coincident_pair(pos)
+    if pair is not None:
+        i, j = pair
         raise SteradianError(
             f"elements {i} and {j} are at the same position {pos[i].round(12).tolist()} m")
 
@@ -310,3 +326,56 @@ def principal_axes(positions, rtol: float = 1e-9) -> PrincipalAxes:
         axes = axes.copy()
         axes[2] = -axes[2]
     return PrincipalAxes(dim, axes, spread, c)
+
+
+# --------------------------------------------------------------------------------------------
+# Design-file lattice kinds: [geometry] kind = "..."
+# --------------------------------------------------------------------------------------------
+def _linear_from(t, s: float) -> Geometry:
+    return linear(t.integer("count", minimum=1), t.number("spacing", above=0) * s,
+                  t.string("axis", "x", choices=("x", "y", "z")))
+
+
+def _grid_from(make):
+    def build(t, s: float) -> Geometry:
+        nx = t.integer("count_x", minimum=1)
+        ny = t.integer("count_y", minimum=1)
+        dx = t.number("spacing_x", above=0) * s
+        dy = t.number("spacing_y", None, above=0)
+        return make(nx, ny, dx, None if dy is None else dy * s)
+    return build
+
+
+def _ring_from(t, s: float) -> Geometry:
+    return ring(t.integer("count", minimum=1), t.number("radius", above=0) * s,
+                t.number("start_angle_deg", 0.0))
+
+
+def _rings_from(t, s: float) -> Geometry:
+    radii = t.numbers("radii", above=0)
+    counts = t.integers("counts", minimum=1)
+    if len(radii) != len(counts):
+        raise t.error("counts", f"has {len(counts)} entries but radii has {len(radii)}")
+    start = t.data.get("start_angles_deg", 0.0)
+    if isinstance(start, list):
+        start = t.numbers("start_angles_deg")
+        if len(start) != len(radii):
+            raise t.error("start_angles_deg", f"has {len(start)} entries, radii has "
+                          f"{len(radii)}")
+    else:
+        start = t.number("start_angles_deg", 0.0)
+    return concentric_rings([r * s for r in radii], counts,
+                            t.boolean("centre_element", False), start)
+
+
+LATTICE_KINDS: dict[str, tuple[tuple[str, ...], Callable[..., Geometry]]] = {
+    "linear": (("count", "spacing", "axis"), _linear_from),
+    "rectangular": (("count_x", "count_y", "spacing_x", "spacing_y"), _grid_from(rectangular)),
+    "triangular": (("count_x", "count_y", "spacing_x", "spacing_y"), _grid_from(triangular)),
+    "ring": (("count", "radius", "start_angle_deg"), _ring_from),
+    "rings": (("counts", "radii", "centre_element", "start_angles_deg"), _rings_from),
+}
+"""Design-file lattice kinds: name -> (keys of ``[geometry]`` besides the common ones,
+``build(section, unit_m)``), the section a :class:`steradian.schema.Section` and ``unit_m``
+the size of one length unit in metres. To add a lattice: its function above, a builder and
+a line here."""

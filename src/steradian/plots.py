@@ -12,9 +12,9 @@ from collections.abc import Sequence
 
 import numpy as np
 
-from .io._atomic import write_bytes
+from .io.atomic import write_bytes
 
-__all__ = ["plot_cuts", "plot_uv", "CUT_LABELS"]
+__all__ = ["plot_cuts", "plot_uv", "trade_curve_figure", "plot_trade_curve", "CUT_LABELS"]
 
 CUT_LABELS = {
     "phi_plane": "plane through the beam and z (phi = phi0)",
@@ -88,7 +88,7 @@ def plot_uv(uvmap, path, *, title: str | None = None, range_db: float = 40.0) ->
     Parameters
     ----------
     uvmap : UVMap
-        From :func:`steradian.io.pattern_csv.uv_map`.
+        From :func:`steradian.workflows.uv_map` (or :func:`steradian.io.pattern_csv.read_uv`).
     path : path-like
         Output PNG (written atomically).
     title : str, optional
@@ -114,3 +114,38 @@ def plot_uv(uvmap, path, *, title: str | None = None, range_db: float = 40.0) ->
     ax.set_title(title or f"directivity, {side} hemisphere, peak {top:.2f} dBi", fontsize=10)
     fig.colorbar(mesh, ax=ax, label="directivity (dBi)")
     _save(fig, path)
+
+
+def trade_curve_figure(curve, title: str | None = None):
+    """Directivity against peak sidelobe level, the knee marked: a matplotlib Figure."""
+    from matplotlib.figure import Figure
+
+    ok = [r for r in curve.rows if r["directivity_dbi"] is not None]
+    fig = Figure(figsize=(6.4, 4.2))
+    ax = fig.add_subplot(1, 1, 1)
+    if ok:
+        x = [r["psl_db"] for r in ok]
+        y = [r["directivity_dbi"] for r in ok]
+        ax.plot(x, y, "o-", color="C0", label="optimum (dense-checked PSL)")
+    ax.axhline(curve.max_directivity_dbi, color="0.5", ls="--",
+               label=f"unconstrained {curve.max_directivity_dbi:.2f} dBi")
+    if curve.knee is not None:
+        ax.plot([curve.knee["psl_db"]], [curve.knee["directivity_dbi"]], "s", ms=10,
+                mfc="none", color="C3", label=f"knee ({curve.knee['limit_db']:.1f} dB)")
+    bad = [r["limit_db"] for r in curve.rows if r["directivity_dbi"] is None]
+    for b in bad:
+        ax.axvline(b, color="C3", alpha=0.25, lw=4)
+    if bad:
+        ax.plot([], [], color="C3", alpha=0.25, lw=4, label="infeasible level")
+    ax.set_xlabel("peak sidelobe level (dB)")
+    ax.set_ylabel("directivity (dBi)")
+    ax.grid(True, alpha=0.4)
+    ax.set_title(title or "maximum directivity against peak sidelobe level")
+    ax.legend(loc="lower right", fontsize=8)
+    fig.tight_layout()
+    return fig
+
+
+def plot_trade_curve(curve, path, *, title: str | None = None) -> None:
+    """Write the trade-curve figure (:func:`trade_curve_figure`) as a PNG, atomically."""
+    _save(trade_curve_figure(curve, title), path)

@@ -53,18 +53,18 @@ B. Widrow and I. Kollar, *Quantization Noise*, Cambridge University Press, 2008,
 
 from __future__ import annotations
 
-import csv
-import difflib
-import io
 import math
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Literal, get_args
 
 import numpy as np
 
-from .errors import DesignError, FileFormatError, SteradianError
-from .validate import check_table_keys, choice, count
+from .errors import DesignError, SteradianError
+from .schema import Section
+from .units import db20, from_db20, wrap_deg
+from .validate import choice, count
 
 __all__ = [
     "StateMap",
@@ -72,21 +72,14 @@ __all__ = [
     "QuantizedWeights",
     "AmplitudeControl",
     "OffsetMode",
-    "read_calibration",
     "channel_from_table",
     "CHANNEL_KEYS",
-    "wrap_deg",
 ]
 
 AmplitudeControl = Literal["none", "attenuator", "dac"]
 OffsetMode = Literal["none", "random"]
 
 _TOL = 1e-9
-
-
-def wrap_deg(x):
-    """Wrap angles in degrees into [-180, 180)."""
-    return (np.asarray(x, float) + 180.0) % 360.0 - 180.0
 
 
 @dataclass(frozen=True)
@@ -164,7 +157,7 @@ class StateMap:
         if self.amplitude == "none":
             return np.ones_like(c)
         if self.amplitude == "attenuator":
-            return 10.0 ** (-c * self.amplitude_step / 20.0)
+            return from_db20(-c * self.amplitude_step)
         return c / (self.amplitude_states - 1)
 
     def commanded(self, phase_codes, amplitude_codes) -> np.ndarray:
@@ -193,9 +186,8 @@ class StateMap:
         if self.amplitude == "none":
             return np.zeros(a.shape, np.int64)
         if self.amplitude == "attenuator":
-            with np.errstate(divide="ignore"):
-                att = -20.0 * np.log10(a)
-            c = np.where(a > 0, np.rint(np.minimum(att, 1e6) / self.amplitude_step), m - 1)
+            att = -db20(np.where(a > 0, a, 1.0))
+            c = np.where(a > 0, np.rint(att / self.amplitude_step), m - 1)
             return np.clip(c, 0, m - 1).astype(np.int64)
         return np.clip(np.rint(a * (m - 1)), 0, m - 1).astype(np.int64)
 
@@ -282,9 +274,8 @@ class QuantizedWeights:
         """Realised over scaled ideal amplitude (dB), NaN where either weight is zero."""
         ref = np.abs(self.ideal) * self.scale[:, None]
         ok = (ref > 0) & (np.abs(self.realised) > 0)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            r = 20 * np.log10(np.abs(self.realised) / np.where(ok, ref, 1.0))
-        return np.where(ok, r, np.nan)
+        r = np.where(ok, np.abs(self.realised), 1.0) / np.where(ok, ref, 1.0)
+        return np.where(ok, db20(r), np.nan)
 
     def rms_phase_error_deg(self) -> np.ndarray:
         """RMS phase error per beam (degrees) over elements with non-zero weights."""
@@ -377,7 +368,7 @@ class ChannelModel:
             The other :class:`ChannelModel` fields.
         """
         states = _state_map(phase_bits, phase_step_deg, phase_span_deg, attenuator_step_db,
-                            attenuator_span_db, dac_bits, SteradianError, "")
+                            attenuator_span_db, dac_bits, _raise)
         return cls(states, **kwargs)
 
     # ---- per-element data ----------------------------------------------------------------
@@ -445,7 +436,7 @@ class ChannelModel:
         if np.any(peak == 0):
             raise SteradianError(f"beam {int(np.flatnonzero(peak == 0)[0])} has no non-zero "
                                  "weight on an enabled element")
-        full = 10.0 ** (self.gain_offset_db / 20.0)
+        full = from_db20(self.gain_offset_db)
         s = full / peak
         amp = np.abs(t) * s[:, None]
         ph = np.angle(t, deg=True) - off
@@ -468,6 +459,8 @@ class ChannelModel:
             c = self.calibration
             d["calibration"] = {
                 "source": self.calibration_source, "channels": int(c.size),
+                # 20 log10 |c| (not units.db20 = 10 log10 |c|^2): written into beam-table
+                # metadata, whose bytes stay those of earlier files.
                 "gain_db_range": [float(20 * np.log10(np.abs(c)).min()),
                                   float(20 * np.log10(np.abs(c)).max())],
                 "phase_deg_rms": float(np.sqrt(np.mean(np.angle(c, deg=True) ** 2)))}
@@ -477,69 +470,72 @@ class ChannelModel:
 # ---------------------------------------------------------------------------------------
 # Construction from numbers or a design table
 # ---------------------------------------------------------------------------------------
-def _state_map(phase_bits, phase_step_deg, phase_span_deg, att_step, att_span, dac_bits,
-               err, prefix) -> StateMap:
-    """StateMap from datasheet numbers; errors through ``err(key, message)``."""
+def _raise(key: str, message: str):
+    raise SteradianError(f"{key}: {message}")
 
-    def fail(key, msg):
-        if err is SteradianError:
-            raise SteradianError(f"{key}: {msg}")
-        raise err(f"{prefix}{key}", msg)
 
-    def number(key, v, positive=True):
-        if isinstance(v, bool) or not isinstance(v, (int, float)):
-            fail(key, f"must be a number, got {v!r}")
-        v = float(v)
-        if not math.isfinite(v) or (positive and v <= 0):
-            fail(key, f"must be a positive number, got {v!r}")
-        return v
+def _number(fail, key, v, positive=True) -> float:
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        fail(key, f"must be a number, got {v!r}")
+    v = float(v)
+    if not math.isfinite(v) or (positive and v <= 0):
+        fail(key, f"must be a positive number, got {v!r}")
+    return v
 
-    def bits(key, v, hi):
-        if isinstance(v, bool) or not isinstance(v, int):
-            fail(key, f"must be a whole number of bits, got {v!r}")
-        if not 1 <= v <= hi:
-            fail(key, f"must be 1 .. {hi}, got {v}")
-        return v
 
+def _bits(fail, key, v, hi) -> int:
+    if isinstance(v, bool) or not isinstance(v, int):
+        fail(key, f"must be a whole number of bits, got {v!r}")
+    if not 1 <= v <= hi:
+        fail(key, f"must be 1 .. {hi}, got {v}")
+    return v
+
+
+def _phase_states(fail, phase_bits, phase_step_deg, phase_span_deg) -> tuple[float, int]:
+    """(step in degrees, number of states) of the phase shifter."""
     if phase_bits is not None and phase_step_deg is not None:
         fail("phase_step_deg", "give phase_bits or phase_step_deg, not both")
     if phase_bits is not None:
-        b = bits("phase_bits", phase_bits, 16)
+        b = _bits(fail, "phase_bits", phase_bits, 16)
         if phase_span_deg is not None:
             fail("phase_span_deg", "a b-bit shifter covers the full turn; give "
                  "phase_step_deg to set a span")
-        step, n_ph = 360.0 / 2**b, 2**b
-    elif phase_step_deg is not None:
-        step = number("phase_step_deg", phase_step_deg)
-        if step > 360:
-            fail("phase_step_deg", f"must be at most 360, got {step}")
-        if phase_span_deg is None:
-            n_ph = math.ceil(360.0 / step - _TOL)
-        else:
-            span = number("phase_span_deg", phase_span_deg, positive=False)
-            r = span / step
-            if span < 0 or abs(r - round(r)) > 1e-6:
-                fail("phase_span_deg", f"must be a whole number of {step:g} deg steps, "
-                     f"got {span:g}")
-            n_ph = round(r) + 1
-            if (n_ph - 1) * step >= 360.0 - _TOL * 360:
-                fail("phase_span_deg", f"{span:g} deg reaches a full turn; the last state "
-                     f"is at most {360 - step:g} deg")
-    else:
+        return 360.0 / 2**b, 2**b
+    if phase_step_deg is None:
         fail("phase_bits", "the channel needs phase_bits or phase_step_deg")
+    step = _number(fail, "phase_step_deg", phase_step_deg)
+    if step > 360:
+        fail("phase_step_deg", f"must be at most 360, got {step}")
+    if phase_span_deg is None:
+        return step, math.ceil(360.0 / step - _TOL)
+    span = _number(fail, "phase_span_deg", phase_span_deg, positive=False)
+    r = span / step
+    if span < 0 or abs(r - round(r)) > 1e-6:
+        fail("phase_span_deg", f"must be a whole number of {step:g} deg steps, got {span:g}")
+    n_ph = round(r) + 1
+    if (n_ph - 1) * step >= 360.0 - _TOL * 360:
+        fail("phase_span_deg", f"{span:g} deg reaches a full turn; the last state is at most "
+             f"{360 - step:g} deg")
+    return step, n_ph
+
+
+def _state_map(phase_bits, phase_step_deg, phase_span_deg, att_step, att_span, dac_bits,
+               fail: Callable[[str, str], None]) -> StateMap:
+    """StateMap from datasheet numbers; ``fail(key, message)`` raises for bad ones."""
+    step, n_ph = _phase_states(fail, phase_bits, phase_step_deg, phase_span_deg)
     if dac_bits is not None and (att_step is not None or att_span is not None):
         fail("dac_bits", "give an attenuator (attenuator_step_db, attenuator_span_db) or "
              "dac_bits, not both")
     if dac_bits is not None:
-        b = bits("dac_bits", dac_bits, 16)
+        b = _bits(fail, "dac_bits", dac_bits, 16)
         return StateMap(step, n_ph, "dac", 1.0 / (2**b - 1), 2**b)
     if att_step is None and att_span is None:
         return StateMap(step, n_ph)
     if att_step is None or att_span is None:
         fail("attenuator_step_db" if att_step is None else "attenuator_span_db",
              "an attenuator needs both attenuator_step_db and attenuator_span_db")
-    a_step = number("attenuator_step_db", att_step)
-    a_span = number("attenuator_span_db", att_span, positive=False)
+    a_step = _number(fail, "attenuator_step_db", att_step)
+    a_span = _number(fail, "attenuator_span_db", att_span, positive=False)
     r = a_span / a_step
     if a_span < 0 or abs(r - round(r)) > 1e-6:
         fail("attenuator_span_db", f"must be a whole number of {a_step:g} dB steps, got "
@@ -560,12 +556,14 @@ CHANNEL_KEYS = (
 
 
 def channel_from_table(table: dict, n_elements: int | None = None, *, source=None,
-                       base_dir=None, section: str = "channel") -> ChannelModel:
+                       base_dir=None, section: str = "channel",
+                       read_file: Callable[..., np.ndarray] | None = None) -> ChannelModel:
     """Channel model from a design file's ``[channel]`` table.
 
     Keys: ``phase_bits`` or ``phase_step_deg`` (+ ``phase_span_deg``); optionally
     ``attenuator_step_db`` and ``attenuator_span_db``, or ``dac_bits``; ``calibration_file``
-    (CSV, relative to the design file, see :func:`read_calibration`); ``gain_offset_db``;
+    (CSV, relative to ``base_dir``, read by ``read_file(path, n_elements)``:
+    :func:`steradian.io.calibration_csv.read_calibration`); ``gain_offset_db``;
     ``phase_offsets`` ("none" or "random"), ``offset_seed``, ``offset_span_deg``.
 
     Raises
@@ -573,141 +571,31 @@ def channel_from_table(table: dict, n_elements: int | None = None, *, source=Non
     DesignError
         Naming ``channel.<key>``, with the closest valid key for an unknown one.
     """
-    src = None if source is None else str(source)
-    check_table_keys(section, table, CHANNEL_KEYS, src)
+    t = Section(section, table, None if source is None else str(source))
+    t.only(CHANNEL_KEYS)
 
-    def err(key, msg):
-        return DesignError(key, msg, src)
-
-    class _E(DesignError):
-        def __init__(self, key, msg):
-            super().__init__(key, msg, src)
+    def fail(key, msg):
+        raise t.error(key, msg)
 
     g = table.get
     states = _state_map(g("phase_bits"), g("phase_step_deg"), g("phase_span_deg"),
-                        g("attenuator_step_db"), g("attenuator_span_db"), g("dac_bits"),
-                        _E, f"{section}.")
-    cal = None
-    cal_src = None
-    if "calibration_file" in table:
-        p = table["calibration_file"]
-        if not isinstance(p, str) or not p:
-            raise err(f"{section}.calibration_file", f"must be a file path, got {p!r}")
-        path = Path(p)
-        if not path.is_absolute() and base_dir is not None:
-            path = Path(base_dir) / path
-        if not path.is_file():
-            raise err(f"{section}.calibration_file", f"file not found: {path}")
-        cal = read_calibration(path, n_elements)
-        cal_src = p
-    kw = {}
-    for key in ("gain_offset_db", "offset_span_deg"):
-        if key in table:
-            v = table[key]
-            if isinstance(v, bool) or not isinstance(v, (int, float)):
-                raise err(f"{section}.{key}", f"must be a number, got {v!r}")
-            kw[key] = float(v)
-    if "phase_offsets" in table:
-        v = table["phase_offsets"]
-        if v not in get_args(OffsetMode):
-            hint = difflib.get_close_matches(str(v), get_args(OffsetMode), n=1)
-            extra = f" (did you mean {hint[0]!r}?)" if hint else ""
-            raise err(f"{section}.phase_offsets",
-                      f"must be 'none' or 'random', got {v!r}{extra}")
-        kw["phase_offsets"] = v
-    if "offset_seed" in table:
-        v = table["offset_seed"]
-        if isinstance(v, bool) or not isinstance(v, int) or v < 0:
-            raise err(f"{section}.offset_seed", f"must be a whole number >= 0, got {v!r}")
-        kw["offset_seed"] = v
+                        g("attenuator_step_db"), g("attenuator_span_db"), g("dac_bits"), fail)
+    cal = cal_src = None
+    if "calibration_file" in t:
+        path = t.path("calibration_file", Path(base_dir) if base_dir is not None else Path())
+        if read_file is None:
+            raise t.error("calibration_file", "reading a calibration file needs read_file "
+                          "(e.g. steradian.io.calibration_csv.read_calibration)")
+        cal, cal_src = read_file(path, n_elements), table["calibration_file"]
+    kw = {k: t.number(k) for k in ("gain_offset_db", "offset_span_deg") if k in t}
+    if "phase_offsets" in t:
+        kw["phase_offsets"] = t.string("phase_offsets", choices=get_args(OffsetMode))
+    if "offset_seed" in t:
+        kw["offset_seed"] = t.integer("offset_seed", minimum=0)
     try:
         return ChannelModel(states, cal, calibration_source=cal_src, **kw)
     except DesignError:
         raise
     except SteradianError as exc:
-        key = next((k for k in ("gain_offset_db", "offset_span_deg") if k in str(exc)), "")
-        raise err(f"{section}.{key}" if key else section, str(exc)) from None
-
-
-# ---------------------------------------------------------------------------------------
-# Calibration CSV
-# ---------------------------------------------------------------------------------------
-_CAL_COLUMNS = ("element", "gain_db", "phase_deg")
-
-
-def read_calibration(path, n: int | None = None) -> np.ndarray:
-    """Per-channel complex calibration from a CSV file.
-
-    Layout (``#`` comment lines and blank lines ignored)::
-
-        # measured channel response relative to nominal
-        element,gain_db,phase_deg
-        0,0.21,-3.4
-        1,-0.08,1.9
-
-    Each element 0 .. N-1 exactly once, in any order. ``gain_db`` and ``phase_deg`` are the
-    measured response of the channel relative to nominal; the returned factor is
-    ``10**(gain_db/20) * exp(j phase_deg)``.
-
-    Raises
-    ------
-    FileFormatError
-        Naming the line for a bad number, a duplicate or missing element, or a wrong count.
-    """
-    path = Path(path)
-    text = path.read_text(encoding="utf-8-sig")
-    rows = []
-    header = None
-    for lineno, line in enumerate(text.splitlines(), 1):
-        s = line.strip()
-        if not s or s.startswith("#"):
-            continue
-        fields = [f.strip() for f in next(csv.reader(io.StringIO(s)))]
-        if header is None:
-            header = fields
-            for h in header:
-                if h not in _CAL_COLUMNS:
-                    hint = difflib.get_close_matches(h, _CAL_COLUMNS, n=1)
-                    extra = f" (did you mean {hint[0]!r}?)" if hint else ""
-                    raise FileFormatError(path, f"unknown column {h!r}{extra}; columns are "
-                                          f"{', '.join(_CAL_COLUMNS)}", lineno)
-            missing = [c for c in _CAL_COLUMNS if c not in header]
-            if missing:
-                raise FileFormatError(path, f"missing column {missing[0]!r}", lineno)
-            continue
-        if len(fields) != len(header):
-            raise FileFormatError(path, f"expected {len(header)} fields, got {len(fields)}",
-                                  lineno)
-        rows.append((lineno, dict(zip(header, fields, strict=True))))
-    if header is None or not rows:
-        raise FileFormatError(path, "no calibration rows (need a header line "
-                              "'element,gain_db,phase_deg' and one row per element)")
-    m = len(rows)
-    if n is not None and m != n:
-        raise FileFormatError(path, f"has {m} channel rows, the array has {n} elements")
-    cal = np.zeros(m, complex)
-    seen = {}
-    for lineno, r in rows:
-        try:
-            i = int(r["element"])
-        except ValueError:
-            raise FileFormatError(path, f"element {r['element']!r} is not a whole number",
-                                  lineno) from None
-        if not 0 <= i < m:
-            raise FileFormatError(path, f"element {i} is outside 0..{m - 1}", lineno)
-        if i in seen:
-            raise FileFormatError(path, f"element {i} appears twice (first on line "
-                                  f"{seen[i]})", lineno)
-        seen[i] = lineno
-        vals = []
-        for c in ("gain_db", "phase_deg"):
-            try:
-                v = float(r[c])
-            except ValueError:
-                raise FileFormatError(path, f"column {c!r}: {r[c]!r} is not a number",
-                                      lineno) from None
-            if not math.isfinite(v):
-                raise FileFormatError(path, f"column {c!r}: {r[c]!r} is not finite", lineno)
-            vals.append(v)
-        cal[i] = 10 ** (vals[0] / 20) * np.exp(1j * np.deg2rad(vals[1]))
-    return cal
+        key = next((k for k in ("gain_offset_db", "offset_span_deg") if k in str(exc)), None)
+        raise t.error(key, str(exc)) from None

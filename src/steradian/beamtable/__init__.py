@@ -5,7 +5,9 @@ per element. :func:`build_beam_table` computes each beam's ideal weights (the ar
 or any weights you supply, steered), rounds them with a :class:`~steradian.quantize.ChannelModel`
 and re-evaluates what the quantized beam really radiates. :func:`verify_beam_table` does the
 re-evaluation for a table read from a file, so a file produced elsewhere or edited by hand is
-checked against the design before it reaches hardware.
+checked against the design before it reaches hardware. Weight files are read and written by
+:mod:`steradian.io.formats`; the design-file recipes (a design's beam table, verifying a file
+against a design) are in :mod:`steradian.workflows`.
 
 Per beam the evaluation reports (levels in dB, angles in degrees):
 
@@ -37,20 +39,12 @@ Direction conventions: theta from +z, phi from +x toward +y. Azimuth-elevation g
 
 from __future__ import annotations
 
+from ..directions import az_el_directions, az_el_to_theta_phi, theta_phi_directions
+from ..units import DB_FLOOR
 from ._build import BeamBuild, Verification, build_beam_table, steered_weights, verify_beam_table
-from ._design import beam_table_from_design, channel_of_design, verify_weight_file
 from ._evaluate import BeamEvaluator, BeamMetrics
-from ._files import read_weight_file, write_beam_files, write_weight_file
-from ._grids import (
-    BEAMS_KEYS,
-    az_el_directions,
-    az_el_to_theta_phi,
-    beams_from_table,
-    read_directions,
-    span,
-    theta_phi_directions,
-)
-from ._table import DB_FLOOR, FORMATS, IQ_SCALE, BeamTable, Encoding
+from ._grids import BEAMS_KEYS, beams_from_table, span
+from ._table import IQ_SCALE, BeamTable, Encoding, jsonable
 
 __all__ = [
     "BeamTable",
@@ -60,22 +54,15 @@ __all__ = [
     "BeamEvaluator",
     "Encoding",
     "IQ_SCALE",
-    "FORMATS",
     "DB_FLOOR",
+    "jsonable",
     "span",
     "theta_phi_directions",
     "az_el_directions",
     "az_el_to_theta_phi",
-    "read_directions",
     "beams_from_table",
     "BEAMS_KEYS",
     "steered_weights",
     "build_beam_table",
     "verify_beam_table",
-    "read_weight_file",
-    "write_weight_file",
-    "write_beam_files",
-    "channel_of_design",
-    "beam_table_from_design",
-    "verify_weight_file",
 ]

@@ -9,8 +9,9 @@ import numpy as np
 
 from ..array import Steering
 from ..errors import SteradianError
-from ..quantize import ChannelModel, wrap_deg
-from ._evaluate import _METRIC_FIELDS, BeamEvaluator, BeamMetrics
+from ..quantize import ChannelModel
+from ..units import wrap_deg
+from ._evaluate import BeamEvaluator, BeamMetrics
 from ._table import BeamTable
 
 # ---------------------------------------------------------------------------------------
@@ -198,7 +199,7 @@ def verify_beam_table(array, channel: ChannelModel, table: BeamTable, *,
     diffs = {}
     if table.metrics is not None:
         rows = m.rows()
-        for f in _METRIC_FIELDS:
+        for f in (k for k in rows[0] if k != "beam"):  # the metric fields, in order
             vals = [(r[f], s.get(f)) for r, s in zip(rows, table.metrics, strict=True)]
             dv = [abs(a - b) for a, b in vals
                   if isinstance(a, (int, float)) and isinstance(b, (int, float))]

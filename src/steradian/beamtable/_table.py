@@ -2,10 +2,8 @@
 
 from __future__ import annotations
 
-import json
 import math
 from dataclasses import dataclass, field, replace
-from pathlib import Path
 from typing import Literal, get_args
 
 import numpy as np
@@ -13,6 +11,7 @@ import numpy as np
 from ..array import direction
 from ..errors import SteradianError
 from ..quantize import StateMap
+from ..units import db10
 from ..validate import choice
 
 Encoding = Literal["codes", "iq"]
@@ -20,33 +19,26 @@ Encoding = Literal["codes", "iq"]
 IQ_SCALE = 32768
 """Fixed-point I/Q is Q1.15: value = integer / 32768, integers in [-32768, 32767]."""
 
-DB_FLOOR = -300.0
-"""Lowest level reported (dB) instead of -inf."""
-
 RESPONSE_BUDGET = 512 * 2**20
 """Bytes of element responses on the search set a BeamEvaluator keeps (beyond: recomputed)."""
 
 BEAM_CHUNK_BYTES = 256 * 2**20
 """Bytes of (directions x beams) work arrays one evaluation pass may use."""
 
-FORMATS = {".csv": "csv", ".json": "json", ".bin": "bin", ".h": "h"}
-"""File suffix -> weight-file format name."""
 
+def jsonable(obj):
+    """``obj`` with plain JSON types only: the one JSON normaliser of the package.
 
-def _db(x):
-    x = np.asarray(x, float)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return np.maximum(10 * np.log10(np.maximum(x, 0.0)), DB_FLOOR)
-
-
-def _jsonable(obj):
-    """numpy / tuples / non-finite floats -> plain JSON types (non-finite -> None)."""
+    numpy scalars and arrays become Python numbers and lists, tuples become lists, non-finite
+    floats become None, complex numbers ``{"re": .., "im": ..}``, paths and any other object
+    their ``str``. Used for beam-table metadata and metrics, and for the command line's JSON.
+    """
     if isinstance(obj, dict):
-        return {str(k): _jsonable(v) for k, v in obj.items()}
+        return {str(k): jsonable(v) for k, v in obj.items()}
     if isinstance(obj, (list, tuple)):
-        return [_jsonable(v) for v in obj]
+        return [jsonable(v) for v in obj]
     if isinstance(obj, np.ndarray):
-        return _jsonable(obj.tolist())
+        return jsonable(obj.tolist())
     if isinstance(obj, (bool, np.bool_)):
         return bool(obj)
     if isinstance(obj, (int, np.integer)):
@@ -54,15 +46,17 @@ def _jsonable(obj):
     if isinstance(obj, (float, np.floating)):
         x = float(obj)
         return x if math.isfinite(x) else None
-    if isinstance(obj, Path):
-        return str(obj)
+    if isinstance(obj, (complex, np.complexfloating)):
+        return {"re": jsonable(obj.real), "im": jsonable(obj.imag)}
     if obj is None or isinstance(obj, str):
         return obj
     return str(obj)
 
 
-def _normal_json(obj):
-    return json.loads(json.dumps(_jsonable(obj)))
+# Names the evaluator module (beamtable/_evaluate.py, owned by the numerics work) still
+# imports; they are the public helpers above under their old names, not copies.
+_db = db10
+_jsonable = jsonable
 
 
 # ---------------------------------------------------------------------------------------
@@ -150,9 +144,9 @@ class BeamTable:
                 a = np.ascontiguousarray(a)
                 a.setflags(write=False)
             object.__setattr__(self, name, a)
-        object.__setattr__(self, "metadata", _normal_json(dict(self.metadata or {})))
+        object.__setattr__(self, "metadata", jsonable(dict(self.metadata or {})))
         if self.metrics is not None:
-            m = _normal_json(list(self.metrics))
+            m = jsonable(list(self.metrics))
             if len(m) != len(d) or not all(isinstance(x, dict) for x in m):
                 raise SteradianError(f"metrics must be one dict per beam ({len(d)}), got "
                                      f"{len(m)}")

@@ -1,7 +1,9 @@
-"""Command-line interface: thin wrappers over the public Python API.
+"""Command-line interface: thin wrappers over :mod:`steradian.workflows`.
 
 Commands are registered by name in :data:`COMMANDS` and imported only when invoked, so
-``steradian --help`` never waits on numba or matplotlib.
+``steradian --help`` never waits on numba or matplotlib. Each command parses its options,
+calls one recipe and shows the result through :mod:`steradian.cli._render` (tables, JSON);
+commands never import each other.
 """
 
 from __future__ import annotations

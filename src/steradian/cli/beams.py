@@ -6,33 +6,10 @@ from pathlib import Path
 
 import click
 
-from ._common import json_option, table
+from ..io.formats import WEIGHT_FORMATS
+from ._render import json_option
 
-FORMAT_NAMES = ("csv", "json", "bin", "h")
-
-
-def summary_rows(summary: dict) -> list[tuple[str, str]]:
-    """Human rows for a :meth:`BeamMetrics.summary` dictionary."""
-    def f(key, fmt, unit=""):
-        v = summary.get(key)
-        return "-" if v is None else f"{v:{fmt}}{unit}"
-
-    def at(key):
-        b = summary.get(f"{key}_beam")
-        return "" if b is None else f" (beam {b})"
-
-    return [
-        ("beams", str(summary["beams"])),
-        ("peak directivity", f"{f('directivity_dbi_min', '.3f')} .. "
-                             f"{f('directivity_dbi_max', '.3f')} dBi"),
-        ("loss vs ideal", f"mean {f('loss_db_mean', '.4f')} dB, worst "
-                          f"{f('loss_db_max', '.4f')} dB{at('loss_db_max')}"),
-        ("peak sidelobe", f"worst {f('psl_db_max', '.2f')} dB{at('psl_db_max')}"),
-        ("quantization lobe", f"worst {f('qlobe_db_max', '.2f')} dB{at('qlobe_db_max')}"),
-        ("pointing error", f"worst {f('pointing_error_deg_max', '.4f')} deg"
-                           f"{at('pointing_error_deg_max')}"),
-        ("RMS phase error", f"worst {f('rms_phase_error_deg_max', '.3f')} deg"),
-    ]
+FORMAT_NAMES = tuple(WEIGHT_FORMATS)
 
 
 @click.command("beams")
@@ -54,9 +31,10 @@ def beams(design_file, prefix, formats, bin_encoding, c_prefix, as_json):
     grid. Every beam is quantized and re-evaluated: peak directivity and gain, pointing
     error, peak sidelobe, quantization-lobe level, loss against the ideal beam.
     """
-    from ..beamtable import beam_table_from_design, write_beam_files
     from ..io.design import load_design
-    from ._common import emit_json
+    from ..io.formats import write_beam_files
+    from ..workflows import beam_table_from_design
+    from ._render import beam_summary_rows, echo_written, emit_json, table
 
     design = load_design(design_file)
     build = beam_table_from_design(design)
@@ -71,7 +49,6 @@ def beams(design_file, prefix, formats, bin_encoding, c_prefix, as_json):
                    "beams": build.metrics.rows()})
         return
     rows = [("design", design.name), ("channel", build.table.states.describe()),
-            ("elements", str(build.table.n_elements))] + summary_rows(summary)
+            ("elements", str(build.table.n_elements))] + beam_summary_rows(summary)
     click.echo(table(rows, "beam table"))
-    for p in files.values():
-        click.echo(f"wrote {p}")
+    echo_written(files.values())

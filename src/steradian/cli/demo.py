@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import json
 from pathlib import Path
 
 import click
@@ -17,19 +16,16 @@ def demo(out_dir):
     Prints the summary table and writes OUT/<name>_cuts.png, OUT/<name>_uv.png and
     OUT/<name>_summary.json.
     """
-    from ..io._atomic import write_text
     from ..io.design import demo_design
-    from ..io.pattern_csv import export_patterns
-    from ._common import to_jsonable
-    from .analyze import format_summary
+    from ..workflows import analyze_design, export_patterns
+    from ._render import echo_written, format_summary, write_json
 
     design = demo_design()
-    summary = design.analyze()
+    summary = analyze_design(design)
     click.echo(format_summary(summary))
     files = export_patterns(design.array, png_path=out_dir / f"{design.name}_cuts.png",
                             uv_png_path=out_dir / f"{design.name}_uv.png",
                             title=design.name, metrics=summary.get("metrics"))["files"]
     summary_path = out_dir / f"{design.name}_summary.json"
-    write_text(summary_path, json.dumps(to_jsonable(summary), indent=2) + "\n")
-    for p in [*files, str(summary_path)]:
-        click.echo(f"wrote {p}")
+    write_json(summary_path, summary)
+    echo_written([*files, str(summary_path)])

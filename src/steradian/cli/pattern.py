@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from ._common import json_option
+from ._render import json_option
 
 _file = click.Path(dir_okay=False, path_type=Path)
 
@@ -37,8 +37,8 @@ def pattern(design_file, cuts_path, uv_path, uv_points, png_path, uv_png_path, s
     if not any((cuts_path, uv_path, png_path, uv_png_path)):
         raise click.UsageError("give at least one output: --cuts, --uv, --png or --uv-png")
     from ..io.design import load_design
-    from ..io.pattern_csv import export_patterns
-    from ._common import emit_json
+    from ..workflows import export_patterns
+    from ._render import echo_written, emit_json
 
     design = load_design(design_file)
     f = frequency if frequency is not None else design.options.frequency
@@ -51,5 +51,4 @@ def pattern(design_file, cuts_path, uv_path, uv_points, png_path, uv_png_path, s
     else:
         click.echo(f"peak {res['peak_directivity_dbi']:.3f} dBi at theta "
                    f"{res['peak_theta_deg']:.3f} deg, phi {res['peak_phi_deg']:.3f} deg")
-        for p in res["files"]:
-            click.echo(f"wrote {p}")
+        echo_written(res["files"])

@@ -7,7 +7,7 @@ from pathlib import Path
 
 import click
 
-from ._common import json_option, table
+from ._render import json_option
 
 
 def _nulls(ctx, param, values):
@@ -23,43 +23,6 @@ def _nulls(ctx, param, values):
             raise click.BadParameter(f"{v!r}: expected THETA,PHI[,DEPTH_DB]", ctx, param)
         out.append(tuple(nums))
     return out or None
-
-
-def _fmt_db(x) -> str:
-    return "n/a" if x is None else f"{x:.3f} dB"
-
-
-def result_rows(res) -> list[tuple[str, str]]:
-    """Human summary rows of a SynthesisResult."""
-    rows = [("method", res.method),
-            ("directivity", f"{res.directivity_dbi:.3f} dBi toward the beam (peak "
-                            f"{res.peak_directivity_dbi:.3f} dBi)"),
-            ("taper efficiency", f"{res.taper_efficiency:.4f}"),
-            ("peak sidelobe", _fmt_db(res.psl_db)
-             + ("" if res.psl_direction is None else
-                f" at theta {res.psl_direction[0]:.2f}, phi {res.psl_direction[1]:.2f} deg")
-             + " (dense re-check)")]
-    if res.limit_db is not None:
-        rows.append(("limit", f"{res.limit_db:.3f} dB; worst excess {res.margin_db:.4f} dB; "
-                              + ("met" if res.met else "NOT met")))
-    rows.append(("white-noise gain", f"{res.white_noise_gain_db:.2f} dB"))
-    rows.append(("dynamic range", f"{res.dynamic_range_db:.2f} dB"))
-    for i, d in enumerate(res.null_depths_db):
-        rows.append((f"null {i}", f"{d:.1f} dB"))
-    cert = res.certificate
-    if cert.get("status") and cert.get("status") != "closed form":
-        rows.append(("solver", f"{cert['status']}, {cert['iterations']} iterations, relative "
-                               f"gap {cert['relative_gap']:.2g}"))
-        if "directivity_bound_dbi" in cert:
-            rows.append(("bound", f"no weights meeting the constraints exceed "
-                                  f"{cert['directivity_bound_dbi']:.3f} dBi"))
-    elif cert.get("status"):
-        rows.append(("solver", "closed form (Q^-1 a0)"))
-    rows.append(("problem", f"{res.unknowns} real unknowns ({res.symmetry} symmetry), "
-                            f"{res.samples} samples, {res.rounds} rounds, {res.seconds:.2f} s"))
-    for n in res.notes:
-        rows.append(("note", n))
-    return rows
 
 
 @click.command("synth")
@@ -92,15 +55,15 @@ def synth(design_file, output, method, psl_db, loss_db, mainlobe, weights_kind, 
     them. The result is re-checked on a dense grid and summarised (table or --json).
     """
     from ..io.design import load_design
-    from ..optimize import synthesize
-    from ._common import emit_json
+    from ..workflows import synthesize_design, write_synthesis_weights
+    from ._render import emit_json, result_rows, table
 
     design = load_design(design_file)
-    res = synthesize(design.array, design.sections.get("synthesis"), method=method,
-                     psl_db=psl_db, loss_db=loss_db, mainlobe=mainlobe, weights=weights_kind,
-                     symmetry=symmetry, dynamic_range_db=dynamic_range_db,
-                     wng_min_db=wng_min_db, nulls=nulls)
-    out = write_result(res, output, design.name, steered)
+    res = synthesize_design(design, method=method, psl_db=psl_db, loss_db=loss_db,
+                            mainlobe=mainlobe, weights=weights_kind, symmetry=symmetry,
+                            dynamic_range_db=dynamic_range_db, wng_min_db=wng_min_db,
+                            nulls=nulls)
+    out = write_synthesis_weights(res, output, design.name, steered)
     if as_json:
         emit_json(res.summary() | {"design": design.name, "weights_file": str(output),
                                    "steering_included": out})
@@ -109,20 +72,3 @@ def synth(design_file, output, method, psl_db, loss_db, mainlobe, weights_kind, 
         click.echo(f"weights written to {output}"
                    + (" (steered excitations)" if out else " (taper; the design's [steering] "
                                                            "applies the steering)"))
-
-
-def write_result(res, path, name: str, steered: bool) -> bool:
-    """Write a result's weights CSV; returns whether the steering phases are included."""
-    from ..io.weights_csv import write_weights
-
-    arr = res.array
-    include = bool(steered) or arr.steering is None
-    w = res.weights if include else arr.taper
-    meta = {"design": name, "method": res.method,
-            "directivity_dbi": f"{res.directivity_dbi:.6f}",
-            "psl_db": "" if res.psl_db is None else f"{res.psl_db:.6f}",
-            "steering_included": "yes" if include else "no"}
-    if arr.steering is not None:
-        meta["steering"] = f"theta {arr.steering.theta_deg:g} deg, phi {arr.steering.phi_deg:g} deg"
-    write_weights(path, w, positions=arr.positions, meta=meta)
-    return include

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from ._common import json_option
+from ._render import json_option
 
 
 @click.command("tradeoff")
@@ -27,18 +27,20 @@ def tradeoff(design_file, output, csv_path, start_db, stop_db, points, weights_k
     Limits and levels come from [synthesis] and [synthesis.tradeoff]; options override.
     """
     from ..io.design import load_design
-    from ..io.trade_curve import write_trade_curve_csv, write_trade_curve_png
-    from ..optimize import tradeoff_from_spec
-    from ._common import emit_json
+    from ..workflows import tradeoff_of_design
+    from ._render import echo_written, emit_json
 
     design = load_design(design_file)
-    curve = tradeoff_from_spec(design.array, design.sections.get("synthesis"),
-                               start_db=start_db, stop_db=stop_db, points=points,
+    curve = tradeoff_of_design(design, start_db=start_db, stop_db=stop_db, points=points,
                                weights=weights_kind)
     if output is not None:
-        write_trade_curve_png(output, curve,
-                              title=f"{design.name}: directivity against sidelobe level")
+        from ..plots import plot_trade_curve
+
+        plot_trade_curve(curve, output,
+                         title=f"{design.name}: directivity against sidelobe level")
     if csv_path is not None:
+        from ..io.trade_curve import write_trade_curve_csv
+
         write_trade_curve_csv(csv_path, curve)
     if as_json:
         emit_json({"design": design.name} | curve.to_dict()
@@ -46,6 +48,4 @@ def tradeoff(design_file, output, csv_path, start_db, stop_db, points, weights_k
                      "csv": None if csv_path is None else str(csv_path)})
     else:
         click.echo(curve.table())
-        for p in (output, csv_path):
-            if p is not None:
-                click.echo(f"written {p}")
+        echo_written([p for p in (output, csv_path) if p is not None], "written")

@@ -6,7 +6,8 @@ from pathlib import Path
 
 import click
 
-from ._common import json_option, table
+from ..io.formats import WEIGHT_FORMATS
+from ._render import json_option
 
 _DB_METRICS = ("directivity_dbi", "gain_dbi", "psl_db", "qlobe_db", "ideal_directivity_dbi",
                "ideal_psl_db", "loss_db")
@@ -15,7 +16,7 @@ _DB_METRICS = ("directivity_dbi", "gain_dbi", "psl_db", "qlobe_db", "ideal_direc
 @click.command("verify")
 @click.argument("design_file", metavar="DESIGN.toml", type=click.Path(path_type=Path))
 @click.argument("weight_file", metavar="WEIGHTS", type=click.Path(path_type=Path))
-@click.option("--format", "fmt", type=click.Choice(("csv", "json", "bin", "h")),
+@click.option("--format", "fmt", type=click.Choice(tuple(WEIGHT_FORMATS)),
               help="Weight-file format (default: from the suffix).")
 @click.option("--tolerance-db", type=click.FloatRange(0, None), default=0.01,
               show_default=True,
@@ -28,10 +29,9 @@ def verify(design_file, weight_file, fmt, tolerance_db, as_json):
     predicted metrics (CSV, JSON, C header) they are compared; the exit status is 1 when one
     differs by more than --tolerance-db, 2 when the file does not fit the design.
     """
-    from ..beamtable import verify_weight_file
     from ..io.design import load_design
-    from ._common import emit_json
-    from .beams import summary_rows
+    from ..workflows import verify_weight_file
+    from ._render import beam_summary_rows, emit_json, table
 
     design = load_design(design_file)
     tab, ver = verify_weight_file(design, weight_file, fmt)
@@ -44,7 +44,7 @@ def verify(design_file, weight_file, fmt, tolerance_db, as_json):
         emit_json(out)
     else:
         rows = [("design", design.name), ("file", f"{weight_file} ({tab.encoding})"),
-                ("channel", tab.states.describe())] + summary_rows(ver.metrics.summary())
+                ("channel", tab.states.describe())] + beam_summary_rows(ver.metrics.summary())
         if ver.differences:
             big = max(worst.values(), default=0.0)
             rows.append(("vs file's metrics", f"largest level difference {big:.3g} dB "

@@ -1,4 +1,5 @@
-"""Element-model interface and the helpers every model shares."""
+"""Element-model interface and the helpers every model shares (the direction helpers are
+:mod:`steradian.directions`'s, re-exported for the models)."""
 
 from __future__ import annotations
 
@@ -6,7 +7,9 @@ from abc import ABC, abstractmethod
 
 import numpy as np
 
-__all__ = ["Element", "unit_vectors", "spherical_basis"]
+from ..directions import angles_of, spherical_basis, unit_vectors
+
+__all__ = ["Element", "element_power", "unit_vectors", "spherical_basis", "angles_of"]
 
 
 class Element(ABC):
@@ -51,24 +54,17 @@ class Element(ABC):
         return self
 
 
-def unit_vectors(theta, phi) -> np.ndarray:
-    """Unit direction vectors for angles in radians, shape ``theta.shape + (3,)``."""
-    st = np.sin(theta)
-    return np.stack([st * np.cos(phi), st * np.sin(phi), np.cos(theta)], axis=-1)
+def element_power(element: Element, k: float | None = None) -> float:
+    """Integral of ``|E_theta|^2 + |E_phi|^2`` of ``element`` over the sphere (or its front
+    half-space), by a Gauss-Legendre x uniform rule sized from :meth:`Element.degree`.
 
+    ``k`` is the wavenumber (rad/m) for frequency-dependent models. ``4 pi / element_power``
+    scales the peak-normalised power pattern to directivity (lossless element).
+    """
+    from ..sphere import sphere_rule
 
-def spherical_basis(theta, phi) -> tuple[np.ndarray, np.ndarray]:
-    """Unit vectors theta-hat and phi-hat, each shape ``theta.shape + (3,)``."""
-    ct, st = np.cos(theta), np.sin(theta)
-    cp, sp = np.cos(phi), np.sin(phi)
-    th = np.stack([ct * cp, ct * sp, -st], axis=-1)
-    ph = np.stack([-sp, cp, np.zeros_like(sp)], axis=-1)
-    return th, ph
-
-
-def angles_of(vectors: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Angles (theta, phi) in radians of unit vectors, shape (..., 3)."""
-    v = np.asarray(vectors, float)
-    theta = np.arccos(np.clip(v[..., 2], -1.0, 1.0))
-    phi = np.arctan2(v[..., 1], v[..., 0])
-    return theta, phi
+    n = max(element.degree(k) // 2 + 40, 64)
+    rule = sphere_rule(n, 2 * n, front_only=element.front_only)
+    t, p = np.meshgrid(rule.theta, rule.phi, indexing="ij")
+    a, b = element.pattern(t, p)
+    return rule.integrate(np.abs(a) ** 2 + np.abs(b) ** 2)

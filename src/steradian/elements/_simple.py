@@ -7,6 +7,7 @@ from typing import Literal, get_args
 
 import numpy as np
 
+from ..units import C0
 from ..validate import choice, nonneg, positive
 from ._base import Element, spherical_basis, unit_vectors
 
@@ -101,7 +102,7 @@ class Dipole(Element):
     """
 
     def __init__(self, length: float | None = None, axis="z", frequency: float | None = None,
-                 speed: float = 299_792_458.0):
+                 speed: float = C0):
         if isinstance(axis, str):
             ax = {"x": (1, 0, 0), "y": (0, 1, 0), "z": (0, 0, 1)}.get(axis)
             if ax is None:
@@ -170,7 +171,7 @@ def ShortDipole(axis="z") -> Dipole:  # noqa: N802 - factory reads like a class
     return Dipole(None, axis)
 
 
-def HalfWaveDipole(frequency: float, axis="z", speed: float = 299_792_458.0) -> Dipole:  # noqa: N802
+def HalfWaveDipole(frequency: float, axis="z", speed: float = C0) -> Dipole:  # noqa: N802
     """Half-wave dipole at ``frequency``: D = 1.64 (2.15 dBi)."""
     lam = speed / positive("frequency", frequency, " Hz")
     return Dipole(lam / 2, axis, frequency, speed)

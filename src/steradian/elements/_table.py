@@ -67,10 +67,10 @@ COLUMNS: dict[tuple[str, str], tuple[str, ...]] = {
 }
 """Column names for each (quantity, components) pair."""
 
-_KEYS = ("quantity", "components", "columns", "front_only", "frequency_hz", "note")
+TABLE_KEYS = ("quantity", "components", "columns", "front_only", "frequency_hz", "note")
 _PAD = 12          # rows/columns of periodic or pole-reflected padding around the spline grid
-_GRID_TOL = 1e-6   # degrees: tolerance for "equally spaced" and "ends at 0/90/180/360"
-_SAME_TOL = 1e-3   # relative: two samples of one direction (poles, closing column) must agree
+GRID_TOL = 1e-6   # degrees: tolerance for "equally spaced" and "ends at 0/90/180/360"
+SAME_TOL = 1e-3   # relative: two samples of one direction (poles, closing column) must agree
 
 
 # ---- peak search shared with the analytic models --------------------------------------------
@@ -129,7 +129,7 @@ def _equal_steps(name: str, x: np.ndarray) -> float:
     if np.any(d <= 0):
         raise SteradianError(f"{name} values must be strictly increasing")
     step = (x[-1] - x[0]) / len(d)
-    bad = np.flatnonzero(np.abs(d - step) > _GRID_TOL)
+    bad = np.flatnonzero(np.abs(d - step) > GRID_TOL)
     if len(bad):
         i = int(bad[0])
         raise SteradianError(
@@ -164,6 +164,10 @@ class TabulatedElement(Element):
         The element radiates only into its local front half-space.
     source : str, optional
         Where the table came from (recorded in :meth:`describe`).
+    quantity : str, optional
+        What a file held (``"field"`` or ``"gain_dbi"``), recorded in :meth:`describe`.
+    frequency_hz : float, optional
+        Frequency stated in a file header (informational), recorded in :meth:`describe`.
 
     Notes
     -----
@@ -184,7 +188,8 @@ class TabulatedElement(Element):
     """Frequency stated in the file header, if any (informational)."""
 
     def __init__(self, theta_deg, phi_deg, e_theta, e_phi, front_only: bool = False,
-                 source=None):
+                 source=None, *, quantity: str | None = None,
+                 frequency_hz: float | None = None):
         from scipy.interpolate import RectBivariateSpline
 
         th = np.asarray(theta_deg, float).ravel()
@@ -194,6 +199,8 @@ class TabulatedElement(Element):
         self.front_only = bool(front_only)
         self.vector = e_phi is not None
         self.source = None if source is None else str(source)
+        self.quantity = None if quantity is None else str(quantity)
+        self.frequency_hz = None if frequency_hz is None else float(frequency_hz)
         comps = [np.asarray(e_theta, complex)] + ([np.asarray(e_phi, complex)]
                                                   if self.vector else [])
         for name, c in zip(("e_theta", "e_phi"), comps, strict=False):
@@ -206,10 +213,10 @@ class TabulatedElement(Element):
 
         # theta: 0 .. 180 (or 90), equally spaced
         top = 90.0 if self.front_only else 180.0
-        if abs(th[0]) > _GRID_TOL:
+        if abs(th[0]) > GRID_TOL:
             raise SteradianError(f"theta must start at 0 deg (the +z pole), got {th[0]:g}")
-        if abs(th[-1] - top) > _GRID_TOL:
-            hint = ("" if self.front_only or abs(th[-1] - 90) > _GRID_TOL else
+        if abs(th[-1] - top) > GRID_TOL:
+            hint = ("" if self.front_only or abs(th[-1] - 90) > GRID_TOL else
                     " (a front-half-space table ending at 90 must declare front_only)")
             raise SteradianError(
                 f"theta must end at {top:g} deg to cover the "
@@ -220,7 +227,7 @@ class TabulatedElement(Element):
         th = np.linspace(0.0, top, len(th))
 
         # phi: equally spaced round the full circle, optional closing column
-        if len(ph) >= 2 and abs(ph[-1] - ph[0] - 360.0) <= _GRID_TOL:
+        if len(ph) >= 2 and abs(ph[-1] - ph[0] - 360.0) <= GRID_TOL:
             same = [c[:, -1] - c[:, 0] for c in comps]
             self._check_same(comps, same, f"the closing column phi={ph[-1]:g} and "
                              f"phi={ph[0]:g}")
@@ -230,7 +237,7 @@ class TabulatedElement(Element):
         if len(ph) < 4:
             raise SteradianError(f"phi needs at least 4 values around the circle, got {len(ph)}")
         dph = _equal_steps("phi", ph)
-        if abs(dph * len(ph) - 360.0) > _GRID_TOL * len(ph):
+        if abs(dph * len(ph) - 360.0) > GRID_TOL * len(ph):
             raise SteradianError(
                 f"phi must cover the full circle in equal steps: {len(ph)} values {dph:g} deg "
                 f"apart from {ph[0]:g} to {ph[-1]:g} leave a gap of "
@@ -292,7 +299,7 @@ class TabulatedElement(Element):
     def _check_same(ref, diffs, what):
         scale = max(float(np.abs(c).max()) for c in ref)
         worst = max(float(np.abs(d).max()) for d in diffs)
-        if scale > 0 and worst > _SAME_TOL * scale:
+        if scale > 0 and worst > SAME_TOL * scale:
             doubtful(f"{what} sample one direction but differ by {worst / scale:.3g} of the "
                      "peak field; using their mean")
 
@@ -363,9 +370,9 @@ def table_grid(front_only, dth, dph):
     top = 90.0 if front_only else 180.0
     nt = round(top / dth)
     npf = round(360.0 / dph)
-    if nt < 2 or abs(nt * dth - top) > _GRID_TOL:
+    if nt < 2 or abs(nt * dth - top) > GRID_TOL:
         raise SteradianError(f"theta_step_deg must divide {top:g} into at least 2 steps, "
                              f"got {dth!r}")
-    if npf < 4 or abs(npf * dph - 360.0) > _GRID_TOL:
+    if npf < 4 or abs(npf * dph - 360.0) > GRID_TOL:
         raise SteradianError(f"phi_step_deg must divide 360 into at least 4 steps, got {dph!r}")
     return np.linspace(0.0, top, nt + 1), 360.0 * np.arange(npf) / npf

@@ -50,7 +50,7 @@ import numpy as np
 from ..beamtable import BeamTable, Encoding
 from ..errors import FileFormatError, SteradianError
 from ..quantize import StateMap
-from ._atomic import write_bytes
+from .atomic import write_bytes
 
 __all__ = ["write_beams_bin", "read_beams_bin", "MAGIC", "LAYOUT_VERSION", "HEADER_SIZE"]
 

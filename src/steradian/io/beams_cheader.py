@@ -44,7 +44,7 @@ import numpy as np
 from ..beamtable import IQ_SCALE, BeamTable
 from ..errors import FileFormatError, SteradianError
 from ..quantize import StateMap
-from ._atomic import write_text
+from .atomic import write_text
 
 __all__ = ["write_beams_cheader", "read_beams_cheader", "LAYOUT_VERSION"]
 
@@ -78,12 +78,17 @@ def write_beams_cheader(path, table: BeamTable, prefix: str = "strd") -> None:
     prefix : str
         C identifier prefix: arrays are ``<prefix>_...`` and macros ``<PREFIX>_...``.
     """
-    from ..version import VERSION as __version__
-
     if not isinstance(prefix, str) or not _IDENT.match(prefix):
         raise SteradianError(f"C prefix must be a C identifier, got {prefix!r}")
     lo, up = prefix.lower(), prefix.upper()
-    t = table
+    lines = _comment_lines(table, lo) + _macro_lines(table, up) + _array_lines(table, lo, up)
+    write_text(path, "\n".join(lines) + "\n")
+
+
+def _comment_lines(t: BeamTable, lo: str) -> list[str]:
+    """The leading comment: what the file holds, for people, and the metadata as JSON."""
+    from ..version import VERSION as __version__
+
     st = t.states
     meta = t.metadata
     lines = ["/*", f" * steradian beam weights: C header, layout {LAYOUT_VERSION}",
@@ -122,23 +127,33 @@ def write_beams_cheader(path, table: BeamTable, prefix: str = "strd") -> None:
     lines += [" *", f" * steradian-metadata: {_comment_json(meta)}"]
     if t.metrics is not None:
         lines.append(f" * steradian-metrics: {_comment_json(list(t.metrics))}")
-    lines += [" */", f"#ifndef {up}_BEAM_WEIGHTS_H", f"#define {up}_BEAM_WEIGHTS_H", "",
-              "#include <stdint.h>", "",
-              f"#define {up}_WEIGHTS_LAYOUT {LAYOUT_VERSION}",
-              f"#define {up}_N_ELEMENTS {t.n_elements}",
-              f"#define {up}_N_BEAMS {t.n_beams}",
-              f"#define {up}_ENCODING {1 if t.encoding == 'codes' else 2}"
-              "  /* 1 = codes {phase, amplitude}, 2 = {I, Q} in Q1.15 */",
-              f"#define {up}_PHASE_STATES {st.phase_states}",
-              f"#define {up}_PHASE_STEP_DEG {_f(st.phase_step_deg)}",
-              f"#define {up}_AMPLITUDE_CONTROL {_AMP.index(st.amplitude)}"
-              "  /* 0 none, 1 attenuator (dB per code), 2 linear DAC */",
-              f"#define {up}_AMPLITUDE_STATES {st.amplitude_states}",
-              f"#define {up}_AMPLITUDE_STEP {_f(st.amplitude_step)}"]
+    return lines + [" */"]
+
+
+def _macro_lines(t: BeamTable, up: str) -> list[str]:
+    """The include guard, counts and channel-state macros."""
+    st = t.states
+    lines = [f"#ifndef {up}_BEAM_WEIGHTS_H", f"#define {up}_BEAM_WEIGHTS_H", "",
+             "#include <stdint.h>", "",
+             f"#define {up}_WEIGHTS_LAYOUT {LAYOUT_VERSION}",
+             f"#define {up}_N_ELEMENTS {t.n_elements}",
+             f"#define {up}_N_BEAMS {t.n_beams}",
+             f"#define {up}_ENCODING {1 if t.encoding == 'codes' else 2}"
+             "  /* 1 = codes {phase, amplitude}, 2 = {I, Q} in Q1.15 */",
+             f"#define {up}_PHASE_STATES {st.phase_states}",
+             f"#define {up}_PHASE_STEP_DEG {_f(st.phase_step_deg)}",
+             f"#define {up}_AMPLITUDE_CONTROL {_AMP.index(st.amplitude)}"
+             "  /* 0 none, 1 attenuator (dB per code), 2 linear DAC */",
+             f"#define {up}_AMPLITUDE_STATES {st.amplitude_states}",
+             f"#define {up}_AMPLITUDE_STEP {_f(st.amplitude_step)}"]
     if t.encoding == "iq":
         lines.append(f"#define {up}_IQ_SCALE {IQ_SCALE}")
-    lines.append("")
-    lines.append(f"static const double {lo}_beam_theta_deg[{up}_N_BEAMS] = {{")
+    return lines + [""]
+
+
+def _array_lines(t: BeamTable, lo: str, up: str) -> list[str]:
+    """The const arrays (directions, positions, offsets, states) and the guard's end."""
+    lines = [f"static const double {lo}_beam_theta_deg[{up}_N_BEAMS] = {{"]
     lines += _rows([_f(x) for x in t.directions[:, 0]], _PER_LINE)
     lines.append("};")
     lines.append(f"static const double {lo}_beam_phi_deg[{up}_N_BEAMS] = {{")
@@ -159,8 +174,7 @@ def write_beams_cheader(path, table: BeamTable, prefix: str = "strd") -> None:
         lines.append(f"  {{ /* beam {b} */")
         lines += _rows([f"{{{int(a)}, {int(c)}}}" for a, c in t.codes[b]], _PER_LINE, "    ")
         lines.append("  },")
-    lines += ["};", "", f"#endif /* {up}_BEAM_WEIGHTS_H */"]
-    write_text(path, "\n".join(lines) + "\n")
+    return lines + ["};", "", f"#endif /* {up}_BEAM_WEIGHTS_H */"]
 
 
 _ARRAY = re.compile(r"static\s+const\s+(double|uint16_t|int16_t)\s+(\w+)\s*((?:\[[^\]]*\])+)"
@@ -179,90 +193,109 @@ def read_beams_cheader(path) -> BeamTable:
     """
     path = Path(path)
     text = path.read_text(encoding="utf-8")
-
-    def bad(msg, line=None):
-        return FileFormatError(path, msg, line)
-
     m = re.search(r"^\s*#define\s+(\w+)_WEIGHTS_LAYOUT\s+(\d+)", text, re.M)
     if not m:
-        raise bad("no <PREFIX>_WEIGHTS_LAYOUT macro: not a steradian beam-weights header")
+        raise FileFormatError(path, "no <PREFIX>_WEIGHTS_LAYOUT macro: not a steradian "
+                              "beam-weights header")
     up, ver = m.group(1), int(m.group(2))
     if ver != LAYOUT_VERSION:
-        raise bad(f"layout {ver} is not supported (this steradian reads {LAYOUT_VERSION})",
-                  text[:m.start()].count("\n") + 1)
-    lo = up.lower()
-    meta, metrics = {}, None
-    for key in ("metadata", "metrics"):
-        mm = re.search(rf"^ \* steradian-{key}: (.*)$", text, re.M)
-        if mm:
-            try:
-                val = json.loads(mm.group(1))
-            except json.JSONDecodeError as exc:
-                raise bad(f"steradian-{key} comment is not valid JSON ({exc.msg})",
-                          text[:mm.start()].count("\n") + 1) from None
-            if key == "metadata":
-                meta = val
-            else:
-                metrics = val
+        raise FileFormatError(path, f"layout {ver} is not supported (this steradian reads "
+                              f"{LAYOUT_VERSION})", text[:m.start()].count("\n") + 1)
+    meta, metrics = (_comment_block(path, text, key) for key in ("metadata", "metrics"))
     code = re.sub(r"/\*.*?\*/", " ", text, flags=re.S)
-    defines = dict(_DEFINE.findall(code))
-
-    def define(name, kind):
-        full = f"{up}_{name}"
-        if full not in defines:
-            raise bad(f"missing macro {full}")
-        try:
-            return kind(defines[full])
-        except ValueError:
-            raise bad(f"macro {full} = {defines[full]!r} is not a {kind.__name__}") from None
-
-    n, nb, enc = define("N_ELEMENTS", int), define("N_BEAMS", int), define("ENCODING", int)
+    defines = _Defines(path, up, dict(_DEFINE.findall(code)))
+    n, nb, enc = defines("N_ELEMENTS", int), defines("N_BEAMS", int), defines("ENCODING", int)
     if enc not in (1, 2):
-        raise bad(f"{up}_ENCODING must be 1 or 2, got {enc}")
+        raise FileFormatError(path, f"{up}_ENCODING must be 1 or 2, got {enc}")
+    states = _states(path, defines, up)
+    arrays = _Arrays(path, up.lower(), code)
+    theta = arrays("beam_theta_deg", nb, "double")
+    phi = arrays("beam_phi_deg", nb, "double")
+    pos = None
+    if arrays.has("element_position_m"):
+        pos = arrays("element_position_m", 3 * n, "double").reshape(n, 3)
+    off = arrays("phase_offset_deg", n, "double")
+    if arrays.has("state") and arrays.size("state") != 2 * nb * n:
+        raise FileFormatError(path, f"array {up.lower()}_state has {arrays.size('state') // 2} "
+                              f"states, expected {up}_N_BEAMS x {up}_N_ELEMENTS = {nb} x {n}")
+    codes = arrays("state", 2 * nb * n, "uint16_t" if enc == 1 else "int16_t")
+    try:
+        return BeamTable(states, np.column_stack([theta, phi]),
+                         codes.reshape(nb, n, 2).astype(np.int64), "codes" if enc == 1 else "iq",
+                         off, pos, meta or {}, None if metrics is None else tuple(metrics))
+    except SteradianError as exc:
+        raise FileFormatError(path, str(exc)) from None
+
+
+def _comment_block(path, text: str, key: str):
+    """The JSON of the ``steradian-<key>:`` comment line (None when absent)."""
+    mm = re.search(rf"^ \* steradian-{key}: (.*)$", text, re.M)
+    if not mm:
+        return None
+    try:
+        return json.loads(mm.group(1))
+    except json.JSONDecodeError as exc:
+        raise FileFormatError(path, f"steradian-{key} comment is not valid JSON ({exc.msg})",
+                              text[:mm.start()].count("\n") + 1) from None
+
+
+class _Defines:
+    """The ``<PREFIX>_NAME`` macros of a header, read as numbers."""
+
+    def __init__(self, path, up: str, defines: dict):
+        self.path, self.up, self.defines = path, up, defines
+
+    def __call__(self, name: str, kind):
+        full = f"{self.up}_{name}"
+        if full not in self.defines:
+            raise FileFormatError(self.path, f"missing macro {full}")
+        try:
+            return kind(self.defines[full])
+        except ValueError:
+            raise FileFormatError(self.path, f"macro {full} = {self.defines[full]!r} is not a "
+                                  f"{kind.__name__}") from None
+
+
+def _states(path, define: _Defines, up: str) -> StateMap:
     amp = define("AMPLITUDE_CONTROL", int)
     if amp not in (0, 1, 2):
-        raise bad(f"{up}_AMPLITUDE_CONTROL must be 0, 1 or 2, got {amp}")
+        raise FileFormatError(path, f"{up}_AMPLITUDE_CONTROL must be 0, 1 or 2, got {amp}")
     try:
-        states = StateMap(define("PHASE_STEP_DEG", float), define("PHASE_STATES", int),
-                          _AMP[amp], define("AMPLITUDE_STEP", float),
-                          define("AMPLITUDE_STATES", int))
+        return StateMap(define("PHASE_STEP_DEG", float), define("PHASE_STATES", int),
+                        _AMP[amp], define("AMPLITUDE_STEP", float),
+                        define("AMPLITUDE_STATES", int))
     except SteradianError as exc:
-        raise bad(f"channel states: {exc}") from None
-    arrays = {}
-    for ctype, name, _dims, body in _ARRAY.findall(code):
-        vals = [v for v in re.split(r"[\s,{}]+", body) if v]
-        try:
-            arrays[name] = (ctype, np.array([float(v) if ctype == "double" else int(v)
-                                             for v in vals]))
-        except ValueError:
-            raise bad(f"array {name} holds a value that is not a number") from None
+        raise FileFormatError(path, f"channel states: {exc}") from None
 
-    def array(name, size, ctype):
-        full = f"{lo}_{name}"
-        if full not in arrays:
-            raise bad(f"missing array {full}")
-        t, v = arrays[full]
+
+class _Arrays:
+    """The ``static const`` arrays of a header: ``<prefix>_name`` -> (C type, values)."""
+
+    def __init__(self, path, lo: str, code: str):
+        self.path, self.lo, self.arrays = path, lo, {}
+        for ctype, name, _dims, body in _ARRAY.findall(code):
+            vals = [v for v in re.split(r"[\s,{}]+", body) if v]
+            try:
+                self.arrays[name] = (ctype, np.array([float(v) if ctype == "double" else int(v)
+                                                      for v in vals]))
+            except ValueError:
+                raise FileFormatError(path, f"array {name} holds a value that is not a "
+                                      "number") from None
+
+    def has(self, name: str) -> bool:
+        return f"{self.lo}_{name}" in self.arrays
+
+    def size(self, name: str) -> int:
+        return self.arrays[f"{self.lo}_{name}"][1].size
+
+    def __call__(self, name: str, size: int, ctype: str) -> np.ndarray:
+        full = f"{self.lo}_{name}"
+        if full not in self.arrays:
+            raise FileFormatError(self.path, f"missing array {full}")
+        t, v = self.arrays[full]
         if t != ctype:
-            raise bad(f"array {full} is {t}, expected {ctype}")
+            raise FileFormatError(self.path, f"array {full} is {t}, expected {ctype}")
         if v.size != size:
-            raise bad(f"array {full} has {v.size} values, expected {size}")
+            raise FileFormatError(self.path, f"array {full} has {v.size} values, expected "
+                                  f"{size}")
         return v
-
-    theta = array("beam_theta_deg", nb, "double")
-    phi = array("beam_phi_deg", nb, "double")
-    pos = None
-    if f"{lo}_element_position_m" in arrays:
-        pos = array("element_position_m", 3 * n, "double").reshape(n, 3)
-    off = array("phase_offset_deg", n, "double")
-    ctype = "uint16_t" if enc == 1 else "int16_t"
-    full = f"{lo}_state"
-    if full in arrays and arrays[full][1].size != 2 * nb * n:
-        raise bad(f"array {full} has {arrays[full][1].size // 2} states, expected "
-                  f"{up}_N_BEAMS x {up}_N_ELEMENTS = {nb} x {n}")
-    codes = array("state", 2 * nb * n, ctype).reshape(nb, n, 2).astype(np.int64)
-    try:
-        return BeamTable(states, np.column_stack([theta, phi]), codes,
-                         "codes" if enc == 1 else "iq", off, pos, meta,
-                         None if metrics is None else tuple(metrics))
-    except SteradianError as exc:
-        raise bad(str(exc)) from None

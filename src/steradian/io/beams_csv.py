@@ -44,8 +44,10 @@ import numpy as np
 
 from ..beamtable import IQ_SCALE, BeamTable
 from ..errors import FileFormatError, SteradianError
-from ..quantize import StateMap, wrap_deg
-from ._atomic import write_text
+from ..quantize import StateMap
+from ..units import from_db20, wrap_deg
+from .atomic import write_text
+from .csv_table import read_lines, split_fields
 
 __all__ = ["write_beams_csv", "read_beams_csv"]
 
@@ -116,24 +118,47 @@ def read_beams_csv(path) -> BeamTable:
         state columns, or codes outside the states' range.
     """
     path = Path(path)
-    lines = path.read_text(encoding="utf-8-sig").splitlines()
-    meta, header, hline = {}, None, 0
-    body = []
-    for i, line in enumerate(lines, 1):
-        s = line.strip()
-        if not s:
-            continue
-        if s.startswith("#"):
-            m = _META.match(s[1:])
-            if m and header is None:
-                meta[m.group(1)] = (m.group(2).strip(), i)
-            continue
-        if header is None:
-            header, hline = [h.strip() for h in s.split(",")], i
-        else:
-            body.append((i, s))
-    if header is None:
+    comments, lines = read_lines(path)
+    if not lines:
         raise FileFormatError(path, "no header line")
+    (hline, first), body = lines[0], lines[1:]
+    header = split_fields(first)
+    meta = {}
+    for i, text in comments:
+        m = _META.match(text)
+        if m and i < hline:
+            meta[m.group(1)] = (m.group(2).strip(), i)
+
+    enc, n, nb, states, jsons = _header_values(path, meta)
+    with_pos = "x_m" in header
+    want = _columns(enc, with_pos)
+    if header != want:
+        missing = [c for c in want if c not in header]
+        extra = [c for c in header if c not in want]
+        what = (f"missing column {missing[0]!r}" if missing else
+                f"unexpected column {extra[0]!r}" if extra else "columns out of order")
+        raise FileFormatError(path, f"{what}; expected {','.join(want)}", hline)
+    if len(body) != n * nb:
+        raise FileFormatError(path, f"has {len(body)} rows, expected n_beams x n_elements = "
+                              f"{nb} x {n} = {n * nb}")
+    parsed = _parse_fast(body, n, nb, with_pos, len(want))
+    if parsed is None:  # something is wrong: the row-by-row pass names the line
+        parsed = _parse_rows(path, body, n, nb, with_pos, enc, len(want))
+    dirs, pos, off, codes, reading, row_line = parsed
+    try:
+        table = BeamTable(states, dirs, codes, enc, off, pos, jsons.get("metadata") or {},
+                          None if jsons.get("metrics") is None else tuple(jsons["metrics"]))
+    except SteradianError as exc:
+        m = re.search(r"beam (\d+), element (\d+)", str(exc))
+        line = int(row_line[int(m.group(1)), int(m.group(2))]) if m else None
+        raise FileFormatError(path, str(exc), line) from None
+    _check_reading(path, table, reading, row_line)
+    return table
+
+
+
+def _header_values(path, meta: dict):
+    """(encoding, n_elements, n_beams, states, {json key: value}) from the ``#`` lines."""
 
     def need(key):
         if key not in meta:
@@ -171,32 +196,7 @@ def read_beams_csv(path) -> BeamTable:
         states = StateMap.from_dict(jsons["states"])
     except (SteradianError, TypeError) as exc:
         raise FileFormatError(path, f"states: {exc}", meta["states"][1]) from None
-
-    with_pos = "x_m" in header
-    want = _columns(enc, with_pos)
-    if header != want:
-        missing = [c for c in want if c not in header]
-        extra = [c for c in header if c not in want]
-        what = (f"missing column {missing[0]!r}" if missing else
-                f"unexpected column {extra[0]!r}" if extra else "columns out of order")
-        raise FileFormatError(path, f"{what}; expected {','.join(want)}", hline)
-    if len(body) != n * nb:
-        raise FileFormatError(path, f"has {len(body)} rows, expected n_beams x n_elements = "
-                              f"{nb} x {n} = {n * nb}")
-    parsed = _parse_fast(body, n, nb, with_pos, len(want))
-    if parsed is None:  # something is wrong: the row-by-row pass names the line
-        parsed = _parse_rows(path, body, n, nb, with_pos, enc, len(want))
-    dirs, pos, off, codes, reading, row_line = parsed
-    try:
-        table = BeamTable(states, dirs, codes, enc, off, pos, jsons.get("metadata") or {},
-                          None if jsons.get("metrics") is None else tuple(jsons["metrics"]))
-    except SteradianError as exc:
-        m = re.search(r"beam (\d+), element (\d+)", str(exc))
-        line = int(row_line[int(m.group(1)), int(m.group(2))]) if m else None
-        raise FileFormatError(path, str(exc), line) from None
-    _check_reading(path, table, reading, row_line)
-    return table
-
+    return enc, n, nb, states, jsons
 
 
 def _parse_fast(body, n, nb, with_pos, ncol):
@@ -306,7 +306,7 @@ def _check_reading(path, table, reading, row_line):
     big = amp > 1e-6
     with np.errstate(invalid="ignore"):
         d_bad = np.where(big, np.abs(reading[..., 1] - db) > 1e-6,
-                         np.abs(10 ** (reading[..., 1] / 20) - amp) > tol)
+                         np.abs(from_db20(reading[..., 1]) - amp) > tol)
     p_bad = big & (np.abs(wrap_deg(reading[..., 2] - ph)) > 1e-6)
     for name, bad, want in (("amplitude", a_bad, amp), ("amplitude_db", d_bad, db),
                             ("phase_deg", p_bad, ph)):

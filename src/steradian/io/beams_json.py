@@ -37,7 +37,7 @@ import numpy as np
 from ..beamtable import BeamTable
 from ..errors import FileFormatError, SteradianError
 from ..quantize import StateMap
-from ._atomic import write_text
+from .atomic import write_text
 
 __all__ = ["write_beams_json", "read_beams_json", "FORMAT_ID", "LAYOUT_VERSION"]
 
@@ -107,84 +107,103 @@ def read_beams_json(path) -> BeamTable:
         doc = json.loads(text)
     except json.JSONDecodeError as exc:
         raise FileFormatError(path, f"not valid JSON: {exc.msg}", exc.lineno) from None
-
-    def bad(msg):
-        return FileFormatError(path, msg)
-
-    if not isinstance(doc, dict):
-        raise bad("the file must hold one JSON object")
-    if doc.get("format") != FORMAT_ID:
-        raise bad(f"'format' must be {FORMAT_ID!r}, got {doc.get('format')!r}")
-    if doc.get("layout_version") != LAYOUT_VERSION:
-        raise bad(f"layout_version {doc.get('layout_version')!r} is not supported "
-                  f"(this steradian reads {LAYOUT_VERSION})")
-    for k in doc:
-        if k not in _TOP:
-            raise bad(f"unknown key {k!r}")
-    for k in ("encoding", "n_elements", "n_beams", "states", "elements", "beams"):
-        if k not in doc:
-            raise bad(f"missing key {k!r}")
-    enc = doc["encoding"]
-    if enc not in ("codes", "iq"):
-        raise bad(f"'encoding' must be 'codes' or 'iq', got {enc!r}")
-    if enc == "iq" and doc.get("iq_format") != "Q1.15":
-        raise bad(f"'iq_format' must be 'Q1.15', got {doc.get('iq_format')!r}")
-    n, nb = doc["n_elements"], doc["n_beams"]
-    for k, v in (("n_elements", n), ("n_beams", nb)):
-        if isinstance(v, bool) or not isinstance(v, int) or v < 1:
-            raise bad(f"{k!r} must be a whole number >= 1, got {v!r}")
+    enc, n, nb = _top(path, doc)
     try:
         states = StateMap.from_dict(doc["states"])
     except (SteradianError, TypeError) as exc:
-        raise bad(f"'states': {exc}") from None
-    el = doc["elements"]
-    if not isinstance(el, dict) or set(el) != {"phase_offset_deg", "positions_m"}:
-        raise bad("'elements' must hold 'phase_offset_deg' and 'positions_m'")
-    off = el["phase_offset_deg"]
-    if not isinstance(off, list) or len(off) != n:
-        raise bad(f"'elements.phase_offset_deg' must list {n} values")
-    pos = el["positions_m"]
-    if pos is not None and (not isinstance(pos, list) or len(pos) != n):
-        raise bad(f"'elements.positions_m' must list {n} [x, y, z] triples or be null")
+        raise FileFormatError(path, f"'states': {exc}") from None
+    off, pos = _elements(path, doc["elements"], n)
     beams = doc["beams"]
     if not isinstance(beams, list) or len(beams) != nb:
         got = len(beams) if isinstance(beams, list) else type(beams).__name__
-        raise bad(f"'beams' must list n_beams = {nb} beams, got {got}")
-    keys = ("phase_code", "amplitude_code") if enc == "codes" else ("i_q15", "q_q15")
-    allowed = {"beam", "theta_deg", "phi_deg", "metrics", *keys}
+        raise FileFormatError(path, f"'beams' must list n_beams = {nb} beams, got {got}")
     dirs, codes, metrics = [], [], []
     for b, d in enumerate(beams):
-        if not isinstance(d, dict):
-            raise bad(f"beams[{b}] must be an object")
-        for k in d:
-            if k not in allowed:
-                raise bad(f"beams[{b}]: unknown key {k!r} for encoding {enc!r}")
-        if d.get("beam") != b:
-            raise bad(f"beams[{b}] has 'beam' = {d.get('beam')!r}; beams must be numbered "
-                      "0, 1, 2, ... in order")
-        for k in ("theta_deg", "phi_deg"):
-            v = d.get(k)
-            if isinstance(v, bool) or not isinstance(v, (int, float)):
-                raise bad(f"beams[{b}].{k} must be a number, got {v!r}")
-        dirs.append((float(d["theta_deg"]), float(d["phi_deg"])))
-        pair = []
-        for k in keys:
-            v = d.get(k)
-            if not isinstance(v, list):
-                raise bad(f"beams[{b}].{k} is missing or not a list")
-            if len(v) != n:
-                raise bad(f"beams[{b}].{k} has {len(v)} entries but n_elements is {n}")
-            if not all(isinstance(x, int) and not isinstance(x, bool) for x in v):
-                raise bad(f"beams[{b}].{k} must hold whole numbers")
-            pair.append(v)
+        direction, pair = _beam(path, b, d, enc, n)
+        dirs.append(direction)
         codes.append(list(zip(*pair, strict=True)))
         metrics.append(d.get("metrics"))
     has_m = [m is not None for m in metrics]
     if any(has_m) and not all(has_m):
-        raise bad(f"beams[{has_m.index(not has_m[0])}]: metrics must be on every beam or none")
+        raise FileFormatError(path, f"beams[{has_m.index(not has_m[0])}]: metrics must be on "
+                              "every beam or none")
     try:
         return BeamTable(states, np.array(dirs, float), np.array(codes, np.int64), enc,
                          np.array(off, float), None if pos is None else np.array(pos, float),
                          doc.get("metadata") or {}, tuple(metrics) if all(has_m) else None)
     except (SteradianError, TypeError, ValueError) as exc:
-        raise bad(str(exc)) from None
+        raise FileFormatError(path, str(exc)) from None
+
+
+def _top(path, doc) -> tuple[str, int, int]:
+    """Check the top-level keys; returns (encoding, n_elements, n_beams)."""
+    if not isinstance(doc, dict):
+        raise FileFormatError(path, "the file must hold one JSON object")
+    if doc.get("format") != FORMAT_ID:
+        raise FileFormatError(path, f"'format' must be {FORMAT_ID!r}, got "
+                              f"{doc.get('format')!r}")
+    if doc.get("layout_version") != LAYOUT_VERSION:
+        raise FileFormatError(path, f"layout_version {doc.get('layout_version')!r} is not "
+                              f"supported (this steradian reads {LAYOUT_VERSION})")
+    for k in doc:
+        if k not in _TOP:
+            raise FileFormatError(path, f"unknown key {k!r}")
+    for k in ("encoding", "n_elements", "n_beams", "states", "elements", "beams"):
+        if k not in doc:
+            raise FileFormatError(path, f"missing key {k!r}")
+    enc = doc["encoding"]
+    if enc not in ("codes", "iq"):
+        raise FileFormatError(path, f"'encoding' must be 'codes' or 'iq', got {enc!r}")
+    if enc == "iq" and doc.get("iq_format") != "Q1.15":
+        raise FileFormatError(path, f"'iq_format' must be 'Q1.15', got "
+                              f"{doc.get('iq_format')!r}")
+    n, nb = doc["n_elements"], doc["n_beams"]
+    for k, v in (("n_elements", n), ("n_beams", nb)):
+        if isinstance(v, bool) or not isinstance(v, int) or v < 1:
+            raise FileFormatError(path, f"{k!r} must be a whole number >= 1, got {v!r}")
+    return enc, n, nb
+
+
+def _elements(path, el, n: int):
+    """(phase offsets, positions or None) of the ``elements`` object."""
+    if not isinstance(el, dict) or set(el) != {"phase_offset_deg", "positions_m"}:
+        raise FileFormatError(path, "'elements' must hold 'phase_offset_deg' and "
+                              "'positions_m'")
+    off = el["phase_offset_deg"]
+    if not isinstance(off, list) or len(off) != n:
+        raise FileFormatError(path, f"'elements.phase_offset_deg' must list {n} values")
+    pos = el["positions_m"]
+    if pos is not None and (not isinstance(pos, list) or len(pos) != n):
+        raise FileFormatError(path, f"'elements.positions_m' must list {n} [x, y, z] triples "
+                              "or be null")
+    return off, pos
+
+
+def _beam(path, b: int, d, enc: str, n: int):
+    """((theta, phi), [state lists]) of beam ``b``."""
+    keys = ("phase_code", "amplitude_code") if enc == "codes" else ("i_q15", "q_q15")
+    allowed = {"beam", "theta_deg", "phi_deg", "metrics", *keys}
+    if not isinstance(d, dict):
+        raise FileFormatError(path, f"beams[{b}] must be an object")
+    for k in d:
+        if k not in allowed:
+            raise FileFormatError(path, f"beams[{b}]: unknown key {k!r} for encoding {enc!r}")
+    if d.get("beam") != b:
+        raise FileFormatError(path, f"beams[{b}] has 'beam' = {d.get('beam')!r}; beams must "
+                              "be numbered 0, 1, 2, ... in order")
+    for k in ("theta_deg", "phi_deg"):
+        v = d.get(k)
+        if isinstance(v, bool) or not isinstance(v, (int, float)):
+            raise FileFormatError(path, f"beams[{b}].{k} must be a number, got {v!r}")
+    pair = []
+    for k in keys:
+        v = d.get(k)
+        if not isinstance(v, list):
+            raise FileFormatError(path, f"beams[{b}].{k} is missing or not a list")
+        if len(v) != n:
+            raise FileFormatError(path, f"beams[{b}].{k} has {len(v)} entries but n_elements "
+                                  f"is {n}")
+        if not all(isinstance(x, int) and not isinstance(x, bool) for x in v):
+            raise FileFormatError(path, f"beams[{b}].{k} must hold whole numbers")
+        pair.append(v)
+    return (float(d["theta_deg"]), float(d["phi_deg"])), pair

@@ -2,7 +2,8 @@
 
 A design file names the array, its geometry, the element model, the taper, the steering and
 what to analyse. :func:`load_design` reads one into a :class:`Design` holding a ready
-:class:`~steradian.Array` and :class:`~steradian.analysis.AnalysisOptions`. Every length in
+:class:`~steradian.Array` and the ``[analysis]`` settings (:class:`AnalysisSettings`; the
+recipes of :mod:`steradian.workflows` run the analysis). Every length in
 ``[geometry]`` is in the unit stated by ``geometry.units``; relative file paths resolve
 against the design file's folder. The full schema is in the README ("Design files").
 
@@ -16,36 +17,25 @@ file, in one line; unknown keys come with the closest valid key.
 
 from __future__ import annotations
 
-import importlib
-import importlib.util
 import tomllib
-from collections.abc import Mapping
-from dataclasses import dataclass, field, replace
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
 from pathlib import Path
 from types import MappingProxyType
 from typing import Any
 
 import numpy as np
 
-from ..analysis import AnalysisOptions
 from ..array import Array, Steering
-from ..elements import CosinePower, Dipole, Element, Isotropic
+from ..elements import ELEMENT_MODELS, Element
 from ..errors import DesignError, FileFormatError, SteradianError, suggest
-from ..geometry import (
-    Geometry,
-    concentric_rings,
-    linear,
-    rectangular,
-    ring,
-    rotation_to,
-    triangular,
-)
+from ..geometry import LATTICE_KINDS, Geometry, rotation_to
 from ..schema import Section, type_name
 from ..units import C0
-from ..validate import positive
+from .element_table import read_element_table
 
-__all__ = ["Design", "load_design", "design_from_dict", "demo_design", "SECTIONS",
-           "PASS_THROUGH_SECTIONS", "GEOMETRY_KINDS", "ELEMENT_MODELS", "LENGTH_UNITS"]
+__all__ = ["Design", "AnalysisSettings", "load_design", "design_from_dict", "demo_design",
+           "SECTIONS", "PASS_THROUGH_SECTIONS", "GEOMETRY_KINDS", "ELEMENT_MODELS", "LENGTH_UNITS"]
 
 SECTIONS = ("design", "geometry", "element", "taper", "steering", "analysis")
 """Sections this module validates."""
@@ -60,6 +50,34 @@ frequency)."""
 # --------------------------------------------------------------------------------------------
 # The result
 # --------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class AnalysisSettings:
+    """The ``[analysis]`` table as read: the fields of
+    :class:`steradian.analysis.AnalysisOptions`, which :func:`steradian.workflows.analyze_design`
+    builds from them (files do not run analyses).
+
+    Attributes
+    ----------
+    frequency : float or None
+        ``analysis.frequency_hz`` (None: the design frequency).
+    radiation_efficiency : float
+        ``analysis.radiation_efficiency`` (default 1).
+    vswr, return_loss_db : float or None
+        Mismatch for realized gain (at most one).
+    element_power_w : float or None
+        Transmit power per element channel (W), for EIRP.
+    metrics : bool
+        ``analysis.metrics`` (default true).
+    """
+
+    frequency: float | None = None
+    radiation_efficiency: float = 1.0
+    vswr: float | None = None
+    return_loss_db: float | None = None
+    element_power_w: float | None = None
+    metrics: bool = True
+
+
 @dataclass(frozen=True, eq=False)
 class Design:
     """A design read from a TOML file or dictionary.
@@ -72,7 +90,7 @@ class Design:
         ``design.description`` (default empty).
     array : Array
         Geometry, element, taper, steering and element mask at the design frequency.
-    options : AnalysisOptions
+    options : AnalysisSettings
         From ``[analysis]``.
     sections : Mapping[str, Any]
         Raw tables of the pass-through sections present (``synthesis``, ``channel``,
@@ -86,7 +104,7 @@ class Design:
     name: str
     description: str
     array: Array
-    options: AnalysisOptions
+    options: AnalysisSettings
     sections: Mapping[str, Any] = field(default_factory=dict)
     source: Path | None = None
     base_dir: Path = field(default_factory=Path.cwd)
@@ -96,32 +114,19 @@ class Design:
         """Wavelength at the design frequency (m)."""
         return self.array.wavelength
 
-    def analyze(self, frequency: float | None = None) -> dict:
-        """Run :func:`steradian.analysis.analyze` with the design's options.
-
-        ``frequency`` (Hz) overrides ``analysis.frequency_hz``. The returned dictionary is
-        the analysis summary with a ``design`` block (name, description, source) added.
-        """
-        from ..analysis import analyze
-
-        opt = self.options
-        if frequency is not None:
-            opt = replace(opt, frequency=positive("frequency", frequency, " Hz"))
-        out = {"design": {"name": self.name, "description": self.description,
-                          "source": None if self.source is None else str(self.source)}}
-        out.update(analyze(self.array, opt))
-        return out
-
 
 # --------------------------------------------------------------------------------------------
 # Typed access to one table, with errors naming the dotted key
 # --------------------------------------------------------------------------------------------
 @dataclass(frozen=True)
 class _Context:
+    """What section readers share (an :class:`~steradian.elements.DesignContext`)."""
+
     source: str | None
     base_dir: Path
     frequency: float
     speed: float
+    read_element_table: Callable[[Path], Element] = read_element_table
 
     @property
     def wavelength(self) -> float:
@@ -134,14 +139,11 @@ class _Context:
 _GEOMETRY_COMMON = ("kind", "units", "disabled", "facing", "local_x_toward")
 
 GEOMETRY_KINDS: dict[str, tuple[str, ...]] = {
-    "linear": ("count", "spacing", "axis"),
-    "rectangular": ("count_x", "count_y", "spacing_x", "spacing_y"),
-    "triangular": ("count_x", "count_y", "spacing_x", "spacing_y"),
-    "ring": ("count", "radius", "start_angle_deg"),
-    "rings": ("counts", "radii", "centre_element", "start_angles_deg"),
+    **{kind: keys for kind, (keys, _) in LATTICE_KINDS.items()},
     "csv": ("file",),
 }
-"""Geometry kinds and their keys (besides kind, units, disabled, facing, local_x_toward)."""
+"""Geometry kinds and their keys (besides kind, units, disabled, facing, local_x_toward): the
+lattices of :data:`steradian.geometry.LATTICE_KINDS` and a positions file (``csv``)."""
 
 
 def _geometry(t: Section, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
@@ -164,7 +166,7 @@ def _geometry(t: Section, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
         unit = t.string("units", choices=tuple(LENGTH_UNITS))
         s = LENGTH_UNITS[unit] or ctx.wavelength
         try:
-            geom = _lattice(t, kind, s)
+            geom = LATTICE_KINDS[kind][1](t, s)
         except DesignError:
             raise
         except SteradianError as exc:
@@ -184,41 +186,10 @@ def _geometry(t: Section, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
 
 
 def _csv_has_normals(path: Path) -> bool:
-    from .positions_csv import read_table
+    from .csv_table import read_table
 
     header = read_table(path)[0]
     return "normal_x" in header
-
-
-def _lattice(t: Section, kind: str, s: float) -> Geometry:
-    if kind == "linear":
-        return linear(t.integer("count", minimum=1), t.number("spacing", above=0) * s,
-                      t.string("axis", "x", choices=("x", "y", "z")))
-    if kind in ("rectangular", "triangular"):
-        nx = t.integer("count_x", minimum=1)
-        ny = t.integer("count_y", minimum=1)
-        dx = t.number("spacing_x", above=0) * s
-        dy = t.number("spacing_y", None, above=0)
-        dy = None if dy is None else dy * s
-        return (rectangular if kind == "rectangular" else triangular)(nx, ny, dx, dy)
-    if kind == "ring":
-        return ring(t.integer("count", minimum=1), t.number("radius", above=0) * s,
-                    t.number("start_angle_deg", 0.0))
-    # rings
-    radii = t.numbers("radii", above=0)
-    counts = t.integers("counts", minimum=1)
-    if len(radii) != len(counts):
-        raise t.error("counts", f"has {len(counts)} entries but radii has {len(radii)}")
-    start = t.data.get("start_angles_deg", 0.0)
-    if isinstance(start, list):
-        start = t.numbers("start_angles_deg")
-        if len(start) != len(radii):
-            raise t.error("start_angles_deg", f"has {len(start)} entries, radii has "
-                          f"{len(radii)}")
-    else:
-        start = t.number("start_angles_deg", 0.0)
-    return concentric_rings([r * s for r in radii], counts,
-                            t.boolean("centre_element", False), start)
 
 
 def _facing(t: Section, geom: Geometry) -> Geometry:
@@ -253,71 +224,16 @@ def _facing(t: Section, geom: Geometry) -> Geometry:
 # --------------------------------------------------------------------------------------------
 # [element]
 # --------------------------------------------------------------------------------------------
-ELEMENT_MODELS: dict[str, tuple[str, ...]] = {
-    "isotropic": (),
-    "cosine_power": ("q", "exponent_on"),
-    "dipole": ("length_m", "length_wl", "axis"),
-    "short_dipole": ("axis",),
-    "patch": ("eps_r", "height_m", "width_m", "length_m"),
-    "table": ("file",),
-}
-"""Element models and their keys (besides ``model``)."""
-
-
-def _axis(t: Section):
-    v = t.data.get("axis", "z")
-    if isinstance(v, str):
-        return t.string("axis", "z", choices=("x", "y", "z"))
-    return t.vector3("axis")
-
-
 def _element(t: Section, ctx: _Context) -> Element:
     model = t.string("model", choices=tuple(ELEMENT_MODELS))
-    t.only(("model", *ELEMENT_MODELS[model]), f"for model = {model!r}")
+    spec = ELEMENT_MODELS[model]
+    t.only(("model", *spec.keys), f"for model = {model!r}")
     try:
-        if model == "isotropic":
-            return Isotropic()
-        if model == "cosine_power":
-            return CosinePower(t.number("q", minimum=0),
-                               t.string("exponent_on", "power", choices=("power", "field")))
-        if model == "short_dipole":
-            return Dipole(None, _axis(t))
-        if model == "dipole":
-            has = [k for k in ("length_m", "length_wl") if k in t]
-            if len(has) != 1:
-                raise t.error("length_m", "give exactly one of element.length_m (metres) or "
-                              "element.length_wl (wavelengths)")
-            length = t.number(has[0], above=0)
-            if has[0] == "length_wl":
-                length *= ctx.wavelength
-            return Dipole(length, _axis(t), ctx.frequency, ctx.speed)
-        if model == "patch":
-            return _patch(t, ctx)
-        # table
-        from .element_table import read_element_table
-
-        return read_element_table(t.path("file", ctx.base_dir))
+        return spec.build(t, ctx)
     except (DesignError, FileFormatError):
         raise
     except SteradianError as exc:
         raise t.error(None, str(exc)) from None
-
-
-def _patch(t: Section, ctx: _Context) -> Element:
-    from .. import elements
-
-    patch = getattr(elements, "Patch", None)
-    if patch is None:
-        raise t.error("model", "'patch' is not available in this installation")
-    eps_r = t.number("eps_r", minimum=1)
-    h = t.number("height_m", above=0)
-    w = t.number("width_m", None, above=0)
-    length = t.number("length_m", None, above=0)
-    if length is None:
-        return patch.resonant(ctx.frequency, eps_r, h, width_m=w)
-    if w is None:
-        raise t.error("width_m", "required when element.length_m is given")
-    return patch(ctx.frequency, w, length, eps_r, h, speed=ctx.speed)
 
 
 # --------------------------------------------------------------------------------------------
@@ -344,10 +260,8 @@ def _taper(t: Section | None, geom: Geometry, ctx: _Context) -> np.ndarray | Non
     if kind == "uniform":
         t.only(("kind",), "for kind = 'uniform'")
         return None
-    if importlib.util.find_spec("steradian.tapers") is None:
-        raise t.error("kind", f"unknown taper kind {kind!r}: this installation knows "
-                      "'uniform' and taper.file only")
-    tapers = importlib.import_module("steradian.tapers")
+    from .. import tapers
+
     try:
         w = tapers.from_spec(geom, dict(t.data), ctx.wavelength)
     except DesignError as exc:
@@ -375,14 +289,14 @@ _ANALYSIS_KEYS = ("frequency_hz", "radiation_efficiency", "vswr", "return_loss_d
                   "element_power_w", "metrics")
 
 
-def _analysis(t: Section | None) -> AnalysisOptions:
+def _analysis(t: Section | None) -> AnalysisSettings:
     if t is None:
-        return AnalysisOptions()
+        return AnalysisSettings()
     t.only(_ANALYSIS_KEYS)
     if "vswr" in t and "return_loss_db" in t:
         raise t.error("return_loss_db", "give analysis.vswr or analysis.return_loss_db, "
                       "not both")
-    return AnalysisOptions(
+    return AnalysisSettings(
         frequency=t.number("frequency_hz", None, above=0),
         radiation_efficiency=t.number("radiation_efficiency", 1.0, above=0, maximum=1),
         vswr=t.number("vswr", None, minimum=1),

@@ -7,16 +7,25 @@ grid.
 
 from __future__ import annotations
 
-import difflib
 import math
 import re
 from pathlib import Path
 
 import numpy as np
 
-from ..elements import Element, TabulatedElement
-from ..elements._table import _GRID_TOL, _KEYS, COLUMNS, table_grid
-from ..errors import FileFormatError, SteradianError
+from ..elements import (
+    COLUMNS,
+    GRID_TOL,
+    TABLE_KEYS,
+    Element,
+    TabulatedElement,
+    element_power,
+    table_grid,
+)
+from ..errors import FileFormatError, SteradianError, suggest
+from ..units import C0, db10, from_db20
+from .atomic import atomic_open
+from .csv_table import read_lines, split_fields
 
 __all__ = ["read_element_table", "write_element_table"]
 
@@ -26,9 +35,22 @@ __all__ = ["read_element_table", "write_element_table"]
 _KEY_RE = re.compile(r"^([A-Za-z_][A-Za-z0-9_]*)\s*=\s*(.*?)\s*$")
 
 
-def _suggest(word, allowed):
-    hint = difflib.get_close_matches(word, list(allowed), n=1)
-    return f" (did you mean {hint[0]!r}?)" if hint else ""
+def _header_keys(path, comments, first_row: float) -> dict[str, tuple[str, int]]:
+    """``# key = value`` lines before the first data row: {key: (value, line)}."""
+    header: dict[str, tuple[str, int]] = {}
+    for n, text in comments:
+        m = _KEY_RE.match(text)
+        if m is None or n > first_row:
+            continue  # free-text comment (keys are read only before the data)
+        key, value = m.group(1), m.group(2)
+        if key not in TABLE_KEYS:
+            raise FileFormatError(path, f"unknown header key {key!r}{suggest(key, TABLE_KEYS)};"
+                                  f" keys are {', '.join(TABLE_KEYS)}", n)
+        if key in header and key != "note":
+            raise FileFormatError(path, f"header key {key!r} given twice (first on line "
+                                  f"{header[key][1]})", n)
+        header[key] = (value, n)
+    return header
 
 
 def read_element_table(path) -> TabulatedElement:
@@ -51,50 +73,55 @@ def read_element_table(path) -> TabulatedElement:
     """
     path = Path(path)
     try:
-        text = path.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
+        comments, rows = read_lines(path)
+    except OSError as exc:
         raise FileFormatError(path, f"cannot read element table: {exc}") from None
+    header = _header_keys(path, comments, rows[0][0] if rows else math.inf)
+    quantity, components, front_only, freq = _settings(path, header)
+    expected = COLUMNS[(quantity, components)]
+    cols = _columns(path, header, expected, f"quantity={quantity}, components={components}")
+    if not rows:
+        raise FileFormatError(path, "no data rows")
+    data = _samples(path, rows, cols, expected, front_only)
+    thetas, phis, vals = _grid(path, rows, data)
+    if quantity == "field":
+        comp = [vals[..., 2] + 1j * vals[..., 3]]
+        if components == "theta_phi":
+            comp.append(vals[..., 4] + 1j * vals[..., 5])
+    else:
+        comp = [from_db20(vals[..., 2]) * np.exp(1j * np.deg2rad(vals[..., 3]))]
+        if components == "theta_phi":
+            comp.append(from_db20(vals[..., 4]) * np.exp(1j * np.deg2rad(vals[..., 5])))
+    try:
+        return TabulatedElement(thetas, phis, comp[0], comp[1] if len(comp) > 1 else None,
+                                front_only=front_only, source=str(path), quantity=quantity,
+                                frequency_hz=freq)
+    except SteradianError as exc:
+        raise FileFormatError(path, str(exc)) from None
 
-    header: dict[str, tuple[str, int]] = {}
-    rows: list[tuple[int, str]] = []
-    for n, raw in enumerate(text.splitlines(), start=1):
-        line = raw.strip()
-        if not line:
-            continue
-        if line.startswith("#"):
-            m = _KEY_RE.match(line[1:].strip())
-            if m is None or rows:
-                continue  # free-text comment (keys are read only before the data)
-            key, value = m.group(1), m.group(2)
-            if key not in _KEYS:
-                raise FileFormatError(path, f"unknown header key {key!r}"
-                                      f"{_suggest(key, _KEYS)}; keys are {', '.join(_KEYS)}", n)
-            if key in header and key != "note":
-                raise FileFormatError(path, f"header key {key!r} given twice (first on line "
-                                      f"{header[key][1]})", n)
-            header[key] = (value, n)
-            continue
-        rows.append((n, line))
 
-    def need(key):
-        if key not in header:
-            raise FileFormatError(path, f"missing header line '# {key} = ...'")
-        return header[key]
+def _need(path, header, key):
+    if key not in header:
+        raise FileFormatError(path, f"missing header line '# {key} = ...'")
+    return header[key]
 
-    quantity, qline = need("quantity")
+
+def _settings(path, header) -> tuple[str, str, bool, float | None]:
+    """(quantity, components, front_only, frequency_hz) from the header keys."""
+    quantity, qline = _need(path, header, "quantity")
     if quantity not in ("field", "gain_dbi"):
         raise FileFormatError(path, f"quantity must be 'field' or 'gain_dbi', got {quantity!r}"
-                              f"{_suggest(quantity, ('field', 'gain_dbi'))}", qline)
+                              f"{suggest(quantity, ('field', 'gain_dbi'))}", qline)
     components, cline = header.get("components", ("theta_phi", qline))
     if components not in ("theta_phi", "scalar"):
         raise FileFormatError(path, f"components must be 'theta_phi' or 'scalar', got "
-                              f"{components!r}{_suggest(components, ('theta_phi', 'scalar'))}",
+                              f"{components!r}{suggest(components, ('theta_phi', 'scalar'))}",
                               cline)
     front_txt, fline = header.get("front_only", ("false", None))
     if front_txt.lower() not in ("true", "false"):
         raise FileFormatError(path, f"front_only must be 'true' or 'false', got {front_txt!r}",
                               fline)
-    front_only = front_txt.lower() == "true"
+    freq = None
     if "frequency_hz" in header:
         ftxt, fl = header["frequency_hz"]
         try:
@@ -104,31 +131,34 @@ def read_element_table(path) -> TabulatedElement:
         if not (math.isfinite(freq) and freq > 0):
             raise FileFormatError(path, f"frequency_hz must be a positive number, got {ftxt!r}",
                                   fl)
+    return quantity, components, front_txt.lower() == "true", freq
 
-    expected = COLUMNS[(quantity, components)]
-    col_txt, col_line = need("columns")
+
+def _columns(path, header, expected, kind: str) -> list[str]:
+    """The ``# columns = ...`` list, checked against the columns ``kind`` needs."""
+    col_txt, col_line = _need(path, header, "columns")
     cols = [c.strip() for c in col_txt.split(",")]
     for c in cols:
         if c not in expected:
-            raise FileFormatError(path, f"unknown column {c!r}{_suggest(c, expected)} for "
-                                  f"quantity={quantity}, components={components}; expected "
-                                  f"{', '.join(expected)}", col_line)
+            raise FileFormatError(path, f"unknown column {c!r}{suggest(c, expected)} for "
+                                  f"{kind}; expected {', '.join(expected)}", col_line)
     dup = [c for c in cols if cols.count(c) > 1]
     if dup:
         raise FileFormatError(path, f"column {dup[0]!r} listed twice", col_line)
     missing = [c for c in expected if c not in cols]
     if missing:
-        raise FileFormatError(path, f"columns lack {', '.join(missing)} (quantity={quantity},"
-                              f" components={components} needs {', '.join(expected)})",
-                              col_line)
+        raise FileFormatError(path, f"columns lack {', '.join(missing)} ({kind} needs "
+                              f"{', '.join(expected)})", col_line)
+    return cols
+
+
+def _samples(path, rows, cols, expected, front_only) -> np.ndarray:
+    """The rows as numbers, shape (rows, len(expected)), in ``expected`` column order."""
     idx = {c: cols.index(c) for c in expected}
     db_cols = {c for c in expected if c.endswith("dbi")}
-    if not rows:
-        raise FileFormatError(path, "no data rows")
-
     data = np.empty((len(rows), len(expected)))
     for r, (n, line) in enumerate(rows):
-        fields = [s.strip() for s in line.split(",")]
+        fields = split_fields(line)
         if len(fields) != len(cols):
             raise FileFormatError(path, f"expected {len(cols)} comma-separated values "
                                   f"({', '.join(cols)}), got {len(fields)}", n)
@@ -148,11 +178,14 @@ def read_element_table(path) -> TabulatedElement:
         th = data[r, 0]
         if not 0.0 <= th <= 180.0:
             raise FileFormatError(path, f"theta_deg={th:g} is outside 0..180", n)
-        if front_only and th > 90.0 + _GRID_TOL:
+        if front_only and th > 90.0 + GRID_TOL:
             raise FileFormatError(path, f"theta_deg={th:g} is behind the front half-space of a "
                                   "front_only table (theta must be at most 90)", n)
+    return data
 
-    # Assemble the grid: every (theta, phi) exactly once.
+
+def _grid(path, rows, data):
+    """(thetas, phis, values (n_theta, n_phi, ncol)): every (theta, phi) exactly once."""
     lines = np.array([n for n, _ in rows])
     tkey = np.round(data[:, 0], 6)
     pkey = np.round(data[:, 1], 6)
@@ -173,41 +206,13 @@ def read_element_table(path) -> TabulatedElement:
             path, f"missing point theta={thetas[a]:g}, phi={phis[b]:g}: the rows must form the "
             f"full grid of {len(thetas)} theta x {len(phis)} phi values "
             f"({int((seen < 0).sum())} of {seen.size} points missing)")
-    if phis[-1] - phis[0] > 360.0 + _GRID_TOL:
+    if phis[-1] - phis[0] > 360.0 + GRID_TOL:
         raise FileFormatError(path, f"phi values span {phis[-1] - phis[0]:g} deg, more than "
                               "the full circle")
-    vals = data[seen]  # (n_theta, n_phi, ncol)
-    if quantity == "field":
-        comp = [vals[..., 2] + 1j * vals[..., 3]]
-        if components == "theta_phi":
-            comp.append(vals[..., 4] + 1j * vals[..., 5])
-    else:
-        comp = [10 ** (vals[..., 2] / 20) * np.exp(1j * np.deg2rad(vals[..., 3]))]
-        if components == "theta_phi":
-            comp.append(10 ** (vals[..., 4] / 20) * np.exp(1j * np.deg2rad(vals[..., 5])))
-    try:
-        el = TabulatedElement(thetas, phis, comp[0], comp[1] if len(comp) > 1 else None,
-                              front_only=front_only, source=str(path))
-    except SteradianError as exc:
-        raise FileFormatError(path, str(exc)) from None
-    el.quantity = quantity
-    if "frequency_hz" in header:
-        el.frequency_hz = float(header["frequency_hz"][0])
-    return el
+    return thetas, phis, data[seen]
 
 
 # ---- CSV writer ---------------------------------------------------------------------------
-
-def _element_power(element: Element, k) -> float:
-    """Integral of the element's power pattern over the sphere (its own quadrature)."""
-    from ..sphere import sphere_rule
-
-    n = max(element.degree(k) // 2 + 40, 64)
-    rule = sphere_rule(n, 2 * n, front_only=element.front_only)
-    t, p = np.meshgrid(rule.theta, rule.phi, indexing="ij")
-    a, b = element.pattern(t, p)
-    return rule.integrate(np.abs(a) ** 2 + np.abs(b) ** 2)
-
 
 def write_element_table(path, element: Element, *, theta_step_deg: float | None = None,
                         phi_step_deg: float | None = None, quantity: str = "field",
@@ -232,8 +237,6 @@ def write_element_table(path, element: Element, *, theta_step_deg: float | None 
     digits : int
         Significant digits written (17 round-trips doubles exactly).
     """
-    from ._atomic import atomic_open
-
     if quantity not in ("field", "gain_dbi"):
         raise SteradianError(f"quantity must be 'field' or 'gain_dbi', got {quantity!r}")
     if isinstance(element, TabulatedElement):
@@ -249,14 +252,13 @@ def write_element_table(path, element: Element, *, theta_step_deg: float | None 
     cols = COLUMNS[(quantity, components)]
     comps = [e_t, e_p] if element.vector else [e_t]
     if quantity == "gain_dbi":
-        k = None if frequency_hz is None else 2 * math.pi * frequency_hz / 299_792_458.0
-        scale = 4 * math.pi / _element_power(element, k)
+        k = None if frequency_hz is None else 2 * math.pi * frequency_hz / C0
+        scale = 4 * math.pi / element_power(element, k)
         out = []
         for c in comps:
             g = scale * np.abs(c) ** 2
-            with np.errstate(divide="ignore"):
-                out += [np.where(g > 0, 10 * np.log10(np.where(g > 0, g, 1.0)), -np.inf),
-                        np.where(g > 0, np.rad2deg(np.angle(c)), 0.0)]
+            out += [np.where(g > 0, db10(g), -np.inf),  # -inf: a zero field
+                    np.where(g > 0, np.rad2deg(np.angle(c)), 0.0)]
     else:
         out = [x for c in comps for x in (c.real, c.imag)]
 

@@ -15,7 +15,8 @@ u-v file (one row per visible grid point; points with u^2 + v^2 > 1 are left out
     -1.0,0.0,...
 
 Numbers are written with Python's shortest round-trip representation, so reading a file back
-returns the same floats.
+returns the same floats. The cuts and maps themselves are computed by
+:func:`steradian.metrics.principal_cuts` and :func:`steradian.workflows.uv_map`.
 """
 
 from __future__ import annotations
@@ -25,11 +26,12 @@ from pathlib import Path
 
 import numpy as np
 
+from ..directions import unit_vectors_deg
 from ..errors import FileFormatError, SteradianError
-from ._atomic import write_text
-from .positions_csv import parse_float, read_table, unknown_column
+from .atomic import write_text
+from .csv_table import check_columns, parse_float, read_table
 
-__all__ = ["UVMap", "uv_map", "write_cuts", "read_cuts", "write_uv", "read_uv"]
+__all__ = ["UVMap", "write_cuts", "read_cuts", "write_uv", "read_uv"]
 
 _CUT_COLUMNS = ["cut", "angle_deg", "theta_deg", "phi_deg", "directivity_dbi"]
 _UV_COLUMNS = ["u", "v", "theta_deg", "phi_deg", "directivity_dbi"]
@@ -53,38 +55,6 @@ class UVMap:
     v: np.ndarray
     directivity_dbi: np.ndarray
     hemisphere: int = 1
-
-
-def uv_map(array, n: int = 201, *, frequency: float | None = None, power=None,
-           hemisphere: int = 1) -> UVMap:
-    """Directivity of ``array`` on an ``n`` x ``n`` u-v grid spanning [-1, 1].
-
-    Parameters
-    ----------
-    array : Array
-    n : int
-        Grid points per axis (>= 3).
-    frequency : float, optional
-        Evaluation frequency (Hz); default the design frequency.
-    power : RadiatedPower, optional
-        Radiated power for the normalisation (computed when omitted).
-    hemisphere : {1, -1}
-        Front (w >= 0) or back hemisphere.
-    """
-    from ..directions import UVGrid
-    from ..metrics import DB_FLOOR
-    from ..radiation import directivity, radiated_power, to_db
-    from ..validate import count
-
-    n = count("uv points", n, 3)
-    if hemisphere not in (1, -1):
-        raise SteradianError(f"hemisphere must be 1 or -1, got {hemisphere!r}")
-    grid = UVGrid.square(n, hemisphere)
-    p = power or radiated_power(array, frequency=frequency)
-    d = directivity(array, grid, frequency=frequency, power=p)
-    vis = grid.visible.reshape(grid.shape)
-    db = np.where(vis, np.maximum(to_db(np.where(vis, d, 1.0)), DB_FLOOR), np.nan)
-    return UVMap(grid.u.copy(), grid.v.copy(), db, hemisphere)
 
 
 def _fmt(x) -> str:
@@ -129,15 +99,9 @@ def read_cuts(path) -> list:
 
     path = Path(path)
     header, rows, hline, _ = read_table(path)
-    for h in header:
-        if h not in _CUT_COLUMNS:
-            raise unknown_column(path, h, _CUT_COLUMNS, hline)
-    missing = [c for c in _CUT_COLUMNS if c not in header]
-    if missing:
-        raise FileFormatError(path, f"missing column(s) {', '.join(missing)}", hline)
+    col = check_columns(path, header, _CUT_COLUMNS, _CUT_COLUMNS, hline)
     if not rows:
         raise FileFormatError(path, "no rows after the header", hline)
-    col = {h: i for i, h in enumerate(header)}
     data: dict[str, list] = {}
     for lineno, f in rows:
         vals = [parse_float(path, lineno, c, f[col[c]]) for c in _CUT_COLUMNS[1:4]]
@@ -147,8 +111,7 @@ def read_cuts(path) -> list:
     out = []
     for name, vals in data.items():
         a = np.array(vals)
-        th, ph = np.deg2rad(a[:, 1]), np.deg2rad(a[:, 2])
-        dirs = np.column_stack([np.sin(th) * np.cos(ph), np.sin(th) * np.sin(ph), np.cos(th)])
+        dirs = unit_vectors_deg(a[:, 1], a[:, 2])
         out.append(Cut(name, a[:, 0], dirs, a[:, 3], a[:, 1], a[:, 2]))
     return out
 
@@ -162,6 +125,7 @@ def write_uv(path, uvmap: UVMap, meta: dict | None = None) -> None:
     lines.append(",".join(_UV_COLUMNS))
     uu, vv = np.meshgrid(uvmap.u, uvmap.v, indexing="xy")
     s = np.hypot(uu, vv)
+    # theta from arcsin |(u, v)|, not arccos w (directions.angles_deg): exact near the pole.
     theta = np.rad2deg(np.arcsin(np.clip(s, 0.0, 1.0)))
     if uvmap.hemisphere == -1:
         theta = 180.0 - theta
@@ -180,15 +144,9 @@ def read_uv(path) -> UVMap:
     """Read a u-v file back into a :class:`UVMap` (missing grid points become NaN)."""
     path = Path(path)
     header, rows, hline, comments = read_table(path)
-    for h in header:
-        if h not in _UV_COLUMNS:
-            raise unknown_column(path, h, _UV_COLUMNS, hline)
-    for c in ("u", "v", "directivity_dbi"):
-        if c not in header:
-            raise FileFormatError(path, f"missing column {c!r}", hline)
+    col = check_columns(path, header, _UV_COLUMNS, ("u", "v", "directivity_dbi"), hline)
     if not rows:
         raise FileFormatError(path, "no rows after the header", hline)
-    col = {h: i for i, h in enumerate(header)}
     pts = np.array([[parse_float(path, ln, "u", f[col["u"]]),
                      parse_float(path, ln, "v", f[col["v"]]),
                      parse_float(path, ln, "directivity_dbi", f[col["directivity_dbi"]],
@@ -202,80 +160,3 @@ def read_uv(path) -> UVMap:
         if c.replace(" ", "") == "hemisphere=back":
             hemi = -1
     return UVMap(u, v, d, hemi)
-
-
-def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_png_path=None,
-                    uv_points: int = 201, span_deg: float = 90.0,
-                    frequency: float | None = None, meta: dict | None = None,
-                    title: str | None = None, metrics: dict | None = None) -> dict:
-    """Compute the principal cuts and/or the u-v map of ``array`` and write the files asked.
-
-    Parameters
-    ----------
-    array : Array
-    cuts_path, uv_path : path-like, optional
-        CSV outputs (cuts of :func:`steradian.metrics.principal_cuts`; :func:`uv_map`).
-    png_path, uv_png_path : path-like, optional
-        PNG outputs (:func:`steradian.plots.plot_cuts` annotated with both half-power
-        beamwidths and the peak sidelobe level; :func:`steradian.plots.plot_uv`).
-    uv_points : int
-        u-v grid points per axis.
-    span_deg : float
-        Half-span of each cut about the beam axis (deg, at most 180).
-    frequency : float, optional
-        Evaluation frequency (Hz).
-    meta : dict, optional
-        ``# key = value`` lines for the CSV headers.
-    title : str, optional
-        Plot title prefix.
-    metrics : dict, optional
-        ``PatternMetrics.to_dict()`` of this array at ``frequency`` (e.g. the ``metrics``
-        block of :func:`steradian.analysis.analyze`) for the plot annotations; computed with
-        :func:`steradian.metrics.pattern_metrics` when omitted and ``png_path`` is given.
-
-    Returns
-    -------
-    dict
-        ``peak_directivity_dbi``, ``peak_theta_deg``, ``peak_phi_deg`` and ``files`` (paths
-        written, in order).
-    """
-    from ..metrics import principal_cuts
-    from ..radiation import peak_directivity, radiated_power
-
-    power = radiated_power(array, frequency=frequency)
-    pk = peak_directivity(array, frequency=frequency, power=power)
-    m = {"frequency_hz": array.frequency if frequency is None else frequency, **(meta or {})}
-    written = []
-    if cuts_path is not None or png_path is not None:
-        cuts = principal_cuts(array, frequency=frequency, peak=pk, span_deg=span_deg)
-        if cuts_path is not None:
-            write_cuts(cuts_path, cuts, m)
-            written.append(str(cuts_path))
-        if png_path is not None:
-            from ..plots import plot_cuts
-
-            if metrics is None:
-                from ..metrics import pattern_metrics
-
-                metrics = pattern_metrics(array, frequency=frequency, peak=pk).to_dict()
-            hp = metrics.get("hpbw_deg") or {}
-            hpbw = [hp.get("phi_plane"), hp.get("cross_plane")]
-            psl = metrics.get("psl_db")
-            plot_cuts(cuts, png_path, hpbw_deg=hpbw, psl_db=psl,
-                      title=None if title is None else f"{title}: principal cuts, peak "
-                      f"{pk.directivity_dbi:.2f} dBi")
-            written.append(str(png_path))
-    if uv_path is not None or uv_png_path is not None:
-        uvm = uv_map(array, uv_points, frequency=frequency, power=power)
-        if uv_path is not None:
-            write_uv(uv_path, uvm, m)
-            written.append(str(uv_path))
-        if uv_png_path is not None:
-            from ..plots import plot_uv
-
-            top = float(np.nanmax(uvm.directivity_dbi))
-            plot_uv(uvm, uv_png_path, title=None if title is None else
-                    f"{title}: directivity over u-v, peak {top:.2f} dBi")
-            written.append(str(uv_png_path))
-    return {"peak_directivity_dbi": pk.directivity_dbi, "peak_theta_deg": pk.theta_deg,
-            "peak_phi_deg": pk.phi_deg, "files": written}

@@ -24,18 +24,15 @@ Columns, in any order:
 
 from __future__ import annotations
 
-import csv
-import difflib
-import io
-import math
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
 from ..errors import FileFormatError, SteradianError
-from ..geometry import _COINCIDENT_TOL, Geometry, rotation_to
-from ._atomic import write_text
+from ..geometry import Geometry, coincident_pair, rotation_to
+from .atomic import write_text
+from .csv_table import check_columns, parse_float, read_table
 
 __all__ = ["ElementLayout", "read_layout", "read_positions", "write_positions", "LENGTH_UNITS"]
 
@@ -65,68 +62,6 @@ class ElementLayout:
     geometry: Geometry
     enabled: np.ndarray | None
     unit: str
-
-
-def read_table(path) -> tuple[list[str], list[tuple[int, list[str]]], int, list[str]]:
-    """Read a comma-separated table with ``#`` comments.
-
-    Returns ``(header, rows, header_line, comments)`` where ``rows`` holds
-    ``(line_number, fields)`` pairs (1-based line numbers) and ``comments`` the comment lines
-    without their ``#``. Raises :class:`FileFormatError` for an empty file or a row whose
-    field count differs from the header's.
-    """
-    path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise FileFormatError(path, f"not a UTF-8 text file ({exc.reason})") from None
-    header: list[str] | None = None
-    header_line = 0
-    rows: list[tuple[int, list[str]]] = []
-    comments: list[str] = []
-    for lineno, line in enumerate(text.splitlines(), start=1):
-        s = line.strip()
-        if not s:
-            continue
-        if s.startswith("#"):
-            comments.append(s[1:].strip())
-            continue
-        fields = [f.strip() for f in next(csv.reader(io.StringIO(line)))]
-        if header is None:
-            header, header_line = [f.lower() for f in fields], lineno
-            dup = [h for h in header if header.count(h) > 1]
-            if dup:
-                raise FileFormatError(path, f"column {dup[0]!r} appears twice", lineno)
-            continue
-        if len(fields) != len(header):
-            raise FileFormatError(
-                path, f"expected {len(header)} fields ({', '.join(header)}), got {len(fields)}",
-                lineno)
-        rows.append((lineno, fields))
-    if header is None:
-        raise FileFormatError(path, "no header row (file is empty or only comments)")
-    return header, rows, header_line, comments
-
-
-def parse_float(path, lineno: int, column: str, text: str, *, allow_inf: bool = False) -> float:
-    """Parse one numeric field, raising :class:`FileFormatError` naming line and column."""
-    try:
-        x = float(text)
-    except ValueError:
-        raise FileFormatError(path, f"column {column!r}: {text!r} is not a number",
-                              lineno) from None
-    if math.isnan(x) or (math.isinf(x) and not allow_inf):
-        raise FileFormatError(path, f"column {column!r}: {text!r} is not a finite number",
-                              lineno)
-    return x
-
-
-def unknown_column(path, column: str, allowed, lineno: int) -> FileFormatError:
-    """Error for an unexpected column, suggesting the closest allowed name."""
-    hint = difflib.get_close_matches(column, list(allowed), n=1)
-    extra = f" (did you mean {hint[0]!r}?)" if hint else ""
-    return FileFormatError(path, f"unknown column {column!r}{extra}; allowed: "
-                           f"{', '.join(allowed)}", lineno)
 
 
 def _coordinate_unit(path, header: list[str], header_line: int) -> str:
@@ -175,16 +110,7 @@ def read_layout(path, wavelength: float | None = None,
     path = Path(path)
     header, rows, hline, _ = read_table(path)
     unit = _coordinate_unit(path, header, hline)
-    coords = [f"{a}_{unit}" for a in "xyz"]
-    has_normals = [c in header for c in _NORMALS]
-    if any(has_normals) and not all(has_normals):
-        missing = [c for c, h in zip(_NORMALS, has_normals, strict=True) if not h]
-        raise FileFormatError(path, f"normal columns need all three; missing "
-                              f"{', '.join(missing)}", hline)
-    allowed = ["element", *coords, *_NORMALS, "enabled"]
-    for h in header:
-        if h not in allowed:
-            raise unknown_column(path, h, allowed, hline)
+    col = _layout_columns(path, header, unit, hline)
     if not rows:
         raise FileFormatError(path, "no element rows after the header", hline)
     scale = LENGTH_UNITS[unit]
@@ -193,10 +119,40 @@ def read_layout(path, wavelength: float | None = None,
             raise FileFormatError(path, "coordinates are in wavelengths (*_wl) but no "
                                   "wavelength was given (set the design frequency)", hline)
         scale = float(wavelength)
-    col = {h: i for i, h in enumerate(header)}
+    pos, normals, enabled = _layout_rows(path, rows, col, unit, scale)
+    pair = coincident_pair(pos)
+    if pair is not None:
+        i, j = pair
+        raise FileFormatError(path, f"element {j} is at the same position as element {i} "
+                              f"(line {rows[i][0]})", rows[j][0])
+    if enabled is not None and not enabled.any():
+        raise FileFormatError(path, "every element is disabled (column 'enabled')")
+    R = None
+    if normals is not None:
+        R = rotation_to(normals, np.asarray(local_x_toward, float))
+    try:
+        geom = Geometry(pos, R)
+    except SteradianError as exc:
+        raise FileFormatError(path, str(exc)) from None
+    return ElementLayout(geom, enabled, unit)
+
+
+def _layout_columns(path, header, unit: str, hline: int) -> dict[str, int]:
+    has_normals = [c in header for c in _NORMALS]
+    if any(has_normals) and not all(has_normals):
+        missing = [c for c, h in zip(_NORMALS, has_normals, strict=True) if not h]
+        raise FileFormatError(path, f"normal columns need all three; missing "
+                              f"{', '.join(missing)}", hline)
+    allowed = ["element", *(f"{a}_{unit}" for a in "xyz"), *_NORMALS, "enabled"]
+    return check_columns(path, header, allowed, (), hline)
+
+
+def _layout_rows(path, rows, col, unit: str, scale: float):
+    """(positions in metres, normals or None, enabled mask or None) of the rows."""
+    coords = [f"{a}_{unit}" for a in "xyz"]
     n = len(rows)
     pos = np.zeros((n, 3))
-    normals = np.zeros((n, 3)) if all(has_normals) else None
+    normals = np.zeros((n, 3)) if "normal_x" in col else None
     enabled = np.ones(n, bool) if "enabled" in col else None
     for r, (lineno, fields) in enumerate(rows):
         if "element" in col:
@@ -218,25 +174,7 @@ def read_layout(path, wavelength: float | None = None,
                 raise FileFormatError(path, f"column 'enabled': {fields[col['enabled']]!r} "
                                       "is not 1/0, true/false or yes/no", lineno)
             enabled[r] = v in _TRUE
-    if n > 1:
-        from scipy.spatial import cKDTree
-
-        pairs = cKDTree(pos).query_pairs(_COINCIDENT_TOL, output_type="ndarray")
-        if len(pairs):
-            # report the first repeat in file order
-            i, j = sorted(pairs[np.argmin(pairs.max(axis=1))].tolist())
-            raise FileFormatError(path, f"element {j} is at the same position as element {i} "
-                                  f"(line {rows[i][0]})", rows[j][0])
-    if enabled is not None and not enabled.any():
-        raise FileFormatError(path, "every element is disabled (column 'enabled')")
-    R = None
-    if normals is not None:
-        R = rotation_to(normals, np.asarray(local_x_toward, float))
-    try:
-        geom = Geometry(pos, R)
-    except SteradianError as exc:
-        raise FileFormatError(path, str(exc)) from None
-    return ElementLayout(geom, enabled, unit)
+    return pos, normals, enabled
 
 
 def read_positions(path, wavelength: float | None = None) -> Geometry:

@@ -34,8 +34,9 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import FileFormatError, SteradianError
-from ._atomic import write_text
-from .positions_csv import parse_float, read_table, unknown_column
+from ..units import from_db20, wrap_deg
+from .atomic import write_text
+from .csv_table import check_columns, parse_float, parse_index, read_table
 
 __all__ = ["WeightsTable", "read_weights", "read_weights_table", "write_weights"]
 
@@ -138,12 +139,28 @@ def read_weights_table(path, n: int | None = None) -> WeightsTable:
     """
     path = Path(path)
     header, rows, hline, comments = read_table(path)
-    for h in header:
-        if h not in _COLUMNS:
-            raise unknown_column(path, h, _COLUMNS, hline)
-    col = {h: i for i, h in enumerate(header)}
-    if "element" not in col:
-        raise FileFormatError(path, "missing column 'element'", hline)
+    col = _weight_columns(path, header, hline)
+    if not rows:
+        raise FileFormatError(path, "no element rows after the header", hline)
+    m = len(rows)
+    if n is not None and m != n:
+        raise FileFormatError(path, f"has {m} element rows, the array has {n} elements")
+    w, pos, amp, db, ph, line_of = _weight_rows(path, rows, col, m)
+    if "real" not in col:
+        a = amp if "amplitude" in col else from_db20(db)
+        w = a * np.exp(1j * np.deg2rad(ph))
+    _check_agreement(path, w, amp, db, ph, line_of)
+    meta = {}
+    for c in comments:
+        mm = _META.match(c)
+        if mm:
+            meta[mm.group(1)] = mm.group(2).strip()
+    return WeightsTable(w, pos, meta)
+
+
+def _weight_columns(path, header, hline) -> dict[str, int]:
+    """{column: index} of a weights header, checking which columns go together."""
+    col = check_columns(path, header, _COLUMNS, ("element",), hline)
     has_ri = ("real" in col, "imag" in col)
     if any(has_ri) and not all(has_ri):
         raise FileFormatError(path, "columns 'real' and 'imag' go together", hline)
@@ -154,32 +171,20 @@ def read_weights_table(path, n: int | None = None) -> WeightsTable:
         if "phase_deg" not in col or not ({"amplitude", "amplitude_db"} & set(col)):
             raise FileFormatError(path, "need columns real and imag, or amplitude (or "
                                   "amplitude_db) and phase_deg", hline)
-    if not rows:
-        raise FileFormatError(path, "no element rows after the header", hline)
-    m = len(rows)
-    if n is not None and m != n:
-        raise FileFormatError(path, f"has {m} element rows, the array has {n} elements")
+    return col
 
+
+def _weight_rows(path, rows, col, m):
+    """Per-element values of the rows: (w, positions, amplitude, dB, phase, line)."""
     w = np.zeros(m, complex)
-    pos = np.zeros((m, 3)) if all(has_pos) else None
-    amp = np.full(m, np.nan)
-    db = np.full(m, np.nan)
-    ph = np.full(m, np.nan)
+    pos = np.zeros((m, 3)) if "x_m" in col else None
+    amp, db, ph = np.full(m, np.nan), np.full(m, np.nan), np.full(m, np.nan)
     line_of = np.zeros(m, int)
-    seen = np.zeros(m, bool)
     for lineno, f in rows:
-        t = f[col["element"]]
-        try:
-            i = int(t)
-        except ValueError:
-            raise FileFormatError(path, f"column 'element': {t!r} is not a whole number",
-                                  lineno) from None
-        if not 0 <= i < m:
-            raise FileFormatError(path, f"column 'element': {i} is outside 0..{m - 1}", lineno)
-        if seen[i]:
+        i = parse_index(path, lineno, "element", f[col["element"]], m)
+        if line_of[i]:
             raise FileFormatError(path, f"element {i} appears twice (first on line "
                                   f"{line_of[i]})", lineno)
-        seen[i] = True
         line_of[i] = lineno
         if pos is not None:
             pos[i] = [parse_float(path, lineno, c, f[col[c]]) for c in ("x_m", "y_m", "z_m")]
@@ -196,20 +201,10 @@ def read_weights_table(path, n: int | None = None) -> WeightsTable:
                                       lineno)
         if "phase_deg" in col:
             ph[i] = parse_float(path, lineno, "phase_deg", f[col["phase_deg"]])
-        if all(has_ri):
+        if "real" in col:
             w[i] = complex(parse_float(path, lineno, "real", f[col["real"]]),
                            parse_float(path, lineno, "imag", f[col["imag"]]))
-    lin_from_db = 10 ** (db / 20)
-    if not all(has_ri):
-        a = amp if "amplitude" in col else lin_from_db
-        w = a * np.exp(1j * np.deg2rad(ph))
-    _check_agreement(path, w, amp, db, ph, line_of)
-    meta = {}
-    for c in comments:
-        mm = _META.match(c)
-        if mm:
-            meta[mm.group(1)] = mm.group(2).strip()
-    return WeightsTable(w, pos, meta)
+    return w, pos, amp, db, ph, line_of
 
 
 def _check_agreement(path, w, amp, db, ph, line_of) -> None:
@@ -224,10 +219,10 @@ def _check_agreement(path, w, amp, db, ph, line_of) -> None:
         with np.errstate(divide="ignore", invalid="ignore"):
             db_w = 20 * np.log10(np.where(big, a_ref, 1.0))
             bad = np.where(big, np.abs(db - db_w) > _DB_TOL,
-                           np.abs(10 ** (db / 20) - a_ref) > _AMP_RTOL * peak)
+                           np.abs(from_db20(db) - a_ref) > _AMP_RTOL * peak)
         checks.append(("amplitude_db", bad))
     if not np.all(np.isnan(ph)):
-        d = np.abs((ph - np.angle(w, deg=True) + 180.0) % 360.0 - 180.0)
+        d = np.abs(wrap_deg(ph - np.angle(w, deg=True)))
         checks.append(("phase_deg", (a > 1e-6 * peak) & (d > _PHASE_TOL_DEG)))
     for name, bad in checks:
         if bad.any():

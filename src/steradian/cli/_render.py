@@ -1,0 +1,247 @@
+"""How the command line shows results: the ``--json`` option, JSON output, text tables.
+
+The one rendering module of the command line: every command computes through
+:mod:`steradian.workflows` and shows the result with these functions, so commands never
+import each other. Nothing here computes.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+
+import click
+
+json_option = click.option("--json", "as_json", is_flag=True,
+                           help="Print machine-readable JSON instead of a table.")
+
+_PREFIX = ((1e12, "THz"), (1e9, "GHz"), (1e6, "MHz"), (1e3, "kHz"), (1.0, "Hz"))
+
+
+# --------------------------------------------------------------------------------------------
+# JSON
+# --------------------------------------------------------------------------------------------
+def json_text(obj) -> str:
+    """``obj`` as indented JSON text (numpy values and non-finite floats normalised by
+    :func:`steradian.beamtable.jsonable`)."""
+    from ..beamtable import jsonable
+
+    return json.dumps(jsonable(obj), indent=2)
+
+
+def emit_json(obj) -> None:
+    """Print ``obj`` as indented JSON."""
+    click.echo(json_text(obj))
+
+
+def write_json(path, obj) -> None:
+    """Write ``obj`` as indented JSON to ``path`` (atomically)."""
+    from ..io.atomic import write_text
+
+    write_text(path, json_text(obj) + "\n")
+
+
+def echo_written(paths, verb: str = "wrote") -> None:
+    """One ``wrote PATH`` line per file."""
+    for p in paths:
+        click.echo(f"{verb} {p}")
+
+
+# --------------------------------------------------------------------------------------------
+# Text tables
+# --------------------------------------------------------------------------------------------
+def table(rows: list[tuple[str, str]], title: str | None = None) -> str:
+    """Two-column aligned text table."""
+    width = max((len(k) for k, _ in rows), default=0)
+    lines = [title, "-" * len(title)] if title else []
+    lines += [f"{k:<{width}}  {v}" for k, v in rows]
+    return "\n".join(lines)
+
+
+def hz(f: float) -> str:
+    """A frequency with its SI prefix (``10 GHz``)."""
+    for scale, unit in _PREFIX:
+        if abs(f) >= scale:
+            return f"{f / scale:.6g} {unit}"
+    return f"{f:.6g} Hz"
+
+
+def num(v) -> str:
+    """A number for a table cell (fixed point, or exponent form for very small or large)."""
+    if isinstance(v, bool) or v is None:
+        return str(v)
+    if isinstance(v, int):
+        return str(v)
+    try:
+        x = float(v)
+    except (TypeError, ValueError):
+        return str(v)
+    if not math.isfinite(x):
+        return str(x)
+    return f"{x:.4g}" if (x != 0 and (abs(x) < 1e-3 or abs(x) >= 1e5)) else f"{x:.3f}"
+
+
+def _deg(v) -> str:
+    return "n/a" if v is None else f"{v:.3f} deg"
+
+
+# --------------------------------------------------------------------------------------------
+# Analysis summary (analyze, demo)
+# --------------------------------------------------------------------------------------------
+def metric_rows(m: dict) -> list[tuple[str, str]]:
+    """Rows for the ``metrics`` block of an analysis summary."""
+    rows = []
+    hp, fn = m.get("hpbw_deg") or {}, m.get("fnbw_deg") or {}
+    rows.append(("HPBW", f"{_deg(hp.get('phi_plane'))} (phi plane), "
+                 f"{_deg(hp.get('cross_plane'))} (cross plane)"))
+    rows.append(("first-null BW", f"{_deg(fn.get('phi_plane'))} (phi plane), "
+                 f"{_deg(fn.get('cross_plane'))} (cross plane)"))
+    if m.get("psl_db") is None:
+        rows.append(("peak sidelobe", "none found"))
+    else:
+        rows.append(("peak sidelobe", f"{m['psl_db']:.2f} dB at theta {m['psl_theta_deg']:.2f}"
+                     f" deg, phi {m['psl_phi_deg']:.2f} deg"))
+    if m.get("islr_db") is not None:
+        rows.append(("integrated SLR", f"{m['islr_db']:.2f} dB (main lobe holds "
+                     f"{100 * m['main_lobe_power_fraction']:.1f} % of the power)"))
+    if m.get("lattice"):
+        free = m.get("grating_lobe_free_scan_deg")
+        n_gl = len(m.get("grating_lobes_predicted") or [])
+        rows.append(("grating lobes", f"{n_gl} predicted visible; grating-lobe-free scan "
+                     + ("none" if free is None else f"{free:.2f} deg")))
+    found = m.get("grating_lobes_found") or []
+    if found:
+        rows.append(("grating lobes found", ", ".join(
+            f"{g['level_db']:.2f} dB at ({g['theta_deg']:.1f}, {g['phi_deg']:.1f}) deg"
+            for g in found)))
+    if m.get("pointing_error_deg") is not None:
+        rows.append(("pointing error", f"{m['pointing_error_deg']:.4f} deg"))
+    fb = m["front_to_back_db"]
+    rows.append(("front-to-back", f"{fb:.2f} dB" if fb < 299.99 else "no radiation behind"))
+    rows.append(("scan loss", f"{m['scan_loss_db']:.3f} dB"))
+    for note in m.get("notes") or []:
+        rows.append(("note", str(note)))
+    return rows
+
+
+def _design_rows(s: dict) -> list[tuple[str, str]]:
+    rows: list[tuple[str, str]] = []
+    d = s.get("design")
+    if d:
+        rows.append(("design", d["name"] + (f"  ({d['source']})" if d.get("source") else "")))
+        if d.get("description"):
+            rows.append(("description", d["description"]))
+    rows.append(("elements", f"{s['n_elements']} ({s['n_enabled']} enabled)"))
+    f, f0 = s["frequency_hz"], s["design_frequency_hz"]
+    rows.append(("frequency", hz(f) + ("" if f == f0 else f"  (design {hz(f0)})")
+                 + f", wavelength {s['wavelength_m'] * 1e3:.4g} mm"))
+    el = dict(s["element"])
+    model = el.pop("model", "?")
+    rows.append(("element", model + ("  " + ", ".join(f"{k}={num(v)}" for k, v in el.items())
+                                     if el else "")))
+    st = s.get("steering")
+    rows.append(("steering", "none (unsteered)" if not st else
+                 f"theta {st['theta_deg']:g} deg, phi {st['phi_deg']:g} deg ({st['mode']})"))
+    return rows
+
+
+def summary_rows(s: dict) -> list[tuple[str, str]]:
+    """Rows of the human summary table for an analysis dictionary
+    (:func:`steradian.workflows.analyze_design`)."""
+    rows = _design_rows(s)
+    rows.append(("peak directivity", f"{s['peak_directivity_dbi']:.3f} dBi at theta "
+                 f"{s['peak_theta_deg']:.3f} deg, phi {s['peak_phi_deg']:.3f} deg"))
+    rows.append(("gain", f"{s['gain_dbi']:.3f} dBi (radiation efficiency "
+                 f"{s['radiation_efficiency']:.3g})"))
+    rows.append(("realized gain", f"{s['realized_gain_dbi']:.3f} dBi (mismatch factor "
+                 f"{s['mismatch_factor']:.4g})"))
+    rp = s["radiated_power"]
+    rule = f", rule {rp['n_theta']} x {rp['n_phi']}" if rp.get("n_theta") else ""
+    rows.append(("integrator", f"{rp['method']}{rule}, relative error estimate "
+                 f"{rp['relative_error_estimate']:.2g}"))
+    if "metrics" in s:
+        rows += metric_rows(s["metrics"])
+    if "eirp" in s:
+        e = s["eirp"]
+        rows.append(("EIRP", f"{e['eirp_dbw']:.2f} dBW ({num(e['eirp_w'])} W) from "
+                     f"{num(e['total_power_w'])} W input"))
+        rows.append(("caution", s.get("rf_exposure_caution", e.get("caution", ""))))
+    return rows
+
+
+def format_summary(s: dict) -> str:
+    """The human summary table for an analysis dictionary."""
+    name = (s.get("design") or {}).get("name", "")
+    return table(summary_rows(s), title=f"steradian analysis: {name}")
+
+
+# --------------------------------------------------------------------------------------------
+# Beam tables (beams, verify)
+# --------------------------------------------------------------------------------------------
+def beam_summary_rows(summary: dict) -> list[tuple[str, str]]:
+    """Human rows for a :meth:`BeamMetrics.summary` dictionary."""
+    def f(key, fmt, unit=""):
+        v = summary.get(key)
+        return "-" if v is None else f"{v:{fmt}}{unit}"
+
+    def at(key):
+        b = summary.get(f"{key}_beam")
+        return "" if b is None else f" (beam {b})"
+
+    return [
+        ("beams", str(summary["beams"])),
+        ("peak directivity", f"{f('directivity_dbi_min', '.3f')} .. "
+                             f"{f('directivity_dbi_max', '.3f')} dBi"),
+        ("loss vs ideal", f"mean {f('loss_db_mean', '.4f')} dB, worst "
+                          f"{f('loss_db_max', '.4f')} dB{at('loss_db_max')}"),
+        ("peak sidelobe", f"worst {f('psl_db_max', '.2f')} dB{at('psl_db_max')}"),
+        ("quantization lobe", f"worst {f('qlobe_db_max', '.2f')} dB{at('qlobe_db_max')}"),
+        ("pointing error", f"worst {f('pointing_error_deg_max', '.4f')} deg"
+                           f"{at('pointing_error_deg_max')}"),
+        ("RMS phase error", f"worst {f('rms_phase_error_deg_max', '.3f')} deg"),
+    ]
+
+
+# --------------------------------------------------------------------------------------------
+# Synthesis (synth)
+# --------------------------------------------------------------------------------------------
+def _fmt_db(x) -> str:
+    return "n/a" if x is None else f"{x:.3f} dB"
+
+
+def _solver_rows(cert: dict) -> list[tuple[str, str]]:
+    if cert.get("status") and cert.get("status") != "closed form":
+        rows = [("solver", f"{cert['status']}, {cert['iterations']} iterations, relative "
+                           f"gap {cert['relative_gap']:.2g}")]
+        if "directivity_bound_dbi" in cert:
+            rows.append(("bound", f"no weights meeting the constraints exceed "
+                                  f"{cert['directivity_bound_dbi']:.3f} dBi"))
+        return rows
+    if cert.get("status"):
+        return [("solver", "closed form (Q^-1 a0)")]
+    return []
+
+
+def result_rows(res) -> list[tuple[str, str]]:
+    """Human summary rows of a SynthesisResult."""
+    rows = [("method", res.method),
+            ("directivity", f"{res.directivity_dbi:.3f} dBi toward the beam (peak "
+                            f"{res.peak_directivity_dbi:.3f} dBi)"),
+            ("taper efficiency", f"{res.taper_efficiency:.4f}"),
+            ("peak sidelobe", _fmt_db(res.psl_db)
+             + ("" if res.psl_direction is None else
+                f" at theta {res.psl_direction[0]:.2f}, phi {res.psl_direction[1]:.2f} deg")
+             + " (dense re-check)")]
+    if res.limit_db is not None:
+        rows.append(("limit", f"{res.limit_db:.3f} dB; worst excess {res.margin_db:.4f} dB; "
+                              + ("met" if res.met else "NOT met")))
+    rows.append(("white-noise gain", f"{res.white_noise_gain_db:.2f} dB"))
+    rows.append(("dynamic range", f"{res.dynamic_range_db:.2f} dB"))
+    for i, d in enumerate(res.null_depths_db):
+        rows.append((f"null {i}", f"{d:.1f} dB"))
+    rows += _solver_rows(res.certificate)
+    rows.append(("problem", f"{res.unknowns} real unknowns ({res.symmetry} symmetry), "
+                            f"{res.samples} samples, {res.rounds} rounds, {res.seconds:.2f} s"))
+    for n in res.notes:
+        rows.append(("note", n))
+    return rows

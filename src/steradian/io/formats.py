@@ -1,0 +1,96 @@
+"""The file formats of steradian by name and suffix, and reading or writing by format.
+
+One registry, :data:`WEIGHT_FORMATS`, lists the beam-table (weight-file) formats: each name
+with its file suffix and the module holding its reader and writer side by side. Modules are
+imported only when a file of that format is read or written, so listing the names stays
+light (the command line builds its ``--format`` choices from it).
+
+To add a format: write ``steradian/io/beams_<name>.py`` with ``read_beams_<name>(path)`` and
+``write_beams_<name>(path, table, **options)``, then add one line to :data:`WEIGHT_FORMATS`.
+"""
+
+from __future__ import annotations
+
+import importlib
+from dataclasses import dataclass
+from pathlib import Path
+
+from ..errors import SteradianError
+from ..validate import choice
+
+__all__ = ["FileFormat", "WEIGHT_FORMATS", "FORMATS", "format_of", "read_weight_file",
+           "write_weight_file", "write_beam_files"]
+
+
+@dataclass(frozen=True)
+class FileFormat:
+    """One file format: its name, file suffix and the module with its reader and writer."""
+
+    name: str
+    suffix: str
+    module: str
+    reader: str
+    writer: str
+
+    def read(self, path):
+        """Read ``path`` with this format's reader."""
+        return getattr(importlib.import_module(self.module), self.reader)(path)
+
+    def write(self, path, value, **options) -> Path:
+        """Write ``value`` to ``path`` with this format's writer (atomically)."""
+        getattr(importlib.import_module(self.module), self.writer)(path, value, **options)
+        return Path(path)
+
+
+WEIGHT_FORMATS: dict[str, FileFormat] = {
+    f.name: f for f in (
+        FileFormat("csv", ".csv", "steradian.io.beams_csv", "read_beams_csv", "write_beams_csv"),
+        FileFormat("json", ".json", "steradian.io.beams_json", "read_beams_json",
+                   "write_beams_json"),
+        FileFormat("bin", ".bin", "steradian.io.beams_bin", "read_beams_bin", "write_beams_bin"),
+        FileFormat("h", ".h", "steradian.io.beams_cheader", "read_beams_cheader",
+                   "write_beams_cheader"),
+    )
+}
+"""Beam-table (weight-file) formats by name, in the order they are written."""
+
+FORMATS = {f.suffix: f.name for f in WEIGHT_FORMATS.values()}
+"""File suffix -> weight-file format name."""
+
+
+def format_of(path, fmt: str | None = None) -> FileFormat:
+    """The weight-file format ``fmt`` (by name), or the one ``path``'s suffix names."""
+    if fmt is not None:
+        return WEIGHT_FORMATS[choice("format", fmt, tuple(WEIGHT_FORMATS))]
+    suf = Path(path).suffix.lower()
+    if suf not in FORMATS:
+        raise SteradianError(f"{path}: cannot tell the weight-file format from the suffix "
+                             f"{suf!r}; use one of {', '.join(FORMATS)} or give the format")
+    return WEIGHT_FORMATS[FORMATS[suf]]
+
+
+def write_weight_file(path, table, fmt: str | None = None, **options) -> Path:
+    """Write ``table`` to ``path`` in ``fmt`` ("csv", "json", "bin", "h"; default from the
+    suffix). Options go to the format's writer (``encoding`` for bin, ``prefix`` for h)."""
+    return format_of(path, fmt).write(path, table, **options)
+
+
+def read_weight_file(path, fmt: str | None = None):
+    """Read a weight file written by :func:`write_weight_file` (format from the suffix);
+    returns a :class:`~steradian.beamtable.BeamTable`."""
+    return format_of(path, fmt).read(path)
+
+
+def write_beam_files(table, prefix, formats=tuple(WEIGHT_FORMATS), *, bin_encoding=None,
+                     c_prefix: str = "strd") -> dict:
+    """Write ``table`` as ``<prefix>.csv``, ``.json``, ``.bin``, ``.h`` (those in ``formats``).
+
+    ``bin_encoding`` chooses codes or Q1.15 I/Q for the binary file (default the table's);
+    ``c_prefix`` names the C header's identifiers. Returns ``{format: path}``.
+    """
+    options = {"bin": {"encoding": bin_encoding}, "h": {"prefix": c_prefix}}
+    out = {}
+    for name in formats:
+        f = WEIGHT_FORMATS[choice("format", name, tuple(WEIGHT_FORMATS))]
+        out[name] = f.write(Path(f"{prefix}{f.suffix}"), table, **options.get(name, {}))
+    return out

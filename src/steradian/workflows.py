@@ -1,0 +1,310 @@
+"""Design-file recipes: what the command line does, as Python functions.
+
+Each recipe takes a :class:`~steradian.io.design.Design` (read by
+:func:`~steradian.io.design.load_design`) and strings together the computing parts
+(analysis, metrics, synthesis, beam tables) and the file parts (:mod:`steradian.io`):
+
+- :func:`analyze_design`: the analysis summary of a design (``steradian analyze``);
+- :func:`export_patterns` and :func:`uv_map`: pattern cuts and u-v maps to CSV and PNG
+  (``steradian pattern``, ``steradian demo``);
+- :func:`synthesize_design` and :func:`write_synthesis_weights`: synthesis from
+  ``[synthesis]`` and its weights CSV (``steradian synth``);
+- :func:`tradeoff_of_design`: the directivity / sidelobe trade curve (``steradian tradeoff``);
+- :func:`channel_of_design`, :func:`beam_table_from_design` and :func:`verify_weight_file`:
+  quantized beam tables from ``[channel]`` and ``[beams]``, and re-evaluating a weight file
+  against its design (``steradian beams``, ``steradian verify``).
+
+The command line only parses options, calls one of these and renders the result.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from dataclasses import asdict, replace
+from pathlib import Path
+
+import numpy as np
+
+from .analysis import AnalysisOptions, analyze
+from .beamtable import (
+    BeamBuild,
+    BeamEvaluator,
+    BeamTable,
+    Verification,
+    beams_from_table,
+    build_beam_table,
+    verify_beam_table,
+)
+from .errors import DesignError, SteradianError
+from .io.calibration_csv import read_calibration
+from .io.directions_csv import read_directions
+from .io.formats import read_weight_file
+from .io.pattern_csv import UVMap, write_cuts, write_uv
+from .io.weights_csv import write_weights
+from .quantize import ChannelModel, channel_from_table
+from .units import db10
+from .validate import count, positive
+
+__all__ = ["analyze_design", "design_block", "export_patterns", "uv_map", "synthesize_design",
+           "write_synthesis_weights", "tradeoff_of_design", "channel_of_design",
+           "design_metadata", "beam_table_from_design", "verify_weight_file"]
+
+
+# --------------------------------------------------------------------------------------------
+# Analysis
+# --------------------------------------------------------------------------------------------
+def design_block(design) -> dict:
+    """The ``design`` block of a summary: name, description and source file."""
+    return {"name": design.name, "description": design.description,
+            "source": None if design.source is None else str(design.source)}
+
+
+def analyze_design(design, frequency: float | None = None) -> dict:
+    """Run :func:`steradian.analysis.analyze` with the design's ``[analysis]`` options.
+
+    ``frequency`` (Hz) overrides ``analysis.frequency_hz``. The returned dictionary is the
+    analysis summary with a ``design`` block (name, description, source) first.
+    """
+    opt = AnalysisOptions(**asdict(design.options))
+    if frequency is not None:
+        opt = replace(opt, frequency=positive("frequency", frequency, " Hz"))
+    result = analyze(design.array, opt)
+    if not isinstance(result, dict):  # a result object
+        result = result.to_dict()
+    return {"design": design_block(design), **result}
+
+
+# --------------------------------------------------------------------------------------------
+# Pattern export
+# --------------------------------------------------------------------------------------------
+def uv_map(array, n: int = 201, *, frequency: float | None = None, power=None,
+           hemisphere: int = 1) -> UVMap:
+    """Directivity of ``array`` on an ``n`` x ``n`` u-v grid spanning [-1, 1].
+
+    Parameters
+    ----------
+    array : Array
+    n : int
+        Grid points per axis (>= 3).
+    frequency : float, optional
+        Evaluation frequency (Hz); default the design frequency.
+    power : RadiatedPower, optional
+        Radiated power for the normalisation (computed when omitted).
+    hemisphere : {1, -1}
+        Front (w >= 0) or back hemisphere.
+    """
+    from .directions import UVGrid
+    from .radiation import directivity, radiated_power
+
+    n = count("uv points", n, 3)
+    if hemisphere not in (1, -1):
+        raise SteradianError(f"hemisphere must be 1 or -1, got {hemisphere!r}")
+    grid = UVGrid.square(n, hemisphere)
+    p = power or radiated_power(array, frequency=frequency)
+    d = directivity(array, grid, frequency=frequency, power=p)
+    vis = grid.visible.reshape(grid.shape)
+    db = np.where(vis, db10(np.where(vis, d, 1.0)), np.nan)
+    return UVMap(grid.u.copy(), grid.v.copy(), db, hemisphere)
+
+
+def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_png_path=None,
+                    uv_points: int = 201, span_deg: float = 90.0,
+                    frequency: float | None = None, meta: dict | None = None,
+                    title: str | None = None, metrics: dict | None = None) -> dict:
+    """Compute the principal cuts and/or the u-v map of ``array`` and write the files asked.
+
+    Parameters
+    ----------
+    array : Array
+    cuts_path, uv_path : path-like, optional
+        CSV outputs (cuts of :func:`steradian.metrics.principal_cuts`; :func:`uv_map`).
+    png_path, uv_png_path : path-like, optional
+        PNG outputs (:func:`steradian.plots.plot_cuts` annotated with both half-power
+        beamwidths and the peak sidelobe level; :func:`steradian.plots.plot_uv`).
+    uv_points : int
+        u-v grid points per axis.
+    span_deg : float
+        Half-span of each cut about the beam axis (deg, at most 180).
+    frequency : float, optional
+        Evaluation frequency (Hz).
+    meta : dict, optional
+        ``# key = value`` lines for the CSV headers.
+    title : str, optional
+        Plot title prefix.
+    metrics : dict, optional
+        ``PatternMetrics.to_dict()`` of this array at ``frequency`` (e.g. the ``metrics``
+        block of :func:`analyze_design`) for the plot annotations; computed with
+        :func:`steradian.metrics.pattern_metrics` when omitted and ``png_path`` is given.
+
+    Returns
+    -------
+    dict
+        ``peak_directivity_dbi``, ``peak_theta_deg``, ``peak_phi_deg`` and ``files`` (paths
+        written, in order).
+    """
+    from .metrics import principal_cuts
+    from .radiation import peak_directivity, radiated_power
+
+    power = radiated_power(array, frequency=frequency)
+    pk = peak_directivity(array, frequency=frequency, power=power)
+    m = {"frequency_hz": array.frequency if frequency is None else frequency, **(meta or {})}
+    written = []
+    if cuts_path is not None or png_path is not None:
+        cuts = principal_cuts(array, frequency=frequency, peak=pk, span_deg=span_deg)
+        if cuts_path is not None:
+            write_cuts(cuts_path, cuts, m)
+            written.append(str(cuts_path))
+        if png_path is not None:
+            _plot_cuts(array, cuts, png_path, frequency, pk, title, metrics)
+            written.append(str(png_path))
+    if uv_path is not None or uv_png_path is not None:
+        uvm = uv_map(array, uv_points, frequency=frequency, power=power)
+        if uv_path is not None:
+            write_uv(uv_path, uvm, m)
+            written.append(str(uv_path))
+        if uv_png_path is not None:
+            from .plots import plot_uv
+
+            top = float(np.nanmax(uvm.directivity_dbi))
+            plot_uv(uvm, uv_png_path, title=None if title is None else
+                    f"{title}: directivity over u-v, peak {top:.2f} dBi")
+            written.append(str(uv_png_path))
+    return {"peak_directivity_dbi": pk.directivity_dbi, "peak_theta_deg": pk.theta_deg,
+            "peak_phi_deg": pk.phi_deg, "files": written}
+
+
+def _plot_cuts(array, cuts, path, frequency, pk, title, metrics) -> None:
+    """The principal-cut PNG, annotated with both half-power beamwidths and the PSL."""
+    from .plots import plot_cuts
+
+    if metrics is None:
+        from .metrics import pattern_metrics
+
+        metrics = pattern_metrics(array, frequency=frequency, peak=pk).to_dict()
+    hp = metrics.get("hpbw_deg") or {}
+    plot_cuts(cuts, path, hpbw_deg=[hp.get("phi_plane"), hp.get("cross_plane")],
+              psl_db=metrics.get("psl_db"),
+              title=None if title is None else f"{title}: principal cuts, peak "
+              f"{pk.directivity_dbi:.2f} dBi")
+
+
+# --------------------------------------------------------------------------------------------
+# Synthesis
+# --------------------------------------------------------------------------------------------
+def synthesize_design(design, **overrides):
+    """Run the synthesis the design's ``[synthesis]`` table asks for.
+
+    ``overrides`` (keyword arguments of :func:`steradian.optimize.synthesize`: ``method``,
+    ``psl_db``, ``nulls`` ...) replace the table's values; ``None`` values are left to the
+    table. Returns a :class:`~steradian.optimize.SynthesisResult`.
+    """
+    from .optimize import synthesize
+
+    return synthesize(design.array, design.sections.get("synthesis"), **overrides)
+
+
+def write_synthesis_weights(res, path, name: str, steered: bool = False) -> bool:
+    """Write a synthesis result's weights CSV; returns whether the steering phases are in it.
+
+    Without ``steered`` (and when the array is steered) the taper is written, which the
+    design's ``[steering]`` then steers; with it, the steered excitations.
+    """
+    arr = res.array
+    include = bool(steered) or arr.steering is None
+    w = res.weights if include else arr.taper
+    meta = {"design": name, "method": res.method,
+            "directivity_dbi": f"{res.directivity_dbi:.6f}",
+            "psl_db": "" if res.psl_db is None else f"{res.psl_db:.6f}",
+            "steering_included": "yes" if include else "no"}
+    if arr.steering is not None:
+        meta["steering"] = f"theta {arr.steering.theta_deg:g} deg, phi {arr.steering.phi_deg:g} deg"
+    write_weights(path, w, positions=arr.positions, meta=meta)
+    return include
+
+
+def tradeoff_of_design(design, **overrides):
+    """Trade curve of the design from ``[synthesis]`` and ``[synthesis.tradeoff]``
+    (:func:`steradian.optimize.tradeoff_from_spec`; ``overrides`` replace table values)."""
+    from .optimize import tradeoff_from_spec
+
+    return tradeoff_from_spec(design.array, design.sections.get("synthesis"), **overrides)
+
+
+# --------------------------------------------------------------------------------------------
+# Beam tables
+# --------------------------------------------------------------------------------------------
+def channel_of_design(design) -> ChannelModel | None:
+    """The design's ``[channel]`` as a :class:`ChannelModel` (None when it has none)."""
+    raw = design.sections.get("channel")
+    if raw is None:
+        return None
+    return channel_from_table(raw, design.array.n, source=design.source,
+                              base_dir=design.base_dir, read_file=read_calibration)
+
+
+def design_metadata(design) -> dict:
+    """What a beam table records of its design: the design block and the raw ``[taper]``,
+    ``[synthesis]`` and ``[beams]`` tables of the design file (when it can be read)."""
+    meta = {"design": design_block(design)}
+    if design.source is not None:
+        try:
+            doc = tomllib.loads(Path(design.source).read_text(encoding="utf-8"))
+        except (OSError, ValueError):
+            doc = {}
+        for key in ("taper", "synthesis", "beams"):
+            if key in doc:
+                meta[f"{key}_spec"] = doc[key]
+    return meta
+
+
+def beam_table_from_design(design, *, weights=None,
+                           evaluator: BeamEvaluator | None = None) -> BeamBuild:
+    """Build the beam table a design asks for (its ``[channel]`` and ``[beams]`` tables).
+
+    The ideal weights are the design's taper (``[taper]``, which may come from synthesis)
+    steered to each beam, unless ``weights`` is given (see
+    :func:`steradian.beamtable.steered_weights`). The gain uses
+    ``analysis.radiation_efficiency``.
+
+    Raises
+    ------
+    DesignError
+        When ``[channel]`` or ``[beams]`` is missing or malformed (naming the key).
+    """
+    ch = channel_of_design(design)
+    src = None if design.source is None else str(design.source)
+    if ch is None:
+        raise DesignError("channel", "the design has no [channel] table; a beam table needs "
+                          "the beamformer channel (phase_bits or phase_step_deg, ...)", src)
+    if "beams" not in design.sections:
+        raise DesignError("beams", "the design has no [beams] table; give the steering grid "
+                          "(grid = 'theta_phi', 'az_el' or 'list')", src)
+    d = beams_from_table(design.sections["beams"], source=src, base_dir=design.base_dir,
+                         read_file=read_directions)
+    eff = design.options.radiation_efficiency
+    return build_beam_table(design.array, ch, d, weights=weights, efficiency=eff,
+                            evaluator=evaluator, metadata=design_metadata(design))
+
+
+def verify_weight_file(design, path, fmt: str | None = None, *, weights=None,
+                       evaluator: BeamEvaluator | None = None) -> tuple[BeamTable, Verification]:
+    """Read any weight file and re-evaluate its beams against ``design``.
+
+    Without a ``[channel]`` table in the design the file's own states are used with no
+    calibration (a note says so).
+
+    Returns
+    -------
+    (BeamTable, Verification)
+    """
+    table = read_weight_file(path, fmt)
+    ch = channel_of_design(design)
+    notes = []
+    if ch is None:
+        ch = ChannelModel(table.states)
+        notes.append("the design has no [channel] table: the file's states are used, "
+                     "without calibration")
+    eff = design.options.radiation_efficiency
+    v = verify_beam_table(design.array, ch, table, weights=weights, efficiency=eff,
+                          evaluator=evaluator)
+    return table, replace(v, notes=notes + list(v.notes))
