@@ -23,12 +23,6 @@ IQ_SCALE = 32768
 DB_FLOOR = -300.0
 """Lowest level reported (dB) instead of -inf."""
 
-RESPONSE_BUDGET = 512 * 2**20
-"""Bytes of element responses on the search set a BeamEvaluator keeps (beyond: recomputed)."""
-
-BEAM_CHUNK_BYTES = 256 * 2**20
-"""Bytes of (directions x beams) work arrays one evaluation pass may use."""
-
 FORMATS = {".csv": "csv", ".json": "json", ".bin": "bin", ".h": "h"}
 """File suffix -> weight-file format name."""
 
