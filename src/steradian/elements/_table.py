@@ -52,10 +52,11 @@ import math
 import numpy as np
 
 from ..errors import SteradianError
+from ..sphere import peak_value
 from ..validate import doubtful
 from ._base import Element, angles_of, spherical_basis, unit_vectors
 
-__all__ = ["TabulatedElement", "COLUMNS", "table_grid"]
+__all__ = ["TabulatedElement", "COLUMNS", "table_grid", "peak_intensity"]
 
 COLUMNS: dict[tuple[str, str], tuple[str, ...]] = {
     ("field", "theta_phi"): ("theta_deg", "phi_deg", "re_e_theta", "im_e_theta", "re_e_phi",
@@ -73,51 +74,17 @@ _GRID_TOL = 1e-6   # degrees: tolerance for "equally spaced" and "ends at 0/90/1
 _SAME_TOL = 1e-3   # relative: two samples of one direction (poles, closing column) must agree
 
 
-# ---- peak search shared with the analytic models --------------------------------------------
+# ---- peak of a model (shared with the analytic models) ----------------------------------------
 
-def _fibonacci(n: int, front_only: bool) -> np.ndarray:
-    i = np.arange(n) + 0.5
-    z = 1 - i / n if front_only else 1 - 2 * i / n
-    ph = np.pi * (3 - math.sqrt(5)) * i
-    r = np.sqrt(np.clip(1 - z**2, 0, None))
-    return np.column_stack([r * np.cos(ph), r * np.sin(ph), z])
-
-
-def _peak_intensity(pattern, front_only: bool, starts=(), n: int = 3000) -> float:
-    """Largest ``|E_theta|^2 + |E_phi|^2`` of ``pattern(theta, phi)`` over the sphere.
-
-    Samples a near-uniform set of ``n`` directions, then polishes the best few samples and
-    the given ``starts`` ((theta, phi) in radians) by Nelder-Mead in the tangent plane.
-    """
-    from scipy.optimize import minimize
-
+def peak_intensity(pattern, front_only: bool, starts=()) -> float:
+    """Largest ``|E_theta|^2 + |E_phi|^2`` of ``pattern(theta, phi)`` over the sphere (front
+    hemisphere), by the package's lobe search (:func:`steradian.sphere.peak_value`) from
+    3000 Fibonacci samples plus ``starts`` (unit vectors)."""
     def inten(v):
-        th, ph = angles_of(v)
-        a, b = pattern(th, ph)
+        a, b = pattern(*angles_of(v))
         return np.abs(a) ** 2 + np.abs(b) ** 2
 
-    dirs = _fibonacci(n, front_only)
-    vals = inten(dirs)
-    best = float(vals.max())
-    cands = [dirs[i] for i in np.argsort(vals)[::-1][:2]]
-    cands += [unit_vectors(np.float64(t), np.float64(p)) for t, p in starts]
-    step = math.sqrt(4 * math.pi / n)
-    for r0 in cands:
-        r0 = r0 / np.linalg.norm(r0)
-        a = np.array([0.0, 0.0, 1.0]) if abs(r0[2]) < 0.9 else np.array([1.0, 0.0, 0.0])
-        e1 = np.cross(a, r0)
-        e1 /= np.linalg.norm(e1)
-        e2 = np.cross(r0, e1)
-
-        def neg(x, r0=r0, e1=e1, e2=e2):
-            v = r0 + x[0] * e1 + x[1] * e2
-            return -float(inten((v / np.linalg.norm(v))[None, :])[0])
-
-        res = minimize(neg, np.zeros(2), method="Nelder-Mead",
-                       options={"xatol": 1e-9, "fatol": 0.0, "maxiter": 300,
-                                "initial_simplex": np.array([[0, 0], [step, 0], [0, step]])})
-        best = max(best, -float(res.fun))
-    return best
+    return peak_value(inten, front_only=front_only, starts=starts)
 
 
 # ---- the model ------------------------------------------------------------------------------
@@ -164,6 +131,10 @@ class TabulatedElement(Element):
         The element radiates only into its local front half-space.
     source : str, optional
         Where the table came from (recorded in :meth:`describe`).
+    quantity : str, optional
+        What a file held (``"field"`` or ``"gain_dbi"``), recorded in :meth:`describe`.
+    frequency_hz : float, optional
+        Frequency stated in a file header (informational), recorded in :meth:`describe`.
 
     Notes
     -----
@@ -184,7 +155,8 @@ class TabulatedElement(Element):
     """Frequency stated in the file header, if any (informational)."""
 
     def __init__(self, theta_deg, phi_deg, e_theta, e_phi, front_only: bool = False,
-                 source=None):
+                 source=None, *, quantity: str | None = None,
+                 frequency_hz: float | None = None):
         from scipy.interpolate import RectBivariateSpline
 
         th = np.asarray(theta_deg, float).ravel()
@@ -194,6 +166,8 @@ class TabulatedElement(Element):
         self.front_only = bool(front_only)
         self.vector = e_phi is not None
         self.source = None if source is None else str(source)
+        self.quantity = None if quantity is None else str(quantity)
+        self.frequency_hz = None if frequency_hz is None else float(frequency_hz)
         comps = [np.asarray(e_theta, complex)] + ([np.asarray(e_phi, complex)]
                                                   if self.vector else [])
         for name, c in zip(("e_theta", "e_phi"), comps, strict=False):
@@ -284,9 +258,8 @@ class TabulatedElement(Element):
 
         self._norm = 1.0
         i_best = np.argsort((np.abs(cart) ** 2).sum(axis=-1).ravel())[::-1][:3]
-        starts = [(np.deg2rad(th[i // npf]), np.deg2rad(ph[i % npf])) for i in i_best]
-        peak = _peak_intensity(self.pattern, self.front_only, starts)
-        self._norm = 1.0 / math.sqrt(peak)
+        starts = unit_vectors(np.deg2rad(th[i_best // npf]), np.deg2rad(ph[i_best % npf]))
+        self._norm = 1.0 / math.sqrt(peak_intensity(self.pattern, self.front_only, starts))
 
     @staticmethod
     def _check_same(ref, diffs, what):
