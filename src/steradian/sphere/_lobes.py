@@ -196,8 +196,8 @@ def _newton_1d(fs, h):
     return d, ok
 
 
-def refine_maxima(fun, starts, step: float, *, normal=None, rtol: float = 1e-6,
-                  max_iter: int = 60):
+def refine_maxima(fun, starts, step: float, *, normal=None, project=None,
+                  rtol: float = 1e-6, max_iter: int = 60):
     r"""Refine many local maxima at once by a safeguarded Newton ascent.
 
     Each start moves in its own tangent plane, :math:`\hat r(x) \propto \hat r_s +
@@ -208,7 +208,10 @@ def refine_maxima(fun, starts, step: float, *, normal=None, rtol: float = 1e-6,
     by the Newton step of the finite-difference quadratic model (limited to 2h), or to the
     best stencil point when the model is not concave, and h follows the move. The best value
     never decreases, so a penalised ``fun`` (zero outside an allowed region) keeps every
-    point inside its region.
+    point inside its region. A maximum *on* the edge of a region where the pattern rises
+    toward the edge is reached exactly with ``project``: stencil points are mapped into the
+    region, and where that moved any of them the step is the move to the best stencil point
+    (a pattern search along the edge) instead of the Newton step.
 
     Parameters
     ----------
@@ -223,6 +226,9 @@ def refine_maxima(fun, starts, step: float, *, normal=None, rtol: float = 1e-6,
         Initial step scale (rad), about the spacing of the samples that found the starts.
     normal : array_like (3,), optional
         Keep every point on the great circle with this normal.
+    project : callable, optional
+        ``project(points (P, 3)) -> (P, 3)``: the nearest point of an allowed region
+        (identity inside it).
     rtol : float
         Stop when every step is below ``rtol * step``.
     max_iter : int
@@ -261,10 +267,15 @@ def refine_maxima(fun, starts, step: float, *, normal=None, rtol: float = 1e-6,
         xs = x[act, None, :] + h[:, None, None] * stencil[None, :, :]  # (a, S, 2)
         pts = normalise(r[act, None, :] + xs[..., :1] * e1[act, None, :]
                         + xs[..., 1:] * e2[act, None, :])
+        moved = np.zeros(len(act), bool)
+        if project is not None:
+            xs, pts, moved = _projected(project, pts, xs, r[act], e1[act], e2[act])
+            x[act] = xs[:, centre]
         fs = np.asarray(fun(pts, act), float).reshape(len(act), S)
         fc = fs[:, centre]
         worse = fc < bf[act]
         d, ok = model(fs, h)
+        ok &= ~moved
         dn = np.linalg.norm(d, axis=1)
         d *= np.minimum(1.0, 2 * h / np.where(dn > 0, dn, 1.0))[:, None]
         ib = np.argmax(fs, axis=1)
@@ -276,6 +287,19 @@ def refine_maxima(fun, starts, step: float, *, normal=None, rtol: float = 1e-6,
         x[act] = np.where(worse[:, None], bx[act], x[act] + move)
         h_all[act] = np.where(worse | stay, 0.25 * h, np.clip(dist, 0.25 * h, 2 * h))
     return normalise(r + bx[:, :1] * e1 + bx[:, 1:] * e2), bf
+
+
+def _projected(project, pts, xs, r, e1, e2):
+    """Stencil points mapped by ``project``, their tangent coordinates, and which stencils
+    it changed."""
+    q = normalise(np.asarray(project(pts.reshape(-1, 3)), float).reshape(pts.shape))
+    changed = np.any(np.abs(q - pts) > 1e-14, axis=-1)
+    if not changed.any():
+        return xs, pts, np.zeros(len(pts), bool)
+    c = np.sum(q * r[:, None, :], axis=-1, keepdims=True)
+    v = q / np.where(c > 1e-12, c, 1e-12) - r[:, None, :]
+    xq = np.stack([np.sum(v * e1[:, None, :], -1), np.sum(v * e2[:, None, :], -1)], -1)
+    return np.where(changed[..., None], xq, xs), q, changed.any(axis=1)
 
 
 def find_maxima(f, search: SearchSet, count: int, *, values=None, allowed=None,
