@@ -21,7 +21,7 @@ from ..errors import SteradianError
 from ..geometry import principal_axes
 from ..quantize import wrap_deg
 from ..radiation import power_matrix
-from ..sphere import SearchSet, refine_maxima
+from ..sphere import SearchSet, refine_best, refine_maxima
 from ..units import db10
 from ..validate import positive
 
@@ -32,8 +32,12 @@ they are recomputed chunk by chunk)."""
 BEAM_CHUNK_BYTES = 256 * 2**20
 """Default bytes of (directions x beams) work arrays one evaluation pass may use."""
 
-N_CANDIDATES = 4
-"""Local maxima of each beam's samples refined per search (sidelobe, quantization lobe)."""
+N_CANDIDATES = 24
+"""Most local maxima of each beam's samples refined per search (sidelobe, quantization lobe)."""
+
+WINDOW_DB = 3.0
+"""Local maxima this far below a beam's highest sample are still refined: at the default six
+samples per null width a sidelobe's peak can lie about 2 dB above its best sample."""
 
 
 def _jsonable(x: float):
@@ -230,18 +234,28 @@ class BeamEvaluator:
 
     def _best_lobes(self, I, W, allowed=None):
         """Highest refined local maximum of each beam's samples I (M, B) inside ``allowed``
-        (M, B), with its direction (B, 3); value 0 (direction NaN) where there is none."""
+        (M, B), with its direction (B, 3); value 0 (direction NaN) where there is none.
+
+        Candidates are the local maxima within :data:`WINDOW_DB` of the beam's highest one
+        (at most :data:`N_CANDIDATES`): a lobe's peak can lie that far above its best
+        sample, so the highest sample need not be on the highest lobe.
+        """
         B = len(W)
         cand = self.search.local_maxima(I, N_CANDIDATES, allowed)
-        bi, ki = np.nonzero(cand >= 0)
+        top = np.where(cand[:, 0] >= 0, I[np.maximum(cand[:, 0], 0), np.arange(B)], 0.0)
+        level = np.where(cand >= 0, I[np.maximum(cand, 0), np.arange(B)[:, None]], -1.0)
+        bi, ki = np.nonzero((cand >= 0) & (level >= top[:, None] * 10 ** (-WINDOW_DB / 10)))
         best = np.zeros(B)
         where = np.full((B, 3), np.nan)
-        if len(bi):
-            r, v = self._refine(self.dirs[cand[bi, ki]], W[bi])
-            order = np.lexsort((-v, bi))  # per beam, highest first
-            first = order[np.r_[True, bi[order][1:] != bi[order][:-1]]]
-            best[bi[first]] = v[first]
-            where[bi[first]] = r[first]
+
+        def fun(points, rows):
+            A, S = points.shape[:2]
+            return self._at(points.reshape(-1, 3),
+                            np.repeat(W[bi[rows]], S, axis=0)).reshape(A, S)
+
+        for b, (r, v) in refine_best(fun, self.dirs[cand[bi, ki]], bi, self.spacing,
+                                     normal=self.search.normal).items():
+            best[b], where[b] = v, r
         return best, where
 
     def _beam_peaks(self, W, steer):

@@ -11,6 +11,7 @@ array or an element):
   :class:`SearchSet` (a Fibonacci set, a half great circle or any set, with neighbours),
   :meth:`SearchSet.local_maxima` (candidates, optionally inside an allowed region, for one
   or many patterns), :func:`refine_maxima` (batched safeguarded Newton ascent),
+  :func:`refine_best` (coarse to fine, the best of each group of starts),
   :func:`find_maxima` and :func:`peak_value` (the two steps together).
 """
 
@@ -19,11 +20,13 @@ from ._lobes import (
     find_maxima,
     peak_value,
     pointwise,
+    refine_best,
     refine_maxima,
     search_spacing,
 )
 from ._rules import DEFAULT_MARGIN, SphereRule, gauss_legendre, rule_for, sphere_rule
 
 __all__ = ["SphereRule", "sphere_rule", "rule_for", "gauss_legendre", "DEFAULT_MARGIN",
-           "SearchSet", "search_spacing", "refine_maxima", "find_maxima", "peak_value",
+           "SearchSet", "search_spacing", "refine_maxima", "refine_best", "find_maxima",
+           "peak_value",
            "pointwise"]

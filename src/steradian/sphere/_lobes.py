@@ -36,8 +36,8 @@ import numpy as np
 
 from ..directions import fibonacci_directions, normalise, tangent_frames
 
-__all__ = ["SearchSet", "search_spacing", "refine_maxima", "find_maxima", "pointwise",
-           "peak_value"]
+__all__ = ["SearchSet", "search_spacing", "refine_maxima", "refine_best", "find_maxima",
+           "pointwise", "peak_value"]
 
 
 def search_spacing(electrical_radius: float, per_null: float = 2.0,
@@ -287,6 +287,38 @@ def refine_maxima(fun, starts, step: float, *, normal=None, project=None,
         x[act] = np.where(worse[:, None], bx[act], x[act] + move)
         h_all[act] = np.where(worse | stay, 0.25 * h, np.clip(dist, 0.25 * h, 2 * h))
     return normalise(r + bx[:, :1] * e1 + bx[:, 1:] * e2), bf
+
+
+def refine_best(fun, starts, groups, step: float, *, keep: int = 2, coarse_rtol: float = 0.02,
+                normal=None, rtol: float = 1e-6):
+    """Best refined maximum of each group of starts, coarse to fine.
+
+    Every start is refined by :func:`refine_maxima` to ``coarse_rtol`` (a few iterations:
+    enough to rank lobes whose samples misorder them), then the ``keep`` best of each group
+    are refined on to ``rtol``. ``groups`` (K,) labels the starts (e.g. the beam they belong
+    to; ``fun`` gets start indices as ``rows``); returns ``{group: (direction, value)}``.
+    """
+    starts = np.asarray(starts, float).reshape(-1, 3)
+    groups = np.asarray(groups).reshape(-1)
+    if len(starts) == 0:
+        return {}
+    x1, f1 = refine_maxima(fun, starts, step, normal=normal, rtol=coarse_rtol)
+    order = np.lexsort((-f1, groups))
+    g = groups[order]
+    first = np.r_[True, g[1:] != g[:-1]]
+    rank = np.arange(len(g)) - np.maximum.accumulate(np.where(first, np.arange(len(g)), 0))
+    sel = order[rank < keep]
+
+    def fun2(points, rows):
+        return fun(points, sel[rows])
+
+    x2, f2 = refine_maxima(fun2, x1[sel], coarse_rtol * step, normal=normal,
+                           rtol=rtol / coarse_rtol)
+    best = {}
+    for i, x, f in zip(sel, x2, f2, strict=True):
+        if groups[i] not in best or f > best[groups[i]][1]:
+            best[groups[i]] = (x, float(f))
+    return best
 
 
 def _projected(project, pts, xs, r, e1, e2):
