@@ -171,7 +171,8 @@ class BeamEvaluator:
         else:
             front = array.element.front_only and array.geometry.orientations is None
             self.mirror = bool(array.geometry.is_planar and iso)
-            self.search = SearchSet.fibonacci(self.spacing, front_only=front or self.mirror)
+            # Every lobe spans about three spacings or more: eight neighbours.
+            self.search = SearchSet.fibonacci(self.spacing, front_only=front or self.mirror, k=8)
         self.dirs = self.search.directions
         self._cache = {}
         self._A0 = self._A1 = None
@@ -220,6 +221,22 @@ class BeamEvaluator:
             out[i:i + step] = u
         return out
 
+    def _at_groups(self, points, W):
+        """Intensity at points (A, S, 3), group a on the pattern of weights W (A, N)."""
+        A, S, _ = points.shape
+        N = W.shape[1]
+        out = np.empty((A, S))
+        step = max(1, MEMORY_BUDGET // (32 * N * S))
+        for i in range(0, A, step):
+            p = points[i:i + step].reshape(-1, 3)
+            R = response_matrix(self.array, Directions.from_vectors(p))
+            w = W[i:i + step]
+            u = np.abs(np.einsum("asn,an->as", R[0].reshape(len(w), S, N), w)) ** 2
+            if self._vector:
+                u += np.abs(np.einsum("asn,an->as", R[1].reshape(len(w), S, N), w)) ** 2
+            out[i:i + step] = u
+        return out
+
     def power(self, W) -> np.ndarray:
         """Radiated power w^H Q w of each row of W (B, N)."""
         return np.einsum("bn,bn->b", W.conj(), W @ self.Q.T).real
@@ -227,8 +244,7 @@ class BeamEvaluator:
     def _refine(self, starts, W):
         """Refined maxima near ``starts`` (K, 3), start k on the pattern of weights W[k]."""
         def fun(points, rows):
-            A, S = points.shape[:2]
-            return self._at(points.reshape(-1, 3), np.repeat(W[rows], S, axis=0)).reshape(A, S)
+            return self._at_groups(points, W[rows])
 
         return refine_maxima(fun, starts, self.spacing, normal=self.search.normal)
 
@@ -249,9 +265,7 @@ class BeamEvaluator:
         where = np.full((B, 3), np.nan)
 
         def fun(points, rows):
-            A, S = points.shape[:2]
-            return self._at(points.reshape(-1, 3),
-                            np.repeat(W[bi[rows]], S, axis=0)).reshape(A, S)
+            return self._at_groups(points, W[bi[rows]])
 
         for b, (r, v) in refine_best(fun, self.dirs[cand[bi, ki]], bi, self.spacing,
                                      normal=self.search.normal).items():

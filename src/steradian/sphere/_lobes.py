@@ -36,8 +36,8 @@ import numpy as np
 
 from ..directions import fibonacci_directions, normalise, tangent_frames
 
-__all__ = ["SearchSet", "search_spacing", "refine_maxima", "refine_best", "find_maxima",
-           "pointwise", "peak_value"]
+__all__ = ["SearchSet", "search_spacing", "refine_maxima", "estimate_maxima", "refine_best",
+           "find_maxima", "pointwise", "peak_value"]
 
 
 def search_spacing(electrical_radius: float, per_null: float = 2.0,
@@ -105,14 +105,16 @@ class SearchSet:
 
     @classmethod
     def fibonacci(cls, spacing: float, *, front_only: bool = False, rotation=None,
-                  min_points: int = 0) -> SearchSet:
+                  min_points: int = 0, k: int | None = None) -> SearchSet:
         """Near-uniform set on the sphere (or front hemisphere, turned by ``rotation``) with
-        about one direction per ``spacing``\\ :sup:`2` steradians."""
+        about one direction per ``spacing``\\ :sup:`2` steradians; ``k`` neighbours (default
+        6: use 8 when every lobe spans three spacings or more, fewer samples of one lobe are
+        then taken for separate maxima)."""
         n = max(int(4 * np.pi / spacing**2 / (2 if front_only else 1)), int(min_points))
         d = fibonacci_directions(n, front_only)
         if rotation is not None:
             d = d @ np.asarray(rotation, float).T
-        return cls.from_points(d, spacing)
+        return cls.from_points(d, spacing, k=k)
 
     @classmethod
     def great_circle(cls, axis, toward, spacing: float) -> SearchSet:
@@ -206,7 +208,8 @@ def refine_maxima(fun, starts, step: float, *, normal=None, project=None,
     (3 points on a circle) of step h about each current point. When the centre is worse than
     the best point so far the move is undone and h shrinks by 4; otherwise the point moves
     by the Newton step of the finite-difference quadratic model (limited to 2h), or to the
-    best stencil point when the model is not concave, and h follows the move. The best value
+    best stencil point when the model is not concave, and h follows the move (between h/16
+    and 2h). The best value
     never decreases, so a penalised ``fun`` (zero outside an allowed region) keeps every
     point inside its region. A maximum *on* the edge of a region where the pattern rises
     toward the edge is reached exactly with ``project``: stencil points are mapped into the
@@ -285,35 +288,78 @@ def refine_maxima(fun, starts, step: float, *, normal=None, project=None,
         bx[act] = np.where(worse[:, None], bx[act], x[act])
         dist = np.linalg.norm(move, axis=1)
         x[act] = np.where(worse[:, None], bx[act], x[act] + move)
-        h_all[act] = np.where(worse | stay, 0.25 * h, np.clip(dist, 0.25 * h, 2 * h))
+        h_all[act] = np.where(worse | stay, 0.25 * h, np.clip(dist, h / 16, 2 * h))
     return normalise(r + bx[:, :1] * e1 + bx[:, 1:] * e2), bf
 
 
-def refine_best(fun, starts, groups, step: float, *, keep: int = 2, coarse_rtol: float = 0.02,
-                normal=None, rtol: float = 1e-6):
-    """Best refined maximum of each group of starts, coarse to fine.
+def estimate_maxima(fun, starts, step: float, *, normal=None):
+    """Peak value of the lobe at each start, from one stencil about it (9 evaluations, 3 on
+    a great circle), without refining.
 
-    Every start is refined by :func:`refine_maxima` to ``coarse_rtol`` (a few iterations:
-    enough to rank lobes whose samples misorder them), then the ``keep`` best of each group
-    are refined on to ``rtol``. ``groups`` (K,) labels the starts (e.g. the beam they belong
-    to; ``fun`` gets start indices as ``rows``); returns ``{group: (direction, value)}``.
+    The quadratic model of ln(value) on a stencil of step ``step / 4`` gives the lobe's
+    vertex; where the model is concave and the vertex within one ``step``, the vertex value
+    is the estimate (exact for a Gaussian lobe), else the best stencil value. Returns
+    (estimates (K,), vertex directions (K, 3)). ``fun`` as for :func:`refine_maxima`.
+    """
+    r = normalise(np.asarray(starts, float).reshape(-1, 3))
+    if normal is None:
+        e1, e2 = tangent_frames(r)
+        stencil, model = _STENCIL_2D, _newton_2d
+    else:
+        e1 = normalise(np.cross(np.asarray(normal, float)[None, :], r))
+        e2 = np.zeros_like(e1)
+        stencil, model = _STENCIL_1D, _newton_1d
+    h = np.full(len(r), 0.25 * float(step))
+    xs = h[:, None, None] * stencil[None, :, :]
+    pts = normalise(r[:, None, :] + xs[..., :1] * e1[:, None, :] + xs[..., 1:] * e2[:, None, :])
+    fs = np.asarray(fun(pts, np.arange(len(r))), float).reshape(len(r), len(stencil))
+    lf = np.log(np.maximum(fs, 1e-300))
+    d, ok = model(lf, h)
+    ok &= np.all(fs > 0, axis=1) & (np.linalg.norm(d, axis=1) <= float(step))
+    c = len(stencil) // 2
+    top = np.exp(lf[:, c] + 0.5 * np.sum(_gradient(lf, h, len(stencil)) * d, axis=1))
+    est = np.where(ok, np.maximum(top, fs.max(axis=1)), fs.max(axis=1))
+    ib = np.argmax(fs, axis=1)
+    x = np.where(ok[:, None], d, xs[np.arange(len(r)), ib])
+    return est, normalise(r + x[:, :1] * e1 + x[:, 1:] * e2)
+
+
+def _gradient(fs, h, S):
+    """Central-difference gradient (a, 2) on a stencil of S points."""
+    if S == 3:
+        return np.column_stack([(fs[:, 2] - fs[:, 0]) / (2 * h), np.zeros(len(h))])
+    return np.column_stack([(fs[:, 7] - fs[:, 1]) / (2 * h), (fs[:, 5] - fs[:, 3]) / (2 * h)])
+
+
+def refine_best(fun, starts, groups, step: float, *, keep: int = 3, window_db: float = 0.5,
+                normal=None, rtol: float = 1e-6):
+    """Best refined maximum of each group of starts, estimate first, refine the few best.
+
+    Every start's lobe peak is estimated by :func:`estimate_maxima` (one stencil: ranks
+    lobes whose samples misorder them), then the starts of each group whose estimate is
+    within ``window_db`` of the group's best (at most ``keep``) are refined by
+    :func:`refine_maxima` to ``rtol``. ``groups`` (K,) labels the starts (e.g. the beam they
+    belong to; ``fun`` gets start indices as ``rows``); returns ``{group: (direction,
+    value)}``.
     """
     starts = np.asarray(starts, float).reshape(-1, 3)
     groups = np.asarray(groups).reshape(-1)
     if len(starts) == 0:
         return {}
-    x1, f1 = refine_maxima(fun, starts, step, normal=normal, rtol=coarse_rtol)
-    order = np.lexsort((-f1, groups))
+    est, vert = estimate_maxima(fun, starts, step, normal=normal)
+    order = np.lexsort((-est, groups))
     g = groups[order]
     first = np.r_[True, g[1:] != g[:-1]]
-    rank = np.arange(len(g)) - np.maximum.accumulate(np.where(first, np.arange(len(g)), 0))
-    sel = order[rank < keep]
+    head = np.maximum.accumulate(np.where(first, np.arange(len(g)), 0))
+    rank = np.arange(len(g)) - head
+    near = est[order] >= est[order[head]] * 10 ** (-window_db / 10)
+    sel = order[(rank < keep) & near]
 
     def fun2(points, rows):
         return fun(points, sel[rows])
 
-    x2, f2 = refine_maxima(fun2, x1[sel], coarse_rtol * step, normal=normal,
-                           rtol=rtol / coarse_rtol)
+    # The vertex estimate is close: start with a quarter of the step, same final tolerance.
+    x2, f2 = refine_maxima(fun2, vert[sel], 0.25 * step, normal=normal, rtol=4 * rtol)
     best = {}
     for i, x, f in zip(sel, x2, f2, strict=True):
         if groups[i] not in best or f > best[groups[i]][1]:
