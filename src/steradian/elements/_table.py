@@ -157,8 +157,6 @@ class TabulatedElement(Element):
     def __init__(self, theta_deg, phi_deg, e_theta, e_phi, front_only: bool = False,
                  source=None, *, quantity: str | None = None,
                  frequency_hz: float | None = None):
-        from scipy.interpolate import RectBivariateSpline
-
         th = np.asarray(theta_deg, float).ravel()
         ph = np.asarray(phi_deg, float).ravel()
         if not (np.all(np.isfinite(th)) and np.all(np.isfinite(ph))):
@@ -178,6 +176,37 @@ class TabulatedElement(Element):
                 idx = tuple(np.argwhere(~np.isfinite(c))[0].tolist())
                 raise SteradianError(f"{name} contains NaN or infinity at index {idx}")
 
+        th, ph, comps, dth, dph = self._regular_axes(th, ph, comps)
+        self._theta_deg = th
+        self._phi_deg = ph
+        self._dth, self._dph = dth, dph
+        nt, npf = len(th), len(ph)
+        t, p = np.meshgrid(np.deg2rad(th), np.deg2rad(ph), indexing="ij")
+        if self.vector:
+            bt, bp = spherical_basis(t, p)
+            cart = comps[0][..., None] * bt + comps[1][..., None] * bp      # (nt, np, 3)
+        else:
+            cart = comps[0][..., None]                                      # (nt, np, 1)
+        # One direction, many phi: the pole rows must agree; use their mean.
+        for row in ([0] if self.front_only else [0, nt - 1]):
+            dev = cart[row] - cart[row].mean(axis=0)
+            self._check_same([cart], [dev], f"the samples at theta={th[row]:g}")
+            cart[row] = cart[row].mean(axis=0)
+        peak0 = float(np.sqrt((np.abs(cart) ** 2).sum(axis=-1)).max())
+        if peak0 == 0:
+            raise SteradianError("the tabulated field is zero everywhere")
+        cart = cart / peak0
+
+        self._fit_splines(cart, th, ph)
+
+        self._norm = 1.0
+        i_best = np.argsort((np.abs(cart) ** 2).sum(axis=-1).ravel())[::-1][:3]
+        starts = unit_vectors(np.deg2rad(th[i_best // npf]), np.deg2rad(ph[i_best % npf]))
+        self._norm = 1.0 / math.sqrt(peak_intensity(self.pattern, self.front_only, starts))
+
+    def _regular_axes(self, th, ph, comps):
+        """Check the theta and phi samples; drop a closing phi column (averaged into the
+        first). Returns (theta, phi, comps, theta step, phi step), angles in degrees."""
         # theta: 0 .. 180 (or 90), equally spaced
         top = 90.0 if self.front_only else 180.0
         if abs(th[0]) > _GRID_TOL:
@@ -211,26 +240,14 @@ class TabulatedElement(Element):
                 f"{360.0 - dph * (len(ph) - 1):g} deg before {ph[0] + 360:g}")
         ph = ph[0] + 360.0 * np.arange(len(ph)) / len(ph)
 
-        self._theta_deg = th
-        self._phi_deg = ph
-        self._dth, self._dph = dth, dph
-        nt, npf = len(th), len(ph)
-        t, p = np.meshgrid(np.deg2rad(th), np.deg2rad(ph), indexing="ij")
-        if self.vector:
-            bt, bp = spherical_basis(t, p)
-            cart = comps[0][..., None] * bt + comps[1][..., None] * bp      # (nt, np, 3)
-        else:
-            cart = comps[0][..., None]                                      # (nt, np, 1)
-        # One direction, many phi: the pole rows must agree; use their mean.
-        for row in ([0] if self.front_only else [0, nt - 1]):
-            dev = cart[row] - cart[row].mean(axis=0)
-            self._check_same([cart], [dev], f"the samples at theta={th[row]:g}")
-            cart[row] = cart[row].mean(axis=0)
-        peak0 = float(np.sqrt((np.abs(cart) ** 2).sum(axis=-1)).max())
-        if peak0 == 0:
-            raise SteradianError("the tabulated field is zero everywhere")
-        cart = cart / peak0
+        return th, ph, comps, dth, dph
 
+    def _fit_splines(self, cart, th, ph):
+        """Bicubic splines of the Cartesian field components, padded periodically in phi
+        and across the poles with the great circle continuing through them."""
+        from scipy.interpolate import RectBivariateSpline
+
+        nt, npf = len(th), len(ph)
         # Values at phi + 180 deg (for continuation through the poles).
         if npf % 2 == 0:
             shifted = np.roll(cart, -npf // 2, axis=1)
@@ -256,10 +273,6 @@ class TabulatedElement(Element):
             for part in (v_ext[..., c].real, v_ext[..., c].imag):
                 self._splines.append(RectBivariateSpline(t_ext, p_ext, part, kx=3, ky=3, s=0))
 
-        self._norm = 1.0
-        i_best = np.argsort((np.abs(cart) ** 2).sum(axis=-1).ravel())[::-1][:3]
-        starts = unit_vectors(np.deg2rad(th[i_best // npf]), np.deg2rad(ph[i_best % npf]))
-        self._norm = 1.0 / math.sqrt(peak_intensity(self.pattern, self.front_only, starts))
 
     @staticmethod
     def _check_same(ref, diffs, what):

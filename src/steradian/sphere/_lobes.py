@@ -173,6 +173,16 @@ _STENCIL_2D = np.array([(i, j) for i in (-1, 0, 1) for j in (-1, 0, 1)], float)
 _STENCIL_1D = np.array([(-1, 0), (0, 0), (1, 0)], float)
 
 
+def _local_frame(r, normal):
+    """Tangents (e1, e2) at unit vectors r, the stencil and its Newton model: the tangent
+    plane, or the great circle with ``normal`` (e2 = 0)."""
+    if normal is None:
+        e1, e2 = tangent_frames(r)
+        return e1, e2, _STENCIL_2D, _newton_2d
+    e1 = normalise(np.cross(np.asarray(normal, float)[None, :], r))
+    return e1, np.zeros_like(e1), _STENCIL_1D, _newton_1d
+
+
 def _newton_2d(fs, h):
     """Newton step of the quadratic model on a 3 x 3 stencil; (step (a, 2), concave)."""
     fc = fs[:, 4]
@@ -250,14 +260,8 @@ def refine_maxima(fun, starts, step: float, *, normal=None, project=None,
     n = len(r)
     if n == 0:
         return r, np.zeros(0)
-    if normal is None:
-        e1, e2 = tangent_frames(r)
-        stencil, model = _STENCIL_2D, _newton_2d
-    else:
-        e1 = normalise(np.cross(np.asarray(normal, float)[None, :], r))
-        e2 = np.zeros_like(e1)
-        stencil, model = _STENCIL_1D, _newton_1d
-    S, centre = len(stencil), len(stencil) // 2
+    e1, e2, stencil, model = _local_frame(r, normal)
+    centre = len(stencil) // 2
     x = np.zeros((n, 2))
     bx = x.copy()
     bf = np.full(n, -np.inf)
@@ -274,16 +278,10 @@ def refine_maxima(fun, starts, step: float, *, normal=None, project=None,
         if project is not None:
             xs, pts, moved = _projected(project, pts, xs, r[act], e1[act], e2[act])
             x[act] = xs[:, centre]
-        fs = np.asarray(fun(pts, act), float).reshape(len(act), S)
+        fs = np.asarray(fun(pts, act), float).reshape(len(act), len(stencil))
         fc = fs[:, centre]
         worse = fc < bf[act]
-        d, ok = model(fs, h)
-        ok &= ~moved
-        dn = np.linalg.norm(d, axis=1)
-        d *= np.minimum(1.0, 2 * h / np.where(dn > 0, dn, 1.0))[:, None]
-        ib = np.argmax(fs, axis=1)
-        stay = ~ok & (ib == centre)
-        move = np.where(ok[:, None], d, xs[np.arange(len(act)), ib] - x[act])
+        move, stay = _move(model, fs, xs, x[act], h, moved)
         bf[act] = np.where(worse, bf[act], fc)
         bx[act] = np.where(worse[:, None], bx[act], x[act])
         dist = np.linalg.norm(move, axis=1)
@@ -302,13 +300,7 @@ def estimate_maxima(fun, starts, step: float, *, normal=None):
     (estimates (K,), vertex directions (K, 3)). ``fun`` as for :func:`refine_maxima`.
     """
     r = normalise(np.asarray(starts, float).reshape(-1, 3))
-    if normal is None:
-        e1, e2 = tangent_frames(r)
-        stencil, model = _STENCIL_2D, _newton_2d
-    else:
-        e1 = normalise(np.cross(np.asarray(normal, float)[None, :], r))
-        e2 = np.zeros_like(e1)
-        stencil, model = _STENCIL_1D, _newton_1d
+    e1, e2, stencil, model = _local_frame(r, normal)
     h = np.full(len(r), 0.25 * float(step))
     xs = h[:, None, None] * stencil[None, :, :]
     pts = normalise(r[:, None, :] + xs[..., :1] * e1[:, None, :] + xs[..., 1:] * e2[:, None, :])
@@ -365,6 +357,19 @@ def refine_best(fun, starts, groups, step: float, *, keep: int = 3, window_db: f
         if groups[i] not in best or f > best[groups[i]][1]:
             best[groups[i]] = (x, float(f))
     return best
+
+
+def _move(model, fs, xs, x, h, moved):
+    """One ascent move per point: the Newton step of the stencil's quadratic model (at most
+    2h) where it is concave and no stencil point was projected, else to the best stencil
+    point. Returns (move (a, 2), stay: the centre is best and the model not concave)."""
+    d, ok = model(fs, h)
+    ok &= ~moved
+    dn = np.linalg.norm(d, axis=1)
+    d *= np.minimum(1.0, 2 * h / np.where(dn > 0, dn, 1.0))[:, None]
+    ib = np.argmax(fs, axis=1)
+    stay = ~ok & (ib == fs.shape[1] // 2)
+    return np.where(ok[:, None], d, xs[np.arange(len(x)), ib] - x), stay
 
 
 def _projected(project, pts, xs, r, e1, e2):
