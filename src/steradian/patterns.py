@@ -31,7 +31,14 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .directions import Directions, UVGrid, angles_deg, spherical_basis, unit_vectors_deg
+from .directions import (
+    Directions,
+    UVGrid,
+    angles_deg,
+    angles_of,
+    spherical_basis,
+    unit_vectors_deg,
+)
 from .engine import field
 from .errors import SteradianError
 from .geometry import principal_axes
@@ -190,13 +197,10 @@ def beam_axis(array, peak: Peak, frequency=None) -> np.ndarray:
 def cut_frame(r0) -> tuple[np.ndarray, np.ndarray]:
     """Tangents (theta-hat, phi-hat) at ``r0``; at the poles the x-z / y-z planes."""
     r0 = np.asarray(r0, float)
-    theta = float(np.arccos(np.clip(r0[2], -1.0, 1.0)))
+    theta, phi = angles_of(r0)
     if np.hypot(r0[0], r0[1]) < _POLE:
-        phi = 0.0
-        theta = 0.0 if r0[2] > 0 else np.pi
-    else:
-        phi = float(np.arctan2(r0[1], r0[0]))
-    return spherical_basis(theta, phi)
+        theta, phi = (0.0 if r0[2] > 0 else np.pi), 0.0
+    return spherical_basis(float(theta), float(phi))
 
 
 def _cut(array, name, angle_deg, dirs, frequency, power_value) -> Cut:

@@ -333,9 +333,8 @@ class BeamEvaluator:
         """Angle between refined peaks and commanded directions (cone angle if collinear)."""
         s = self._steer_start(steer) if self.mirror else np.asarray(steer, float)
         if self.axis is not None:
-            a = np.rad2deg(np.arccos(np.clip(peak @ self.axis, -1, 1)))
-            b = np.rad2deg(np.arccos(np.clip(s @ self.axis, -1, 1)))
-            return np.abs(a - b)
+            a = angle_between_deg(peak, self.axis[None, :])
+            return np.abs(a - angle_between_deg(s, self.axis[None, :]))
         return angle_between_deg(peak, s)
 
     def evaluate(self, W, directions, ideal=None) -> BeamMetrics:
@@ -384,7 +383,7 @@ class BeamEvaluator:
         return BeamMetrics(
             theta_deg=d[:, 0].copy(), phi_deg=d[:, 1].copy(), peak_theta_deg=th,
             peak_phi_deg=phi, directivity_dbi=dbi,
-            gain_dbi=dbi + 10 * np.log10(self.efficiency),
+            gain_dbi=dbi + db10(self.efficiency),
             pointing_error_deg=self.pointing_error_deg(peak, steer),
             psl_db=db10(side / ipk), qlobe_db=qlobe, ideal_directivity_dbi=d0,
             ideal_psl_db=psl0, ideal_pointing_error_deg=pe0, loss_db=d0 - dbi,
