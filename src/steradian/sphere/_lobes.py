@@ -297,7 +297,8 @@ def estimate_maxima(fun, starts, step: float, *, normal=None):
     The quadratic model of ln(value) on a stencil of step ``step / 4`` gives the lobe's
     vertex; where the model is concave and the vertex within one ``step``, the vertex value
     is the estimate (exact for a Gaussian lobe), else the best stencil value. Returns
-    (estimates (K,), vertex directions (K, 3)). ``fun`` as for :func:`refine_maxima`.
+    (estimates (K,), vertex directions (K, 3), modelled (K,): where the vertex was used).
+    ``fun`` as for :func:`refine_maxima`.
     """
     r = normalise(np.asarray(starts, float).reshape(-1, 3))
     e1, e2, stencil, model = _local_frame(r, normal)
@@ -313,7 +314,7 @@ def estimate_maxima(fun, starts, step: float, *, normal=None):
     est = np.where(ok, np.maximum(top, fs.max(axis=1)), fs.max(axis=1))
     ib = np.argmax(fs, axis=1)
     x = np.where(ok[:, None], d, xs[np.arange(len(r)), ib])
-    return est, normalise(r + x[:, :1] * e1 + x[:, 1:] * e2)
+    return est, normalise(r + x[:, :1] * e1 + x[:, 1:] * e2), ok
 
 
 def _gradient(fs, h, S):
@@ -323,29 +324,32 @@ def _gradient(fs, h, S):
     return np.column_stack([(fs[:, 7] - fs[:, 1]) / (2 * h), (fs[:, 5] - fs[:, 3]) / (2 * h)])
 
 
-def refine_best(fun, starts, groups, step: float, *, keep: int = 3, window_db: float = 0.5,
-                normal=None, rtol: float = 1e-6):
+def refine_best(fun, starts, groups, step: float, *, keep: int = 4, margin_db: float = 0.2,
+                unsure_db: float = 3.0, normal=None, rtol: float = 1e-6):
     """Best refined maximum of each group of starts, estimate first, refine the few best.
 
     Every start's lobe peak is estimated by :func:`estimate_maxima` (one stencil: ranks
-    lobes whose samples misorder them), then the starts of each group whose estimate is
-    within ``window_db`` of the group's best (at most ``keep``) are refined by
-    :func:`refine_maxima` to ``rtol``. ``groups`` (K,) labels the starts (e.g. the beam they
-    belong to; ``fun`` gets start indices as ``rows``); returns ``{group: (direction,
-    value)}``.
+    lobes whose samples misorder them). A start is refined by :func:`refine_maxima` to
+    ``rtol`` when its lobe could be its group's highest: its estimate plus ``margin_db``
+    (the model's error), or where the model did not apply its best stencil value plus
+    ``unsure_db``, reaches the group's highest estimate (at most ``keep`` starts per group,
+    highest first). ``groups`` (K,) labels the starts (e.g. the beam they belong to; ``fun``
+    gets start indices as ``rows``); returns ``{group: (direction, value)}``.
     """
     starts = np.asarray(starts, float).reshape(-1, 3)
     groups = np.asarray(groups).reshape(-1)
     if len(starts) == 0:
         return {}
-    est, vert = estimate_maxima(fun, starts, step, normal=normal)
-    order = np.lexsort((-est, groups))
-    g = groups[order]
+    est, vert, ok = estimate_maxima(fun, starts, step, normal=normal)
+    upper = est * 10 ** (np.where(ok, margin_db, unsure_db) / 10)
+    _, gi = np.unique(groups, return_inverse=True)
+    gmax = np.full(gi.max() + 1, -np.inf)
+    np.maximum.at(gmax, gi, est)
+    order = np.lexsort((-upper, gi))
+    g = gi[order]
     first = np.r_[True, g[1:] != g[:-1]]
-    head = np.maximum.accumulate(np.where(first, np.arange(len(g)), 0))
-    rank = np.arange(len(g)) - head
-    near = est[order] >= est[order[head]] * 10 ** (-window_db / 10)
-    sel = order[(rank < keep) & near]
+    rank = np.arange(len(g)) - np.maximum.accumulate(np.where(first, np.arange(len(g)), 0))
+    sel = order[(rank < keep) & (upper[order] >= gmax[g])]
 
     def fun2(points, rows):
         return fun(points, sel[rows])
