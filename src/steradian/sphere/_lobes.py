@@ -11,6 +11,16 @@ re-check, the element-table peak) does the same three steps, here:
    for many patterns at once (one column per beam) in one vectorised pass.
 3. **Refinement** (:func:`refine_maxima`): a safeguarded Newton ascent in each candidate's
    tangent plane (or along its great circle), batched over all candidates of all patterns.
+   With many candidates per pattern, :func:`estimate_maxima` first estimates each lobe's
+   peak from one stencil and :func:`refine_best` refines only those that could be the
+   highest.
+
+Why this refinement: it is batched (one call of the pattern per iteration for every
+candidate of every beam), never lowers the value it holds (so a pattern set to zero outside
+an allowed region keeps points inside it, and a projection reaches maxima on a region's
+edge), and converges quadratically once the model is concave. The alternatives it replaced
+were a serial Nelder-Mead per candidate, a fixed number of unsafeguarded Newton steps and a
+grid pattern search with linear convergence.
 
 The search works on callables that map unit vectors to non-negative values (an intensity, a
 ratio to a bound); it never sees an array or an element.
