@@ -128,8 +128,9 @@ def test_quantization_lobe_reduced_by_random_offsets(line):
 
 
 def test_evaluator_matches_peak_search_and_pattern_metrics():
-    """Batched re-evaluation against steradian.radiation.peak_directivity (Nelder-Mead on
-    engine.field) and steradian.metrics.pattern_metrics, beam by beam."""
+    """Batched re-evaluation against steradian.radiation.peak_directivity (the same lobe
+    search, one beam at a time on engine.field) and steradian.metrics.pattern_metrics, beam by
+    beam (the brute-force comparison is in test_lobe_search.py)."""
     w = np.outer(taylor(8, nbar=3, sll=25), taylor(8, nbar=3, sll=25)).ravel()
     arr = st.Array(st.rectangular(8, 8, 0.5), st.C0, element=st.CosinePower(1.0), taper=w)
     ch = ChannelModel.build(phase_bits=4, attenuator_step_db=1.0, attenuator_span_db=20)
