@@ -228,7 +228,7 @@ def refine_maxima(fun, starts, step: float, *, normal=None, project=None,
     (3 points on a circle) of step h about each current point. When the centre is worse than
     the best point so far the move is undone and h shrinks by 4; otherwise the point moves
     by the Newton step of the finite-difference quadratic model (limited to 2h), or to the
-    best stencil point when the model is not concave, and h follows the move (between h/16
+    best stencil point when the model is not concave, and h follows the move (between h/64
     and 2h). The best value
     never decreases, so a penalised ``fun`` (zero outside an allowed region) keeps every
     point inside its region. A maximum *on* the edge of a region where the pattern rises
@@ -296,7 +296,7 @@ def refine_maxima(fun, starts, step: float, *, normal=None, project=None,
         bx[act] = np.where(worse[:, None], bx[act], x[act])
         dist = np.linalg.norm(move, axis=1)
         x[act] = np.where(worse[:, None], bx[act], x[act] + move)
-        h_all[act] = np.where(worse | stay, 0.25 * h, np.clip(dist, h / 16, 2 * h))
+        h_all[act] = np.where(worse | stay, 0.25 * h, np.clip(dist, h / 64, 2 * h))
     return normalise(r + bx[:, :1] * e1 + bx[:, 1:] * e2), bf
 
 
