@@ -129,8 +129,9 @@ def test_quantization_lobe_reduced_by_random_offsets(line):
 
 
 def test_evaluator_matches_peak_search_and_pattern_metrics():
-    """Batched re-evaluation against steradian.radiation.peak_directivity (Nelder-Mead on
-    engine.field) and steradian.metrics.pattern_metrics, beam by beam."""
+    """Batched re-evaluation against steradian.radiation.peak_directivity (the same lobe
+    search, one beam at a time on engine.field) and steradian.metrics.pattern_metrics, beam by
+    beam (the brute-force comparison is in test_lobe_search.py)."""
     w = np.outer(taylor(8, nbar=3, sll=25), taylor(8, nbar=3, sll=25)).ravel()
     arr = st.Array(st.rectangular(8, 8, 0.5), st.C0, element=st.CosinePower(1.0), taper=w)
     ch = ChannelModel.build(phase_bits=4, attenuator_step_db=1.0, attenuator_span_db=20)
@@ -224,21 +225,15 @@ def test_beams_table(tmp_path):
         beams_from_table({"grid": "theta_phi", "theta_deg": [0], "phi_deg": {"start": 0}})
 
 
-def test_memory_bounded_paths_agree(monkeypatch):
+def test_memory_bounded_paths_agree():
     """Recomputing responses chunk by chunk and splitting the beams gives the same metrics
     as the cached single pass (to rounding)."""
-    import sys
-
-    bt = sys.modules["steradian.beamtable._table"]  # H1: replace by evaluator parameters
-
     arr = st.Array(st.rectangular(6, 6, 0.5), st.C0, element=st.CosinePower(1.0))
     ch = ChannelModel.build(phase_bits=4, attenuator_step_db=1.0, attenuator_span_db=20)
     d = theta_phi_directions([0, 15, 30], [0, 60, 120])
     a = build_beam_table(arr, ch, d).metrics
-    monkeypatch.setattr(bt, "RESPONSE_BUDGET", 0)
-    monkeypatch.setattr(bt, "BEAM_CHUNK_BYTES", 24 * 2000 * 3)
-    ev = BeamEvaluator(arr)
-    assert ev._A0 is None
+    ev = BeamEvaluator(arr, response_budget=0, chunk_bytes=24 * 2000 * 3)
+    assert not ev.caches_responses
     b = build_beam_table(arr, ch, d, evaluator=ev).metrics
     for f in ("directivity_dbi", "psl_db", "qlobe_db", "loss_db", "pointing_error_deg"):
         assert np.allclose(getattr(a, f), getattr(b, f), rtol=0, atol=1e-9)

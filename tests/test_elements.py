@@ -1002,3 +1002,16 @@ def test_table_constructor_errors():
         st.TabulatedElement(th, ph[:3] * 4, ok[:, :3], None)
     with pytest.raises(SteradianError, match="phi_step_deg must divide 360"):
         st.TabulatedElement.from_element(TILTED, 10, 7)
+
+
+def test_table_records_quantity_and_frequency_given_to_the_constructor():
+    """quantity= and frequency_hz= are recorded as attributes and in describe() (what a file
+    reader passes instead of setting attributes afterwards)."""
+    th, ph = np.arange(0, 181, 10.0), np.arange(0, 360, 10.0)
+    e = np.ones((len(th), len(ph)))
+    tab = st.TabulatedElement(th, ph, e, None, quantity="gain_dbi", frequency_hz=2.4e9)
+    assert tab.quantity == "gain_dbi" and tab.frequency_hz == 2.4e9
+    assert tab.describe()["quantity"] == "gain_dbi"
+    assert tab.describe()["frequency_hz"] == 2.4e9
+    plain = st.TabulatedElement(th, ph, e, None)
+    assert plain.quantity is None and plain.frequency_hz is None

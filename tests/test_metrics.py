@@ -446,3 +446,35 @@ def test_psl_finds_a_lobe_next_to_a_higher_neighbour():
     peaks = np.sort(d[(d == maximum_filter(d, size=5, mode="constant")) & (d > 0)])[::-1]
     ref = 10 * np.log10(peaks[1] / pk.directivity)
     assert ref - 1e-3 <= m.psl_db <= ref + 0.02
+
+
+def test_every_metric_field_comes_from_one_registered_metric():
+    """The registry of metric functions fills each PatternMetrics field exactly once (notes
+    aside), and pattern_metrics reports what the registry computes."""
+    import dataclasses
+
+    from steradian.metrics import METRICS, PatternMetrics
+
+    filled = [f for m in METRICS for f in m.fields]
+    assert len(filled) == len(set(filled))
+    assert set(filled) == {f.name for f in dataclasses.fields(PatternMetrics)} - {"notes"}
+
+
+def test_analysis_result_is_frozen_and_reads_as_its_summary():
+    """analyze returns a frozen Analysis whose to_dict() is the summary (JSON-friendly, the
+    keys the command line prints) and which reads as that mapping."""
+    import dataclasses
+    import json
+
+    from steradian.analysis import Analysis, AnalysisOptions, analyze
+
+    arr = st.Array(st.rectangular(4, 4, 0.5), F, steering=st.Steering(10, 0))
+    res = analyze(arr, AnalysisOptions(element_power_w=0.5))
+    assert isinstance(res, Analysis)
+    d = res.to_dict()
+    assert json.loads(json.dumps(d)) == d
+    assert list(d)[:3] == ["n_elements", "n_enabled", "design_frequency_hz"]
+    assert list(d)[-3:] == ["eirp", "rf_exposure_caution", "metrics"]
+    assert dict(res) == d and res["gain_dbi"] == d["gain_dbi"]
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        res.gain_dbi = 0.0

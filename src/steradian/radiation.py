@@ -17,11 +17,19 @@ from typing import Literal
 
 import numpy as np
 
-from .directions import Directions, ThetaPhiGrid
+from .directions import (
+    Directions,
+    ThetaPhiGrid,
+    angles_deg,
+    fibonacci_directions,  # noqa: F401  (old home, kept importable)
+    unit_vectors_deg,
+)
 from .elements import Isotropic
 from .engine import field
 from .errors import SteradianError
-from .sphere import DEFAULT_MARGIN, rule_for, sphere_rule
+from .sphere import DEFAULT_MARGIN, SearchSet, find_maxima, rule_for
+from .sphere import search_spacing as sphere_spacing
+from .units import db10
 from .validate import nonneg, positive
 
 __all__ = [
@@ -49,9 +57,10 @@ RF_EXPOSURE_CAUTION = (
 PowerMethod = Literal["auto", "quadrature", "closed_form"]
 
 
-def to_db(x, floor: float = 1e-30):
-    """10 log10(x), with a floor to avoid -inf."""
-    return 10.0 * np.log10(np.maximum(np.asarray(x, float), floor))
+def to_db(x):
+    """10 log10(x) of a power ratio as an array, floored at :data:`steradian.units.DB_FLOOR`
+    (:func:`steradian.units.db10`)."""
+    return np.asarray(db10(x))
 
 
 @dataclass(frozen=True)
@@ -138,7 +147,7 @@ def radiated_power(array, *, frequency: float | None = None, method: PowerMethod
         Evaluation frequency (Hz).
     method : {"auto", "quadrature", "closed_form"}
         "closed_form" needs isotropic elements. "auto" uses it for isotropic arrays of up to
-        20,000 elements when the engine's cost model (:mod:`steradian._cost`) estimates it
+        20,000 elements when the engine's cost model estimates it
         cheaper than the quadrature (small and mid-sized arrays; the N^2/2 pair sum loses to
         the two quadrature rules evaluated by non-uniform FFT from a few thousand elements),
         quadrature otherwise. Both agree to better than 1e-9 relative.
@@ -178,123 +187,44 @@ class Peak:
 
     @property
     def unit(self) -> np.ndarray:
-        t, p = np.deg2rad(self.theta_deg), np.deg2rad(self.phi_deg)
-        return np.array([np.sin(t) * np.cos(p), np.sin(t) * np.sin(p), np.cos(t)])
-
-
-def fibonacci_directions(n: int, front_only: bool = False) -> np.ndarray:
-    """Near-uniform directions on the sphere (or front hemisphere): a Fibonacci lattice.
-
-    References
-    ----------
-    R. Swinbank and R. J. Purser, "Fibonacci grids: A novel approach to global modelling,"
-    *Q. J. R. Meteorol. Soc.* 132 (2006) 1769-1793.
-    """
-    n = max(int(n), 8)
-    i = np.arange(n) + 0.5
-    z = 1 - 2 * i / n if not front_only else 1 - i / n
-    golden = np.pi * (3 - np.sqrt(5))
-    phi = golden * i
-    r = np.sqrt(np.clip(1 - z**2, 0, None))
-    return np.column_stack([r * np.cos(phi), r * np.sin(phi), z])
+        return unit_vectors_deg(self.theta_deg, self.phi_deg)
 
 
 def search_spacing(array, frequency=None, per_null: float = 2.0) -> float:
-    """Angular sample spacing (rad) giving ``per_null`` samples per main-lobe null width."""
-    kr = max(array.electrical_radius(frequency), 1.0)
-    # Null-to-null width of an aperture of diameter 2R is about 2*lambda/(2R) = 2*pi/(kR).
-    return min(2 * np.pi / kr / per_null, 0.2)
-
-
-def _tangent_frame(r0):
-    r0 = r0 / np.linalg.norm(r0)
-    a = np.array([0.0, 0.0, 1.0]) if abs(r0[2]) < 0.9 else np.array([1.0, 0.0, 0.0])
-    e1 = np.cross(a, r0)
-    e1 /= np.linalg.norm(e1)
-    e2 = np.cross(r0, e1)
-    return r0, e1, e2
-
-
-def refine_max(fun, r0, scale: float) -> tuple[np.ndarray, float]:
-    """Local maximisation of ``fun(unit_vectors (M,3)) -> (M,)`` starting at ``r0``.
-
-    Parametrises the neighbourhood of ``r0`` by its tangent plane and runs Nelder-Mead.
-    Returns the refined unit vector and the function value there.
-    """
-    from scipy.optimize import minimize
-
-    r0, e1, e2 = _tangent_frame(np.asarray(r0, float))
-
-    def to_unit(x):
-        v = r0 + x[0] * e1 + x[1] * e2
-        return v / np.linalg.norm(v)
-
-    def neg(x):
-        return -float(fun(to_unit(x)[None, :])[0])
-
-    res = minimize(neg, np.zeros(2), method="Nelder-Mead",
-                   options={"xatol": scale * 1e-7, "fatol": 0.0, "maxiter": 400,
-                            "initial_simplex": np.array([[0, 0], [scale, 0], [0, scale]]) * 0.25})
-    return to_unit(res.x), -res.fun
-
-
-def local_maxima_candidates(values: np.ndarray, dirs: np.ndarray, spacing: float,
-                            count: int = 8) -> np.ndarray:
-    """Indices of up to ``count`` largest samples that are local maxima among neighbours."""
-    from scipy.spatial import cKDTree
-
-    order = np.argsort(values)[::-1]
-    tree = cKDTree(dirs)
-    picked = []
-    # Nearest neighbours of a near-uniform set lie about one spacing apart: a wider radius
-    # would hide a lobe whose neighbour lobe is higher (adjacent sidelobes are about three
-    # spacings apart at the metrics sampling).
-    radius = 1.25 * spacing
-    for i in order[: max(200, 20 * count)]:
-        nb = tree.query_ball_point(dirs[i], radius)
-        if values[i] >= np.max(values[nb]):
-            picked.append(i)
-            if len(picked) >= count:
-                break
-    if not picked:
-        picked = [int(order[0])]
-    return np.array(picked)
+    """Angular sample spacing (rad) giving ``per_null`` samples per main-lobe null width of
+    ``array`` (see :func:`steradian.sphere.search_spacing`)."""
+    return sphere_spacing(array.electrical_radius(frequency), per_null)
 
 
 def peak_directivity(array, *, frequency: float | None = None,
                      power: RadiatedPower | None = None) -> Peak:
-    """Peak directivity and its direction, refined off-grid by local optimisation.
+    """Peak directivity and its direction, refined off-grid.
 
-    A near-uniform search set with two samples per main-lobe null width finds every lobe's
-    basin; the best candidates (and the steering direction) are refined by Nelder-Mead in the
+    The package's lobe search (:mod:`steradian.sphere`): a near-uniform Fibonacci set with
+    two samples per main-lobe null width finds every lobe's basin; the 6 highest local
+    maxima and the steering direction are refined by a safeguarded Newton ascent in the
     tangent plane.
     """
     power = power or radiated_power(array, frequency=frequency)
     R = array.geometry.common_orientation
     front = array.element.front_only and (array.geometry.orientations is None or R is not None)
-    sp = search_spacing(array, frequency)
-    n = int(4 * np.pi / sp**2 / (2 if front else 1))
-    dirs = fibonacci_directions(n, front)
-    if front and R is not None:
-        dirs = dirs @ R.T
+    search = SearchSet.fibonacci(search_spacing(array, frequency), front_only=front,
+                                 rotation=R if front else None)
 
     def inten(v):
         return field(array, Directions.from_vectors(v), frequency=frequency).intensity
 
-    vals = inten(dirs)
-    starts = [dirs[i] for i in local_maxima_candidates(vals, dirs, sp, 6)]
-    if array.steering is not None:
-        starts.insert(0, array.steering.unit)
-    refined = [refine_max(inten, s, sp) for s in starts]
-    best_f = max(f for _, f in refined)
+    starts = None if array.steering is None else array.steering.unit[None, :]
+    refined, values = find_maxima(inten, search, 6, starts=starts)
+    best_f = float(values[0])
     # Ties (a flat array's mirror lobe, a line array's cone) go to the lobe nearest the
     # steering direction, or nearest +z when unsteered, so the reported peak is the beam the
     # engineer pointed, not its mirror image.
     aim = array.steering.unit if array.steering is not None else np.array([0.0, 0.0, 1.0])
-    tied = [(v, f) for v, f in refined if f >= best_f * (1 - 1e-9)]
-    best_v, best_f = max(tied, key=lambda vf: float(vf[0] @ aim))
-    theta = math.degrees(math.acos(float(np.clip(best_v[2], -1, 1))))
-    phi = math.degrees(math.atan2(best_v[1], best_v[0])) if theta > 1e-9 else 0.0
+    tie = values >= best_f * (1 - 1e-9)
+    j = int(np.argmax(refined[tie] @ aim))
+    best_v, best_f = refined[tie][j], float(values[tie][j])
+    theta, phi = angles_deg(best_v, pole_tol=1e-11)
     return Peak(4 * np.pi * best_f / power.value, theta, phi, power)
 
 
@@ -419,5 +349,4 @@ def power_matrix(array, *, frequency: float | None = None,
     return 0.5 * (Q + Q.conj().T)
 
 
-__all__ += ["closed_form_power", "fibonacci_directions", "refine_max", "sphere_rule",
-            "power_matrix"]
+__all__ += ["closed_form_power", "power_matrix", "search_spacing"]

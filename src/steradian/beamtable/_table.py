@@ -11,19 +11,12 @@ import numpy as np
 from ..array import direction
 from ..errors import SteradianError
 from ..quantize import StateMap
-from ..units import db10
 from ..validate import choice
 
 Encoding = Literal["codes", "iq"]
 
 IQ_SCALE = 32768
 """Fixed-point I/Q is Q1.15: value = integer / 32768, integers in [-32768, 32767]."""
-
-RESPONSE_BUDGET = 512 * 2**20
-"""Bytes of element responses on the search set a BeamEvaluator keeps (beyond: recomputed)."""
-
-BEAM_CHUNK_BYTES = 256 * 2**20
-"""Bytes of (directions x beams) work arrays one evaluation pass may use."""
 
 
 def jsonable(obj):
@@ -55,8 +48,6 @@ def jsonable(obj):
 
 # Names the evaluator module (beamtable/_evaluate.py, owned by the numerics work) still
 # imports; they are the public helpers above under their old names, not copies.
-_db = db10
-_jsonable = jsonable
 
 
 # ---------------------------------------------------------------------------------------

@@ -15,7 +15,7 @@ from ..errors import SteradianError
 from ..units import C0
 from ..validate import doubtful, positive
 from ._base import Element
-from ._table import _peak_intensity
+from ._table import peak_intensity
 
 __all__ = ["Patch", "effective_permittivity", "length_extension"]
 
@@ -136,7 +136,7 @@ class Patch(Element):
         self.effective_length_m = self.length_m + 2 * self.delta_l
         self._k = 2 * math.pi * self.frequency / self.speed
         self._norm = 1.0
-        peak = _peak_intensity(self._raw, front_only=True, starts=[(0.0, 0.0)])
+        peak = peak_intensity(self._raw, front_only=True, starts=[(0.0, 0.0, 1.0)])
         self._norm = 1.0 / math.sqrt(peak)
 
     @classmethod

@@ -52,10 +52,11 @@ import math
 import numpy as np
 
 from ..errors import SteradianError
+from ..sphere import peak_value
 from ..validate import doubtful
 from ._base import Element, angles_of, spherical_basis, unit_vectors
 
-__all__ = ["TabulatedElement", "COLUMNS", "table_grid"]
+__all__ = ["TabulatedElement", "COLUMNS", "table_grid", "peak_intensity"]
 
 COLUMNS: dict[tuple[str, str], tuple[str, ...]] = {
     ("field", "theta_phi"): ("theta_deg", "phi_deg", "re_e_theta", "im_e_theta", "re_e_phi",
@@ -73,51 +74,17 @@ GRID_TOL = 1e-6   # degrees: tolerance for "equally spaced" and "ends at 0/90/18
 SAME_TOL = 1e-3   # relative: two samples of one direction (poles, closing column) must agree
 
 
-# ---- peak search shared with the analytic models --------------------------------------------
+# ---- peak of a model (shared with the analytic models) ----------------------------------------
 
-def _fibonacci(n: int, front_only: bool) -> np.ndarray:
-    i = np.arange(n) + 0.5
-    z = 1 - i / n if front_only else 1 - 2 * i / n
-    ph = np.pi * (3 - math.sqrt(5)) * i
-    r = np.sqrt(np.clip(1 - z**2, 0, None))
-    return np.column_stack([r * np.cos(ph), r * np.sin(ph), z])
-
-
-def _peak_intensity(pattern, front_only: bool, starts=(), n: int = 3000) -> float:
-    """Largest ``|E_theta|^2 + |E_phi|^2`` of ``pattern(theta, phi)`` over the sphere.
-
-    Samples a near-uniform set of ``n`` directions, then polishes the best few samples and
-    the given ``starts`` ((theta, phi) in radians) by Nelder-Mead in the tangent plane.
-    """
-    from scipy.optimize import minimize
-
+def peak_intensity(pattern, front_only: bool, starts=()) -> float:
+    """Largest ``|E_theta|^2 + |E_phi|^2`` of ``pattern(theta, phi)`` over the sphere (front
+    hemisphere), by the package's lobe search (:func:`steradian.sphere.peak_value`) from
+    3000 Fibonacci samples plus ``starts`` (unit vectors)."""
     def inten(v):
-        th, ph = angles_of(v)
-        a, b = pattern(th, ph)
+        a, b = pattern(*angles_of(v))
         return np.abs(a) ** 2 + np.abs(b) ** 2
 
-    dirs = _fibonacci(n, front_only)
-    vals = inten(dirs)
-    best = float(vals.max())
-    cands = [dirs[i] for i in np.argsort(vals)[::-1][:2]]
-    cands += [unit_vectors(np.float64(t), np.float64(p)) for t, p in starts]
-    step = math.sqrt(4 * math.pi / n)
-    for r0 in cands:
-        r0 = r0 / np.linalg.norm(r0)
-        a = np.array([0.0, 0.0, 1.0]) if abs(r0[2]) < 0.9 else np.array([1.0, 0.0, 0.0])
-        e1 = np.cross(a, r0)
-        e1 /= np.linalg.norm(e1)
-        e2 = np.cross(r0, e1)
-
-        def neg(x, r0=r0, e1=e1, e2=e2):
-            v = r0 + x[0] * e1 + x[1] * e2
-            return -float(inten((v / np.linalg.norm(v))[None, :])[0])
-
-        res = minimize(neg, np.zeros(2), method="Nelder-Mead",
-                       options={"xatol": 1e-9, "fatol": 0.0, "maxiter": 300,
-                                "initial_simplex": np.array([[0, 0], [step, 0], [0, step]])})
-        best = max(best, -float(res.fun))
-    return best
+    return peak_value(inten, front_only=front_only, starts=starts)
 
 
 # ---- the model ------------------------------------------------------------------------------
@@ -190,8 +157,6 @@ class TabulatedElement(Element):
     def __init__(self, theta_deg, phi_deg, e_theta, e_phi, front_only: bool = False,
                  source=None, *, quantity: str | None = None,
                  frequency_hz: float | None = None):
-        from scipy.interpolate import RectBivariateSpline
-
         th = np.asarray(theta_deg, float).ravel()
         ph = np.asarray(phi_deg, float).ravel()
         if not (np.all(np.isfinite(th)) and np.all(np.isfinite(ph))):
@@ -211,6 +176,37 @@ class TabulatedElement(Element):
                 idx = tuple(np.argwhere(~np.isfinite(c))[0].tolist())
                 raise SteradianError(f"{name} contains NaN or infinity at index {idx}")
 
+        th, ph, comps, dth, dph = self._regular_axes(th, ph, comps)
+        self._theta_deg = th
+        self._phi_deg = ph
+        self._dth, self._dph = dth, dph
+        nt, npf = len(th), len(ph)
+        t, p = np.meshgrid(np.deg2rad(th), np.deg2rad(ph), indexing="ij")
+        if self.vector:
+            bt, bp = spherical_basis(t, p)
+            cart = comps[0][..., None] * bt + comps[1][..., None] * bp      # (nt, np, 3)
+        else:
+            cart = comps[0][..., None]                                      # (nt, np, 1)
+        # One direction, many phi: the pole rows must agree; use their mean.
+        for row in ([0] if self.front_only else [0, nt - 1]):
+            dev = cart[row] - cart[row].mean(axis=0)
+            self._check_same([cart], [dev], f"the samples at theta={th[row]:g}")
+            cart[row] = cart[row].mean(axis=0)
+        peak0 = float(np.sqrt((np.abs(cart) ** 2).sum(axis=-1)).max())
+        if peak0 == 0:
+            raise SteradianError("the tabulated field is zero everywhere")
+        cart = cart / peak0
+
+        self._fit_splines(cart, th, ph)
+
+        self._norm = 1.0
+        i_best = np.argsort((np.abs(cart) ** 2).sum(axis=-1).ravel())[::-1][:3]
+        starts = unit_vectors(np.deg2rad(th[i_best // npf]), np.deg2rad(ph[i_best % npf]))
+        self._norm = 1.0 / math.sqrt(peak_intensity(self.pattern, self.front_only, starts))
+
+    def _regular_axes(self, th, ph, comps):
+        """Check the theta and phi samples; drop a closing phi column (averaged into the
+        first). Returns (theta, phi, comps, theta step, phi step), angles in degrees."""
         # theta: 0 .. 180 (or 90), equally spaced
         top = 90.0 if self.front_only else 180.0
         if abs(th[0]) > GRID_TOL:
@@ -244,26 +240,14 @@ class TabulatedElement(Element):
                 f"{360.0 - dph * (len(ph) - 1):g} deg before {ph[0] + 360:g}")
         ph = ph[0] + 360.0 * np.arange(len(ph)) / len(ph)
 
-        self._theta_deg = th
-        self._phi_deg = ph
-        self._dth, self._dph = dth, dph
-        nt, npf = len(th), len(ph)
-        t, p = np.meshgrid(np.deg2rad(th), np.deg2rad(ph), indexing="ij")
-        if self.vector:
-            bt, bp = spherical_basis(t, p)
-            cart = comps[0][..., None] * bt + comps[1][..., None] * bp      # (nt, np, 3)
-        else:
-            cart = comps[0][..., None]                                      # (nt, np, 1)
-        # One direction, many phi: the pole rows must agree; use their mean.
-        for row in ([0] if self.front_only else [0, nt - 1]):
-            dev = cart[row] - cart[row].mean(axis=0)
-            self._check_same([cart], [dev], f"the samples at theta={th[row]:g}")
-            cart[row] = cart[row].mean(axis=0)
-        peak0 = float(np.sqrt((np.abs(cart) ** 2).sum(axis=-1)).max())
-        if peak0 == 0:
-            raise SteradianError("the tabulated field is zero everywhere")
-        cart = cart / peak0
+        return th, ph, comps, dth, dph
 
+    def _fit_splines(self, cart, th, ph):
+        """Bicubic splines of the Cartesian field components, padded periodically in phi
+        and across the poles with the great circle continuing through them."""
+        from scipy.interpolate import RectBivariateSpline
+
+        nt, npf = len(th), len(ph)
         # Values at phi + 180 deg (for continuation through the poles).
         if npf % 2 == 0:
             shifted = np.roll(cart, -npf // 2, axis=1)
@@ -289,11 +273,6 @@ class TabulatedElement(Element):
             for part in (v_ext[..., c].real, v_ext[..., c].imag):
                 self._splines.append(RectBivariateSpline(t_ext, p_ext, part, kx=3, ky=3, s=0))
 
-        self._norm = 1.0
-        i_best = np.argsort((np.abs(cart) ** 2).sum(axis=-1).ravel())[::-1][:3]
-        starts = [(np.deg2rad(th[i // npf]), np.deg2rad(ph[i % npf])) for i in i_best]
-        peak = _peak_intensity(self.pattern, self.front_only, starts)
-        self._norm = 1.0 / math.sqrt(peak)
 
     @staticmethod
     def _check_same(ref, diffs, what):

@@ -2,8 +2,10 @@
 
 Every pattern value comes from :func:`steradian.engine.field`. The check evaluates a shifted,
 finer grid than the constraint samples, picks the local maxima of the field-to-bound ratio
-and refines them off-grid by a vectorised shrinking pattern search, so the reported levels
-are those of the continuous pattern, not of any grid.
+and refines them off-grid with the package's lobe search (:mod:`steradian.sphere`), so the
+reported levels are those of the continuous pattern, not of any grid. The ratio is zero where
+a family sets no bound (inside the main-lobe zone, outside a notch), and the refinement never
+lowers the value it holds, so a maximum on the edge of a region is approached from inside.
 """
 
 from __future__ import annotations
@@ -12,8 +14,9 @@ import numpy as np
 
 from ..directions import Directions
 from ..engine import field
+from ..sphere import SearchSet, pointwise, refine_maxima
 
-__all__ = ["field_magnitude", "check_family", "main_peak", "local_maxima", "refine_max"]
+__all__ = ["field_magnitude", "check_family", "main_peak"]
 
 
 def field_magnitude(array, dirs) -> np.ndarray:
@@ -24,55 +27,28 @@ def field_magnitude(array, dirs) -> np.ndarray:
     return np.sqrt(field(array, Directions.from_vectors(dirs)).intensity)
 
 
-def local_maxima(keys: np.ndarray, vals: np.ndarray, radius: float, k: int) -> np.ndarray:
-    """Indices of up to ``k`` largest values that are maxima within ``radius`` (in key space)."""
-    from scipy.spatial import cKDTree
-
-    if len(vals) == 0:
-        return np.zeros(0, int)
-    order = np.argsort(-vals)[: max(25 * k, 400)]
-    tree = cKDTree(keys)
-    picked = []
-    for i in order:
-        if not np.isfinite(vals[i]) or vals[i] <= 0:
-            break
-        nb = tree.query_ball_point(keys[i], radius)
-        if vals[i] >= np.max(vals[nb]):
-            picked.append(i)
-            if len(picked) >= k:
-                break
-    return np.array(picked, int)
+def _circle_normal(holder):
+    """Normal of the great circle a line domain samples (its pattern is constant on cones
+    about the axis, so refinement stays on the circle); None for other domains."""
+    dom = getattr(holder, "domain", None)
+    if dom is not None and getattr(dom, "kind", None) == "line":
+        return np.cross(dom.e1, dom.b)
+    return None
 
 
-def refine_max(fun, neighbourhood, dirs, step, rounds: int = 11, m: int = 3):
-    """Vectorised shrinking pattern search for local maxima of ``fun``.
-
-    Each round evaluates a (2m+1)^d local grid of spacing ``step`` around every current point,
-    moves to the best, and divides the step by m; the true maximum stays inside the next
-    window, so after r rounds the position is known to ``step / m**r``.
-    """
-    cur = np.asarray(dirs, float).reshape(-1, 3)
-    if len(cur) == 0:
-        return cur, np.zeros(0)
-    best = fun(cur)
-    for _ in range(rounds):
-        cand = neighbourhood(cur, step, m)  # (K, P, 3)
-        K, P, _ = cand.shape
-        vals = fun(cand.reshape(-1, 3)).reshape(K, P)
-        j = np.argmax(vals, axis=1)
-        v = vals[np.arange(K), j]
-        better = v > best
-        cur = np.where(better[:, None], cand[np.arange(K), j], cur)
-        best = np.where(better, v, best)
-        step = step / m
-    return cur, best
+def _projector(family):
+    """The family's region as a projection: its neighbourhood of zero size moves a point
+    into the region (onto the main-lobe zone's edge, into a notch sector)."""
+    def project(d):
+        return family.neighbourhood(d, 0.0, 0)[:, 0, :]
+    return project
 
 
 def main_peak(array, setup, step: float):
     """Peak |E| of the main beam: refined from the beam direction. Returns (|E|, direction)."""
     r0 = setup.r0[None, :]
-    d, v = refine_max(lambda x: field_magnitude(array, x), setup.domain.neighbourhood, r0,
-                      step, rounds=12)
+    d, v = refine_maxima(pointwise(lambda x: field_magnitude(array, x)), r0, step,
+                         normal=_circle_normal(setup))
     e0 = field_magnitude(array, r0)[0]
     if v[0] < e0:
         return e0, setup.r0
@@ -102,12 +78,17 @@ def check_family(array, family, e0: float, tau: float | None, k: int = 48):
         return out
 
     dense = family.dense()
-    r = ratio(dense)
-    idx = local_maxima(family.keys(dense), r, 1.6 * family.dense_spacing, k)
+    keys = np.asarray(family.keys(dense), float).reshape(len(dense), -1)
+    search = SearchSet.from_points(dense, family.dense_spacing, keys=keys,
+                                   k=2 if keys.shape[1] == 1 else 8,
+                                   normal=_circle_normal(family))
+    idx = search.local_maxima(ratio(dense), k)
+    idx = idx[idx >= 0]
     if len(idx) == 0:
         return {"dirs": np.zeros((0, 3)), "ratio": np.zeros(0), "worst": 0.0,
                 "worst_dir": None, "field": 0.0}
-    d, v = refine_max(ratio, family.neighbourhood, dense[idx], family.dense_spacing)
+    d, v = refine_maxima(pointwise(ratio), dense[idx], family.dense_spacing,
+                         normal=search.normal, project=_projector(family))
     i = int(np.argmax(v))
     return {"dirs": d, "ratio": v, "worst": float(v[i]), "worst_dir": d[i],
             "field": float(field_magnitude(array, d[i:i + 1])[0])}

@@ -33,7 +33,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from .directions import Directions, ThetaPhiGrid
+from ..directions import Directions, ThetaPhiGrid
 
 __all__ = ["SphereRule", "sphere_rule", "rule_for", "gauss_legendre"]
 

@@ -1,0 +1,122 @@
+r"""Pattern metrics: beamwidths, sidelobes, grating lobes, pointing, front-to-back, scan loss.
+
+Every pattern value comes from :func:`steradian.engine.field`. Angles are in degrees, levels
+in dB, floored at :data:`DB_FLOOR` so reports never hold NaN or infinity. Crossings and nulls
+are refined by k-section root finding, lobes by the package's lobe search
+(:mod:`steradian.sphere`), never read off a sampling grid.
+
+Layout: one function per metric in ``_measures.py``, registered in :data:`METRICS`, which
+:func:`pattern_metrics` iterates; the work they share (beam axis, radials, main lobe, lobe
+search) is in ``_context.py``; cuts, u-v maps, the beam axis and the symmetry test are in
+:mod:`steradian.patterns`.
+
+Definitions (after IEEE Std 145-2013 where it defines the term); beam axis and principal
+cuts as in :mod:`steradian.patterns`:
+
+- *Radial*: the great-circle arc :math:`\hat r_0\cos\rho + \hat t(\psi)\sin\rho` leaving the
+  beam axis in tangent direction :math:`\hat t(\psi) = \hat t_0\cos\psi + \hat t_1\sin\psi`.
+- *First null* along a radial: the first local minimum of U (a true zero or a shallow
+  minimum); *half-power point*: the first angle where U falls to half the peak.
+- *Main lobe*: the directions reached from the beam axis along a radial before its first null,
+  :math:`\rho < \rho_{null}(\psi)`. Two symmetric cases are treated exactly: for a collinear
+  array the main lobe is the band of cone angles about the array axis between the first nulls
+  of the cut containing the axis; when the array is planar and its pattern is mirror symmetric
+  about the array plane (isotropic elements), the mirror image of the main lobe is main lobe
+  too.
+- **HPBW / FNBW** per principal cut: the angle between the half-power points (k-section on
+  U - U_0/2) or between the first nulls (k-section minimisation of U) either side of the
+  peak, searched along the whole half great circle.
+- **Main-lobe boundary**: the first null along 96 radials, :math:`\rho_{null}(\psi)`,
+  interpolated linearly (periodic) in between.
+- **PSL** (peak sidelobe level): :math:`10\log_{10}(\max_{outside} U / U_0)` over all
+  directions outside the main lobe (front hemisphere only for front-half-space elements,
+  where U is zero behind). Found by the lobe search of :mod:`steradian.sphere`: a Fibonacci
+  set with 3 samples per null width of the array's electrical size, the 16 best local maxima
+  (one per lobe) refined by the batched safeguarded Newton ascent with the main lobe
+  excluded. Its direction is reported.
+- **ISLR** (integrated sidelobe ratio): :math:`(P_{rad} - P_{main}) / P_{main}` in dB,
+  :math:`P_{main} = \int_0^{2\pi}\int_0^{\rho_{null}(\psi)} U \sin\rho\,d\rho\,d\psi`
+  (Gauss-Legendre in :math:`\rho`, trapezoid in :math:`\psi`) and :math:`P_{rad}` from
+  ``peak.power``. The main lobe's share :math:`P_{main}/P_{rad}` is reported as well.
+- **Grating lobes predicted** from ``geometry.lattice``: with primitive vectors
+  :math:`a_i` and reciprocal vectors :math:`b_i` (:math:`a_i\cdot b_j = \delta_{ij}`, in
+  the lattice plane), the lobe :math:`(p, q) \ne (0, 0)` sits where the projection of the
+  direction on the lattice plane is :math:`s_0 + \lambda(p b_1 + q b_2)`, visible when
+  its length is at most 1. :math:`s_0` is the projection of the steering direction (times
+  :math:`f_0/f` for phase steering evaluated off the design frequency: the beam squints).
+  For a lattice in the x-y plane this is :math:`(u, v) = (u_0, v_0) + \lambda(p b_1 +
+  q b_2)`. The **free scan cone** is the largest :math:`\theta_0` (from the lattice normal;
+  from broadside for a line) with no visible grating lobe at any azimuth,
+  :math:`\sin\theta_0 < \min_{(p,q)\ne 0}|\lambda(p b_1 + q b_2)| - 1`
+  (None when lobes are visible even at broadside); the **free scan in the phi plane** is
+  the same limit for scans along the phi-plane cut only. For a line of spacing d this is
+  :math:`d/\lambda < 1/(1 + |\sin\theta_0|)`.
+- **Grating lobes found**: refined lobes outside the main lobe within ``grating_lobe_db``
+  of the peak.
+- **Pointing error**: angle between the beam axis and the steering direction (None when
+  unsteered); it shows beam squint off-frequency and the pull of the element pattern.
+- **Front-to-back ratio**: :math:`U_0 / U(-\hat r_0)` in dB; **front-to-back
+  (hemisphere)**: :math:`U_0` over the largest U more than 90 degrees from the beam axis.
+  Both are capped at -DB_FLOOR (300 dB) when the rear is dark.
+- **Scan loss**: peak directivity of the array minus that of the same array with its
+  steering removed, in dB (negative when steering costs directivity; 0 when unsteered).
+
+References
+----------
+IEEE Std 145-2013, *IEEE Standard for Definitions of Terms for Antennas* (beamwidth,
+sidelobe level, front-to-back ratio, grating lobe).
+R. J. Mailloux, *Phased Array Antenna Handbook*, 3rd ed., Artech House, 2018, ch. 1-3
+(grating lobes of rectangular and triangular lattices; scan loss).
+R. C. Hansen, *Phased Array Antennas*, 2nd ed., Wiley, 2009, ch. 2-3 (beamwidth, sidelobes,
+integrated sidelobe ratio).
+C. A. Balanis, *Antenna Theory: Analysis and Design*, 4th ed., Wiley, 2016, ch. 2 and 6.
+"""
+
+from __future__ import annotations
+
+from ..errors import SteradianError
+from ..patterns import Cut, cut, principal_cuts
+from ..radiation import Peak
+from ..units import DB_FLOOR
+from ..validate import positive
+from ._context import Context
+from ._measures import METRICS, Metric, metric
+from ._results import GratingLobe, Lobe, PatternMetrics, PlaneWidths
+
+__all__ = ["Cut", "principal_cuts", "cut", "DB_FLOOR", "PatternMetrics", "PlaneWidths", "Lobe",
+           "GratingLobe", "pattern_metrics", "METRICS", "Metric", "metric"]
+
+
+def pattern_metrics(array, *, frequency: float | None = None, peak: Peak | None = None,
+                    grating_lobe_db: float = 3.0) -> PatternMetrics:
+    """Beamwidths, sidelobes, grating lobes, pointing, front-to-back and scan loss of a beam.
+
+    Parameters
+    ----------
+    array : Array
+        Any geometry (linear, planar, 3-D, rings), steered or not, any element model.
+    frequency : float, optional
+        Evaluation frequency in Hz (default: the design frequency).
+    peak : Peak, optional
+        :func:`steradian.radiation.peak_directivity` at ``frequency`` (computed when omitted);
+        its radiated power normalises every directivity.
+    grating_lobe_db : float
+        A lobe outside the main lobe within this many dB of the peak is reported as a grating
+        lobe found in the pattern (default 3 dB).
+
+    Returns
+    -------
+    PatternMetrics
+        Every registered metric (:data:`METRICS`) of the beam; the definitions are in
+        :mod:`steradian.metrics`.
+    """
+    grating_lobe_db = positive("grating_lobe_db", grating_lobe_db, " dB")
+    ctx = Context(array, frequency, peak, grating_lobe_db)
+    values: dict = {}
+    for m in METRICS:
+        out = m.compute(ctx)
+        if set(out) != set(m.fields):
+            raise SteradianError(f"metric {m.name!r} returned {sorted(out)}, expected "
+                                 f"{sorted(m.fields)}")
+        values.update(out)
+    return PatternMetrics(**values, notes=tuple(ctx.notes))

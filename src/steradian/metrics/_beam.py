@@ -1,0 +1,256 @@
+"""The pattern about one beam axis, and the main-lobe models (radial, mirror, band).
+
+Crossings and nulls are refined by vectorised k-section on the continuous pattern, never read
+off a sampling grid. See :mod:`steradian.metrics` for the definitions.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..directions import angles_deg
+from ..elements import Isotropic
+from ..errors import SteradianError
+from ..patterns import cut_frame, intensity
+from ..units import db10
+from ._results import Lobe, PlaneWidths
+
+__all__ = ["N_RADIALS", "Beam", "RadialLobe", "BandLobe", "arc", "rel_db", "plane_widths",
+           "ksection"]
+
+N_RADIALS = 96
+"""Radials for the main-lobe boundary (a multiple of 4: the principal cuts are four of them)."""
+
+
+def rel_db(ratio) -> float:
+    """A power ratio in dB (floored, a float)."""
+    return float(db10(ratio))
+
+
+def arc(r0, tangents, rho):
+    """Points r0 cos(rho) + t sin(rho); tangents (m,3), rho (m,) or (m,k) -> (m,[k,]3)."""
+    rho = np.asarray(rho, float)
+    if rho.ndim == 1:
+        return r0[None, :] * np.cos(rho)[:, None] + tangents * np.sin(rho)[:, None]
+    return (r0[None, None, :] * np.cos(rho)[..., None]
+            + tangents[:, None, :] * np.sin(rho)[..., None])
+
+
+_HALF, _EDGE, _MIN = 0, 1, 2  # refinement kinds: half-power root, zero edge, minimum
+
+
+def ksection(fun, a, b, kind, k: int = 8, tol: float = 1e-13, iters: int = 40):
+    """Vectorised k-section refinement of many brackets at once (one ``fun`` call per step).
+
+    ``fun(x)`` maps bracket coordinates (n, k+1) to values of the same shape. Each step
+    samples every bracket [a, b] at k+1 equally spaced points and keeps the sub-bracket
+    holding the event: for ``_HALF`` the first fall below 0.5, for ``_EDGE`` the first exact
+    zero, for ``_MIN`` the neighbours of the smallest sample (the bracket shrinks by k for
+    roots, by k/2 for minima). Returns the bracket midpoints.
+    """
+    a, b = np.array(a, float), np.array(b, float)
+    kind = np.asarray(kind)
+    t = np.linspace(0.0, 1.0, k + 1)
+    for _ in range(iters):
+        act = np.flatnonzero(b - a > tol)
+        if not len(act):
+            break
+        x = a[act, None] + (b - a)[act, None] * t[None, :]
+        v = fun(act, x)
+        kd = kind[act]
+        good = np.where((kd == _HALF)[:, None], v >= 0.5, v > 0.0)
+        i_root = np.clip(np.argmin(good, axis=1), 1, k)  # first sample past the event
+        i_min = np.argmin(v, axis=1)
+        rows = np.arange(len(act))
+        lo = np.where(kd == _MIN, x[rows, np.maximum(i_min - 1, 0)], x[rows, i_root - 1])
+        hi = np.where(kd == _MIN, x[rows, np.minimum(i_min + 1, k)], x[rows, i_root])
+        a[act], b[act] = lo, hi
+    return 0.5 * (a + b)
+
+
+class Beam:
+    """The pattern about one beam axis: relative intensity g = U / U(r0)."""
+
+    def __init__(self, array, frequency, r0, power_value):
+        self.array = array
+        self.frequency = frequency
+        self.r0 = np.asarray(r0, float)
+        self.u0 = float(intensity(array, self.r0, frequency))
+        if not self.u0 > 0:
+            raise SteradianError("the pattern is zero at the beam peak; nothing to measure")
+        self.power = power_value
+        self.t0, self.t1 = cut_frame(self.r0)
+
+    def g(self, vectors):
+        return intensity(self.array, vectors, self.frequency) / self.u0
+
+    def dbi(self, u_rel) -> float:
+        return rel_db(4 * np.pi * self.u0 * u_rel / self.power)
+
+    def lobe(self, v, u_rel) -> Lobe:
+        th, ph = angles_deg(np.asarray(v, float))
+        return Lobe(th, ph, rel_db(u_rel), self.dbi(u_rel))
+
+    def march(self, tangents, h, rho_max):
+        """Half-power and first-null angles along radials, refined off the sampling grid.
+
+        Returns ``(rho_hp, rho_null)`` in radians, NaN where not found within ``rho_max``.
+        """
+        T = np.asarray(tangents, float)
+        m = len(T)
+        rho_max = np.broadcast_to(np.asarray(rho_max, float), (m,)).copy()
+        nmax = int(np.ceil(rho_max.max() / h)) + 2
+        G = np.full((m, nmax + 1), np.nan)
+        G[:, 0] = 1.0
+        i_hp = np.full(m, -1)
+        i_null = np.full(m, -1)
+        done = np.zeros(m, bool)
+        filled = 0
+        block = 48
+        while not done.all() and filled < nmax:
+            hi = min(filled + block, nmax)
+            act = np.flatnonzero(~done)
+            rho = np.minimum(np.arange(filled + 1, hi + 1) * h, np.pi)
+            pts = arc(self.r0, T[act], np.broadcast_to(rho, (len(act), len(rho))))
+            G[act, filled + 1:hi + 1] = self.g(pts.reshape(-1, 3)).reshape(len(act), -1)
+            filled = hi
+            for j in act:
+                row = G[j, :filled + 1]
+                lim = int(np.floor(rho_max[j] / h))  # last index within rho_max
+                dec = np.flatnonzero((row[2:] >= row[1:-1]) & (row[1:-1] < 1 - 1e-6)) + 1
+                dec = dec[dec <= lim]
+                if len(dec):
+                    i_null[j] = dec[0]
+                below = np.flatnonzero(row[1:] < 0.5) + 1
+                top = i_null[j] if i_null[j] > 0 else lim
+                below = below[below <= top]
+                if len(below):
+                    i_hp[j] = below[0]
+                done[j] = i_null[j] > 0 or filled >= lim + 1
+        # Refine every half-power crossing and first null together, off the sampling grid.
+        hp = np.flatnonzero(i_hp > 0)
+        nl = np.flatnonzero(i_null > 0)
+        edge = G[nl, i_null[nl]] == 0.0  # exact zero: the edge of a front-only pattern
+        rows = np.concatenate([hp, nl])
+        kind = np.concatenate([np.full(len(hp), _HALF), np.where(edge, _EDGE, _MIN)])
+        lo = np.concatenate([(i_hp[hp] - 1) * h, (i_null[nl] - 1) * h])
+        hi = np.concatenate([i_hp[hp] * h, np.where(edge, i_null[nl], i_null[nl] + 1) * h])
+        hi = np.minimum(hi, np.pi)
+
+        def fun(act, x):
+            pts = arc(self.r0, T[rows[act]], x)
+            return self.g(pts.reshape(-1, 3)).reshape(x.shape)
+
+        ref = ksection(fun, lo, hi, kind) if len(rows) else np.zeros(0)
+        rho_hp = np.full(m, np.nan)
+        rho_null = np.full(m, np.nan)
+        rho_hp[hp] = ref[:len(hp)]
+        rho_null[nl] = ref[len(hp):]
+        return rho_hp, rho_null
+
+
+def plane_widths(name, hp_pos, hp_neg, null_pos, null_neg) -> PlaneWidths:
+    def deg(x, sign):
+        return None if not np.isfinite(x) else float(sign * np.rad2deg(x))
+
+    hp = (deg(hp_neg, -1), deg(hp_pos, 1))
+    nl = (deg(null_neg, -1), deg(null_pos, 1))
+    hpbw = None if None in hp else hp[1] - hp[0]
+    fnbw = None if None in nl else nl[1] - nl[0]
+    return PlaneWidths(name, hpbw, fnbw, hp, nl)
+
+
+# ---- main-lobe models ---------------------------------------------------------------------
+
+class RadialLobe:
+    """Main lobe bounded by the first null along each radial (optionally plus its mirror)."""
+
+    def __init__(self, beam: Beam, rho_null: np.ndarray, mirror_normal=None):
+        self.beam = beam
+        m = len(rho_null)
+        self.psi = 2 * np.pi * np.arange(m) / m
+        self.rho = np.where(np.isfinite(rho_null), rho_null, np.pi)
+        self.n = None if mirror_normal is None else np.asarray(mirror_normal, float)
+
+    def inside_one(self, d):
+        b = self.beam
+        rho = np.arccos(np.clip(d @ b.r0, -1.0, 1.0))
+        psi = np.mod(np.arctan2(d @ b.t1, d @ b.t0), 2 * np.pi)
+        edge = np.interp(psi, self.psi, self.rho, period=2 * np.pi)
+        return rho < edge
+
+    def mirror(self, d):
+        return d - 2.0 * (d @ self.n)[..., None] * self.n
+
+    def inside(self, d):
+        d = np.asarray(d, float)
+        ins = self.inside_one(d)
+        if self.n is not None:
+            ins |= self.inside_one(self.mirror(d))
+        return ins
+
+    def power(self, kr: float) -> float:
+        """Integral of U over the main lobe: Gauss-Legendre in rho x trapezoid in psi."""
+        b = self.beam
+        rmax = float(self.rho.max())
+        n_rho = int(np.ceil(kr * rmax)) + 24
+        m = max(N_RADIALS, 4 * int(np.ceil(kr * np.sin(min(rmax, np.pi / 2)))) + 16)
+        psi = 2 * np.pi * np.arange(m) / m
+        edge = np.interp(psi, self.psi, self.rho, period=2 * np.pi)
+        x, w = np.polynomial.legendre.leggauss(n_rho)
+        rho = 0.5 * (x[None, :] + 1.0) * edge[:, None]  # (m, n_rho)
+        wr = 0.5 * w[None, :] * edge[:, None] * np.sin(rho)
+        T = b.t0[None, :] * np.cos(psi)[:, None] + b.t1[None, :] * np.sin(psi)[:, None]
+        pts = arc(b.r0, T, rho).reshape(-1, 3)
+        u = b.g(pts) * b.u0
+        if self.n is not None:
+            # U is mirror symmetric, so the union of the lobe R and its mirror M(R) holds
+            # int_R U (1 + [M d not in R]) dOmega.
+            u = u * (1.0 + ~self.inside_one(self.mirror(pts)))
+        return float((u.reshape(wr.shape) * wr).sum() * (2 * np.pi / m))
+
+
+class BandLobe:
+    """Collinear array: main lobe = band c_lo < d . a < c_hi of cone angles about axis a."""
+
+    def __init__(self, beam: Beam, axis, c_lo, c_hi):
+        self.beam = beam
+        self.a = np.asarray(axis, float)
+        self.c_lo, self.c_hi = float(c_lo), float(c_hi)
+
+    def inside(self, d):
+        c = np.asarray(d, float) @ self.a
+        return (c > self.c_lo) & (c < self.c_hi)
+
+    def power(self, k_length: float) -> float:
+        """Integral of U over the band: Gauss-Legendre in c = d . a x a rule in azimuth."""
+        b = self.beam
+        arr = b.array
+        a = self.a
+        zp = np.array([0.0, 0.0, 1.0]) - a[2] * a
+        if np.linalg.norm(zp) < 1e-9:
+            zp = cut_frame(a)[0]
+        f2 = zp / np.linalg.norm(zp)
+        f1 = np.cross(f2, a)
+        iso = isinstance(arr.element, Isotropic) and arr.geometry.orientations is None
+        if iso:  # U depends on c only
+            beta, wb = np.array([0.0]), np.array([2 * np.pi])
+        elif arr.element.front_only and abs(a[2]) < 1e-12 and arr.geometry.orientations is None:
+            # The horizon is at beta = 0, pi: Gauss-Legendre on each half avoids the kink.
+            x, w = np.polynomial.legendre.leggauss(32)
+            half = 0.5 * np.pi * (x + 1.0)
+            beta = np.concatenate([half, half + np.pi])
+            wb = np.concatenate([w, w]) * 0.5 * np.pi
+        else:
+            nb = 720 if arr.element.front_only else 64
+            beta = 2 * np.pi * np.arange(nb) / nb
+            wb = np.full(nb, 2 * np.pi / nb)
+        n_c = int(np.ceil(k_length * (self.c_hi - self.c_lo) / 2)) + 24
+        x, w = np.polynomial.legendre.leggauss(n_c)
+        c = self.c_lo + 0.5 * (x + 1.0) * (self.c_hi - self.c_lo)
+        wc = 0.5 * w * (self.c_hi - self.c_lo)
+        s = np.sqrt(np.clip(1 - c**2, 0.0, None))
+        ring = np.cos(beta)[None, :, None] * f1 + np.sin(beta)[None, :, None] * f2
+        pts = c[:, None, None] * a + s[:, None, None] * ring
+        u = b.g(pts.reshape(-1, 3)).reshape(len(c), len(beta)) * b.u0
+        return float(wc @ u @ wb)

@@ -1,0 +1,149 @@
+"""What the metrics of one beam share: the beam, its radials, main lobe and lobe search.
+
+Each piece is computed on first use (a metric asks for what it needs) and kept, so the
+registered metric functions do not repeat work and do not depend on their order.
+"""
+
+from __future__ import annotations
+
+from functools import cached_property
+
+import numpy as np
+
+from ..patterns import beam_axis, resolve_peak, symmetry
+from ..radiation import search_spacing
+from ..sphere import SearchSet, pointwise, refine_maxima
+from ._beam import N_RADIALS, BandLobe, Beam, RadialLobe, arc
+
+__all__ = ["Context", "SEARCH_PER_NULL", "N_REFINE"]
+
+SEARCH_PER_NULL = 3.0
+"""Sidelobe search samples per main-lobe null width."""
+
+N_REFINE = 16
+"""Sidelobe candidates refined by the lobe search."""
+
+
+class Context:
+    """One beam of ``array`` at ``frequency`` and the work its metrics share."""
+
+    def __init__(self, array, frequency, peak, grating_lobe_db: float):
+        self.array = array
+        self.frequency = frequency
+        self.grating_lobe_db = grating_lobe_db
+        self.peak = resolve_peak(array, frequency, peak)
+        self.r0 = beam_axis(array, self.peak, frequency)
+        self.beam = Beam(array, frequency, self.r0, self.peak.power.value)
+        self.kr = max(array.electrical_radius(frequency), 1.0)
+        self.h = 2 * np.pi / self.kr / 16  # radial march: 16 samples per null width
+        self.notes: list[str] = []
+
+    @cached_property
+    def symmetry(self):
+        return symmetry(self.array, self.frequency)
+
+    @cached_property
+    def radials(self):
+        """(rho_hp, rho_null) along N_RADIALS radials, psi = 2 pi i / N_RADIALS."""
+        b = self.beam
+        psi = 2 * np.pi * np.arange(N_RADIALS) / N_RADIALS
+        T = b.t0[None, :] * np.cos(psi)[:, None] + b.t1[None, :] * np.sin(psi)[:, None]
+        return b.march(T, self.h, np.pi)
+
+    @cached_property
+    def main_lobe(self):
+        """(model, main-lobe power, name, key): ``key`` maps a direction to the one that
+        represents its lobe (a cone's point in the plane of the beam and array axes; the
+        front image of a mirror lobe)."""
+        kind, vec = self.symmetry
+        if kind == "band":
+            return self._band(vec)
+        lobe = RadialLobe(self.beam, self.radials[1], vec if kind == "mirror" else None)
+        if kind != "mirror":
+            return lobe, lobe.power(self.kr), "radial", lambda x: x
+        self.notes.append("planar array with a mirror-symmetric pattern: the mirror image of "
+                          "the main lobe behind the array plane counts as main lobe")
+        r0 = self.r0
+
+        def key(x):
+            flip = (x @ vec) * (r0 @ vec if abs(r0 @ vec) > 1e-12 else 1.0) < 0
+            return np.where(flip[:, None], lobe.mirror(x), x)
+        return lobe, lobe.power(self.kr), "radial+mirror", key
+
+    def _band(self, a):
+        """Main lobe of a collinear array: the band of cone angles between the first nulls
+        of the cut containing the array axis."""
+        r0, beam = self.r0, self.beam
+        c0 = float(np.clip(r0 @ a, -1.0, 1.0))
+        perp = a - c0 * r0
+        if np.linalg.norm(perp) > 1e-9:
+            tp = perp / np.linalg.norm(perp)
+            lims = (float(np.arccos(c0)), np.pi - float(np.arccos(c0)))
+        else:  # endfire: both directions of the cut lead away from the axis
+            tp, lims = beam.t0, (np.pi, np.pi)
+        _, rn = beam.march(np.array([tp, -tp]), self.h, np.array(lims))
+        cs = [np.nan if not np.isfinite(x) else float(arc(r0, t[None, :], [x])[0] @ a)
+              for x, t in zip(rn, (tp, -tp), strict=True)]
+        if np.linalg.norm(perp) > 1e-9:
+            c_lo = -1.0 if np.isnan(cs[1]) else cs[1]
+            c_hi = 1.0 if np.isnan(cs[0]) else cs[0]
+        elif not np.isfinite(cs).any():
+            c_lo, c_hi = -1.0, 1.0
+        elif c0 > 0:
+            c_lo, c_hi = float(np.nanmax(cs)), 1.0
+        else:
+            c_lo, c_hi = -1.0, float(np.nanmin(cs))
+        lobe = BandLobe(beam, a, c_lo, c_hi)
+        p_main = lobe.power(self.array.k(self.frequency) * float(np.ptp(self.array.positions @ a)))
+        self.notes.append("collinear array: the pattern is a cone about the array axis; the "
+                          "main lobe is the band of cone angles between the first nulls")
+        side = r0 - c0 * a  # unit normal to the axis in the plane of r0 and the axis
+        side = side / np.linalg.norm(side) if np.linalg.norm(side) > 1e-9 else beam.t0
+
+        def key(x):
+            c = np.clip(x @ a, -1.0, 1.0)
+            return c[:, None] * a + np.sqrt(1 - c**2)[:, None] * side
+        return lobe, p_main, "band", key
+
+    @cached_property
+    def search(self):
+        """(SearchSet, relative intensity g on it) for sidelobes and the rear hemisphere."""
+        front = self.array.element.front_only and self.array.geometry.orientations is None
+        sp = search_spacing(self.array, self.frequency, per_null=SEARCH_PER_NULL)
+        s = SearchSet.fibonacci(sp, front_only=front, min_points=2000)
+        return s, self.beam.g(s.directions)
+
+    def lobes(self, allowed, count: int, key):
+        """Refined local maxima of g where ``allowed`` (the refinement kept there), one per
+        lobe (``key`` identifies a lobe), highest first: list of (direction, g)."""
+        search, vals = self.search
+        d = search.directions
+        m = np.asarray(allowed(d), bool)
+        if not m.any():
+            return []
+        # Samples outside the region do not compete with those inside it.
+        cand = search.local_maxima(np.where(m, vals, 0.0), 4 * count, m)
+        cand = cand[cand >= 0]
+        keys = key(d[cand]) if len(cand) else np.zeros((0, 3))
+        picked = []
+        for i in range(len(cand)):
+            if all(np.linalg.norm(keys[i] - keys[j]) > 0.5 * search.spacing for j in picked):
+                picked.append(i)
+            if len(picked) >= count:
+                break
+        beam = self.beam
+        xs, fs = refine_maxima(pointwise(lambda x: beam.g(x) * allowed(x)), d[cand[picked]],
+                               search.spacing)
+        out = []
+        for x, f in sorted(zip(xs, fs, strict=True), key=lambda t: -t[1]):
+            kx = key(x[None, :])[0]
+            if all(np.linalg.norm(kx - key(y[None, :])[0]) > 0.05 * search.spacing
+                   for y, _ in out):
+                out.append((x, float(f)))
+        return out
+
+    @cached_property
+    def outside(self):
+        """Refined lobes outside the main lobe (list of (direction, g), highest first)."""
+        lobe, _, _, key = self.main_lobe
+        return self.lobes(lambda x: ~lobe.inside(x), N_REFINE, key)

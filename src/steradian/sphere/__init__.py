@@ -1,0 +1,32 @@
+"""The sphere: quadrature rules for integrals over directions, and the lobe/peak search.
+
+Two jobs, one module each, both working on callables and direction sets only (never on an
+array or an element):
+
+- :mod:`steradian.sphere._rules`: Gauss-Legendre(cos theta) x uniform(phi) product rules
+  sized for an array's band limit (:func:`sphere_rule`, :func:`rule_for`,
+  :func:`gauss_legendre`).
+- :mod:`steradian.sphere._lobes`: THE off-grid maximum search used by every caller (peak
+  directivity, pattern metrics, beam tables, the optimizer's dense check, element tables):
+  :class:`SearchSet` (a Fibonacci set, a half great circle or any set, with neighbours),
+  :meth:`SearchSet.local_maxima` (candidates, optionally inside an allowed region, for one
+  or many patterns), :func:`refine_maxima` (batched safeguarded Newton ascent),
+  :func:`refine_best` (coarse to fine, the best of each group of starts),
+  :func:`find_maxima` and :func:`peak_value` (the two steps together).
+"""
+
+from ._lobes import (
+    SearchSet,
+    find_maxima,
+    peak_value,
+    pointwise,
+    refine_best,
+    refine_maxima,
+    search_spacing,
+)
+from ._rules import DEFAULT_MARGIN, SphereRule, gauss_legendre, rule_for, sphere_rule
+
+__all__ = ["SphereRule", "sphere_rule", "rule_for", "gauss_legendre", "DEFAULT_MARGIN",
+           "SearchSet", "search_spacing", "refine_maxima", "refine_best", "find_maxima",
+           "peak_value",
+           "pointwise"]
