@@ -25,7 +25,7 @@ from steradian.io.design import design_from_dict, load_design
 from steradian.io.pattern_csv import read_cuts, read_uv, write_cuts, write_uv
 from steradian.io.positions_csv import read_layout, read_positions, write_positions
 from steradian.io.weights_csv import read_weights, read_weights_table, write_weights
-from steradian.workflows import uv_map
+from steradian.patterns import uv_map
 
 C0 = st.C0
 
@@ -615,3 +615,14 @@ def test_plots_write_png_atomically(tmp_path):
     assert sorted(os.listdir(tmp_path)) == ["c.png", "uv.png"]
     for f in ("c.png", "uv.png"):
         assert (tmp_path / f).read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_deprecated_design_analyze_warns_and_matches():
+    """Design.analyze (used by earlier READMEs) still works, warns, and gives what
+    steradian.analyze_design gives (common practice: a deprecation keeps results)."""
+    import steradian as st
+
+    design = st.load_design(Path(__file__).resolve().parents[1] / "configs" / "link_line.toml")
+    with pytest.warns(DeprecationWarning, match="analyze_design"):
+        old = design.analyze()
+    assert old == st.analyze_design(design)

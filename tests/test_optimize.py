@@ -258,6 +258,13 @@ def test_trade_curve_is_monotone_and_written(tmp_path):
     lines = (tmp_path / "t.csv").read_text().splitlines()
     assert lines[0].startswith("limit_db,psl_db") and len(lines) == 7
     assert "knee" in tc.table()
+    # The deprecated methods (earlier READMEs) still write the same files, with a warning.
+    with pytest.warns(DeprecationWarning, match="write_trade_curve_csv"):
+        tc.write_csv(tmp_path / "old.csv")
+    assert (tmp_path / "old.csv").read_text() == (tmp_path / "t.csv").read_text()
+    with pytest.warns(DeprecationWarning, match="plot_trade_curve"):
+        tc.figure(tmp_path / "old.png")
+    assert (tmp_path / "old.png").read_bytes()[:4] == b"\x89PNG"
     bad = opt.tradeoff(arr, [-20, -45], mainlobe=0.1)
     assert bad.rows[1]["status"].startswith("infeasible")
 

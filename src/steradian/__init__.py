@@ -70,7 +70,7 @@ from .radiation import (
 )
 from .units import C0
 from .version import VERSION as __version__
-from .workflows import beam_table_from_design, verify_weight_file
+from .workflows import analyze_design, beam_table_from_design, verify_weight_file
 
 __all__ = [
     "__version__", "C0",
@@ -87,7 +87,7 @@ __all__ = [
 ]
 __all__ += ["Cut", "PatternMetrics", "cut", "pattern_metrics", "principal_cuts"]
 __all__ += ["ChannelModel", "StateMap", "BeamTable", "BeamEvaluator", "build_beam_table",
-            "verify_beam_table", "beam_table_from_design", "verify_weight_file",
+            "verify_beam_table", "beam_table_from_design", "verify_weight_file", "analyze_design",
             "read_weight_file", "write_weight_file", "theta_phi_directions",
             "az_el_directions"]
 __all__ += ["Design", "load_design", "design_from_dict", "read_positions", "write_positions",

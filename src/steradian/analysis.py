@@ -23,35 +23,10 @@ from .radiation import (
     peak_directivity,
     radiated_power,
 )
+from .settings import AnalysisOptions
 from .units import db10
 
 __all__ = ["AnalysisOptions", "Analysis", "analyze"]
-
-
-@dataclass(frozen=True)
-class AnalysisOptions:
-    """What to evaluate beyond directivity.
-
-    Attributes
-    ----------
-    frequency : float, optional
-        Evaluation frequency in Hz (default: design frequency).
-    radiation_efficiency : float
-        xi = P_rad / P_in, 0 < xi <= 1.
-    vswr, return_loss_db : float, optional
-        Mismatch for realized gain (give at most one).
-    element_power_w : float, optional
-        Transmit power per element channel at full amplitude (W), for EIRP.
-    metrics : bool
-        Compute beamwidths, sidelobes, grating lobes (slower than directivity alone).
-    """
-
-    frequency: float | None = None
-    radiation_efficiency: float = 1.0
-    vswr: float | None = None
-    return_loss_db: float | None = None
-    element_power_w: float | None = None
-    metrics: bool = True
 
 
 @dataclass(frozen=True)

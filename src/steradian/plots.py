@@ -88,7 +88,7 @@ def plot_uv(uvmap, path, *, title: str | None = None, range_db: float = 40.0) ->
     Parameters
     ----------
     uvmap : UVMap
-        From :func:`steradian.workflows.uv_map` (or :func:`steradian.io.pattern_csv.read_uv`).
+        From :func:`steradian.patterns.uv_map` (or :func:`steradian.io.pattern_csv.read_uv`).
     path : path-like
         Output PNG (written atomically).
     title : str, optional

@@ -20,12 +20,12 @@ The command line only parses options, calls one of these and renders the result.
 from __future__ import annotations
 
 import tomllib
-from dataclasses import asdict, replace
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
 
-from .analysis import AnalysisOptions, analyze
+from .analysis import analyze
 from .beamtable import (
     BeamBuild,
     BeamEvaluator,
@@ -35,15 +35,15 @@ from .beamtable import (
     build_beam_table,
     verify_beam_table,
 )
-from .errors import DesignError, SteradianError
+from .errors import DesignError
 from .io.calibration_csv import read_calibration
 from .io.directions_csv import read_directions
 from .io.formats import read_weight_file
-from .io.pattern_csv import UVMap, write_cuts, write_uv
+from .io.pattern_csv import write_cuts, write_uv
 from .io.weights_csv import write_weights
+from .patterns import uv_map
 from .quantize import ChannelModel, channel_from_table
-from .units import db10
-from .validate import count, positive
+from .validate import positive
 
 __all__ = ["analyze_design", "design_block", "export_patterns", "uv_map", "synthesize_design",
            "write_synthesis_weights", "tradeoff_of_design", "channel_of_design",
@@ -65,48 +65,15 @@ def analyze_design(design, frequency: float | None = None) -> dict:
     ``frequency`` (Hz) overrides ``analysis.frequency_hz``. The returned dictionary is the
     analysis summary with a ``design`` block (name, description, source) first.
     """
-    opt = AnalysisOptions(**asdict(design.options))
+    opt = design.options
     if frequency is not None:
         opt = replace(opt, frequency=positive("frequency", frequency, " Hz"))
-    result = analyze(design.array, opt)
-    if not isinstance(result, dict):  # a result object
-        result = result.to_dict()
-    return {"design": design_block(design), **result}
+    return {"design": design_block(design), **analyze(design.array, opt).to_dict()}
 
 
 # --------------------------------------------------------------------------------------------
 # Pattern export
 # --------------------------------------------------------------------------------------------
-def uv_map(array, n: int = 201, *, frequency: float | None = None, power=None,
-           hemisphere: int = 1) -> UVMap:
-    """Directivity of ``array`` on an ``n`` x ``n`` u-v grid spanning [-1, 1].
-
-    Parameters
-    ----------
-    array : Array
-    n : int
-        Grid points per axis (>= 3).
-    frequency : float, optional
-        Evaluation frequency (Hz); default the design frequency.
-    power : RadiatedPower, optional
-        Radiated power for the normalisation (computed when omitted).
-    hemisphere : {1, -1}
-        Front (w >= 0) or back hemisphere.
-    """
-    from .directions import UVGrid
-    from .radiation import directivity, radiated_power
-
-    n = count("uv points", n, 3)
-    if hemisphere not in (1, -1):
-        raise SteradianError(f"hemisphere must be 1 or -1, got {hemisphere!r}")
-    grid = UVGrid.square(n, hemisphere)
-    p = power or radiated_power(array, frequency=frequency)
-    d = directivity(array, grid, frequency=frequency, power=p)
-    vis = grid.visible.reshape(grid.shape)
-    db = np.where(vis, db10(np.where(vis, d, 1.0)), np.nan)
-    return UVMap(grid.u.copy(), grid.v.copy(), db, hemisphere)
-
-
 def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_png_path=None,
                     uv_points: int = 201, span_deg: float = 90.0,
                     frequency: float | None = None, meta: dict | None = None,

@@ -2,7 +2,7 @@
 
 A design file names the array, its geometry, the element model, the taper, the steering and
 what to analyse. :func:`load_design` reads one into a :class:`Design` holding a ready
-:class:`~steradian.Array` and the ``[analysis]`` settings (:class:`AnalysisSettings`; the
+:class:`~steradian.Array` and the ``[analysis]`` settings (:class:`AnalysisOptions`; the
 recipes of :mod:`steradian.workflows` run the analysis). Every length in
 ``[geometry]`` is in the unit stated by ``geometry.units``; relative file paths resolve
 against the design file's folder. The full schema is in the README ("Design files").
@@ -31,10 +31,11 @@ from ..elements import ELEMENT_MODELS, Element
 from ..errors import DesignError, FileFormatError, SteradianError, suggest
 from ..geometry import LATTICE_KINDS, Geometry, rotation_to
 from ..schema import Section, type_name
+from ..settings import AnalysisOptions
 from ..units import C0
 from .element_table import read_element_table
 
-__all__ = ["Design", "AnalysisSettings", "load_design", "design_from_dict", "demo_design",
+__all__ = ["Design", "load_design", "design_from_dict", "demo_design",
            "SECTIONS", "PASS_THROUGH_SECTIONS", "GEOMETRY_KINDS", "ELEMENT_MODELS", "LENGTH_UNITS"]
 
 SECTIONS = ("design", "geometry", "element", "taper", "steering", "analysis")
@@ -50,34 +51,6 @@ frequency)."""
 # --------------------------------------------------------------------------------------------
 # The result
 # --------------------------------------------------------------------------------------------
-@dataclass(frozen=True)
-class AnalysisSettings:
-    """The ``[analysis]`` table as read: the fields of
-    :class:`steradian.analysis.AnalysisOptions`, which :func:`steradian.workflows.analyze_design`
-    builds from them (files do not run analyses).
-
-    Attributes
-    ----------
-    frequency : float or None
-        ``analysis.frequency_hz`` (None: the design frequency).
-    radiation_efficiency : float
-        ``analysis.radiation_efficiency`` (default 1).
-    vswr, return_loss_db : float or None
-        Mismatch for realized gain (at most one).
-    element_power_w : float or None
-        Transmit power per element channel (W), for EIRP.
-    metrics : bool
-        ``analysis.metrics`` (default true).
-    """
-
-    frequency: float | None = None
-    radiation_efficiency: float = 1.0
-    vswr: float | None = None
-    return_loss_db: float | None = None
-    element_power_w: float | None = None
-    metrics: bool = True
-
-
 @dataclass(frozen=True, eq=False)
 class Design:
     """A design read from a TOML file or dictionary.
@@ -90,7 +63,7 @@ class Design:
         ``design.description`` (default empty).
     array : Array
         Geometry, element, taper, steering and element mask at the design frequency.
-    options : AnalysisSettings
+    options : AnalysisOptions
         From ``[analysis]``.
     sections : Mapping[str, Any]
         Raw tables of the pass-through sections present (``synthesis``, ``channel``,
@@ -104,10 +77,20 @@ class Design:
     name: str
     description: str
     array: Array
-    options: AnalysisSettings
+    options: AnalysisOptions
     sections: Mapping[str, Any] = field(default_factory=dict)
     source: Path | None = None
     base_dir: Path = field(default_factory=Path.cwd)
+
+    def analyze(self, frequency: float | None = None) -> dict:
+        """Deprecated: use :func:`steradian.workflows.analyze_design` (same result)."""
+        import warnings
+
+        from ..workflows import analyze_design  # deprecated shim (see DEVELOPERS)
+
+        warnings.warn("Design.analyze is deprecated; use steradian.analyze_design(design)",
+                      DeprecationWarning, stacklevel=2)
+        return analyze_design(self, frequency)
 
     @property
     def wavelength(self) -> float:
@@ -289,14 +272,14 @@ _ANALYSIS_KEYS = ("frequency_hz", "radiation_efficiency", "vswr", "return_loss_d
                   "element_power_w", "metrics")
 
 
-def _analysis(t: Section | None) -> AnalysisSettings:
+def _analysis(t: Section | None) -> AnalysisOptions:
     if t is None:
-        return AnalysisSettings()
+        return AnalysisOptions()
     t.only(_ANALYSIS_KEYS)
     if "vswr" in t and "return_loss_db" in t:
         raise t.error("return_loss_db", "give analysis.vswr or analysis.return_loss_db, "
                       "not both")
-    return AnalysisSettings(
+    return AnalysisOptions(
         frequency=t.number("frequency_hz", None, above=0),
         radiation_efficiency=t.number("radiation_efficiency", 1.0, above=0, maximum=1),
         vswr=t.number("vswr", None, minimum=1),

@@ -16,45 +16,25 @@ u-v file (one row per visible grid point; points with u^2 + v^2 > 1 are left out
 
 Numbers are written with Python's shortest round-trip representation, so reading a file back
 returns the same floats. The cuts and maps themselves are computed by
-:func:`steradian.metrics.principal_cuts` and :func:`steradian.workflows.uv_map`.
+:func:`steradian.metrics.principal_cuts` and :func:`steradian.patterns.uv_map`.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
 from ..directions import unit_vectors_deg
 from ..errors import FileFormatError, SteradianError
+from ..samples import Cut, UVMap
 from .atomic import write_text
 from .csv_table import check_columns, parse_float, read_table
 
-__all__ = ["UVMap", "write_cuts", "read_cuts", "write_uv", "read_uv"]
+__all__ = ["write_cuts", "read_cuts", "write_uv", "read_uv"]
 
 _CUT_COLUMNS = ["cut", "angle_deg", "theta_deg", "phi_deg", "directivity_dbi"]
 _UV_COLUMNS = ["u", "v", "theta_deg", "phi_deg", "directivity_dbi"]
-
-
-@dataclass(frozen=True, eq=False)
-class UVMap:
-    """Directivity on a regular u-v grid over one hemisphere.
-
-    Attributes
-    ----------
-    u, v : ndarray, shape (nu,), (nv,)
-        Direction cosines u = sin(theta) cos(phi) (columns), v = sin(theta) sin(phi) (rows).
-    directivity_dbi : ndarray, shape (nv, nu)
-        Directivity in dBi; NaN outside the unit circle (invisible space).
-    hemisphere : int
-        +1 for the front (w >= 0), -1 for the back.
-    """
-
-    u: np.ndarray
-    v: np.ndarray
-    directivity_dbi: np.ndarray
-    hemisphere: int = 1
 
 
 def _fmt(x) -> str:
@@ -95,8 +75,6 @@ def write_cuts(path, cuts, meta: dict | None = None) -> None:
 
 def read_cuts(path) -> list:
     """Read a cuts file back into :class:`steradian.metrics.Cut` objects (file order)."""
-    from ..metrics import Cut
-
     path = Path(path)
     header, rows, hline, _ = read_table(path)
     col = check_columns(path, header, _CUT_COLUMNS, _CUT_COLUMNS, hline)

@@ -75,6 +75,26 @@ class TradeCurve:
                          f"{r['status']}{mark}")
         return "\n".join(lines)
 
+    def write_csv(self, path) -> None:
+        """Deprecated: use :func:`steradian.io.trade_curve.write_trade_curve_csv`."""
+        import warnings
+
+        from ..io.trade_curve import write_trade_curve_csv  # deprecated shim (see DEVELOPERS)
+
+        warnings.warn("TradeCurve.write_csv is deprecated; use steradian.io.trade_curve."
+                      "write_trade_curve_csv(path, curve)", DeprecationWarning, stacklevel=2)
+        write_trade_curve_csv(path, self)
+
+    def figure(self, path, title: str | None = None) -> None:
+        """Deprecated: use :func:`steradian.plots.plot_trade_curve`."""
+        import warnings
+
+        from ..plots import plot_trade_curve  # deprecated shim (see DEVELOPERS)
+
+        warnings.warn("TradeCurve.figure is deprecated; use steradian.plots.plot_trade_curve("
+                      "curve, path, title=...)", DeprecationWarning, stacklevel=2)
+        plot_trade_curve(self, path, title=title)
+
     def to_dict(self) -> dict:
         return {"max_directivity_dbi": self.max_directivity_dbi, "rows": self.rows,
                 "knee_limit_db": None if self.knee is None else self.knee["limit_db"],
