@@ -29,8 +29,9 @@ Per beam the evaluation reports (levels in dB, angles in degrees):
 Speed: work that does not depend on the weights is done once per array by
 :class:`BeamEvaluator`: the radiated-power matrix :math:`Q` (so :math:`P = w^H Q w` per
 beam), and the element responses on a search set of directions (so every beam's pattern on
-it is one matrix product). Peaks are then refined off the grid by a few batched Newton steps
-on :math:`\ln U` in the tangent plane.
+it is one matrix product). Peaks and lobes are then found by the package's one lobe search
+(:mod:`steradian.sphere`): local maxima of every beam's samples, ranked by a one-stencil
+estimate, refined together by a safeguarded Newton ascent.
 
 Direction conventions: theta from +z, phi from +x toward +y. Azimuth-elevation grids use
 :math:`\hat r = (\cos el \sin az,\ \sin el,\ \cos el \cos az)`: azimuth turns from +z toward
