@@ -459,10 +459,8 @@ class ChannelModel:
             c = self.calibration
             d["calibration"] = {
                 "source": self.calibration_source, "channels": int(c.size),
-                # 20 log10 |c| (not units.db20 = 10 log10 |c|^2): written into beam-table
-                # metadata, whose bytes stay those of earlier files.
-                "gain_db_range": [float(20 * np.log10(np.abs(c)).min()),
-                                  float(20 * np.log10(np.abs(c)).max())],
+                "gain_db_range": [float(np.min(db20(c, floor=None))),
+                                  float(np.max(db20(c, floor=None)))],
                 "phase_deg_rms": float(np.sqrt(np.mean(np.angle(c, deg=True) ** 2)))}
         return d
 

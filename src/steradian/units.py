@@ -33,9 +33,21 @@ def db10(x):
     return float(out) if out.ndim == 0 else out
 
 
-def db20(x):
-    """20 log10(|x|) of a field (amplitude) ratio, floored at :data:`DB_FLOOR`."""
-    return db10(np.abs(np.asarray(x)) ** 2)
+def db20(x, floor: float | None = DB_FLOOR):
+    """20 log10(|x|) of a field (amplitude) ratio, floored at ``floor`` (default
+    :data:`DB_FLOOR`; ``None``: no floor, so a zero amplitude reads -inf, as the weight files
+    write a switched-off element).
+
+    Computed as 20 log10 |x| (not 10 log10 |x|^2), so the last digit written to a file is the
+    one the plain formula gives.
+    """
+    a = np.abs(np.asarray(x))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out = 20.0 * np.log10(a)
+    if floor is not None:
+        out = np.where(np.isnan(out), np.nan, np.maximum(out, floor))
+    out = np.asarray(out, float)
+    return float(out) if out.ndim == 0 else out
 
 
 def from_db10(db):

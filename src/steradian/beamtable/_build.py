@@ -10,7 +10,7 @@ import numpy as np
 from ..array import Steering
 from ..errors import SteradianError
 from ..quantize import ChannelModel
-from ..units import wrap_deg
+from ..units import db20, wrap_deg
 from ._evaluate import BeamEvaluator, BeamMetrics
 from ._table import BeamTable
 
@@ -50,8 +50,7 @@ def _array_metadata(array, channel: ChannelModel, efficiency: float) -> dict:
 
     g = array.geometry
     amp = np.abs(array.taper)
-    with np.errstate(divide="ignore"):
-        amp_db = 20 * np.log10(amp / amp.max())
+    amp_db = db20(amp / amp.max(), floor=None)
     return {
         "steradian_version": __version__,
         "design_frequency_hz": array.frequency,

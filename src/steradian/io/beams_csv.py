@@ -45,7 +45,7 @@ import numpy as np
 from ..beamtable import IQ_SCALE, BeamTable
 from ..errors import FileFormatError, SteradianError
 from ..quantize import StateMap
-from ..units import from_db20, wrap_deg
+from ..units import db20, from_db20, wrap_deg
 from .atomic import write_text
 from .csv_table import read_lines, split_fields
 
@@ -70,9 +70,7 @@ def _columns(enc, with_pos):
 
 def _reading(c):
     amp = np.abs(c)
-    with np.errstate(divide="ignore"):
-        db = 20 * np.log10(amp)
-    return amp, db, np.angle(c, deg=True)
+    return amp, db20(amp, floor=None), np.angle(c, deg=True)
 
 
 def write_beams_csv(path, table: BeamTable) -> None:

@@ -34,7 +34,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import FileFormatError, SteradianError
-from ..units import from_db20, wrap_deg
+from ..units import db20, from_db20, wrap_deg
 from .atomic import write_text
 from .csv_table import check_columns, parse_float, parse_index, read_table
 
@@ -110,8 +110,7 @@ def write_weights(path, weights, positions=None, meta: dict | None = None) -> No
     cols += ["real", "imag", "amplitude", "amplitude_db", "phase_deg"]
     lines.append(",".join(cols))
     amp = np.abs(w)
-    with np.errstate(divide="ignore"):
-        db = 20 * np.log10(amp)
+    db = db20(amp, floor=None)
     ph = np.angle(w, deg=True)
     for i in range(w.size):
         f = [str(i)]
@@ -217,7 +216,7 @@ def _check_agreement(path, w, amp, db, ph, line_of) -> None:
     if not np.all(np.isnan(db)):
         big = a_ref > 1e-6 * peak
         with np.errstate(divide="ignore", invalid="ignore"):
-            db_w = 20 * np.log10(np.where(big, a_ref, 1.0))
+            db_w = db20(np.where(big, a_ref, 1.0), floor=None)
             bad = np.where(big, np.abs(db - db_w) > _DB_TOL,
                            np.abs(from_db20(db) - a_ref) > _AMP_RTOL * peak)
         checks.append(("amplitude_db", bad))
