@@ -19,7 +19,8 @@ import math
 import os
 
 __all__ = ["MARGIN", "reference", "direct", "nufft3", "nufft1", "fft_lattice", "kernel_width",
-           "grid3", "SERIAL_TERMS", "SINC_SERIAL_PAIRS", "OVERHEADS", "GRID_LIMIT", "sinc_pairs",
+           "grid3", "SERIAL_TERMS", "SINC_SERIAL_PAIRS", "NUFFT_OVERHEAD", "FFT_OVERHEAD",
+           "GRID_LIMIT", "sinc_pairs",
            "per_direction", "THREADS_FROM"]
 
 MARGIN = 1.5
@@ -46,7 +47,10 @@ THREADS_FROM = 0.02
 _C_FFT = 4e-4
 _B_FFT = 1.0e-9
 
-OVERHEADS = (_C_NUFFT, _C_FFT)
+NUFFT_OVERHEAD = _C_NUFFT
+"""Fixed seconds of one non-uniform FFT (plan and pool)."""
+FFT_OVERHEAD = _C_FFT
+"""Fixed seconds of one chirp-z transform."""
 """Fixed costs of the transform paths (s): below these, direct summation always wins."""
 
 GRID_LIMIT = 2**26

@@ -83,6 +83,9 @@ class Path:
     estimate: Callable
     sum: Callable | None = None
     run: Callable | None = None
+    overhead: float = 0.0
+    """Fixed seconds a transform costs whatever the size (plan, pool); the smallest decides
+    when no transform can win and the analysis is skipped."""
 
     @property
     def transform(self) -> bool:
@@ -164,8 +167,8 @@ def _nufft_run(p, w, seconds):
 PATHS: dict[str, Path] = {p.name: p for p in (
     Path("reference", lambda p: (_cost.reference(p.n, p.m), "numpy"), sum=af_reference),
     Path("direct", _direct_estimate, sum=af_direct),
-    Path("fft", _fft_estimate, run=_fft_run),
-    Path("nufft", _nufft_estimate, run=_nufft_run),
+    Path("fft", _fft_estimate, run=_fft_run, overhead=_cost.FFT_OVERHEAD),
+    Path("nufft", _nufft_estimate, run=_nufft_run, overhead=_cost.NUFFT_OVERHEAD),
 )}
 """Every evaluation path by name; the exact ones (not transforms) are the baseline."""
 
@@ -184,7 +187,8 @@ class Route:
 def too_small(n: int, m: int) -> bool:
     """No transform can beat direct summation by MARGIN (its fixed overhead alone is too
     much): skip the analysis."""
-    return _cost.direct(n, m) < _cost.MARGIN * min(_cost.OVERHEADS)
+    least = min(p.overhead for p in PATHS.values() if p.transform)
+    return _cost.direct(n, m) < _cost.MARGIN * least
 
 
 def exact_path(n: int, m: int) -> Path:
