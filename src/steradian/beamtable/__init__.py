@@ -42,10 +42,11 @@ from __future__ import annotations
 
 from ..directions import az_el_directions, az_el_to_theta_phi, theta_phi_directions
 from ..units import DB_FLOOR
-from ._build import BeamBuild, Verification, build_beam_table, steered_weights, verify_beam_table
+from ._build import BeamBuild, build_beam_table, steered_weights
 from ._evaluate import BeamEvaluator, BeamMetrics
 from ._grids import BEAMS_KEYS, beams_from_table, span
 from ._table import IQ_SCALE, BeamTable, Encoding, jsonable
+from ._verify import Verification, verify_beam_table
 
 __all__ = [
     "BeamTable",
