@@ -296,3 +296,25 @@ def test_verify_beam_table_api(built):
                                   "(beams out of order)")
     v = st.verify_beam_table(arr, ch, table)  # no directions: states on the file's own
     assert v.matches_design and v.compared["directions"] is False
+
+
+def test_a_design_that_repeats_a_direction_is_matched_beam_for_beam(tmp_path):
+    """A list grid may name a direction twice; the file that repeats it as well matches."""
+    beams = BEAMS.replace("[30.0, 0.0]]", "[12.0, 0.0]]")
+    design = _design(tmp_path, extra=CHANNEL + beams)
+    assert _run("beams", design, "-o", tmp_path / "rep", "-f", "json").exit_code == 0
+    code, out = _verify(design, tmp_path / "rep.json")
+    assert code == 0 and out["matches_design"]
+
+
+def test_a_table_built_with_another_taper_is_named(built, tmp_path):
+    """States differ because the file was built from other weights: a note says so."""
+    tmp, design, _ = built
+    tapered = _design(tmp_path, "taylor.toml",
+                      extra=CHANNEL + BEAMS + '\n[taper]\nkind = "taylor"\nnbar = 3\nsll = 25.0\n')
+    assert _run("beams", tapered, "-o", tmp_path / "tay", "-f", "json").exit_code == 0
+    code, out = _verify(design, tmp_path / "tay.json")
+    assert code == 1 and ", element " in out["first_difference"]
+    assert any("records another taper" in n for n in out["notes"])
+    assert not any("records another taper" in n for n in _verify(design, tmp / "six.json")[1]
+                   ["notes"])

@@ -130,7 +130,24 @@ def verify_beam_table(array, channel: ChannelModel, table: BeamTable, *,
         ref = build_beam_table(array, channel, d, weights=weights, evaluate=False).table
         ref_codes = ref.as_encoding(table.encoding).codes
     mism, compared = _compare(table, ref_dirs, ref_codes)
+    if compared["beams_differing"]:
+        notes += _taper_hint(table, ref)
     return Verification(m, _metric_differences(m, table), notes, mism, compared)
+
+
+def _taper_hint(table: BeamTable, ref: BeamTable) -> list[str]:
+    """A note when the taper summary the file records is not the design's (states differ
+    because the table was built from other weights, e.g. another taper file)."""
+    a, b = table.metadata.get("taper"), ref.metadata.get("taper")
+    if not isinstance(a, dict) or not isinstance(b, dict):
+        return []
+    keys = [k for k in b if isinstance(b[k], (int, float)) and isinstance(a.get(k), (int, float))]
+    off = [k for k in keys if not np.isclose(a[k], b[k], rtol=1e-9, atol=1e-9)]
+    if not off:
+        return []
+    shown = ", ".join(f"{k} {a[k]:.4g} (file) vs {b[k]:.4g} (design)" for k in off[:2])
+    return [f"the file records another taper than the design's ({shown}): it was probably "
+            "built from other weights"]
 
 
 def _check_fit(array, channel: ChannelModel, table: BeamTable) -> None:
@@ -191,26 +208,28 @@ def _same_directions(a: np.ndarray, b: np.ndarray) -> np.ndarray:
 def _match_beams(file_dirs: np.ndarray, ref_dirs: np.ndarray):
     """Match the file's beams to the design's by direction.
 
-    Returns (match, lines, counts): ``match[j]`` is the design beam of file beam ``j`` (-1
-    when none or when it repeats an earlier file beam), the difference lines (beam count,
-    missing, extra, repeated, out-of-order beams) and their counts.
+    Each design beam is taken by at most one file beam. Returns (match, lines, counts):
+    ``match[j]`` is the design beam of file beam ``j`` (-1 when none, or when it repeats a
+    direction already taken), the difference lines (beam count, missing, extra, repeated,
+    out-of-order beams) and their counts.
     """
     same = _same_directions(file_dirs, ref_dirs)
     nf, nr = len(file_dirs), len(ref_dirs)
     lines = []
     if nf != nr:
         lines.append(f"the file holds {nf} beam{'s' * (nf != 1)}, the design gives {nr}")
-    match = np.where(same.any(axis=1), same.argmax(axis=1), -1)
-    first_of = {}
+    match = np.full(nf, -1)
+    taken = {}  # design beam -> the file beam that holds it
     duplicated = []
     for j in range(nf):
-        k = int(match[j])
-        if k >= 0 and k in first_of:
-            duplicated.append((j, first_of[k]))
-            match[j] = -1
-        elif k >= 0:
-            first_of[k] = j
-    missing = [k for k in range(nr) if k not in first_of]
+        cand = [int(k) for k in np.flatnonzero(same[j])]
+        free = [k for k in cand if k not in taken]
+        if free:  # the design's beam at the same index first (a design may repeat a direction)
+            k = j if j in free else free[0]
+            match[j], taken[k] = k, j
+        elif cand:
+            duplicated.append((j, taken[cand[0]]))
+    missing = [k for k in range(nr) if k not in taken]
     extra = [j for j in range(nf) if not same[j].any()]
     lines += [f"{_where(k, ref_dirs[k])} of the design is missing from the file"
               for k in missing]

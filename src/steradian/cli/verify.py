@@ -1,4 +1,4 @@
-"""``steradian verify``: re-evaluate the beams of a weight file against its design."""
+"""``steradian verify``: compare a weight file with its design's table, re-evaluate its beams."""
 
 from __future__ import annotations
 
