@@ -204,6 +204,8 @@ def _append_copy(doc):
 @pytest.mark.parametrize(("edit", "first"), [
     (_swap, "beam 0 (theta 30.0, phi 0.0) is beam 2 of the design (beams out of order)"),
     (_rotate, "beam 0 (theta 30.0, phi 0.0) is beam 2 of the design (beams out of order)"),
+    # theta edited, codes and metrics kept: already exit 1 before (the stored metrics no
+    # longer match), but without saying which beam; now the first difference is named
     (_directions, "beam 0 (theta 30.0, phi 0.0) is beam 2 of the design (beams out of order)"),
     (_drop, "the file holds 2 beams, the design gives 3"),
     (_duplicate, "beam 1 (theta 0.0, phi 0.0) of the design is missing from the file"),
