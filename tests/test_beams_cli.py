@@ -115,7 +115,11 @@ def test_verify_flags_an_edited_file(built, tmp_path):
     p.write_text(json.dumps(doc))
     r = _run("verify", design, p, "--json")
     assert r.exit_code == 1
-    assert json.loads(r.output)["ok"] is False
+    out = json.loads(r.output)
+    assert out["ok"] is False and out["matches_design"] is False
+    assert out["first_difference"].startswith("beam 1 (theta 20.0, phi 0.0), element 0: file "
+                                              "has phase code ")
+    assert out["compared"]["elements_differing"] == 18
 
 
 def test_errors_are_one_line_exit_2(built, tmp_path):
@@ -150,3 +154,7 @@ def test_example_design(tmp_path):
     assert out["summary"]["beams"] == 231 and list(out["files"]) == ["bin"]
     assert out["summary"]["loss_db_max"] < 0.05
     assert out["summary"]["qlobe_db_max"] < -30
+    r = _run("verify", CONFIGS / "balloon_downlink_tile.toml", tmp_path / "tile.bin", "--json")
+    assert r.exit_code == 0, r.output
+    out = json.loads(r.output)
+    assert out["matches_design"] and out["compared"]["directions"] and out["compared"]["states"]

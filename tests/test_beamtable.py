@@ -158,12 +158,18 @@ def test_verify_reproduces_build_and_catches_edits():
     assert np.allclose(res.metrics.gain_dbi, res.metrics.directivity_dbi - 10 * np.log10(2))
     v = verify_beam_table(arr, ch, res.table, efficiency=0.5)
     assert max(v.differences.values()) == 0.0 and v.notes == []
+    assert v.matches_design and v.first_difference is None
     codes = np.array(res.table.codes)
     codes[1, :18, 0] = (codes[1, :18, 0] + 8) % 32  # a hand edit: half the panel 90 deg off
     edited = BeamTable(res.table.states, d, codes, "codes", res.table.phase_offsets_deg,
                        res.table.positions, metrics=res.table.metrics)
     v2 = verify_beam_table(arr, ch, edited, efficiency=0.5)
     assert v2.differences["directivity_dbi"] > 0.5
+    # verify decides (issue 9): the first differing beam and element, in one line
+    assert not v2.matches_design
+    assert v2.first_difference == (
+        f"beam 1 (theta 20.0, phi 0.0), element 0: file has phase code {codes[1, 0, 0]}, "
+        f"design gives {res.table.codes[1, 0, 0]} (18 of 36 elements differ)")
     small = st.Array(st.rectangular(5, 5, 0.5), st.C0)
     with pytest.raises(SteradianError, match="holds 36 weights per beam but the design has 25"):
         verify_beam_table(small, ch, res.table)

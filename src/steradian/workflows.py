@@ -253,25 +253,49 @@ def beam_table_from_design(design, *, weights=None,
                             evaluator=evaluator, metadata=design_metadata(design))
 
 
+def _design_directions(design) -> np.ndarray | None:
+    """The beam directions of the design's ``[beams]`` (None when it has none)."""
+    raw = design.sections.get("beams")
+    if raw is None:
+        return None
+    src = None if design.source is None else str(design.source)
+    return beams_from_table(raw, source=src, base_dir=design.base_dir,
+                            read_file=read_directions)
+
+
 def verify_weight_file(design, path, fmt: str | None = None, *, weights=None,
                        evaluator: BeamEvaluator | None = None) -> tuple[BeamTable, Verification]:
-    """Read any weight file and re-evaluate its beams against ``design``.
+    """Read any weight file, compare it with the table ``design`` gives and re-evaluate it.
 
-    Without a ``[channel]`` table in the design the file's own states are used with no
-    calibration (a note says so).
+    The design's table is rebuilt as ``steradian beams`` builds it (its ``[channel]``,
+    ``[beams]`` and taper, or ``weights``) and every beam's direction and every element's
+    state compared with the file (:func:`steradian.beamtable.verify_beam_table`).
+
+    What cannot be rebuilt is not compared, and a note says so:
+
+    - without ``[channel]`` the design gives no states: the file's own states are evaluated
+      as they are (no calibration), the states are not compared;
+    - without ``[beams]`` the design gives no directions: the file's directions are taken as
+      commanded (states are still compared beam by beam when there is a ``[channel]``).
 
     Returns
     -------
     (BeamTable, Verification)
     """
     table = read_weight_file(path, fmt)
-    ch = channel_of_design(design)
+    own = channel_of_design(design)
+    ch = own if own is not None else ChannelModel(table.states)
     notes = []
-    if ch is None:
-        ch = ChannelModel(table.states)
-        notes.append("the design has no [channel] table: the file's states are used, "
-                     "without calibration")
+    if own is None:
+        notes.append("the design has no [channel] table: the element states are NOT compared "
+                     "with the design (it gives none); the file's states are evaluated as "
+                     "they are, without calibration")
+    d = _design_directions(design)
+    if d is None:
+        notes.append("the design has no [beams] table: the number and directions of the "
+                     "beams are NOT compared; the file's directions are taken as commanded")
     eff = design.options.radiation_efficiency
     v = verify_beam_table(design.array, ch, table, weights=weights, efficiency=eff,
-                          evaluator=evaluator)
+                          evaluator=evaluator, directions=d,
+                          compare_states=own is not None)
     return table, replace(v, notes=notes + list(v.notes))

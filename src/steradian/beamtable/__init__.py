@@ -3,11 +3,12 @@ r"""Beam tables: steering grids, quantized weights per beam, and their re-evalua
 A beam table is what a beamformer loads: for each steering direction, one hardware state
 per element. :func:`build_beam_table` computes each beam's ideal weights (the array's taper,
 or any weights you supply, steered), rounds them with a :class:`~steradian.quantize.ChannelModel`
-and re-evaluates what the quantized beam really radiates. :func:`verify_beam_table` does the
-re-evaluation for a table read from a file, so a file produced elsewhere or edited by hand is
-checked against the design before it reaches hardware. Weight files are read and written by
-:mod:`steradian.io.formats`; the design-file recipes (a design's beam table, verifying a file
-against a design) are in :mod:`steradian.workflows`.
+and re-evaluates what the quantized beam really radiates. :func:`verify_beam_table` checks a
+table read from a file before it reaches hardware: it rebuilds the design's table, compares
+every beam's direction and every element's state with the file (the first difference in one
+line, :attr:`Verification.first_difference`) and re-evaluates the file's beams. Weight files
+are read and written by :mod:`steradian.io.formats`; the design-file recipes (a design's beam
+table, verifying a file against a design) are in :mod:`steradian.workflows`.
 
 Per beam the evaluation reports (levels in dB, angles in degrees):
 
@@ -42,10 +43,11 @@ from __future__ import annotations
 
 from ..directions import az_el_directions, az_el_to_theta_phi, theta_phi_directions
 from ..units import DB_FLOOR
-from ._build import BeamBuild, Verification, build_beam_table, steered_weights, verify_beam_table
+from ._build import BeamBuild, build_beam_table, steered_weights
 from ._evaluate import BeamEvaluator, BeamMetrics
 from ._grids import BEAMS_KEYS, beams_from_table, span
 from ._table import IQ_SCALE, BeamTable, Encoding, jsonable
+from ._verify import Verification, verify_beam_table
 
 __all__ = [
     "BeamTable",

@@ -33,7 +33,7 @@ SHORT_HELP: dict[str, str] = {
     "analyze": "Analyse a TOML design: directivity, gain, beamwidths, sidelobes.",
     "pattern": "Export pattern cuts and u-v grids of a design to CSV.",
     "beams": "Quantize a design's beam table and write firmware weight files.",
-    "verify": "Re-evaluate the beams of a weight file against its design.",
+    "verify": "Compare a weight file with its design's table; re-evaluate its beams.",
     "synth": "Synthesise optimal weights for a design and write a weights CSV.",
     "tradeoff": "Trade curve: maximum directivity against peak sidelobe level.",
 }

@@ -202,6 +202,40 @@ def beam_summary_rows(summary: dict) -> list[tuple[str, str]]:
     ]
 
 
+def _versus_design(ver) -> str:
+    """The "vs design" row of ``steradian verify``."""
+    c = ver.compared
+    parts = (("directions", c.get("directions")), ("element states", c.get("states")))
+    what = " and ".join(k for k, on in parts if on)
+    skipped = " and ".join(k for k, on in parts if not on)
+    if not what:
+        return "nothing compared (the design has no [channel] and no [beams])"
+    tail = f"; {skipped} NOT compared" if skipped else ""
+    if ver.matches_design:
+        return f"{what} match{tail}"
+    return (f"DIFFERS: {c.get('total', len(ver.mismatches))} difference(s), "
+            f"{c.get('elements_differing', 0)} element state(s) in "
+            f"{c.get('beams_differing', 0)} beam(s){tail}")
+
+
+def verification_lines(name, path, tab, ver, worst: dict, tolerance_db: float) -> list[str]:
+    """Human output of ``steradian verify``: the table, the first difference, the notes."""
+    rows = [("design", name), ("file", f"{path} ({tab.encoding})"),
+            ("channel", tab.states.describe())] + beam_summary_rows(ver.metrics.summary())
+    rows.append(("vs design", _versus_design(ver)))
+    if ver.differences:
+        big = max(worst.values(), default=0.0)
+        ok = all(v <= tolerance_db for v in worst.values())
+        rows.append(("vs file's metrics", f"largest level difference {big:.3g} dB "
+                     f"({'within' if ok else 'OVER'} {tolerance_db:g} dB)"))
+    else:
+        rows.append(("vs file's metrics", "the file stores none"))
+    out = [table(rows, "verification")]
+    if ver.first_difference is not None:
+        out.append(f"first difference: {ver.first_difference}")
+    return out + [f"note: {n}" for n in ver.notes]
+
+
 # --------------------------------------------------------------------------------------------
 # Synthesis (synth)
 # --------------------------------------------------------------------------------------------
