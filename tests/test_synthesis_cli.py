@@ -159,3 +159,125 @@ def test_tradeoff_command_writes_table_figure_and_csv(tmp_path):
     bad = _design(tmp_path, "[synthesis.tradeoff]\npoints = 3\nstrat_db = -10.0\n", "b.toml")
     r = CliRunner().invoke(main, ["tradeoff", str(bad)])
     assert r.exit_code == 2 and "synthesis.tradeoff.strat_db" in r.output
+
+
+# --------------------------------------------------------------------------------------------
+# Issue 9: one design carries the chain synth -> analyze -> beams; steering applied once
+# --------------------------------------------------------------------------------------------
+CHAIN = """
+[taper]
+file = "w.csv"
+
+[synthesis]
+method = "max_directivity"
+psl_db = -25.0
+weights = "amplitude"
+
+[channel]
+phase_bits = 6
+attenuator_step_db = 0.5
+attenuator_span_db = 31.5
+
+[beams]
+grid = "theta_phi"
+theta_deg = [0, 10, 20]
+phi_deg = [0]
+"""
+
+
+def test_one_design_carries_synth_analyze_and_beams(tmp_path):
+    """Issue 9 item 8: a design whose [taper] file names the weights synth writes. synth
+    (no -o) computes and writes that file (before the fix: "file not found"); analyze and
+    beams then read it. The analysis of the written taper reproduces synth's directivity, and
+    re-running synth gives the same weights (the file is synth's product, not its input).
+    Reference: consistency of the chain (common practice)."""
+    p = _design(tmp_path, CHAIN, "chain.toml")
+    r = _run(["synth", str(p), "--json"])
+    assert r.exit_code == 0, r.output
+    s = json.loads(r.output)
+    out = tmp_path / "w.csv"
+    assert Path(s["weights_file"]).resolve() == out.resolve()
+    assert s["steering_included"] is False
+    assert read_weights_table(out, 16).steering_included is False
+    first = read_weights(out, 16)
+    r = _run(["synth", str(p), "-o", str(out), "--json"])
+    assert r.exit_code == 0, r.output
+    np.testing.assert_array_equal(read_weights(out, 16), first)
+    r = _run(["analyze", str(p), "--json"])
+    assert r.exit_code == 0, r.output
+    a = json.loads(r.output)
+    assert a["peak_directivity_dbi"] == pytest.approx(s["peak_directivity_dbi"], abs=2e-3)
+    assert a["peak_theta_deg"] == pytest.approx(20.0, abs=0.2)
+    r = _run(["beams", str(p), "-o", str(tmp_path / "t"), "-f", "json", "--worst", "2"])
+    assert r.exit_code == 0, r.output + r.stderr
+    assert "worst 2 by peak sidelobe:" in r.output and "worst 2 by pointing error:" in r.output
+    block = r.output.split("worst 2 by peak sidelobe:")[1].splitlines()[1:3]
+    assert all(line.strip().startswith("beam") for line in block)
+
+
+def test_analyze_and_beams_take_a_weights_file(tmp_path):
+    """--weights FILE replaces the design's taper: a uniform design analysed with the
+    Dolph-Chebyshev weights of scipy.signal.windows.chebwin (30 dB) shows their sidelobe
+    level (Dolph 1946: every sidelobe at the design level)."""
+    from steradian.io.weights_csv import write_weights
+
+    p = tmp_path / "bs.toml"
+    p.write_text(textwrap.dedent(LINE.format(f=C0, extra=CHAIN.split("[channel]")[1]
+                                             .join(["[channel]", ""]))).replace(
+        "theta_deg = 20.0", "theta_deg = 0.0"))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", UserWarning)
+        ref = chebwin(16, 30)
+    w = tmp_path / "cheb.csv"
+    write_weights(w, ref, meta={"steering_included": "no"})
+    r = _run(["analyze", str(p), "--json", "--weights", str(w)])
+    assert r.exit_code == 0, r.output
+    assert json.loads(r.output)["metrics"]["psl_db"] == pytest.approx(-30.0, abs=0.05)
+    r = _run(["beams", str(p), "-o", str(tmp_path / "t"), "-f", "json", "--json",
+              "--weights", str(w)])
+    assert r.exit_code == 0, r.output
+    assert json.loads(r.output)["summary"]["psl_db_max"] < -25
+
+
+def test_steered_weights_under_steering_are_refused(tmp_path):
+    """Issue 9 item 4: weights written by synth --steered (steering_included = yes) loaded
+    into a design that also has [steering] were steered twice (pointing error 80 deg, exit 0
+    before the fix). Now analyze, analyze --weights and beams refuse in one line naming the
+    file and [steering], exit 2; synth refuses to write steered excitations into the
+    design's own taper file. Reference: common practice (steer once)."""
+    p = _design(tmp_path)
+    out = tmp_path / "st.csv"
+    assert _run(["synth", str(p), "-o", str(out), "--steered"]).exit_code == 0
+    assert read_weights_table(out, 16).steering_included is True
+    q = _design(tmp_path, '[taper]\nfile = "st.csv"\n', "twice.toml")
+    r = CliRunner().invoke(main, ["analyze", str(q)])
+    assert r.exit_code == 2 and r.stderr.count("\n") == 1 and "Traceback" not in r.stderr
+    assert "taper.file" in r.stderr and "[steering]" in r.stderr
+    assert "steering_included = yes" in r.stderr
+    r = CliRunner().invoke(main, ["analyze", str(p), "--weights", str(out)])
+    assert r.exit_code == 2 and "st.csv" in r.stderr and "[steering]" in r.stderr
+    # without [steering] the steered excitations are the beam: analyze accepts them ...
+    text = q.read_text().split("[steering]")[0] + '[taper]\nfile = "st.csv"\n'
+    once = tmp_path / "once.toml"
+    once.write_text(text)
+    r = _run(["analyze", str(once), "--json"])
+    assert r.exit_code == 0
+    a = json.loads(r.output)  # a line along x: the beam is the cone u = sin 20 deg
+    u = math.sin(math.radians(a["peak_theta_deg"])) * math.cos(math.radians(a["peak_phi_deg"]))
+    assert u == pytest.approx(math.sin(math.radians(20.0)), abs=2e-3)
+    # ... but a beam table would steer them again to every beam
+    once.write_text(text + CHAIN.split('[taper]\nfile = "w.csv"\n')[1]
+                    .split("[channel]")[1].join(["[channel]", ""]))
+    r = CliRunner().invoke(main, ["beams", str(once), "-o", str(tmp_path / "t")])
+    assert r.exit_code == 2 and "steering_included = yes" in r.stderr
+    # synth --steered into the design's own taper file, which its [steering] steers again
+    c = _design(tmp_path, CHAIN, "chain.toml")
+    r = CliRunner().invoke(main, ["synth", str(c), "--steered"])
+    assert r.exit_code == 2 and "taper.file" in r.stderr and "--steered" in r.stderr
+    assert not (tmp_path / "w.csv").exists()
+
+
+def test_synth_without_output_or_taper_file_is_refused(tmp_path):
+    """No -o and no [taper] file: one line saying where the weights could go, exit 2."""
+    r = CliRunner().invoke(main, ["synth", str(_design(tmp_path))])
+    assert r.exit_code == 2 and "--output" in r.stderr and "[taper] file" in r.stderr
