@@ -281,3 +281,23 @@ def test_synth_without_output_or_taper_file_is_refused(tmp_path):
     """No -o and no [taper] file: one line saying where the weights could go, exit 2."""
     r = CliRunner().invoke(main, ["synth", str(_design(tmp_path))])
     assert r.exit_code == 2 and "--output" in r.stderr and "[taper] file" in r.stderr
+
+
+def test_null_behind_the_ground_plane_is_refused(tmp_path):
+    """Issue 9 item 13: a null at theta 120 deg behind a cos-element panel's ground plane
+    (where the element radiates nothing) was accepted and reported as -6000 dB deep. Now
+    refused, naming synthesis.nulls[0] (or the --null option's nulls[0]), exit 2. Reference:
+    common practice (the front-half-space element model radiates only for theta < 90)."""
+    cos = '[element]\nmodel = "cosine_power"\nq = 1.0\n'
+    p = _design(tmp_path, cos + '[synthesis]\nnulls = [{ theta_deg = 40.0, phi_deg = 0.0 },'
+                ' { theta_deg = 120.0, phi_deg = 0.0 }]\n')
+    r = CliRunner().invoke(main, ["synth", str(p), "-o", str(tmp_path / "w.csv")])
+    assert r.exit_code == 2 and r.stderr.count("\n") == 1 and "Traceback" not in r.stderr
+    assert "synthesis.nulls[1]" in r.stderr and "ground plane" in r.stderr
+    q = _design(tmp_path, cos, "q.toml")
+    r = CliRunner().invoke(main, ["synth", str(q), "-o", str(tmp_path / "w.csv"),
+                                  "--null", "120,0"])
+    assert r.exit_code == 2 and "nulls[0]" in r.stderr and "ground plane" in r.stderr
+    assert not (tmp_path / "w.csv").exists()
+    r = _run(["synth", str(q), "-o", str(tmp_path / "w.csv"), "--null", "40,0", "--json"])
+    assert r.exit_code == 0 and max(json.loads(r.output)["null_depths_db"]) < -100
