@@ -51,7 +51,8 @@ from .patterns import uv_map
 from .quantize import ChannelModel, channel_from_table
 
 __all__ = ["analyze_design", "design_block", "design_with_weights", "export_patterns", "uv_map",
-           "design_for_synthesis", "synthesize_design", "write_synthesis_weights", "tradeoff_of_design", "channel_of_design",
+           "design_for_synthesis", "synthesize_design", "write_synthesis_weights",
+           "tradeoff_of_design", "channel_of_design",
            "design_metadata", "beam_table_from_design", "verify_weight_file"]
 
 
