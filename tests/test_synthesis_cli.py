@@ -301,3 +301,41 @@ def test_null_behind_the_ground_plane_is_refused(tmp_path):
     assert not (tmp_path / "w.csv").exists()
     r = _run(["synth", str(q), "-o", str(tmp_path / "w.csv"), "--null", "40,0", "--json"])
     assert r.exit_code == 0 and max(json.loads(r.output)["null_depths_db"]) < -100
+
+
+def test_infeasible_synthesis_names_the_invisible_grating_lobe(tmp_path):
+    """Issue 9 item 11: --psl-db -30 on a 12 x 8 panel at 0.55 lambda scanned 45 deg is
+    infeasible; the diagnosis said "widen mainlobe or raise the level". The cause is the
+    grating lobe at u = sin 45 - 1/0.55 = -1.111 (Mailloux, Phased Array Antenna Handbook,
+    ch. 2), 0.111 outside visible space, closer to it than the -30 dB Dolph-Chebyshev main
+    lobe is wide (Dolph 1946): the diagnosis now names it."""
+    p = tmp_path / "gl.toml"
+    p.write_text(textwrap.dedent("""
+        [design]
+        name = "gl"
+        frequency_hz = 10e9
+        [geometry]
+        kind = "rectangular"
+        units = "wavelength"
+        count_x = 12
+        count_y = 8
+        spacing_x = 0.55
+        spacing_y = 0.55
+        [element]
+        model = "cosine_power"
+        q = 1.0
+        [steering]
+        theta_deg = 45.0
+        phi_deg = 0.0
+        """))
+    r = CliRunner().invoke(main, ["synth", str(p), "-o", str(tmp_path / "w.csv"),
+                                  "--psl-db", "-30"])
+    assert r.exit_code == 2 and r.stderr.count("\n") == 1
+    u = math.sin(math.radians(45)) - 1 / 0.55
+    assert "grating lobe just outside visible space" in r.stderr
+    assert f"({u:.3f}, 0.000)" in r.stderr and f"{-u - 1:.3f} beyond the horizon" in r.stderr
+    # half-wave spacing: the grating lobe at sin 45 - 2 = -1.293 stays clear; -30 dB is met
+    p.write_text(p.read_text().replace("0.55", "0.5"))
+    r = CliRunner().invoke(main, ["synth", str(p), "-o", str(tmp_path / "w.csv"),
+                                  "--psl-db", "-30"])
+    assert r.exit_code == 0, r.stderr
