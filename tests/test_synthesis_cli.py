@@ -237,6 +237,13 @@ def test_analyze_and_beams_take_a_weights_file(tmp_path):
               "--weights", str(w)])
     assert r.exit_code == 0, r.output
     assert json.loads(r.output)["summary"]["psl_db_max"] < -25
+    # a design whose own [taper] file is not written yet still takes --weights
+    q = tmp_path / "q.toml"
+    q.write_text(p.read_text() + '\n[taper]\nfile = "not_yet.csv"\n')
+    assert CliRunner().invoke(main, ["analyze", str(q)]).exit_code == 2
+    r = _run(["analyze", str(q), "--json", "--weights", str(w)])
+    assert r.exit_code == 0, r.output
+    assert json.loads(r.output)["metrics"]["psl_db"] == pytest.approx(-30.0, abs=0.05)
 
 
 def test_steered_weights_under_steering_are_refused(tmp_path):

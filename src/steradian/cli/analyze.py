@@ -27,7 +27,7 @@ def analyze(design_file, as_json, frequency, weights_file):
     from ..workflows import analyze_design, design_with_weights
     from ._render import emit_json, format_summary
 
-    design = load_design(design_file)
+    design = load_design(design_file, read_taper_file=weights_file is None)
     if weights_file is not None:
         design = design_with_weights(design, weights_file)
     summary = analyze_design(design, frequency)

@@ -40,7 +40,7 @@ def beams(design_file, prefix, formats, bin_encoding, c_prefix, weights_file, wo
     from ..workflows import beam_table_from_design, design_with_weights
     from ._render import beam_summary_rows, echo_written, emit_json, table, worst_beams
 
-    design = load_design(design_file)
+    design = load_design(design_file, read_taper_file=weights_file is None)
     if weights_file is not None:
         design = design_with_weights(design, weights_file)
     build = beam_table_from_design(design)
