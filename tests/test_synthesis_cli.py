@@ -346,3 +346,20 @@ def test_infeasible_synthesis_names_the_invisible_grating_lobe(tmp_path):
     r = CliRunner().invoke(main, ["synth", str(p), "-o", str(tmp_path / "w.csv"),
                                   "--psl-db", "-30"])
     assert r.exit_code == 0, r.stderr
+
+
+def test_unsteered_chain_writes_steering_included_no(tmp_path):
+    """An unsteered design's synth weights hold no steering phases: the file says
+    steering_included = no (it said yes before, so a beam table would have refused the
+    common broadside chain), and beams steers the taper to every beam (common practice)."""
+    p = tmp_path / "bs.toml"
+    p.write_text(textwrap.dedent(LINE.format(f=C0, extra=CHAIN)).replace(
+        "[steering]\ntheta_deg = 20.0\nphi_deg = 0.0\n", ""))
+    r = _run(["synth", str(p), "--steered"])
+    assert r.exit_code == 0 and "(taper)" in r.output
+    assert read_weights_table(tmp_path / "w.csv", 16).steering_included is False
+    r = _run(["beams", str(p), "-o", str(tmp_path / "t"), "-f", "csv", "--json"])
+    assert r.exit_code == 0, r.output
+    rows = json.loads(r.output)["beams"]
+    assert [b["theta_deg"] for b in rows] == [0, 10, 20]
+    assert max(b["pointing_error_deg"] for b in rows) < 0.5

@@ -52,7 +52,7 @@ from .quantize import ChannelModel, channel_from_table
 
 __all__ = ["analyze_design", "design_block", "design_with_weights", "export_patterns", "uv_map",
            "design_for_synthesis", "synthesize_design", "write_synthesis_weights",
-           "tradeoff_of_design", "channel_of_design",
+           "tradeoff_of_design", "channel_of_design", "check_taper_steerable",
            "design_metadata", "beam_table_from_design", "verify_weight_file"]
 
 
@@ -299,6 +299,21 @@ def design_metadata(design) -> dict:
     return meta
 
 
+def check_taper_steerable(design) -> None:
+    """Refuse a design whose taper already holds steering phases (its weights file says
+    ``steering_included = yes``) where a beam table steers the taper to every beam.
+
+    Raises
+    ------
+    SteradianError
+        Naming the weights file: the excitations would be steered twice.
+    """
+    if design.taper_steered:
+        raise SteradianError(f"{design.taper_file}: says steering_included = yes: a beam "
+                             "table steers the taper to every beam and would steer these "
+                             "excitations twice; use the taper (synth without --steered)")
+
+
 def beam_table_from_design(design, *, weights=None,
                            evaluator: BeamEvaluator | None = None) -> BeamBuild:
     """Build the beam table a design asks for (its ``[channel]`` and ``[beams]`` tables).
@@ -316,10 +331,8 @@ def beam_table_from_design(design, *, weights=None,
     """
     ch = channel_of_design(design)
     src = None if design.source is None else str(design.source)
-    if design.taper_steered and weights is None:
-        raise SteradianError(f"{design.taper_file}: says steering_included = yes: a beam "
-                             "table steers the taper to every beam and would steer these "
-                             "excitations twice; use the taper (synth without --steered)")
+    if weights is None:
+        check_taper_steerable(design)
     if ch is None:
         raise DesignError("channel", "the design has no [channel] table; a beam table needs "
                           "the beamformer channel (phase_bits or phase_step_deg, ...)", src)

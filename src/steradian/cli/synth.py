@@ -69,6 +69,6 @@ def synth(design_file, output, method, psl_db, loss_db, mainlobe, weights_kind, 
                                    "steering_included": out})
     else:
         click.echo(table(result_rows(res), title=f"steradian synthesis: {design.name}"))
-        click.echo(f"weights written to {output}"
-                   + (" (steered excitations)" if out else " (taper; the design's [steering] "
-                                                           "applies the steering)"))
+        how = (" (steered excitations)" if out else " (taper; the design's [steering] "
+               "applies the steering)" if res.array.steering is not None else " (taper)")
+        click.echo(f"weights written to {output}{how}")
