@@ -650,6 +650,9 @@ def test_spacing_in_metres_meant_as_wavelengths_warns():
     geo = {**geo, "units": "mm", "spacing_x": 0.3, "spacing_y": 0.3}   # 0.028 lambda
     with pytest.warns(UserWarning, match=r"spacing_x = 0.3 mm is 0.02802 wavelengths"):
         design_from_dict(_base(design={"name": "t", "frequency_hz": 28e9}, geometry=geo))
+    geo = {**geo, "units": "wavelength", "spacing_x": 12.0, "spacing_y": 12.0}
+    with pytest.warns(UserWarning, match=r"spacing_x = 12 wavelength is 12 wavelengths"):
+        design_from_dict(_base(design={"name": "t", "frequency_hz": 28e9}, geometry=geo))
 
 
 def test_ring_spacing_warning_names_the_nearest_elements():

@@ -201,7 +201,7 @@ def _check_spacing(t: Section, geom: Geometry, ctx: _Context) -> None:
     if lo <= nearest <= hi:
         return
     unit = t.data.get("units")
-    size = LENGTH_UNITS.get(unit) if isinstance(unit, str) else None
+    size = (LENGTH_UNITS[unit] or lam) if unit in LENGTH_UNITS else None
     keys = [k for k in ("spacing", "spacing_x", "spacing_y") if k in t
             and isinstance(t.data[k], (int, float)) and size is not None]
     named = [k for k in keys if not lo <= t.data[k] * size / lam <= hi] or keys
