@@ -281,3 +281,32 @@ def test_help_does_not_import_numba_or_matplotlib():
                        timeout=120)
     assert r.returncode == 0, r.stderr
     assert "HEAVY []" in r.stdout
+
+
+def test_analyze_frequency_unit_slip_is_refused(tmp_path):
+    """Issue 9 item 13: --frequency 28 (meant GHz) on a 28 GHz design analysed at 28 Hz with
+    exit 0 before; more than 100x from the design frequency is refused in one line naming
+    the frequency, exit 2 (unit slips are factors of 1000 or more: common practice). pattern
+    --frequency takes the same rule."""
+    p = _panel(tmp_path, f=28e9)
+    r = _run("analyze", p, "--frequency", 28)
+    assert r.exit_code == 2 and r.stderr.count("\n") == 1 and "Traceback" not in r.stderr
+    assert "frequency = 28 Hz" in r.stderr and "times below the design frequency" in r.stderr
+    r = _run("pattern", p, "--frequency", 28, "--cuts", tmp_path / "c.csv")
+    assert r.exit_code == 2 and "frequency = 28 Hz" in r.stderr
+
+
+def test_units_slip_warns_on_stderr_in_one_line(tmp_path):
+    """Issue 9 item 13: units = "m" with spacings meant in wavelengths (0.55 m at 28 GHz is
+    51.4 wavelengths, lambda = c0 / f: common practice) ran silently; the CLI now prints one
+    "steradian: warning:" line naming the key and its value in wavelengths, then runs."""
+    text = PANEL.format(theta=0.0, f=28e9).replace('units = "wavelength"', 'units = "m"')
+    text = text.replace("count_x = 12", "count_x = 2").replace("count_y = 12", "count_y = 2")
+    p = tmp_path / "m.toml"
+    p.write_text(text.replace("= 0.5\n", "= 0.55\n"))
+    r = _run("analyze", p, "--json")
+    assert r.exit_code == 0, r.stderr
+    lines = r.stderr.splitlines()
+    assert len(lines) == 1 and lines[0].startswith("steradian: warning: geometry.spacing_x ")
+    assert f"{0.55 * 28e9 / C0:.4g} wavelengths" in lines[0]
+    json.loads(r.stdout)

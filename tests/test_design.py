@@ -626,3 +626,100 @@ def test_deprecated_design_analyze_warns_and_matches():
     with pytest.warns(DeprecationWarning, match="analyze_design"):
         old = design.analyze()
     assert old == st.analyze_design(design)
+
+
+# ---- issue 9 item 13: sanity checks on units and frequencies ---------------------------------
+def test_spacing_in_metres_meant_as_wavelengths_warns():
+    """units = "m" with spacing_x = 0.55 (meant in wavelengths) at 28 GHz puts the elements
+    51 wavelengths apart (lambda = c0 / f = 10.7 mm, common practice); the design ran silently
+    before. It now warns once, naming the key and its value in wavelengths. Half-wave spacing
+    in any unit does not warn; 0.55 mm at 28 GHz (0.051 lambda) is just inside the range."""
+    lam = C0 / 28e9
+    geo = {"kind": "rectangular", "units": "m", "count_x": 4, "count_y": 4,
+           "spacing_x": 0.55, "spacing_y": 0.55}
+    d = _base(design={"name": "t", "frequency_hz": 28e9}, geometry=geo)
+    with pytest.warns(UserWarning) as rec:
+        design_from_dict(d)
+    assert len(rec) == 1
+    msg = str(rec[0].message)
+    assert "geometry.spacing_x = 0.55 m" in msg and "geometry.units" in msg
+    assert f"{0.55 / lam:.4g} wavelengths" in msg and "\n" not in msg
+    for unit, s in (("m", lam / 2), ("mm", 1e3 * lam / 2), ("mm", 0.55), ("wavelength", 0.5)):
+        geo = {**geo, "units": unit, "spacing_x": s, "spacing_y": s}
+        design_from_dict(_base(design={"name": "t", "frequency_hz": 28e9}, geometry=geo))
+    geo = {**geo, "units": "mm", "spacing_x": 0.3, "spacing_y": 0.3}   # 0.028 lambda
+    with pytest.warns(UserWarning, match=r"spacing_x = 0.3 mm is 0.02802 wavelengths"):
+        design_from_dict(_base(design={"name": "t", "frequency_hz": 28e9}, geometry=geo))
+    geo = {**geo, "units": "wavelength", "spacing_x": 12.0, "spacing_y": 12.0}
+    with pytest.warns(UserWarning, match=r"spacing_x = 12 wavelength is 12 wavelengths"):
+        design_from_dict(_base(design={"name": "t", "frequency_hz": 28e9}, geometry=geo))
+
+
+def test_ring_spacing_warning_names_the_nearest_elements():
+    """Layouts without a spacing key (a ring) are judged by the nearest-element distance:
+    8 elements on a 0.01-wavelength radius are 2 r sin(pi / 8) = 0.00765 wavelengths apart
+    (chord length, common practice)."""
+    geo = {"kind": "ring", "units": "wavelength", "count": 8, "radius": 0.01}
+    with pytest.warns(UserWarning, match=r"nearest elements are 0.007654 wavelengths apart"):
+        design_from_dict(_base(geometry=geo, element={"model": "isotropic"}))
+
+
+def test_analysis_frequency_far_from_the_design_frequency_is_refused():
+    """analysis.frequency_hz = 28 in a 28 GHz design (meant GHz) evaluated at 28 Hz before;
+    more than 100x from the design frequency is now refused, naming the key (the widest-band
+    arrays cover about a decade; unit slips are factors of 1000 or more: common practice)."""
+    d = _base(design={"name": "t", "frequency_hz": 28e9}, analysis={"frequency_hz": 28.0},
+              geometry={"kind": "rectangular", "units": "wavelength", "count_x": 4,
+                        "count_y": 4, "spacing_x": 0.5})
+    e = _err(d, "analysis.frequency_hz")
+    assert "1e+09 times below" in str(e) and "28e9" in str(e)
+    d["analysis"] = {"frequency_hz": 29e9}
+    assert design_from_dict(d).options.frequency == 29e9
+    from steradian.array import FREQUENCY_RATIO_LIMIT, check_frequency
+
+    assert FREQUENCY_RATIO_LIMIT == 100
+    assert check_frequency(0.27e9, 27e9) == pytest.approx(0.27e9)
+    with pytest.raises(st.SteradianError, match="above the design frequency"):
+        check_frequency(2.8e12, 27e9)
+
+
+def test_steered_weights_file_under_steering_is_refused(tmp_path):
+    """Issue 9 item 4 at the library level: a weights file saying steering_included = yes in
+    a design with [steering] raises DesignError on taper.file; without [steering] it loads
+    and the design records that its taper holds the steering phases."""
+    w = tmp_path / "w.csv"
+    write_weights(w, np.exp(1j * np.arange(32)), meta={"steering_included": "yes"})
+    d = _base(taper={"file": "w.csv"}, steering={"theta_deg": 30.0})
+    with pytest.raises(DesignError) as ei:
+        design_from_dict(d, base_dir=tmp_path)
+    assert ei.value.key == "taper.file"
+    assert "[steering]" in str(ei.value) and "steered twice" in str(ei.value)
+    design = design_from_dict(_base(taper={"file": "w.csv"}), base_dir=tmp_path)
+    assert design.taper_steered and design.taper_file == w.resolve()
+    write_weights(w, np.ones(32), meta={"steering_included": "no"})
+    d = _base(taper={"file": "w.csv"}, steering={"theta_deg": 30.0})
+    assert not design_from_dict(d, base_dir=tmp_path).taper_steered
+
+
+def test_taper_file_left_unread_for_synthesis(tmp_path):
+    """read_taper_file=False: a [taper] file that does not exist yet is named, not read (the
+    taper is uniform); read normally it is "file not found"."""
+    d = _base(taper={"file": "later.csv"})
+    design = design_from_dict(d, base_dir=tmp_path, read_taper_file=False)
+    assert design.taper_file == (tmp_path / "later.csv").resolve()
+    assert np.all(design.array.taper == 1)
+    with pytest.raises(DesignError, match="file not found"):
+        design_from_dict(d, base_dir=tmp_path)
+
+
+def test_verify_refuses_a_taper_that_already_holds_steering(tmp_path):
+    """Issue 9 item 4 on the verify path: a design whose taper file says steering_included =
+    yes would be steered a second time by the rebuilt table, so verify refuses it (common
+    practice: a beam table steers an unsteered taper) before reading the weight file."""
+    from steradian.workflows import verify_weight_file
+
+    w = tmp_path / "w.csv"
+    write_weights(w, np.exp(1j * np.arange(32)), meta={"steering_included": "yes"})
+    design = design_from_dict(_base(taper={"file": "w.csv"}), base_dir=tmp_path)
+    with pytest.raises(st.SteradianError, match="steer these excitations twice"):
+        verify_weight_file(design, tmp_path / "absent.bin")

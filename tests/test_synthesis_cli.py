@@ -159,3 +159,207 @@ def test_tradeoff_command_writes_table_figure_and_csv(tmp_path):
     bad = _design(tmp_path, "[synthesis.tradeoff]\npoints = 3\nstrat_db = -10.0\n", "b.toml")
     r = CliRunner().invoke(main, ["tradeoff", str(bad)])
     assert r.exit_code == 2 and "synthesis.tradeoff.strat_db" in r.output
+
+
+# --------------------------------------------------------------------------------------------
+# Issue 9: one design carries the chain synth -> analyze -> beams; steering applied once
+# --------------------------------------------------------------------------------------------
+CHAIN = """
+[taper]
+file = "w.csv"
+
+[synthesis]
+method = "max_directivity"
+psl_db = -25.0
+weights = "amplitude"
+
+[channel]
+phase_bits = 6
+attenuator_step_db = 0.5
+attenuator_span_db = 31.5
+
+[beams]
+grid = "theta_phi"
+theta_deg = [0, 10, 20]
+phi_deg = [0]
+"""
+
+
+def test_one_design_carries_synth_analyze_and_beams(tmp_path):
+    """Issue 9 item 8: a design whose [taper] file names the weights synth writes. synth
+    (no -o) computes and writes that file (before the fix: "file not found"); analyze and
+    beams then read it. The analysis of the written taper reproduces synth's directivity, and
+    re-running synth gives the same weights (the file is synth's product, not its input).
+    Reference: consistency of the chain (common practice)."""
+    p = _design(tmp_path, CHAIN, "chain.toml")
+    r = _run(["synth", str(p), "--json"])
+    assert r.exit_code == 0, r.output
+    s = json.loads(r.output)
+    out = tmp_path / "w.csv"
+    assert Path(s["weights_file"]).resolve() == out.resolve()
+    assert s["steering_included"] is False
+    assert read_weights_table(out, 16).steering_included is False
+    first = read_weights(out, 16)
+    r = _run(["synth", str(p), "-o", str(out), "--json"])
+    assert r.exit_code == 0, r.output
+    np.testing.assert_array_equal(read_weights(out, 16), first)
+    r = _run(["analyze", str(p), "--json"])
+    assert r.exit_code == 0, r.output
+    a = json.loads(r.output)
+    assert a["peak_directivity_dbi"] == pytest.approx(s["peak_directivity_dbi"], abs=2e-3)
+    assert a["peak_theta_deg"] == pytest.approx(20.0, abs=0.2)
+    r = _run(["beams", str(p), "-o", str(tmp_path / "t"), "-f", "json", "--worst", "2"])
+    assert r.exit_code == 0, r.output + r.stderr
+    assert "worst 2 by peak sidelobe:" in r.output and "worst 2 by pointing error:" in r.output
+    block = r.output.split("worst 2 by peak sidelobe:")[1].splitlines()[1:3]
+    assert all(line.strip().startswith("beam") for line in block)
+
+
+def test_analyze_and_beams_take_a_weights_file(tmp_path):
+    """--weights FILE replaces the design's taper: a uniform design analysed with the
+    Dolph-Chebyshev weights of scipy.signal.windows.chebwin (30 dB) shows their sidelobe
+    level (Dolph 1946: every sidelobe at the design level)."""
+    from steradian.io.weights_csv import write_weights
+
+    p = tmp_path / "bs.toml"
+    p.write_text(textwrap.dedent(LINE.format(f=C0, extra=CHAIN.split("[channel]")[1]
+                                             .join(["[channel]", ""]))).replace(
+        "theta_deg = 20.0", "theta_deg = 0.0"))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", UserWarning)
+        ref = chebwin(16, 30)
+    w = tmp_path / "cheb.csv"
+    write_weights(w, ref, meta={"steering_included": "no"})
+    r = _run(["analyze", str(p), "--json", "--weights", str(w)])
+    assert r.exit_code == 0, r.output
+    assert json.loads(r.output)["metrics"]["psl_db"] == pytest.approx(-30.0, abs=0.05)
+    r = _run(["beams", str(p), "-o", str(tmp_path / "t"), "-f", "json", "--json",
+              "--weights", str(w)])
+    assert r.exit_code == 0, r.output
+    assert json.loads(r.output)["summary"]["psl_db_max"] < -25
+    # a design whose own [taper] file is not written yet still takes --weights
+    q = tmp_path / "q.toml"
+    q.write_text(p.read_text() + '\n[taper]\nfile = "not_yet.csv"\n')
+    assert CliRunner().invoke(main, ["analyze", str(q)]).exit_code == 2
+    r = _run(["analyze", str(q), "--json", "--weights", str(w)])
+    assert r.exit_code == 0, r.output
+    assert json.loads(r.output)["metrics"]["psl_db"] == pytest.approx(-30.0, abs=0.05)
+
+
+def test_steered_weights_under_steering_are_refused(tmp_path):
+    """Issue 9 item 4: weights written by synth --steered (steering_included = yes) loaded
+    into a design that also has [steering] were steered twice (pointing error 80 deg, exit 0
+    before the fix). Now analyze, analyze --weights and beams refuse in one line naming the
+    file and [steering], exit 2; synth refuses to write steered excitations into the
+    design's own taper file. Reference: common practice (steer once)."""
+    p = _design(tmp_path)
+    out = tmp_path / "st.csv"
+    assert _run(["synth", str(p), "-o", str(out), "--steered"]).exit_code == 0
+    assert read_weights_table(out, 16).steering_included is True
+    q = _design(tmp_path, '[taper]\nfile = "st.csv"\n', "twice.toml")
+    r = CliRunner().invoke(main, ["analyze", str(q)])
+    assert r.exit_code == 2 and r.stderr.count("\n") == 1 and "Traceback" not in r.stderr
+    assert "taper.file" in r.stderr and "[steering]" in r.stderr
+    assert "steering_included = yes" in r.stderr
+    r = CliRunner().invoke(main, ["analyze", str(p), "--weights", str(out)])
+    assert r.exit_code == 2 and "st.csv" in r.stderr and "[steering]" in r.stderr
+    # without [steering] the steered excitations are the beam: analyze accepts them ...
+    text = q.read_text().split("[steering]")[0] + '[taper]\nfile = "st.csv"\n'
+    once = tmp_path / "once.toml"
+    once.write_text(text)
+    r = _run(["analyze", str(once), "--json"])
+    assert r.exit_code == 0
+    a = json.loads(r.output)  # a line along x: the beam is the cone u = sin 20 deg
+    u = math.sin(math.radians(a["peak_theta_deg"])) * math.cos(math.radians(a["peak_phi_deg"]))
+    assert u == pytest.approx(math.sin(math.radians(20.0)), abs=2e-3)
+    # ... but a beam table would steer them again to every beam
+    once.write_text(text + CHAIN.split('[taper]\nfile = "w.csv"\n')[1]
+                    .split("[channel]")[1].join(["[channel]", ""]))
+    r = CliRunner().invoke(main, ["beams", str(once), "-o", str(tmp_path / "t")])
+    assert r.exit_code == 2 and "steering_included = yes" in r.stderr
+    # synth --steered into the design's own taper file, which its [steering] steers again
+    c = _design(tmp_path, CHAIN, "chain.toml")
+    r = CliRunner().invoke(main, ["synth", str(c), "--steered"])
+    assert r.exit_code == 2 and "taper.file" in r.stderr and "--steered" in r.stderr
+    assert not (tmp_path / "w.csv").exists()
+
+
+def test_synth_without_output_or_taper_file_is_refused(tmp_path):
+    """No -o and no [taper] file: one line saying where the weights could go, exit 2."""
+    r = CliRunner().invoke(main, ["synth", str(_design(tmp_path))])
+    assert r.exit_code == 2 and "--output" in r.stderr and "[taper] file" in r.stderr
+
+
+def test_null_behind_the_ground_plane_is_refused(tmp_path):
+    """Issue 9 item 13: a null at theta 120 deg behind a cos-element panel's ground plane
+    (where the element radiates nothing) was accepted and reported as -6000 dB deep. Now
+    refused, naming synthesis.nulls[0] (or the --null option's nulls[0]), exit 2. Reference:
+    common practice (the front-half-space element model radiates only for theta < 90)."""
+    cos = '[element]\nmodel = "cosine_power"\nq = 1.0\n'
+    p = _design(tmp_path, cos + '[synthesis]\nnulls = [{ theta_deg = 40.0, phi_deg = 0.0 },'
+                ' { theta_deg = 120.0, phi_deg = 0.0 }]\n')
+    r = CliRunner().invoke(main, ["synth", str(p), "-o", str(tmp_path / "w.csv")])
+    assert r.exit_code == 2 and r.stderr.count("\n") == 1 and "Traceback" not in r.stderr
+    assert "synthesis.nulls[1]" in r.stderr and "ground plane" in r.stderr
+    q = _design(tmp_path, cos, "q.toml")
+    r = CliRunner().invoke(main, ["synth", str(q), "-o", str(tmp_path / "w.csv"),
+                                  "--null", "120,0"])
+    assert r.exit_code == 2 and "nulls[0]" in r.stderr and "ground plane" in r.stderr
+    assert not (tmp_path / "w.csv").exists()
+    r = _run(["synth", str(q), "-o", str(tmp_path / "w.csv"), "--null", "40,0", "--json"])
+    assert r.exit_code == 0 and max(json.loads(r.output)["null_depths_db"]) < -100
+
+
+def test_infeasible_synthesis_names_the_invisible_grating_lobe(tmp_path):
+    """Issue 9 item 11: --psl-db -30 on a 12 x 8 panel at 0.55 lambda scanned 45 deg is
+    infeasible; the diagnosis said "widen mainlobe or raise the level". The cause is the
+    grating lobe at u = sin 45 - 1/0.55 = -1.111 (Mailloux, Phased Array Antenna Handbook,
+    ch. 2), 0.111 outside visible space, closer to it than the -30 dB Dolph-Chebyshev main
+    lobe is wide (Dolph 1946): the diagnosis now names it."""
+    p = tmp_path / "gl.toml"
+    p.write_text(textwrap.dedent("""
+        [design]
+        name = "gl"
+        frequency_hz = 10e9
+        [geometry]
+        kind = "rectangular"
+        units = "wavelength"
+        count_x = 12
+        count_y = 8
+        spacing_x = 0.55
+        spacing_y = 0.55
+        [element]
+        model = "cosine_power"
+        q = 1.0
+        [steering]
+        theta_deg = 45.0
+        phi_deg = 0.0
+        """))
+    r = CliRunner().invoke(main, ["synth", str(p), "-o", str(tmp_path / "w.csv"),
+                                  "--psl-db", "-30"])
+    assert r.exit_code == 2 and r.stderr.count("\n") == 1
+    u = math.sin(math.radians(45)) - 1 / 0.55
+    assert "grating lobe just outside visible space" in r.stderr
+    assert f"({u:.3f}, 0.000)" in r.stderr and f"{-u - 1:.3f} beyond the horizon" in r.stderr
+    # half-wave spacing: the grating lobe at sin 45 - 2 = -1.293 stays clear; -30 dB is met
+    p.write_text(p.read_text().replace("0.55", "0.5"))
+    r = CliRunner().invoke(main, ["synth", str(p), "-o", str(tmp_path / "w.csv"),
+                                  "--psl-db", "-30"])
+    assert r.exit_code == 0, r.stderr
+
+
+def test_unsteered_chain_writes_steering_included_no(tmp_path):
+    """An unsteered design's synth weights hold no steering phases: the file says
+    steering_included = no (it said yes before, so a beam table would have refused the
+    common broadside chain), and beams steers the taper to every beam (common practice)."""
+    p = tmp_path / "bs.toml"
+    p.write_text(textwrap.dedent(LINE.format(f=C0, extra=CHAIN)).replace(
+        "[steering]\ntheta_deg = 20.0\nphi_deg = 0.0\n", ""))
+    r = _run(["synth", str(p), "--steered"])
+    assert r.exit_code == 0 and "(taper)" in r.output
+    assert read_weights_table(tmp_path / "w.csv", 16).steering_included is False
+    r = _run(["beams", str(p), "-o", str(tmp_path / "t"), "-f", "csv", "--json"])
+    assert r.exit_code == 0, r.output
+    rows = json.loads(r.output)["beams"]
+    assert [b["theta_deg"] for b in rows] == [0, 10, 20]
+    assert max(b["pointing_error_deg"] for b in rows) < 0.5

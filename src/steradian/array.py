@@ -14,7 +14,13 @@ from .geometry import Geometry
 from .units import C0
 from .validate import choice, finite_array, positive
 
-__all__ = ["Array", "Steering", "direction", "steering_phases"]
+__all__ = ["Array", "Steering", "direction", "steering_phases", "check_frequency",
+           "FREQUENCY_RATIO_LIMIT"]
+
+FREQUENCY_RATIO_LIMIT = 100.0
+"""An evaluation frequency more than this factor above or below the design frequency is
+refused by :func:`check_frequency`: the widest-band arrays in use cover about a decade, while
+a unit slip (Hz for kHz, MHz or GHz) is a factor of 1000 or more (common practice)."""
 
 SteerMode = Literal["phase", "delay"]
 
@@ -22,6 +28,27 @@ SteerMode = Literal["phase", "delay"]
 def direction(theta_deg: float, phi_deg: float) -> np.ndarray:
     """Unit vector for angles in degrees (theta from +z, phi from +x toward +y)."""
     return unit_vectors_deg(float(theta_deg), float(phi_deg))
+
+
+def check_frequency(frequency: float, design_frequency: float,
+                    name: str = "frequency") -> float:
+    """``frequency`` (Hz) checked against the design frequency, as a float.
+
+    Raises
+    ------
+    SteradianError
+        When it is not a positive finite number, or more than :data:`FREQUENCY_RATIO_LIMIT`
+        times above or below ``design_frequency`` (a unit slip: ``28`` meant as GHz is 28 Hz).
+    """
+    f = positive(name, frequency, " Hz")
+    ratio = f / float(design_frequency)
+    if not 1.0 / FREQUENCY_RATIO_LIMIT <= ratio <= FREQUENCY_RATIO_LIMIT:
+        side = f"{1 / ratio:.3g} times below" if ratio < 1 else f"{ratio:.3g} times above"
+        raise SteradianError(
+            f"{name} = {f:g} Hz is {side} the design frequency {design_frequency:g} Hz (more "
+            f"than {FREQUENCY_RATIO_LIMIT:g}x away; frequencies are in Hz, e.g. 28e9 for "
+            "28 GHz)")
+    return f
 
 
 @dataclass(frozen=True)

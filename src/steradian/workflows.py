@@ -7,8 +7,12 @@ Each recipe takes a :class:`~steradian.io.design.Design` (read by
 - :func:`analyze_design`: the analysis summary of a design (``steradian analyze``);
 - :func:`export_patterns` and :func:`uv_map`: pattern cuts and u-v maps to CSV and PNG
   (``steradian pattern``, ``steradian demo``);
-- :func:`synthesize_design` and :func:`write_synthesis_weights`: synthesis from
-  ``[synthesis]`` and its weights CSV (``steradian synth``);
+- :func:`design_for_synthesis`, :func:`synthesize_design` and
+  :func:`write_synthesis_weights`: synthesis from ``[synthesis]`` and its weights CSV
+  (``steradian synth``), which may be the file the design's ``[taper] file`` names, so one
+  design carries the chain synth -> analyze -> beams;
+- :func:`design_with_weights`: a design with a weights CSV in place of its taper
+  (``--weights FILE`` of ``analyze`` and ``beams``);
 - :func:`tradeoff_of_design`: the directivity / sidelobe trade curve (``steradian tradeoff``);
 - :func:`channel_of_design`, :func:`beam_table_from_design` and :func:`verify_weight_file`:
   quantized beam tables from ``[channel]`` and ``[beams]``, and re-evaluating a weight file
@@ -26,6 +30,7 @@ from pathlib import Path
 import numpy as np
 
 from .analysis import analyze
+from .array import check_frequency
 from .beamtable import (
     BeamBuild,
     BeamEvaluator,
@@ -35,18 +40,19 @@ from .beamtable import (
     build_beam_table,
     verify_beam_table,
 )
-from .errors import DesignError
+from .errors import DesignError, SteradianError
 from .io.calibration_csv import read_calibration
+from .io.design import load_design, weights_file_taper
 from .io.directions_csv import read_directions
 from .io.formats import read_weight_file
 from .io.pattern_csv import write_cuts, write_uv
 from .io.weights_csv import write_weights
 from .patterns import uv_map
 from .quantize import ChannelModel, channel_from_table
-from .validate import positive
 
-__all__ = ["analyze_design", "design_block", "export_patterns", "uv_map", "synthesize_design",
-           "write_synthesis_weights", "tradeoff_of_design", "channel_of_design",
+__all__ = ["analyze_design", "design_block", "design_with_weights", "export_patterns", "uv_map",
+           "design_for_synthesis", "synthesize_design", "write_synthesis_weights",
+           "tradeoff_of_design", "channel_of_design", "check_taper_steerable",
            "design_metadata", "beam_table_from_design", "verify_weight_file"]
 
 
@@ -62,13 +68,39 @@ def design_block(design) -> dict:
 def analyze_design(design, frequency: float | None = None) -> dict:
     """Run :func:`steradian.analysis.analyze` with the design's ``[analysis]`` options.
 
-    ``frequency`` (Hz) overrides ``analysis.frequency_hz``. The returned dictionary is the
-    analysis summary with a ``design`` block (name, description, source) first.
+    ``frequency`` (Hz) overrides ``analysis.frequency_hz``; it is refused when more than
+    :data:`steradian.array.FREQUENCY_RATIO_LIMIT` times away from the design frequency (a
+    unit slip: ``28`` meant as GHz). The returned dictionary is the analysis summary with a
+    ``design`` block (name, description, source) first.
     """
     opt = design.options
     if frequency is not None:
-        opt = replace(opt, frequency=positive("frequency", frequency, " Hz"))
+        opt = replace(opt, frequency=check_frequency(frequency, design.array.frequency))
     return {"design": design_block(design), **analyze(design.array, opt).to_dict()}
+
+
+def design_with_weights(design, path):
+    """``design`` with the weights CSV ``path`` in place of its taper (``--weights FILE``).
+
+    The file's positions must match the geometry, and a file whose weights already hold the
+    steering phases (``steering_included = yes``) is refused when the design has
+    ``[steering]`` (:func:`steradian.io.design.weights_file_taper`).
+
+    Raises
+    ------
+    SteradianError
+        Naming the file, for either refusal; FileFormatError for a file that cannot be read.
+    """
+    path = Path(path)
+    arr = design.array
+    try:
+        w, steered = weights_file_taper(path, arr.geometry, arr.wavelength, arr.steering)
+    except SteradianError as exc:
+        if type(exc) is not SteradianError:
+            raise
+        raise SteradianError(f"weights file {path}: {exc}") from None
+    return replace(design, array=arr.with_taper(w), taper_file=path.resolve(),
+                   taper_steered=steered)
 
 
 # --------------------------------------------------------------------------------------------
@@ -93,7 +125,8 @@ def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_pn
     span_deg : float
         Half-span of each cut about the beam axis (deg, at most 180).
     frequency : float, optional
-        Evaluation frequency (Hz).
+        Evaluation frequency (Hz; refused beyond
+        :data:`~steradian.array.FREQUENCY_RATIO_LIMIT` times the design frequency).
     meta : dict, optional
         ``# key = value`` lines for the CSV headers.
     title : str, optional
@@ -112,6 +145,8 @@ def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_pn
     from .metrics import principal_cuts
     from .radiation import peak_directivity, radiated_power
 
+    if frequency is not None:
+        frequency = check_frequency(frequency, array.frequency)
     power = radiated_power(array, frequency=frequency)
     pk = peak_directivity(array, frequency=frequency, power=power)
     m = {"frequency_hz": array.frequency if frequency is None else frequency, **(meta or {})}
@@ -158,6 +193,44 @@ def _plot_cuts(array, cuts, path, frequency, pk, title, metrics) -> None:
 # --------------------------------------------------------------------------------------------
 # Synthesis
 # --------------------------------------------------------------------------------------------
+def design_for_synthesis(path, output=None, steered: bool = False):
+    """Read the design ``synth`` works on and decide the weights file it writes.
+
+    When the design's ``[taper] file`` is the output (``output`` omitted, or naming the same
+    file), that file is synth's product, not its input: it is not read (it need not exist)
+    and the synthesis starts from the uniform taper, so running synth twice gives the same
+    weights. A ``[taper] file`` naming another file is an input (the amplitudes of
+    ``phase_only``, the taper ``thin`` switches) and must exist.
+
+    Returns
+    -------
+    (Design, Path)
+        The design and the weights file to write.
+
+    Raises
+    ------
+    SteradianError
+        No output given and no ``[taper] file``; or ``steered`` excitations would be written
+        into the design's own taper file while it has ``[steering]`` (steered twice).
+    """
+    design = load_design(path, read_taper_file=False)
+    own = design.taper_file
+    if output is None:
+        if own is None:
+            raise SteradianError("no weights file to write: give --output FILE or name it in "
+                                 "the design's [taper] file")
+        output = own
+    output = Path(output)
+    if own is not None and output.resolve() != own:
+        design = load_design(path)
+    elif own is not None and steered and design.array.steering is not None:
+        raise DesignError("taper.file", f"--steered would write steered excitations into "
+                          f"{own.name}, which this design's [steering] would steer again; "
+                          "drop --steered (the taper is written and [steering] steers it)",
+                          None if design.source is None else str(design.source))
+    return design, output
+
+
 def synthesize_design(design, **overrides):
     """Run the synthesis the design's ``[synthesis]`` table asks for.
 
@@ -173,12 +246,14 @@ def synthesize_design(design, **overrides):
 def write_synthesis_weights(res, path, name: str, steered: bool = False) -> bool:
     """Write a synthesis result's weights CSV; returns whether the steering phases are in it.
 
-    Without ``steered`` (and when the array is steered) the taper is written, which the
-    design's ``[steering]`` then steers; with it, the steered excitations.
+    Without ``steered`` the taper is written, which the design's ``[steering]`` then steers;
+    with it (and a steered array), the steered excitations. The file's
+    ``steering_included`` line says which (``no`` for an unsteered array: its weights hold no
+    steering phases), so a design that would steer them again refuses the file.
     """
     arr = res.array
-    include = bool(steered) or arr.steering is None
-    w = res.weights if include else arr.taper
+    include = bool(steered) and arr.steering is not None
+    w = res.weights if include or arr.steering is None else arr.taper
     meta = {"design": name, "method": res.method,
             "directivity_dbi": f"{res.directivity_dbi:.6f}",
             "psl_db": "" if res.psl_db is None else f"{res.psl_db:.6f}",
@@ -224,12 +299,28 @@ def design_metadata(design) -> dict:
     return meta
 
 
+def check_taper_steerable(design) -> None:
+    """Refuse a design whose taper already holds steering phases (its weights file says
+    ``steering_included = yes``) where a beam table steers the taper to every beam.
+
+    Raises
+    ------
+    SteradianError
+        Naming the weights file: the excitations would be steered twice.
+    """
+    if design.taper_steered:
+        raise SteradianError(f"{design.taper_file}: says steering_included = yes: a beam "
+                             "table steers the taper to every beam and would steer these "
+                             "excitations twice; use the taper (synth without --steered)")
+
+
 def beam_table_from_design(design, *, weights=None,
                            evaluator: BeamEvaluator | None = None) -> BeamBuild:
     """Build the beam table a design asks for (its ``[channel]`` and ``[beams]`` tables).
 
     The ideal weights are the design's taper (``[taper]``, which may come from synthesis)
-    steered to each beam, unless ``weights`` is given (see
+    steered to each beam (a taper whose file says ``steering_included = yes`` is refused:
+    it would be steered twice), unless ``weights`` is given (see
     :func:`steradian.beamtable.steered_weights`). The gain uses
     ``analysis.radiation_efficiency``.
 
@@ -240,14 +331,15 @@ def beam_table_from_design(design, *, weights=None,
     """
     ch = channel_of_design(design)
     src = None if design.source is None else str(design.source)
+    if weights is None:
+        check_taper_steerable(design)
     if ch is None:
         raise DesignError("channel", "the design has no [channel] table; a beam table needs "
                           "the beamformer channel (phase_bits or phase_step_deg, ...)", src)
-    if "beams" not in design.sections:
+    d = _design_directions(design)
+    if d is None:
         raise DesignError("beams", "the design has no [beams] table; give the steering grid "
                           "(grid = 'theta_phi', 'az_el' or 'list')", src)
-    d = beams_from_table(design.sections["beams"], source=src, base_dir=design.base_dir,
-                         read_file=read_directions)
     eff = design.options.radiation_efficiency
     return build_beam_table(design.array, ch, d, weights=weights, efficiency=eff,
                             evaluator=evaluator, metadata=design_metadata(design))
@@ -282,6 +374,8 @@ def verify_weight_file(design, path, fmt: str | None = None, *, weights=None,
     -------
     (BeamTable, Verification)
     """
+    if weights is None:
+        check_taper_steerable(design)
     table = read_weight_file(path, fmt)
     own = channel_of_design(design)
     ch = own if own is not None else ChannelModel(table.states)

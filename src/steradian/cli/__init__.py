@@ -3,13 +3,16 @@
 Commands are registered by name in :data:`COMMANDS` and imported only when invoked, so
 ``steradian --help`` never waits on numba or matplotlib. Each command parses its options,
 calls one recipe and shows the result through :mod:`steradian.cli._render` (tables, JSON);
-commands never import each other.
+commands never import each other. Library warnings (``UserWarning``: legal but doubtful input)
+are shown as one ``steradian: warning: ...`` line on stderr; errors as one
+``steradian: error: ...`` line with exit code 2.
 """
 
 from __future__ import annotations
 
 import importlib
 import logging
+import warnings
 
 import click
 
@@ -39,6 +42,10 @@ SHORT_HELP: dict[str, str] = {
 }
 
 
+def _show_warning(message, category, filename, lineno, file=None, line=None):
+    click.echo(f"steradian: warning: {message}", err=True)
+
+
 class _LazyGroup(click.Group):
     def list_commands(self, ctx):
         return sorted(COMMANDS)
@@ -57,7 +64,10 @@ class _LazyGroup(click.Group):
 
     def invoke(self, ctx):
         try:
-            return super().invoke(ctx)
+            with warnings.catch_warnings():
+                warnings.simplefilter("always", UserWarning)
+                warnings.showwarning = _show_warning
+                return super().invoke(ctx)
         except SteradianError as exc:
             click.echo(f"steradian: error: {exc}", err=True)
             ctx.exit(2)

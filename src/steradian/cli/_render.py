@@ -236,6 +236,30 @@ def verification_lines(name, path, tab, ver, worst: dict, tolerance_db: float) -
     return out + [f"note: {n}" for n in ver.notes]
 
 
+_WORST = (("loss_db", "loss vs ideal", "dB", True), ("psl_db", "peak sidelobe", "dB", True),
+          ("qlobe_db", "quantization lobe", "dB", True),
+          ("pointing_error_deg", "pointing error", "deg", True),
+          ("gain_dbi", "peak gain", "dBi", False),
+          ("rms_phase_error_deg", "RMS phase error", "deg", True))
+"""Per-beam metrics ``beams --worst`` lists: (row key, label, unit, whether high is bad)."""
+
+
+def worst_beams(rows: list[dict], n: int) -> str:
+    """The ``n`` worst beams of each metric in :data:`_WORST`, from
+    :meth:`BeamMetrics.rows` (beams without a value for a metric are skipped)."""
+    lines = []
+    for key, label, unit, high in _WORST:
+        vals = [(float(r[key]), r) for r in rows
+                if isinstance(r.get(key), (int, float)) and math.isfinite(r[key])]
+        if not vals:
+            continue
+        vals.sort(key=lambda t: (-t[0] if high else t[0], t[1]["beam"]))
+        lines.append(f"worst {min(n, len(vals))} by {label}:")
+        lines += [f"  beam {r['beam']:>4}  theta {r['theta_deg']:7.2f} deg  phi "
+                  f"{r['phi_deg']:7.2f} deg  {v:9.4f} {unit}" for v, r in vals[:n]]
+    return "\n".join(lines)
+
+
 # --------------------------------------------------------------------------------------------
 # Synthesis (synth)
 # --------------------------------------------------------------------------------------------

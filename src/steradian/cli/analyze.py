@@ -14,18 +14,23 @@ from ._render import json_option
 @json_option
 @click.option("--frequency", type=float, metavar="HZ",
               help="Evaluate at this frequency in Hz (default: analysis.frequency_hz or the "
-                   "design frequency).")
-def analyze(design_file, as_json, frequency):
+                   "design frequency; refused beyond 100x from the design frequency).")
+@click.option("--weights", "weights_file", type=click.Path(path_type=Path), metavar="FILE",
+              help="Weights CSV (e.g. written by synth) in place of the design's [taper].")
+def analyze(design_file, as_json, frequency, weights_file):
     """Analyse a TOML design: peak directivity and its direction, gain, realized gain,
     beamwidths, sidelobe levels and the integrator's error estimate.
 
     Prints a table, or with --json the full analysis dictionary.
     """
     from ..io.design import load_design
-    from ..workflows import analyze_design
+    from ..workflows import analyze_design, design_with_weights
     from ._render import emit_json, format_summary
 
-    summary = analyze_design(load_design(design_file), frequency)
+    design = load_design(design_file, read_taper_file=weights_file is None)
+    if weights_file is not None:
+        design = design_with_weights(design, weights_file)
+    summary = analyze_design(design, frequency)
     if as_json:
         emit_json(summary)
     else:

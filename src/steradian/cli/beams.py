@@ -23,8 +23,12 @@ FORMAT_NAMES = tuple(WEIGHT_FORMATS)
               help="Binary state encoding: phase/amplitude codes, or I/Q in Q1.15.")
 @click.option("--c-prefix", default="strd", show_default=True,
               help="Identifier prefix of the C header's arrays and macros.")
+@click.option("--weights", "weights_file", type=click.Path(path_type=Path), metavar="FILE",
+              help="Weights CSV (e.g. written by synth) in place of the design's [taper].")
+@click.option("--worst", type=click.IntRange(min=1), metavar="N",
+              help="Also list the N worst beams of each metric.")
 @json_option
-def beams(design_file, prefix, formats, bin_encoding, c_prefix, as_json):
+def beams(design_file, prefix, formats, bin_encoding, c_prefix, weights_file, worst, as_json):
     """Build the quantized beam table of DESIGN.toml and write its weight files.
 
     The design's [channel] table describes the beamformer channel and [beams] the steering
@@ -33,10 +37,12 @@ def beams(design_file, prefix, formats, bin_encoding, c_prefix, as_json):
     """
     from ..io.design import load_design
     from ..io.formats import write_beam_files
-    from ..workflows import beam_table_from_design
-    from ._render import beam_summary_rows, echo_written, emit_json, table
+    from ..workflows import beam_table_from_design, design_with_weights
+    from ._render import beam_summary_rows, echo_written, emit_json, table, worst_beams
 
-    design = load_design(design_file)
+    design = load_design(design_file, read_taper_file=weights_file is None)
+    if weights_file is not None:
+        design = design_with_weights(design, weights_file)
     build = beam_table_from_design(design)
     if prefix is None:
         prefix = Path("out") / f"{design.name}-beams"
@@ -51,4 +57,6 @@ def beams(design_file, prefix, formats, bin_encoding, c_prefix, as_json):
     rows = [("design", design.name), ("channel", build.table.states.describe()),
             ("elements", str(build.table.n_elements))] + beam_summary_rows(summary)
     click.echo(table(rows, "beam table"))
+    if worst:
+        click.echo(worst_beams(build.metrics.rows(), worst))
     echo_written(files.values())

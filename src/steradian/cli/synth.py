@@ -27,8 +27,9 @@ def _nulls(ctx, param, values):
 
 @click.command("synth")
 @click.argument("design_file", metavar="DESIGN.toml", type=click.Path(path_type=Path))
-@click.option("-o", "--output", type=click.Path(path_type=Path), required=True,
-              help="Weights CSV to write (read back by [taper] file = ...).")
+@click.option("-o", "--output", type=click.Path(path_type=Path),
+              help="Weights CSV to write (default: the design's [taper] file, which is then "
+                   "synth's product, not its input).")
 @click.option("--method", type=click.Choice(["max_directivity", "min_sidelobe", "phase_only",
                                              "thin"]),
               help="Method (default: synthesis.method, else max_directivity).")
@@ -54,11 +55,10 @@ def synth(design_file, output, method, psl_db, loss_db, mainlobe, weights_kind, 
     The method and its targets come from the design's [synthesis] table; options override
     them. The result is re-checked on a dense grid and summarised (table or --json).
     """
-    from ..io.design import load_design
-    from ..workflows import synthesize_design, write_synthesis_weights
+    from ..workflows import design_for_synthesis, synthesize_design, write_synthesis_weights
     from ._render import emit_json, result_rows, table
 
-    design = load_design(design_file)
+    design, output = design_for_synthesis(design_file, output, steered)
     res = synthesize_design(design, method=method, psl_db=psl_db, loss_db=loss_db,
                             mainlobe=mainlobe, weights=weights_kind, symmetry=symmetry,
                             dynamic_range_db=dynamic_range_db, wng_min_db=wng_min_db,
@@ -69,6 +69,6 @@ def synth(design_file, output, method, psl_db, loss_db, mainlobe, weights_kind, 
                                    "steering_included": out})
     else:
         click.echo(table(result_rows(res), title=f"steradian synthesis: {design.name}"))
-        click.echo(f"weights written to {output}"
-                   + (" (steered excitations)" if out else " (taper; the design's [steering] "
-                                                           "applies the steering)"))
+        how = (" (steered excitations)" if out else " (taper; the design's [steering] "
+               "applies the steering)" if res.array.steering is not None else " (taper)")
+        click.echo(f"weights written to {output}{how}")

@@ -30,7 +30,7 @@ def tradeoff(design_file, output, csv_path, start_db, stop_db, points, weights_k
     from ..workflows import tradeoff_of_design
     from ._render import echo_written, emit_json
 
-    design = load_design(design_file)
+    design = load_design(design_file, read_taper_file=False)  # trade curves ignore the taper
     curve = tradeoff_of_design(design, start_db=start_db, stop_db=stop_db, points=points,
                                weights=weights_kind)
     if output is not None:

@@ -12,12 +12,15 @@ Sections validated here: ``[design]``, ``[geometry]``, ``[element]``, ``[taper]`
 ``[channel]``, ``[beams]``) are passed through unvalidated in :attr:`Design.sections`.
 
 Every problem raises :class:`~steradian.errors.DesignError` naming the dotted key and the
-file, in one line; unknown keys come with the closest valid key.
+file, in one line; unknown keys come with the closest valid key. Legal but doubtful values
+(an element spacing outside :data:`SPACING_WARN_WL`, usually a slip of ``geometry.units``)
+warn (``UserWarning``, one line naming the key and its value in wavelengths).
 """
 
 from __future__ import annotations
 
 import tomllib
+import warnings
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -26,7 +29,7 @@ from typing import Any
 
 import numpy as np
 
-from ..array import Array, Steering
+from ..array import Array, Steering, check_frequency
 from ..elements import ELEMENT_MODELS, Element
 from ..errors import DesignError, FileFormatError, SteradianError, suggest
 from ..geometry import LATTICE_KINDS, Geometry, rotation_to
@@ -35,8 +38,9 @@ from ..settings import AnalysisOptions
 from ..units import C0
 from .element_table import read_element_table
 
-__all__ = ["Design", "load_design", "design_from_dict", "demo_design",
-           "SECTIONS", "PASS_THROUGH_SECTIONS", "GEOMETRY_KINDS", "ELEMENT_MODELS", "LENGTH_UNITS"]
+__all__ = ["Design", "load_design", "design_from_dict", "demo_design", "weights_file_taper",
+           "SECTIONS", "PASS_THROUGH_SECTIONS", "GEOMETRY_KINDS", "ELEMENT_MODELS", "LENGTH_UNITS",
+           "SPACING_WARN_WL"]
 
 SECTIONS = ("design", "geometry", "element", "taper", "steering", "analysis")
 """Sections this module validates."""
@@ -47,6 +51,13 @@ PASS_THROUGH_SECTIONS = ("synthesis", "channel", "beams")
 LENGTH_UNITS = {"m": 1.0, "mm": 1e-3, "wavelength": None}
 """Values of ``geometry.units`` and their size in metres (wavelength: at the design
 frequency)."""
+
+SPACING_WARN_WL = (0.05, 10.0)
+"""Nearest-element spacing, in wavelengths at the design frequency, outside which a design
+warns: elements closer than 0.05 wavelength are smaller than any practical radiator and
+arrays sparser than 10 wavelengths are almost all grating lobes (common practice; half a
+wavelength is the usual spacing). Outside this range the likely cause is a unit slip, such as
+``units = "m"`` with spacings meant in wavelengths."""
 
 # --------------------------------------------------------------------------------------------
 # The result
@@ -72,6 +83,13 @@ class Design:
         The design file.
     base_dir : Path
         Folder relative file paths resolve against (the design file's folder).
+    taper_file : Path or None
+        The weights file ``[taper] file`` names (resolved; None without one). When the design
+        was read with ``read_taper_file=False`` the file was not read (it may not exist yet)
+        and the taper is uniform.
+    taper_steered : bool
+        The taper came from a weights file that says ``steering_included = yes``: its weights
+        already hold the steering phases (a beam table must not steer them again).
     """
 
     name: str
@@ -81,6 +99,8 @@ class Design:
     sections: Mapping[str, Any] = field(default_factory=dict)
     source: Path | None = None
     base_dir: Path = field(default_factory=Path.cwd)
+    taper_file: Path | None = None
+    taper_steered: bool = False
 
     def analyze(self, frequency: float | None = None) -> dict:
         """Deprecated: use :func:`steradian.workflows.analyze_design` (same result)."""
@@ -155,6 +175,7 @@ def _geometry(t: Section, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
         except SteradianError as exc:
             raise t.error(None, str(exc)) from None
     geom = _facing(t, geom)
+    _check_spacing(t, geom, ctx)
     if "disabled" in t:
         idx = t.integers("disabled", minimum=0, nonempty=False)
         mask = np.ones(geom.n, bool) if enabled is None else enabled.copy()
@@ -166,6 +187,34 @@ def _geometry(t: Section, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
             raise t.error("disabled", "every element is disabled")
         enabled = mask
     return geom, enabled
+
+
+def _check_spacing(t: Section, geom: Geometry, ctx: _Context) -> None:
+    """Warn when the nearest-element spacing is outside :data:`SPACING_WARN_WL`."""
+    if geom.n < 2:
+        return
+    from scipy.spatial import cKDTree
+
+    lam = ctx.wavelength
+    nearest = float(cKDTree(geom.positions).query(geom.positions, k=2)[0][:, 1].min()) / lam
+    lo, hi = SPACING_WARN_WL
+    if lo <= nearest <= hi:
+        return
+    unit = t.data.get("units")
+    size = (LENGTH_UNITS[unit] or lam) if unit in LENGTH_UNITS else None
+    keys = [k for k in ("spacing", "spacing_x", "spacing_y") if k in t
+            and isinstance(t.data[k], (int, float)) and size is not None]
+    named = [k for k in keys if not lo <= t.data[k] * size / lam <= hi] or keys
+    if named:
+        what = ", ".join(f"geometry.{k} = {t.data[k]:g} {unit} is "
+                         f"{t.data[k] * size / lam:.4g} wavelengths" for k in named)
+        hint = "check geometry.units"
+    else:
+        what = f"geometry: the nearest elements are {nearest:.4g} wavelengths apart"
+        hint = "check the positions' unit"
+    side = "below" if nearest < lo else "above"
+    warnings.warn(f"{what} at {ctx.frequency:.6g} Hz ({side} the usual {lo:g}..{hi:g} "
+                  f"wavelengths; {hint})", stacklevel=2)
 
 
 def _csv_has_normals(path: Path) -> bool:
@@ -222,27 +271,70 @@ def _element(t: Section, ctx: _Context) -> Element:
 # --------------------------------------------------------------------------------------------
 # [taper], [steering], [analysis], [design]
 # --------------------------------------------------------------------------------------------
-def _taper(t: Section | None, geom: Geometry, ctx: _Context) -> np.ndarray | None:
+def weights_file_taper(path, geometry: Geometry, wavelength: float,
+                       steering: Steering | None):
+    """The taper a weights CSV gives an array, and whether it holds steering phases.
+
+    Reads ``path`` (:func:`~steradian.io.weights_csv.read_weights_table`, one row per
+    element of ``geometry``), checks the file's positions against the geometry (within
+    1e-6 wavelength) and its ``steering_included`` flag against ``steering``.
+
+    Returns
+    -------
+    (ndarray of complex, bool)
+        The weights and whether the file says ``steering_included = yes``.
+
+    Raises
+    ------
+    SteradianError
+        The positions differ, or the file holds steered excitations and ``steering`` is given:
+        the beam would be steered twice (the pointing error is the sum of both steerings).
+        The message does not name the file; callers prefix it.
+    FileFormatError
+        For a file that cannot be read.
+    """
+    from .weights_csv import read_weights_table
+
+    path = Path(path)
+    table = read_weights_table(path, geometry.n)
+    if table.positions is not None:
+        d = np.linalg.norm(table.positions - geometry.positions, axis=1)
+        if d.max() > 1e-6 * wavelength:
+            i = int(np.argmax(d))
+            raise SteradianError(f"positions in {path.name} differ from the geometry by "
+                                 f"{d[i]:.3g} m at element {i}")
+    steered = table.steering_included is True
+    if steered and steering is not None:
+        raise SteradianError(
+            f"{path.name} says steering_included = yes (steered excitations"
+            + (f", {table.meta['steering']}" if "steering" in table.meta else "")
+            + ") and the design also has [steering]: the beam would be steered twice; remove "
+            "[steering] or write the taper (synth without --steered)")
+    return table.weights, steered
+
+
+def _taper(t: Section | None, geom: Geometry, ctx: _Context, steering: Steering | None,
+           read_file: bool = True) -> tuple[np.ndarray | None, Path | None, bool]:
+    """(taper, taper file, whether the file's weights hold the steering phases)."""
     if t is None:
-        return None
+        return None, None, False
     if "file" in t:
         t.only(("file",), "with taper.file (weights come from the file)")
-        from .weights_csv import read_weights_table
-
+        if not read_file:
+            p = Path(t.string("file")).expanduser()
+            return None, (p if p.is_absolute() else ctx.base_dir / p).resolve(), False
         path = t.path("file", ctx.base_dir)
-        table = read_weights_table(path, geom.n)
-        if table.positions is not None:
-            d = np.linalg.norm(table.positions - geom.positions, axis=1)
-            tol = 1e-6 * ctx.wavelength
-            if d.max() > tol:
-                i = int(np.argmax(d))
-                raise t.error("file", f"positions in {path.name} differ from the geometry by "
-                              f"{d[i]:.3g} m at element {i}")
-        return table.weights
+        try:
+            w, steered = weights_file_taper(path, geom, ctx.wavelength, steering)
+        except (DesignError, FileFormatError):
+            raise
+        except SteradianError as exc:
+            raise t.error("file", str(exc)) from None
+        return w, path.resolve(), steered
     kind = t.string("kind", "uniform")
     if kind == "uniform":
         t.only(("kind",), "for kind = 'uniform'")
-        return None
+        return None, None, False
     from .. import tapers
 
     try:
@@ -255,7 +347,7 @@ def _taper(t: Section | None, geom: Geometry, ctx: _Context) -> np.ndarray | Non
         raise
     except SteradianError as exc:
         raise t.error(None, str(exc)) from None
-    return np.asarray(w, complex)
+    return np.asarray(w, complex), None, False
 
 
 def _steering(t: Section | None) -> Steering | None:
@@ -315,7 +407,8 @@ def _check_horizon(steering: Steering | None, element: Element, geom: Geometry,
 # --------------------------------------------------------------------------------------------
 # Entry points
 # --------------------------------------------------------------------------------------------
-def design_from_dict(d: Mapping, source=None, *, base_dir=None) -> Design:
+def design_from_dict(d: Mapping, source=None, *, base_dir=None,
+                     read_taper_file: bool = True) -> Design:
     """Build a :class:`Design` from a parsed TOML dictionary.
 
     Parameters
@@ -327,13 +420,19 @@ def design_from_dict(d: Mapping, source=None, *, base_dir=None) -> Design:
     base_dir : path-like, optional
         Folder for relative file paths (default: the folder of ``source``, else the current
         directory).
+    read_taper_file : bool
+        False leaves a ``[taper] file`` unread (it may not exist yet: ``synth`` is about to
+        write it); the taper is then uniform and :attr:`Design.taper_file` names the file.
 
     Raises
     ------
     DesignError
         Naming the dotted key and the file, for unknown keys (with a suggestion), wrong
         types, out-of-range values (negative spacing, NaN, steering below the horizon of a
-        front-half-space element) and missing required keys.
+        front-half-space element, ``analysis.frequency_hz`` more than
+        :data:`~steradian.array.FREQUENCY_RATIO_LIMIT` times away from the design frequency),
+        missing required keys, and a ``[taper] file`` whose weights already hold steering
+        phases (``steering_included = yes``) in a design that also has ``[steering]``.
     FileFormatError
         For a referenced CSV file that cannot be read (naming its line).
     """
@@ -370,11 +469,17 @@ def design_from_dict(d: Mapping, source=None, *, base_dir=None) -> Design:
 
     geom, enabled = _geometry(Section("geometry", d["geometry"], src), ctx)
     element = _element(Section("element", d.get("element", {"model": "isotropic"}), src), ctx)
-    tt = Section("taper", d["taper"], src) if "taper" in d else None
-    taper = _taper(tt, geom, ctx)
     ts = Section("steering", d["steering"], src) if "steering" in d else None
     steering = _steering(ts)
-    options = _analysis(Section("analysis", d["analysis"], src) if "analysis" in d else None)
+    tt = Section("taper", d["taper"], src) if "taper" in d else None
+    taper, taper_file, steered = _taper(tt, geom, ctx, steering, read_taper_file)
+    ta = Section("analysis", d["analysis"], src) if "analysis" in d else None
+    options = _analysis(ta)
+    if options.frequency is not None:
+        try:
+            check_frequency(options.frequency, ctx.frequency)
+        except SteradianError as exc:
+            raise ta.error("frequency_hz", str(exc)) from None
 
     _check_horizon(steering, element, geom, enabled, ts)
     try:
@@ -383,14 +488,15 @@ def design_from_dict(d: Mapping, source=None, *, base_dir=None) -> Design:
         raise DesignError("taper" if "taper" in str(exc) else "design", str(exc), src) from None
     sections = MappingProxyType({k: d[k] for k in PASS_THROUGH_SECTIONS if k in d})
     return Design(name, description, array, options, sections,
-                  None if source is None else Path(source), base_dir)
+                  None if source is None else Path(source), base_dir, taper_file, steered)
 
 
-def load_design(path) -> Design:
+def load_design(path, *, read_taper_file: bool = True) -> Design:
     """Read a TOML design file into a :class:`Design`.
 
     Relative file paths inside the design (positions, weights, element tables) resolve
-    against the design file's folder. See :func:`design_from_dict` for the errors.
+    against the design file's folder. See :func:`design_from_dict` for ``read_taper_file``
+    and the errors.
     """
     path = Path(path)
     try:
@@ -403,7 +509,7 @@ def load_design(path) -> Design:
         raise DesignError("", f"not UTF-8 text ({exc.reason})", str(path)) from None
     except tomllib.TOMLDecodeError as exc:
         raise DesignError("", f"not valid TOML: {exc}", str(path)) from None
-    return design_from_dict(doc, path)
+    return design_from_dict(doc, path, read_taper_file=read_taper_file)
 
 
 def demo_design() -> Design:

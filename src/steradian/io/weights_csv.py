@@ -68,6 +68,18 @@ class WeightsTable:
     positions: np.ndarray | None = None
     meta: dict = field(default_factory=dict)
 
+    @property
+    def steering_included(self) -> bool | None:
+        """The ``# steering_included = yes|no`` line (written by ``synth``): True when the
+        weights already hold the steering phases; None when the file does not say."""
+        v = self.meta.get("steering_included")
+        if v is None:
+            return None
+        v = v.strip().lower()
+        if v not in ("yes", "no"):
+            raise SteradianError(f"steering_included = {v!r}: expected yes or no")
+        return v == "yes"
+
 
 def _fmt(x: float) -> str:
     return repr(float(x))

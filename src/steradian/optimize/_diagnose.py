@@ -44,6 +44,8 @@ def diagnose(setup: Setup, families, nulls, level, h, dr_db, wng_min_db, nonneg)
                 causes.append(f"a grating lobe at theta={th:.1f}, phi={ph:.1f} deg lies in the "
                               "sidelobe region: no taper can lower it (reduce the spacing or "
                               "the scan angle, or exclude it from the region)")
+    if level is not None:
+        causes += _grating_skirts(setup, families, level, uni, e0)
     if level is not None and h is not None:
         for i in range(fr.rank):
             n = max(int(round(fr.lengths[i] / fr.spacing)), 2)
@@ -81,6 +83,68 @@ def diagnose(setup: Setup, families, nulls, level, h, dr_db, wng_min_db, nonneg)
         causes.append("the constraints conflict: the level may be lower than this layout "
                       "reaches outside the main-lobe zone (widen mainlobe or raise the level)")
     return causes
+
+
+def _grating_skirts(setup: Setup, families, level, uni, e0) -> list[str]:
+    """Grating lobes just outside visible space whose main lobe reaches into it.
+
+    A grating lobe at transverse direction cosines s (|s| > 1, so "0 predicted visible")
+    is a copy of the main beam; its main lobe spans, at the sidelobe ``level``, at least the
+    Dolph-Chebyshev half-width about s (the narrowest any taper allows, Dolph 1946). When
+    |s| - 1 is smaller, the skirt near the horizon in the direction of s lies above the level
+    for every taper: a high lobe near the horizon whose cause is the invisible grating lobe.
+    Grating-lobe positions: s = s0 + lambda (p b1 + q b2) with b the reciprocal lattice
+    (R. J. Mailloux, Phased Array Antenna Handbook, 3rd ed., 2018, ch. 2).
+    """
+    L = setup.array.geometry.lattice
+    fr = setup.frame
+    if L is None or fr.rank > 2:
+        return []
+    L = np.asarray(L, float)
+    gram = L @ L.T
+    if abs(np.linalg.det(gram)) <= 1e-12 * np.prod(np.diag(gram)):
+        return []
+    B = np.linalg.solve(gram, L)
+    P = L.T @ B
+    lam = setup.wavelength
+    s0 = P @ setup.r0
+    E = fr.axes[:, : fr.rank]
+    need = np.array([chebyshev_crossing(level, max(int(round(fr.lengths[i] / fr.spacing)), 2),
+                                        fr.spacing / lam) for i in range(fr.rank)])
+    perp = setup.r0 - s0
+    nrm = perp / np.linalg.norm(perp) if np.linalg.norm(perp) > 1e-9 else fr.axes[:, -1]
+    out = []
+    qs = range(-2, 3) if len(L) == 2 else (0,)
+    for p in range(-2, 3):
+        for q in qs:
+            if p == q == 0:
+                continue
+            sv = s0 + lam * (p * B[0] + (q * B[1] if len(L) == 2 else 0.0))
+            r = float(np.linalg.norm(sv))
+            if r <= 1.0:
+                continue
+            e = sv / r
+            width = 1.0 / float(np.sqrt(np.sum(((e @ E) / need) ** 2)))
+            if r - 1.0 >= width:
+                continue
+            rho = np.linspace(max(r - width, 0.0), 1.0, 16)[1:-1]
+            d = rho[:, None] * e + np.sqrt(1.0 - rho**2)[:, None] * nrm
+            if not any(isinstance(f, SidelobeFamily) and np.any(f.bounds(d)[0] > 0)
+                       for f in families):
+                continue
+            v = field_magnitude(uni, d) / e0
+            j = int(np.argmax(v))
+            th, ph = angles_deg(d[j])
+            u = sv @ E
+            where = ", ".join(f"{x:.3f}" for x in u)
+            out.append(
+                f"a grating lobe just outside visible space (direction cosines ({where}) along "
+                f"the array axes, {r - 1:.3f} beyond the horizon) reaches into it: its main "
+                f"lobe, at least {width:.3f} wide at {db20(level):.1f} dB for any taper "
+                f"(Dolph-Chebyshev), makes the lobe near theta={th:.1f}, phi={ph:.1f} deg "
+                f"({db20(v[j]):.1f} dB with uniform weights); reduce the spacing or the scan "
+                "angle, or exclude that region")
+    return out
 
 
 def infeasible(exc, setup, families, nulls, level, h, dr_db, wng_min_db, nonneg):

@@ -7,11 +7,13 @@ import math
 
 import numpy as np
 
+from ..directions import unit_vectors_deg
 from ..errors import SteradianError, suggest
 from ..units import from_db10, from_db20
 from ._masks import Notch, Null
 
-__all__ = ["below_peak", "null_list", "notch_list", "hardware_limits", "spacings", "halfwidths"]
+__all__ = ["below_peak", "null_list", "nulls_in_front", "notch_list", "hardware_limits",
+           "spacings", "halfwidths"]
 
 _NULL_KEYS = ("theta_deg", "phi_deg", "depth_db")
 
@@ -69,6 +71,35 @@ def null_list(nulls, name: str = "nulls", error=None) -> list[Null]:
             raise fail(key, "must be {theta_deg, phi_deg[, depth_db]} or (theta_deg, phi_deg"
                        f"[, depth_db]) ({exc})") from None
     return out
+
+
+def nulls_in_front(array, nulls, name: str = "nulls", error=None) -> None:
+    """Refuse a null at or behind the ground plane of every enabled element.
+
+    A front-half-space element (``element.front_only``) radiates nothing there, so such a
+    null is met by any weights and its reported depth (the field floor, thousands of dB) means
+    nothing: the user almost always meant another direction (common practice). ``error`` as
+    in :func:`null_list`.
+    """
+    if not array.element.front_only:
+        return
+    R = array.geometry.orientations
+    for i, nl in enumerate(null_list(nulls, name, error)):
+        u = unit_vectors_deg(nl.theta_deg, nl.phi_deg)
+        if R is None:
+            front = bool(u[2] > 1e-12)
+        else:
+            facing = R[:, :, 2] @ u > 1e-12
+            if array.enabled is not None:
+                facing &= array.enabled
+            front = bool(facing.any())
+        if not front:
+            key = f"{name}[{i}]"
+            msg = (f"the null at theta {nl.theta_deg:g}, phi {nl.phi_deg:g} deg is at or behind "
+                   f"the ground plane of every enabled front-half-space element "
+                   f"({array.element.describe()['model']!r} radiates nothing there, so the "
+                   "null is met by any weights); give a direction in front of the array")
+            raise error(key, msg) if error else SteradianError(f"{key}: {msg}")
 
 
 def notch_list(notches) -> list[Notch]:

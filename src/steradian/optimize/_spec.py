@@ -28,7 +28,7 @@ from typing import get_args
 from ..errors import DesignError, SteradianError
 from ..schema import Section
 from ._convex import max_directivity, min_sidelobe
-from ._levels import null_list
+from ._levels import null_list, nulls_in_front
 from ._masks import Mask, Notch, itu_s465
 from ._nonconvex import phase_only, thin
 from ._problem import SymmetryKind, WeightsKind
@@ -127,8 +127,9 @@ def synthesize(array, spec: dict | None = None, **overrides):
     """Run the method a ``[synthesis]`` table asks for on ``array``.
 
     ``overrides`` (keyword arguments of the method, e.g. from command-line options) replace
-    the table's values; ``method`` may be overridden too. Returns a
-    :class:`~steradian.optimize.SynthesisResult`.
+    the table's values; ``method`` may be overridden too. A null at or behind the ground
+    plane of a front-half-space element is refused, naming ``synthesis.nulls[i]`` (or
+    ``nulls[i]`` for an override). Returns a :class:`~steradian.optimize.SynthesisResult`.
     """
     s = Section("synthesis", {} if spec is None else spec, None)
     if overrides.get("method") is not None:
@@ -144,6 +145,11 @@ def synthesize(array, spec: dict | None = None, **overrides):
         kw[k] = v
     if method == "min_sidelobe" and "loss_db" not in kw and "min_directivity_dbi" not in kw:
         raise s.error("loss_db", "min_sidelobe needs loss_db or min_directivity_dbi")
+    if kw.get("nulls"):
+        if overrides.get("nulls") is None:
+            nulls_in_front(array, kw["nulls"], "nulls", s.error)
+        else:
+            nulls_in_front(array, kw["nulls"])
     return _FUNCTIONS[method](array, **kw)
 
 
