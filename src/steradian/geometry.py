@@ -16,6 +16,7 @@ from .errors import SteradianError
 from .validate import count, finite_array, positive
 
 __all__ = [
+    "reciprocal_lattice",
     "PrincipalAxes",
     "principal_axes",
     "Geometry",
@@ -379,3 +380,23 @@ LATTICE_KINDS: dict[str, tuple[tuple[str, ...], Callable[..., Geometry]]] = {
 ``build(section, unit_m)``), the section a :class:`steradian.schema.Section` and ``unit_m``
 the size of one length unit in metres. To add a lattice: its function above, a builder and
 a line here."""
+
+
+def reciprocal_lattice(lattice) -> tuple[np.ndarray, np.ndarray] | None:
+    """Reciprocal vectors of a lattice's primitive vectors (rows of ``lattice``, 1 or 2 of
+    them, metres): ``(B, P)`` with rows b_i such that b_i . a_j = delta_ij inside the lattice
+    span, and P the 3 x 3 projector onto that span; None for a degenerate lattice.
+
+    Grating lobes of a beam steered to direction cosines s0 lie at
+    s0 + lambda (p b_1 + q b_2) for whole p, q.
+
+    References
+    ----------
+    R. J. Mailloux, *Phased Array Antenna Handbook*, 3rd ed., Artech House, 2018, ch. 2.
+    """
+    L = np.asarray(lattice, float)
+    gram = L @ L.T
+    if abs(np.linalg.det(gram)) <= 1e-12 * np.prod(np.diag(gram)):
+        return None
+    B = np.linalg.solve(gram, L)
+    return B, L.T @ B

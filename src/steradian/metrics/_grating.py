@@ -11,6 +11,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..directions import angles_deg
+from ..geometry import reciprocal_lattice
 from ..patterns import cut_frame
 from ._beam import Beam, rel_db
 from ._results import GratingLobe
@@ -27,11 +28,10 @@ def grating_prediction(array, frequency, beam: Beam):
     if L is None:
         return None, None, None
     L = np.asarray(L, float)
-    gram = L @ L.T
-    if abs(np.linalg.det(gram)) <= 1e-12 * np.prod(np.diag(gram)):
+    rec = reciprocal_lattice(L)
+    if rec is None:
         return None, None, None
-    B = np.linalg.solve(gram, L)  # rows b_i with b_i . a_j = delta_ij, in the lattice span
-    P = L.T @ B  # projector onto the lattice span
+    B, P = rec  # rows b_i with b_i . a_j = delta_ij; projector onto the lattice span
     lam = 2 * np.pi / array.k(frequency)
     if array.steering is None:
         s0 = np.zeros(3)

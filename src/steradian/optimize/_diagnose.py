@@ -8,6 +8,7 @@ import numpy as np
 
 from ..directions import angles_deg, unit_vectors_deg
 from ..errors import SteradianError
+from ..geometry import reciprocal_lattice
 from ..units import db10, db20
 from ._check import field_magnitude
 from ._frame import chebyshev_crossing
@@ -101,11 +102,10 @@ def _grating_skirts(setup: Setup, families, level, uni, e0) -> list[str]:
     if L is None or fr.rank > 2:
         return []
     L = np.asarray(L, float)
-    gram = L @ L.T
-    if abs(np.linalg.det(gram)) <= 1e-12 * np.prod(np.diag(gram)):
+    rec = reciprocal_lattice(L)
+    if rec is None:
         return []
-    B = np.linalg.solve(gram, L)
-    P = L.T @ B
+    B, P = rec
     lam = setup.wavelength
     s0 = P @ setup.r0
     E = fr.axes[:, : fr.rank]
