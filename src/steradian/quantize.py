@@ -17,13 +17,41 @@ Signal model (per element n, one beam)::
   calibration file). Ideal weights are divided by it before rounding, so the hardware's own
   errors are compensated to the resolution of the controls.
 - ``off_n``: a known fixed phase of each channel path (the randomised-offset mode below).
-- ``mask_n``: 0 for disabled elements.
+- ``mask_n``: 0 for disabled elements. A disabled element is *off*: its commanded state is
+  exactly zero and its codes are the off flag ``(OFF_CODE, OFF_CODE)`` (both 0xFFFF), never a
+  weak attenuator state.
 
 Rounding is per control: phase to the circularly nearest phase state, amplitude to the
 nearest state in the control's own unit (dB for an attenuator, linear for a DAC). Per beam the
 strongest channel is set to ``gain_offset_db`` below full scale (0 dB: code 0 of the
 attenuator, full scale of the DAC); weaker channels follow the taper, and any weaker than the
 control's range reaches its last state.
+
+Common phase reference
+----------------------
+A common phase added to every channel of a beam leaves its pattern unchanged, but it moves
+the element phases against the rounding boundaries. Rounding against a fixed reference (the
+array centre) makes the result depend on where those boundaries fall: near
+:math:`\sin\theta_0 = 2^{1-b}` at half-wave spacing every element phase of a symmetric
+array sits next to a boundary, and the two halves round in opposite directions (a split,
+squinted beam). Each beam is therefore rounded with the common offset, among
+:data:`COMMON_OFFSET_CANDIDATES` offsets ``(k + 1/2) step / K`` spread over one phase step,
+that minimises the quantization error power :math:`\lVert w_q - s\,w_0\rVert^2` (``s`` the
+least-squares complex scale; equivalently, as the amplitudes do not depend on the offset, the
+largest :math:`|w_0^H w_q|`, the beam's field in the commanded direction per unit drive).
+Error power is the quantity the directivity loss and the total quantization-lobe energy grow
+with (Mailloux, 2018, ch. 7), and it is a smooth, deterministic criterion: near-ties within
+1e-12 go to the lowest ``k``, so the choice does not depend on rounding noise. The half-step
+shift of the candidates keeps exact ties of a symmetric array off the boundaries.
+
+Dead and clipped channels
+-------------------------
+With a calibration, a channel whose measured gain lies more than ``dead_channel_db`` (20 dB)
+below the median enabled channel is *dead*: it cannot be compensated, and dividing by its
+gain would push every other channel to the bottom of its range. It is left out of the
+per-beam level, driven at its taper level without amplitude compensation, and named in a
+warning. Any enabled channel asked for more than full scale is clipped to full scale and
+named in a warning (common practice: a channel failure is flagged, not silently absorbed).
 
 Randomised phase offsets
 ------------------------
@@ -54,6 +82,7 @@ B. Widrow and I. Kollar, *Quantization Noise*, Cambridge University Press, 2008,
 from __future__ import annotations
 
 import math
+import warnings
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -74,12 +103,24 @@ __all__ = [
     "OffsetMode",
     "channel_from_table",
     "CHANNEL_KEYS",
+    "OFF_CODE",
+    "COMMON_OFFSET_CANDIDATES",
+    "DEAD_CHANNEL_DB",
 ]
 
 AmplitudeControl = Literal["none", "attenuator", "dac"]
 OffsetMode = Literal["none", "random"]
 
 _TOL = 1e-9
+
+OFF_CODE = 0xFFFF
+"""Off flag: a disabled element's phase and amplitude codes are both OFF_CODE (65535)."""
+
+COMMON_OFFSET_CANDIDATES = 16
+"""Common phase offsets tried per beam, ``(k + 1/2) / K`` of one phase step each."""
+
+DEAD_CHANNEL_DB = 20.0
+"""Default: a calibrated gain this far below the median channel marks a dead channel."""
 
 
 @dataclass(frozen=True)
@@ -249,11 +290,18 @@ class QuantizedWeights:
         What the array radiates: commanded times calibration, offsets and mask.
     ideal : ndarray of complex, shape (B, N)
         The ideal weights quantized.
-    scale : ndarray, shape (B,)
+    scale : ndarray of complex, shape (B,)
         Per-beam factor taking ideal weights to the realised level (strongest channel at
-        ``gain_offset_db``), so ``realised ~ scale * ideal``.
+        ``gain_offset_db``) and common phase (the chosen common offset), so
+        ``realised ~ scale * ideal``.
     phase_offsets_deg : ndarray, shape (N,)
         Channel path phases added back after rounding (zeros without offsets).
+    enabled : ndarray of bool, shape (N,)
+        Element mask; disabled elements hold the off flag and a zero commanded state.
+    common_offset_deg : ndarray, shape (B,)
+        Common phase added to each beam before rounding (see the module notes).
+    notes : tuple of str
+        Dead or clipped channels (also issued as warnings).
     """
 
     phase_codes: np.ndarray
@@ -263,16 +311,21 @@ class QuantizedWeights:
     ideal: np.ndarray
     scale: np.ndarray
     phase_offsets_deg: np.ndarray
+    enabled: np.ndarray | None = None
+    common_offset_deg: np.ndarray | None = None
+    notes: tuple = ()
 
     def phase_error_deg(self) -> np.ndarray:
-        """Realised minus ideal phase (degrees, wrapped), NaN where either weight is zero."""
+        """Realised minus ideal phase (degrees, wrapped; the beam's common offset, which
+        changes no pattern, taken out), NaN where either weight is zero."""
         ok = (np.abs(self.ideal) > 0) & (np.abs(self.realised) > 0)
-        d = wrap_deg(np.angle(self.realised, deg=True) - np.angle(self.ideal, deg=True))
+        ref = np.angle(self.ideal * np.exp(1j * np.angle(self.scale))[:, None], deg=True)
+        d = wrap_deg(np.angle(self.realised, deg=True) - ref)
         return np.where(ok, d, np.nan)
 
     def amplitude_error_db(self) -> np.ndarray:
         """Realised over scaled ideal amplitude (dB), NaN where either weight is zero."""
-        ref = np.abs(self.ideal) * self.scale[:, None]
+        ref = np.abs(self.ideal) * np.abs(self.scale)[:, None]
         ok = (ref > 0) & (np.abs(self.realised) > 0)
         r = np.where(ok, np.abs(self.realised), 1.0) / np.where(ok, ref, 1.0)
         return np.where(ok, db20(r), np.nan)
@@ -311,6 +364,12 @@ class ChannelModel:
         Offsets are uniform over [0, span); default one phase step.
     calibration_source : str, optional
         Where the calibration came from (for reports).
+    dead_channel_db : float
+        A calibrated gain more than this below the median enabled channel is a dead channel
+        (see the module notes).
+    drop_taper : bool
+        The user accepts that a channel without amplitude control drops an amplitude taper
+        (a beam table refuses a tapered design on a phase-only channel otherwise).
     """
 
     states: StateMap
@@ -320,10 +379,17 @@ class ChannelModel:
     offset_seed: int = 0
     offset_span_deg: float | None = None
     calibration_source: str | None = field(default=None)
+    dead_channel_db: float = DEAD_CHANNEL_DB
+    drop_taper: bool = False
 
     def __post_init__(self):
         if not isinstance(self.states, StateMap):
             raise SteradianError("states must be a StateMap")
+        dd = float(self.dead_channel_db)
+        if not math.isfinite(dd) or dd <= 0:
+            raise SteradianError(f"dead_channel_db must be a positive number of dB, got {dd}")
+        object.__setattr__(self, "dead_channel_db", dd)
+        object.__setattr__(self, "drop_taper", bool(self.drop_taper))
         g = float(self.gain_offset_db)
         if not math.isfinite(g) or g > 0:
             raise SteradianError(
@@ -406,22 +472,45 @@ class ChannelModel:
         weights : array_like of complex
             Ideal weights, element order, one row per beam.
         mask : array_like of bool, shape (N,), optional
-            Enabled elements; disabled ones radiate nothing (their codes are still set, to the
-            weakest state for a zero weight).
+            Enabled elements; disabled ones are off: zero commanded state and the off flag
+            (:data:`OFF_CODE`) as both codes.
         phase_offsets_deg : array_like, shape (N,), optional
             Channel path phases; default :meth:`offsets_deg`.
 
         Returns
         -------
         QuantizedWeights
+
+        Warns
+        -----
+        UserWarning
+            Naming dead channels (calibration) and channels clipped at full scale.
         """
+        w, off, m = self._inputs(weights, mask, phase_offsets_deg)
+        t = w if self.calibration is None else w / self.calibration
+        t = np.where(m, t, 0.0)
+        amp, s, notes = self._levels(w, t, m)
+        ac = self.states.nearest_amplitude_code(amp)
+        pc, common = self._phase_codes(np.angle(t, deg=True) - off, ac, w, off, m)
+        cmd = np.where(m, self.states.commanded(pc, ac), 0.0)
+        real = self.realise(cmd, off, m)
+        pc = np.where(m, pc, OFF_CODE)
+        ac = np.where(m, ac, OFF_CODE)
+        scale = s * np.exp(1j * np.deg2rad(common))  # realised ~ cal * (t * scale) = w * scale
+        for n in notes:
+            warnings.warn(n, UserWarning, stacklevel=2)
+        return QuantizedWeights(pc, ac, cmd, real, np.where(m, w, 0.0), scale, off, m,
+                                common, tuple(notes))
+
+    def _inputs(self, weights, mask, phase_offsets_deg):
+        """Checked (weights (B, N), path offsets (N,), mask (N,))."""
         w = np.atleast_2d(np.asarray(weights, complex))
         if w.ndim != 2 or w.shape[1] == 0:
             raise SteradianError(f"weights must have shape (N,) or (B, N), got {w.shape}")
         if not np.all(np.isfinite(w)):
             b, n = np.argwhere(~np.isfinite(w))[0]
             raise SteradianError(f"weight of beam {b}, element {n} is not finite")
-        nb, n = w.shape
+        n = w.shape[1]
         self._check_n(n)
         off = (self.offsets_deg(n) if phase_offsets_deg is None
                else np.asarray(phase_offsets_deg, float).reshape(-1))
@@ -430,28 +519,78 @@ class ChannelModel:
         m = np.ones(n, bool) if mask is None else np.asarray(mask, bool).reshape(-1)
         if m.shape != (n,):
             raise SteradianError(f"mask has {m.size} entries, array has {n} elements")
-        t = w if self.calibration is None else w / self.calibration
-        t = np.where(m, t, 0.0)
-        peak = np.abs(t).max(axis=1)
+        return w, off, m
+
+    def dead_channels(self, mask=None) -> np.ndarray:
+        """Enabled channels whose calibrated gain lies more than ``dead_channel_db`` below
+        the median enabled channel (bool, shape (N,)); none without a calibration."""
+        if self.calibration is None:
+            return np.zeros(0 if mask is None else np.size(mask), bool)
+        g = np.abs(self.calibration)
+        m = np.ones(g.size, bool) if mask is None else np.asarray(mask, bool).reshape(-1)
+        ref = np.median(g[m]) if m.any() else 1.0
+        return m & (g < ref * from_db20(-self.dead_channel_db))
+
+    def _levels(self, w, t, m):
+        """Requested amplitudes (B, N), per-beam scale (B,) and notes on dead or clipped
+        channels. The strongest live channel of each beam sits at ``gain_offset_db``."""
+        dead = self.dead_channels(m) if self.calibration is not None else np.zeros_like(m)
+        live = m & ~dead
+        peak = np.abs(np.where(live, t, 0.0)).max(axis=1)
         if np.any(peak == 0):
             raise SteradianError(f"beam {int(np.flatnonzero(peak == 0)[0])} has no non-zero "
-                                 "weight on an enabled element")
-        full = from_db20(self.gain_offset_db)
-        s = full / peak
+                                 "weight on an enabled" + (", live" if dead.any() else "")
+                                 + " element")
+        s = from_db20(self.gain_offset_db) / peak
         amp = np.abs(t) * s[:, None]
-        ph = np.angle(t, deg=True) - off
-        pc = self.states.nearest_phase_code(ph)
-        ac = self.states.nearest_amplitude_code(amp)
-        cmd = self.states.commanded(pc, ac)
-        real = self.realise(cmd, off, m)
-        scale = s  # realised ~ cal * (t * s) = w * s
-        return QuantizedWeights(pc, ac, cmd, real, np.where(m, w, 0.0), scale, off)
+        notes = []
+        if dead.any():
+            ref = np.median(np.abs(self.calibration[m]))
+            amp[:, dead] = np.abs(w[:, dead]) * s[:, None] / ref
+            idx = np.flatnonzero(dead)
+            g = db20(np.abs(self.calibration[idx]) / ref, floor=None)
+            notes.append(
+                "calibration: dead channel(s) at element(s) "
+                + ", ".join(f"{i} ({x:.1f} dB)" for i, x in zip(idx.tolist(), g, strict=True))
+                + f", more than {self.dead_channel_db:g} dB below the median channel: not "
+                "compensated in amplitude and left out of the beam level; repair the channel "
+                "or disable the element")
+        over = m & np.any(amp > 1.0 + 1e-9, axis=0)
+        if over.any():
+            idx = np.flatnonzero(over)
+            worst = db20(amp[:, idx].max(axis=0), floor=None)
+            notes.append("channel(s) clipped at full scale: element(s) " + ", ".join(
+                f"{i} (asked {x:+.2f} dB)" for i, x in zip(idx.tolist(), worst, strict=True)))
+        return amp, s, notes
+
+    def _phase_codes(self, ph, ac, w, off, m):
+        """Phase codes (B, N) and the common offset (B,) of least quantization error power.
+
+        See the module notes: offsets ``(k + 1/2) step / K``, K = COMMON_OFFSET_CANDIDATES;
+        the score is ``|w0^H w_q|`` (amplitudes fixed), the lowest k within 1e-12 wins.
+        """
+        st = self.states
+        K = COMMON_OFFSET_CANDIDATES
+        cands = (np.arange(K) + 0.5) * st.phase_step_deg / K
+        amp = st.amplitude_lin(ac)
+        if self.calibration is not None:
+            amp = amp * self.calibration
+        w0 = np.where(m, w, 0.0).conj()
+        codes = [st.nearest_phase_code(ph + c) for c in cands]
+        score = np.stack([np.abs(np.einsum("bn,bn->b", w0, np.where(
+            m, amp * np.exp(1j * np.deg2rad(st.phase_deg(pc) + off)), 0.0)))
+            for pc in codes])  # (K, B)
+        best = np.argmax(score >= score.max(axis=0) * (1 - 1e-12), axis=0)
+        pc = np.stack(codes)[best, np.arange(len(best))]
+        return pc, cands[best]
 
     # ---- description -----------------------------------------------------------------
     def describe(self) -> dict:
         """JSON-friendly description of the channel (for file metadata and reports)."""
         d = {"states": self.states.to_dict(), "summary": self.states.describe(),
              "gain_offset_db": self.gain_offset_db, "phase_offsets": self.phase_offsets}
+        if self.drop_taper:
+            d["drop_taper"] = True
         if self.phase_offsets != "none":
             d["offset_seed"] = self.offset_seed
             d["offset_span_deg"] = self.offset_span_deg or self.states.phase_step_deg
@@ -461,7 +600,9 @@ class ChannelModel:
                 "source": self.calibration_source, "channels": int(c.size),
                 "gain_db_range": [float(np.min(db20(c, floor=None))),
                                   float(np.max(db20(c, floor=None)))],
-                "phase_deg_rms": float(np.sqrt(np.mean(np.angle(c, deg=True) ** 2)))}
+                "phase_deg_rms": float(np.sqrt(np.mean(np.angle(c, deg=True) ** 2))),
+                "dead_channel_db": self.dead_channel_db,
+                "dead_channels": np.flatnonzero(self.dead_channels()).tolist()}
         return d
 
 
@@ -549,6 +690,7 @@ CHANNEL_KEYS = (
     "attenuator_step_db", "attenuator_span_db", "dac_bits",
     "calibration_file", "gain_offset_db",
     "phase_offsets", "offset_seed", "offset_span_deg",
+    "dead_channel_db", "drop_taper",
 )
 """Keys of a design file's ``[channel]`` table."""
 
@@ -562,7 +704,9 @@ def channel_from_table(table: dict, n_elements: int | None = None, *, source=Non
     ``attenuator_step_db`` and ``attenuator_span_db``, or ``dac_bits``; ``calibration_file``
     (CSV, relative to ``base_dir``, read by ``read_file(path, n_elements)``:
     :func:`steradian.io.calibration_csv.read_calibration`); ``gain_offset_db``;
-    ``phase_offsets`` ("none" or "random"), ``offset_seed``, ``offset_span_deg``.
+    ``phase_offsets`` ("none" or "random"), ``offset_seed``, ``offset_span_deg``;
+    ``dead_channel_db`` (default 20); ``drop_taper`` (true: accept that a channel without
+    amplitude control drops the design's amplitude taper).
 
     Raises
     ------
@@ -585,7 +729,10 @@ def channel_from_table(table: dict, n_elements: int | None = None, *, source=Non
             raise t.error("calibration_file", "reading a calibration file needs read_file "
                           "(e.g. steradian.io.calibration_csv.read_calibration)")
         cal, cal_src = read_file(path, n_elements), table["calibration_file"]
-    kw = {k: t.number(k) for k in ("gain_offset_db", "offset_span_deg") if k in t}
+    kw = {k: t.number(k) for k in ("gain_offset_db", "offset_span_deg", "dead_channel_db")
+          if k in t}
+    if "drop_taper" in t:
+        kw["drop_taper"] = t.boolean("drop_taper")
     if "phase_offsets" in t:
         kw["phase_offsets"] = t.string("phase_offsets", choices=get_args(OffsetMode))
     if "offset_seed" in t:
@@ -595,5 +742,6 @@ def channel_from_table(table: dict, n_elements: int | None = None, *, source=Non
     except DesignError:
         raise
     except SteradianError as exc:
-        key = next((k for k in ("gain_offset_db", "offset_span_deg") if k in str(exc)), None)
+        key = next((k for k in ("gain_offset_db", "offset_span_deg", "dead_channel_db")
+                    if k in str(exc)), None)
         raise t.error(key, str(exc)) from None

@@ -125,7 +125,8 @@ def build_beam_table(array, channel: ChannelModel, directions, *,
         ev = evaluator or BeamEvaluator(array, efficiency=efficiency)
         metrics = ev.evaluate(q.realised, d, ideal=w0)
     table = BeamTable(channel.states, d, codes, "codes", q.phase_offsets_deg,
-                      array.positions, meta, None if metrics is None else metrics.rows())
+                      array.positions, meta, None if metrics is None else metrics.rows(),
+                      q.enabled)
     return BeamBuild(table, metrics, q, w0)
 
 
