@@ -19,7 +19,7 @@ from ..elements import Isotropic
 from ..engine import MEMORY_BUDGET, response_matrix
 from ..errors import SteradianError
 from ..geometry import principal_axes
-from ..quantize import wrap_deg
+from ..units import wrap_deg
 from ..radiation import power_matrix
 from ..sphere import SearchSet, refine_best, refine_maxima
 from ..units import db10

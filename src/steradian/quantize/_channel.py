@@ -1,83 +1,5 @@
-r"""Beamformer channel model: what phase and amplitude states a channel can realise.
-
-A beamformer channel behind each element has a phase control (a digital phase shifter of
-``b`` bits, or any step in degrees over a span) and an amplitude control (a step attenuator
-in dB, a linear DAC of ``b`` bits, or none). :class:`ChannelModel` maps ideal complex weights
-to the nearest states those controls can realise, and tells what the array then radiates.
-
-Signal model (per element n, one beam)::
-
-    realised_n = mask_n * cal_n * exp(j off_n) * A(a_n) * exp(j P(p_n))
-
-- ``p_n``, ``a_n``: the phase and amplitude codes loaded into the hardware.
-  :math:`P(p) = p\,\Delta_\phi` (degrees, state 0 at 0 deg); the attenuator gives
-  :math:`A(a) = 10^{-a\,\Delta_{dB}/20}` (code 0 is no attenuation); the DAC gives
-  :math:`A(a) = a / (2^b - 1)`; with no amplitude control A = 1.
-- ``cal_n``: the measured complex response of channel n relative to nominal (optional
-  calibration file). Ideal weights are divided by it before rounding, so the hardware's own
-  errors are compensated to the resolution of the controls.
-- ``off_n``: a known fixed phase of each channel path (the randomised-offset mode below).
-- ``mask_n``: 0 for disabled elements. A disabled element is *off*: its commanded state is
-  exactly zero and its codes are the off flag ``(OFF_CODE, OFF_CODE)`` (both 0xFFFF), never a
-  weak attenuator state.
-
-Rounding is per control: phase to the circularly nearest phase state, amplitude to the
-nearest state in the control's own unit (dB for an attenuator, linear for a DAC). Per beam the
-strongest channel is set to ``gain_offset_db`` below full scale (0 dB: code 0 of the
-attenuator, full scale of the DAC); weaker channels follow the taper, and any weaker than the
-control's range reaches its last state.
-
-Common phase reference
-----------------------
-A common phase added to every channel of a beam leaves its pattern unchanged, but it moves
-the element phases against the rounding boundaries. Rounding against a fixed reference (the
-array centre) makes the result depend on where those boundaries fall: near
-:math:`\sin\theta_0 = 2^{1-b}` at half-wave spacing every element phase of a symmetric
-array sits next to a boundary, and the two halves round in opposite directions (a split,
-squinted beam). Each beam is therefore rounded with the common offset, among
-:data:`COMMON_OFFSET_CANDIDATES` offsets ``(k + 1/2) step / K`` spread over one phase step,
-that minimises the quantization error power :math:`\lVert w_q - s\,w_0\rVert^2` (``s`` the
-least-squares complex scale; equivalently, as the amplitudes do not depend on the offset, the
-largest :math:`|w_0^H w_q|`, the beam's field in the commanded direction per unit drive).
-Error power is the quantity the directivity loss and the total quantization-lobe energy grow
-with (Mailloux, 2018, ch. 7), and it is a smooth, deterministic criterion: near-ties within
-1e-12 go to the lowest ``k``, so the choice does not depend on rounding noise. The half-step
-shift of the candidates keeps exact ties of a symmetric array off the boundaries.
-
-Dead and clipped channels
--------------------------
-With a calibration, a channel whose measured gain lies more than ``dead_channel_db`` (20 dB)
-below the median enabled channel is *dead*: it cannot be compensated, and dividing by its
-gain would push every other channel to the bottom of its range. It is left out of the
-per-beam level, driven at its taper level without amplitude compensation, and named in a
-warning. Any enabled channel asked for more than full scale is clipped to full scale and
-named in a warning (common practice: a channel failure is flagged, not silently absorbed).
-
-Randomised phase offsets
-------------------------
-A uniform phase ramp rounded by a ``b``-bit shifter leaves a periodic (sawtooth) error, whose
-harmonics radiate *quantization lobes* of about :math:`2^{-2b}` relative to the beam. Adding a
-known, different phase to each channel path before rounding decorrelates the errors from
-element to element, spreading that energy into a low, even floor (Miller, 1964; Mailloux,
-2018, ch. 7). With ``phase_offsets="random"`` each channel n is given an offset drawn
-uniformly from ``[0, offset_span_deg)`` (default one phase step) from a seeded generator; the
-code is chosen for ``ideal - off_n`` and the channel's own path adds ``off_n`` back. The
-offsets must exist in the hardware (a line length, or a phase the firmware adds to every
-command); they are recorded in every weight file so firmware and verification can apply them.
-
-References
-----------
-C. J. Miller, "Minimizing the effects of phase quantization errors in an electronically
-scanned array," *Proc. Symp. Electronically Scanned Array Techniques and Applications*,
-RADC-TDR-64-225, vol. 1, 1964, pp. 17-38.
-
-R. J. Mailloux, *Phased Array Antenna Handbook*, 3rd ed., Artech House, 2018, ch. 7
-(phase-shifter quantization: RMS error, gain loss, quantization lobes and their
-decorrelation).
-
-B. Widrow and I. Kollar, *Quantization Noise*, Cambridge University Press, 2008, ch. 4
-(uniform quantizer: error uniform over one step, variance step^2 / 12).
-"""
+"""Part of :mod:`steradian.quantize` (see the package docstring): the channel model,
+quantization and the design file's ``[channel]`` table."""
 
 from __future__ import annotations
 
@@ -86,194 +8,23 @@ import warnings
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Literal, get_args
+from typing import get_args
 
 import numpy as np
 
-from .errors import DesignError, SteradianError
-from .schema import Section
-from .units import db20, from_db20, wrap_deg
-from .validate import choice, count
-
-__all__ = [
-    "StateMap",
-    "ChannelModel",
-    "QuantizedWeights",
-    "AmplitudeControl",
-    "OffsetMode",
-    "channel_from_table",
-    "CHANNEL_KEYS",
-    "OFF_CODE",
-    "COMMON_OFFSET_CANDIDATES",
-    "DEAD_CHANNEL_DB",
-]
-
-AmplitudeControl = Literal["none", "attenuator", "dac"]
-OffsetMode = Literal["none", "random"]
-
-_TOL = 1e-9
-
-OFF_CODE = 0xFFFF
-"""Off flag: a disabled element's phase and amplitude codes are both OFF_CODE (65535)."""
-
-COMMON_OFFSET_CANDIDATES = 16
-"""Common phase offsets tried per beam, ``(k + 1/2) / K`` of one phase step each."""
-
-DEAD_CHANNEL_DB = 20.0
-"""Default: a calibrated gain this far below the median channel marks a dead channel."""
-
-
-@dataclass(frozen=True)
-class StateMap:
-    """What the codes of a channel mean: the part of the channel a weight file carries.
-
-    Parameters
-    ----------
-    phase_step_deg : float
-        Phase step between adjacent phase codes (degrees, > 0). Code p means p * step.
-    phase_states : int
-        Number of phase codes (0 .. phase_states - 1); they may not exceed a full turn.
-    amplitude : {"none", "attenuator", "dac"}
-        Amplitude control. "attenuator": code a means ``a * amplitude_step`` dB of
-        attenuation; "dac": code a means linear amplitude ``a / (amplitude_states - 1)``;
-        "none": one state of amplitude 1.
-    amplitude_step : float
-        dB per code (attenuator) or linear amplitude per code (DAC, 1 / (states - 1)); 0 for
-        "none".
-    amplitude_states : int
-        Number of amplitude codes (1 for "none").
-    """
-
-    phase_step_deg: float
-    phase_states: int
-    amplitude: AmplitudeControl = "none"
-    amplitude_step: float = 0.0
-    amplitude_states: int = 1
-
-    def __post_init__(self):
-        step = float(self.phase_step_deg)
-        if not math.isfinite(step) or step <= 0 or step > 360:
-            raise SteradianError(f"phase_step_deg must be in (0, 360], got {self.phase_step_deg}")
-        object.__setattr__(self, "phase_step_deg", step)
-        n = count("phase_states", self.phase_states)
-        if (n - 1) * step >= 360.0 - _TOL * 360:
-            raise SteradianError(
-                f"{n} phase states of {step:g} deg span more than a full turn "
-                f"(at most {math.ceil(360.0 / step - _TOL)})")
-        object.__setattr__(self, "phase_states", n)
-        choice("amplitude", self.amplitude, get_args(AmplitudeControl))
-        m = count("amplitude_states", self.amplitude_states)
-        a_step = float(self.amplitude_step)
-        if self.amplitude == "none":
-            if m != 1 or a_step != 0.0:
-                raise SteradianError("amplitude 'none' has one state and step 0, got "
-                                     f"{m} states of step {a_step}")
-        elif self.amplitude == "attenuator":
-            if not math.isfinite(a_step) or a_step <= 0:
-                raise SteradianError(f"attenuator step must be positive dB, got {a_step}")
-        else:
-            if m < 2:
-                raise SteradianError(f"a DAC needs at least 2 states, got {m}")
-            want = 1.0 / (m - 1)
-            if abs(a_step - want) > 1e-12:
-                raise SteradianError(f"DAC with {m} states has step 1/{m - 1} = {want!r}, "
-                                     f"got {a_step!r}")
-            a_step = want
-        object.__setattr__(self, "amplitude_step", a_step)
-        object.__setattr__(self, "amplitude_states", m)
-
-    # ---- meaning of codes ------------------------------------------------------------
-    @property
-    def full_circle(self) -> bool:
-        """True when the phase states cover the whole turn evenly (360 / step states)."""
-        return abs(self.phase_states * self.phase_step_deg - 360.0) <= _TOL * 360
-
-    def phase_deg(self, codes) -> np.ndarray:
-        """Phase (degrees) of phase codes."""
-        return np.asarray(codes, float) * self.phase_step_deg
-
-    def amplitude_lin(self, codes) -> np.ndarray:
-        """Linear amplitude (full scale 1) of amplitude codes."""
-        c = np.asarray(codes, float)
-        if self.amplitude == "none":
-            return np.ones_like(c)
-        if self.amplitude == "attenuator":
-            return from_db20(-c * self.amplitude_step)
-        return c / (self.amplitude_states - 1)
-
-    def commanded(self, phase_codes, amplitude_codes) -> np.ndarray:
-        """Complex state ``A(a) exp(j P(p))`` of code pairs (the channel's nominal output)."""
-        return self.amplitude_lin(amplitude_codes) * np.exp(
-            1j * np.deg2rad(self.phase_deg(phase_codes)))
-
-    # ---- rounding -----------------------------------------------------------------------
-    def nearest_phase_code(self, phase_deg) -> np.ndarray:
-        """Code of the circularly nearest phase state."""
-        step, n = self.phase_step_deg, self.phase_states
-        p = np.mod(np.asarray(phase_deg, float), 360.0)
-        if self.full_circle:
-            return np.rint(p / step).astype(np.int64) % n
-        # Limited span: the nearest state is the rounded one inside the span, or one of the
-        # two ends across the gap.
-        cands = np.stack([np.clip(np.rint(p / step), 0, n - 1), np.zeros_like(p),
-                          np.full_like(p, n - 1)])
-        dist = np.abs(wrap_deg(cands * step - p))
-        return np.take_along_axis(cands, dist.argmin(axis=0)[None], 0)[0].astype(np.int64)
-
-    def nearest_amplitude_code(self, amplitude) -> np.ndarray:
-        """Code of the nearest amplitude state (in dB for an attenuator, linear for a DAC)."""
-        a = np.asarray(amplitude, float)
-        m = self.amplitude_states
-        if self.amplitude == "none":
-            return np.zeros(a.shape, np.int64)
-        if self.amplitude == "attenuator":
-            att = -db20(np.where(a > 0, a, 1.0))
-            c = np.where(a > 0, np.rint(att / self.amplitude_step), m - 1)
-            return np.clip(c, 0, m - 1).astype(np.int64)
-        return np.clip(np.rint(a * (m - 1)), 0, m - 1).astype(np.int64)
-
-    def check_codes(self, phase_codes, amplitude_codes, where: str | None = None) -> None:
-        """Raise naming the first code outside the channel's range (beam, element, code)."""
-        for name, codes, n in (("phase", phase_codes, self.phase_states),
-                               ("amplitude", amplitude_codes, self.amplitude_states)):
-            c = np.asarray(codes)
-            bad = (c < 0) | (c >= n)
-            if bad.any():
-                idx = tuple(int(i) for i in np.argwhere(bad)[0])
-                loc = (f"beam {idx[0]}, element {idx[1]}" if len(idx) == 2
-                       else f"element {idx[0]}")
-                pre = f"{where}: " if where else ""
-                raise SteradianError(
-                    f"{pre}{name} code {int(c[idx])} at {loc} is out of range 0..{n - 1}")
-
-    # ---- description -----------------------------------------------------------------
-    def to_dict(self) -> dict:
-        """JSON-friendly description (exact: floats kept as given)."""
-        return {"phase_step_deg": self.phase_step_deg, "phase_states": self.phase_states,
-                "amplitude": self.amplitude, "amplitude_step": self.amplitude_step,
-                "amplitude_states": self.amplitude_states}
-
-    @classmethod
-    def from_dict(cls, d: dict) -> StateMap:
-        """Inverse of :meth:`to_dict`."""
-        keys = {"phase_step_deg", "phase_states", "amplitude", "amplitude_step",
-                "amplitude_states"}
-        if not isinstance(d, dict) or set(d) != keys:
-            got = sorted(d) if isinstance(d, dict) else type(d).__name__
-            raise SteradianError(f"state map needs keys {sorted(keys)}, got {got}")
-        return cls(**d)
-
-    def describe(self) -> str:
-        """One line for people."""
-        ph = f"phase {self.phase_states} states of {self.phase_step_deg:g} deg"
-        if self.amplitude == "attenuator":
-            am = (f"attenuator {self.amplitude_states} states of {self.amplitude_step:g} dB "
-                  f"(0 to {(self.amplitude_states - 1) * self.amplitude_step:g} dB)")
-        elif self.amplitude == "dac":
-            am = f"linear DAC {self.amplitude_states} states"
-        else:
-            am = "no amplitude control"
-        return f"{ph}; {am}"
+from ..errors import DesignError, SteradianError
+from ..schema import Section
+from ..units import db20, from_db20, wrap_deg
+from ..validate import choice, count
+from ._states import (
+    COMMON_OFFSET_CANDIDATES,
+    DEAD_CHANNEL_DB,
+    OFF_CODE,
+    OffsetMode,
+    StateMap,
+    raise_key,
+    state_map,
+)
 
 
 @dataclass(frozen=True, eq=False)
@@ -433,8 +184,8 @@ class ChannelModel:
         **kwargs
             The other :class:`ChannelModel` fields.
         """
-        states = _state_map(phase_bits, phase_step_deg, phase_span_deg, attenuator_step_db,
-                            attenuator_span_db, dac_bits, _raise)
+        states = state_map(phase_bits, phase_step_deg, phase_span_deg, attenuator_step_db,
+                            attenuator_span_db, dac_bits, raise_key)
         return cls(states, **kwargs)
 
     # ---- per-element data ----------------------------------------------------------------
@@ -567,9 +318,13 @@ class ChannelModel:
         """Phase codes (B, N) and the common offset (B,) of least quantization error power.
 
         See the module notes: offsets ``(k + 1/2) step / K``, K = COMMON_OFFSET_CANDIDATES;
-        the score is ``|w0^H w_q|`` (amplitudes fixed), the lowest k within 1e-12 wins.
+        the score is ``|w0^H w_q|`` (amplitudes fixed), the lowest k within 1e-12 wins. With
+        randomised path offsets the rounding is already decorrelated from any reference and
+        no offset is searched (the published loss statistics then hold).
         """
         st = self.states
+        if self.phase_offsets != "none":
+            return st.nearest_phase_code(ph), np.zeros(len(ph))
         K = COMMON_OFFSET_CANDIDATES
         cands = (np.arange(K) + 0.5) * st.phase_step_deg / K
         amp = st.amplitude_lin(ac)
@@ -605,84 +360,6 @@ class ChannelModel:
                 "dead_channels": np.flatnonzero(self.dead_channels()).tolist()}
         return d
 
-
-# ---------------------------------------------------------------------------------------
-# Construction from numbers or a design table
-# ---------------------------------------------------------------------------------------
-def _raise(key: str, message: str):
-    raise SteradianError(f"{key}: {message}")
-
-
-def _number(fail, key, v, positive=True) -> float:
-    if isinstance(v, bool) or not isinstance(v, (int, float)):
-        fail(key, f"must be a number, got {v!r}")
-    v = float(v)
-    if not math.isfinite(v) or (positive and v <= 0):
-        fail(key, f"must be a positive number, got {v!r}")
-    return v
-
-
-def _bits(fail, key, v, hi) -> int:
-    if isinstance(v, bool) or not isinstance(v, int):
-        fail(key, f"must be a whole number of bits, got {v!r}")
-    if not 1 <= v <= hi:
-        fail(key, f"must be 1 .. {hi}, got {v}")
-    return v
-
-
-def _phase_states(fail, phase_bits, phase_step_deg, phase_span_deg) -> tuple[float, int]:
-    """(step in degrees, number of states) of the phase shifter."""
-    if phase_bits is not None and phase_step_deg is not None:
-        fail("phase_step_deg", "give phase_bits or phase_step_deg, not both")
-    if phase_bits is not None:
-        b = _bits(fail, "phase_bits", phase_bits, 16)
-        if phase_span_deg is not None:
-            fail("phase_span_deg", "a b-bit shifter covers the full turn; give "
-                 "phase_step_deg to set a span")
-        return 360.0 / 2**b, 2**b
-    if phase_step_deg is None:
-        fail("phase_bits", "the channel needs phase_bits or phase_step_deg")
-    step = _number(fail, "phase_step_deg", phase_step_deg)
-    if step > 360:
-        fail("phase_step_deg", f"must be at most 360, got {step}")
-    if phase_span_deg is None:
-        return step, math.ceil(360.0 / step - _TOL)
-    span = _number(fail, "phase_span_deg", phase_span_deg, positive=False)
-    r = span / step
-    if span < 0 or abs(r - round(r)) > 1e-6:
-        fail("phase_span_deg", f"must be a whole number of {step:g} deg steps, got {span:g}")
-    n_ph = round(r) + 1
-    if (n_ph - 1) * step >= 360.0 - _TOL * 360:
-        fail("phase_span_deg", f"{span:g} deg reaches a full turn; the last state is at most "
-             f"{360 - step:g} deg")
-    return step, n_ph
-
-
-def _state_map(phase_bits, phase_step_deg, phase_span_deg, att_step, att_span, dac_bits,
-               fail: Callable[[str, str], None]) -> StateMap:
-    """StateMap from datasheet numbers; ``fail(key, message)`` raises for bad ones."""
-    step, n_ph = _phase_states(fail, phase_bits, phase_step_deg, phase_span_deg)
-    if dac_bits is not None and (att_step is not None or att_span is not None):
-        fail("dac_bits", "give an attenuator (attenuator_step_db, attenuator_span_db) or "
-             "dac_bits, not both")
-    if dac_bits is not None:
-        b = _bits(fail, "dac_bits", dac_bits, 16)
-        return StateMap(step, n_ph, "dac", 1.0 / (2**b - 1), 2**b)
-    if att_step is None and att_span is None:
-        return StateMap(step, n_ph)
-    if att_step is None or att_span is None:
-        fail("attenuator_step_db" if att_step is None else "attenuator_span_db",
-             "an attenuator needs both attenuator_step_db and attenuator_span_db")
-    a_step = _number(fail, "attenuator_step_db", att_step)
-    a_span = _number(fail, "attenuator_span_db", att_span, positive=False)
-    r = a_span / a_step
-    if a_span < 0 or abs(r - round(r)) > 1e-6:
-        fail("attenuator_span_db", f"must be a whole number of {a_step:g} dB steps, got "
-             f"{a_span:g}")
-    n_a = round(r) + 1
-    if n_a > 65536:
-        fail("attenuator_span_db", f"{n_a} states exceed 65536")
-    return StateMap(step, n_ph, "attenuator", a_step, n_a)
 
 
 CHANNEL_KEYS = (
@@ -720,7 +397,7 @@ def channel_from_table(table: dict, n_elements: int | None = None, *, source=Non
         raise t.error(key, msg)
 
     g = table.get
-    states = _state_map(g("phase_bits"), g("phase_step_deg"), g("phase_span_deg"),
+    states = state_map(g("phase_bits"), g("phase_step_deg"), g("phase_span_deg"),
                         g("attenuator_step_db"), g("attenuator_span_db"), g("dac_bits"), fail)
     cal = cal_src = None
     if "calibration_file" in t:
