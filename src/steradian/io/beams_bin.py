@@ -63,9 +63,9 @@ import numpy as np
 
 from ..beamtable import BeamTable, Encoding
 from ..errors import FileFormatError, SteradianError
-from .formats import BIN_MAGIC, not_a
 from ..quantize import StateMap
 from .atomic import write_bytes
+from .formats import BIN_MAGIC, not_a
 
 __all__ = ["write_beams_bin", "read_beams_bin", "MAGIC", "LAYOUT_VERSION", "HEADER_SIZE"]
 

@@ -195,8 +195,8 @@ def _array_lines(t: BeamTable, lo: str, up: str) -> list[str]:
     return lines + ["};", "", f"#endif /* {up}_BEAM_WEIGHTS_H */"]
 
 
-_ARRAY = re.compile(r"static\s+const\s+(double|uint16_t|int16_t|uint8_t)\s+(\w+)\s*((?:\[[^\]]*\])+)"
-                    r"\s*=\s*\{(.*?)\}\s*;", re.S)
+_ARRAY = re.compile(r"static\s+const\s+(double|uint16_t|int16_t|uint8_t)\s+(\w+)\s*"
+                    r"((?:\[[^\]]*\])+)\s*=\s*\{(.*?)\}\s*;", re.S)
 _DEFINE = re.compile(r"^\s*#define\s+(\w+)\s+(\S+)", re.M)
 
 
