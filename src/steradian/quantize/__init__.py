@@ -31,20 +31,22 @@ Common phase reference
 ----------------------
 A common phase added to every channel of a beam leaves its pattern unchanged, but it moves
 the element phases against the rounding boundaries. Rounding against a fixed reference (the
-array centre) makes the result depend on where those boundaries fall: near
-:math:`\sin\theta_0 = 2^{1-b}` at half-wave spacing every element phase of a symmetric
-array sits next to a boundary, and the two halves round in opposite directions (a split,
-squinted beam). Each beam is therefore rounded with the common offset, among
-:data:`COMMON_OFFSET_CANDIDATES` offsets ``(k + 1/2) step / K`` spread over one phase step,
-that minimises the quantization error power :math:`\lVert w_q - s\,w_0\rVert^2` (``s`` the
-least-squares complex scale; equivalently, as the amplitudes do not depend on the offset, the
-largest :math:`|w_0^H w_q|`, the beam's field in the commanded direction per unit drive).
-Error power is the quantity the directivity loss and the total quantization-lobe energy grow
-with (Mailloux, 2018, ch. 7), and it is a smooth, deterministic criterion: near-ties within
-1e-12 go to the lowest ``k``, so the choice does not depend on rounding noise. The half-step
-shift of the candidates keeps exact ties of a symmetric array off the boundaries. With
+array centre) lets the boundaries decide: at :math:`\sin\theta_0 = 2^{1-b}` at half-wave
+spacing every element phase of a symmetric array lies on a boundary, the two halves round in
+opposite directions (a split, squinted beam) and floating-point noise picks the codes. Each
+beam is therefore rounded with the common offset, over one phase step, that minimises the
+quantization error power :math:`\lVert w_q - s\,w_0\rVert^2` (``s`` the least-squares
+complex scale), i.e., as the amplitudes do not depend on the offset, that maximises
+:math:`|w_0^H w_q|`, the beam's field in the commanded direction per unit drive. Error power
+is what the directivity loss and the total quantization-lobe energy grow with (Mailloux,
+2018, ch. 7) and it never prefers a worse-matched beam. For full-turn shifters the search is
+exact: every distinct rounding over one step is scored
+(``best_common_offset``, O(N log N) per beam) and the
+offset is the middle of the best interval, so the result does not depend on rounding noise;
+for limited spans :data:`COMMON_OFFSET_CANDIDATES` offsets ``(k + 1/2) step / K`` are tried.
+Ties within 1e-9 go to the interval containing (or the candidate nearest) zero offset. With
 randomised path offsets (below) no offset is searched: the rounding is then already
-decorrelated from any reference.
+decorrelated from any reference, and the published loss statistics hold.
 
 Dead and clipped channels
 -------------------------

@@ -87,6 +87,44 @@ class QuantizedWeights:
         return np.sqrt(np.nanmean(e**2, axis=1))
 
 
+def best_common_offset(x, g, active, step_deg: float) -> np.ndarray:
+    """Common offset (in phase steps, per beam) maximising ``|sum_n g_n exp(j k_n step)|``
+    over every rounding ``k_n = round(x_n + c)``, ``c`` over one step.
+
+    As ``c`` sweeps one step each active element's rounded value rises by one exactly once,
+    at ``c_n = floor(x_n + 1/2) + 1/2 - x_n``: sorting these crossings gives every distinct
+    rounding and, by a cumulative sum, its score, in O(N log N) per beam. Intervals narrower
+    than 1e-9 step (crossings equal up to rounding noise) are skipped; the result is the
+    middle of the first interval whose score is within 1e-9 of the best, so it lies well
+    inside its interval and does not depend on rounding noise.
+
+    Parameters
+    ----------
+    x : ndarray, shape (B, N)
+        Element phases in steps.
+    g : ndarray of complex, shape (B, N)
+        ``conj(w0_n)`` times the element's amplitude, calibration and path phase.
+    active : ndarray of bool, shape (N,)
+        Elements taking part (the others neither cross nor score).
+    step_deg : float
+        The phase step.
+    """
+    k0 = np.floor(x + 0.5)
+    cn = np.where(active, np.clip(k0 + 0.5 - x, 0.0, 1.0), 1.0)
+    rot = np.exp(1j * np.deg2rad(step_deg))
+    term = np.where(active, g * np.exp(1j * np.deg2rad(step_deg) * k0), 0.0)
+    order = np.argsort(cn, axis=1, kind="stable")
+    cs = np.take_along_axis(cn, order, 1)
+    inc = np.take_along_axis(term * (rot - 1.0), order, 1)
+    S = term.sum(axis=1)[:, None] + np.concatenate(
+        [np.zeros((len(x), 1)), np.cumsum(inc[:, :-1], axis=1)], axis=1)  # j crossings done
+    lo = np.concatenate([cs[:, -1:] - 1.0, cs[:, :-1]], axis=1)
+    score = np.where(cs - lo > 1e-9, np.abs(S), -1.0)
+    best = np.argmax(score >= score.max(axis=1, keepdims=True) * (1 - 1e-9), axis=1)
+    i = np.arange(len(x))
+    return 0.5 * (lo[i, best] + cs[i, best])
+
+
 def _path_offsets(n: int, span: float, seed: int) -> np.ndarray:
     rng = np.random.default_rng(seed)
     return rng.uniform(0.0, span, n)
@@ -317,27 +355,29 @@ class ChannelModel:
     def _phase_codes(self, ph, ac, w, off, m):
         """Phase codes (B, N) and the common offset (B,) of least quantization error power.
 
-        See the module notes: offsets ``(k + 1/2) step / K``, K = COMMON_OFFSET_CANDIDATES;
-        the score is ``|w0^H w_q|`` (amplitudes fixed), the lowest k within 1e-12 wins. With
-        randomised path offsets the rounding is already decorrelated from any reference and
-        no offset is searched (the published loss statistics then hold).
+        The score is ``|w0^H w_q|`` (the amplitudes do not depend on the offset, so this is
+        the least error power). Full-turn shifters: every distinct rounding over one step is
+        scored exactly (:func:`best_common_offset`); limited spans: the offsets
+        ``(k + 1/2) step / K``, K = COMMON_OFFSET_CANDIDATES. Ties within 1e-9 go to the
+        first candidate. With randomised path offsets no offset is searched.
         """
         st = self.states
         if self.phase_offsets != "none":
             return st.nearest_phase_code(ph), np.zeros(len(ph))
+        g = np.where(m, w, 0.0).conj() * st.amplitude_lin(ac) * np.exp(1j * np.deg2rad(off))
+        if self.calibration is not None:
+            g = g * self.calibration
+        if st.full_circle:
+            c = best_common_offset(ph / st.phase_step_deg, g, m, st.phase_step_deg)
+            c = c * st.phase_step_deg
+            return st.nearest_phase_code(ph + c[:, None]), c
         K = COMMON_OFFSET_CANDIDATES
         cands = (np.arange(K) + 0.5) * st.phase_step_deg / K
-        amp = st.amplitude_lin(ac)
-        if self.calibration is not None:
-            amp = amp * self.calibration
-        w0 = np.where(m, w, 0.0).conj()
         codes = [st.nearest_phase_code(ph + c) for c in cands]
-        score = np.stack([np.abs(np.einsum("bn,bn->b", w0, np.where(
-            m, amp * np.exp(1j * np.deg2rad(st.phase_deg(pc) + off)), 0.0)))
-            for pc in codes])  # (K, B)
-        best = np.argmax(score >= score.max(axis=0) * (1 - 1e-12), axis=0)
-        pc = np.stack(codes)[best, np.arange(len(best))]
-        return pc, cands[best]
+        score = np.stack([np.abs(np.sum(g * np.exp(1j * np.deg2rad(st.phase_deg(pc))), axis=1))
+                          for pc in codes])  # (K, B)
+        best = np.argmax(score >= score.max(axis=0) * (1 - 1e-9), axis=0)
+        return np.stack(codes)[best, np.arange(len(best))], cands[best]
 
     # ---- description -----------------------------------------------------------------
     def describe(self) -> dict:
