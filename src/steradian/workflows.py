@@ -250,7 +250,8 @@ def beam_table_from_design(design, *, weights=None,
                          read_file=read_directions)
     eff = design.options.radiation_efficiency
     return build_beam_table(design.array, ch, d, weights=weights, efficiency=eff,
-                            evaluator=evaluator, metadata=design_metadata(design))
+                            evaluator=evaluator, metadata=design_metadata(design),
+                            element_power_w=design.options.element_power_w)
 
 
 def verify_weight_file(design, path, fmt: str | None = None, *, weights=None,

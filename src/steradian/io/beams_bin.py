@@ -46,8 +46,9 @@ Payload, in this order::
 
 Element n of beam b is therefore at payload offset ``16 B + (24 N if positions) +
 (8 N if offsets) + (8 ceil(N / 8) if mask) + 4 (b N + n)``. Without a mask block every
-element is on (version 1 has none). Q1.15 values are rounded to the nearest integer (halves
-away from zero) and saturated to -32768 .. 32767: +1.0 becomes 32767, -1.0 is -32768. A file
+element is on (version 1 has none). Q1.15 values are value * 32768 rounded to the nearest
+integer (ties to even, the IEEE-754 default) and saturated to -32768 .. 32767: +1.0 becomes
+32767, -1.0 is -32768. A file
 is refused with a clear message when the magic, version, header CRC, sizes, reserved fields
 or payload CRC do not match, a code is out of range, or an off element's state is not the
 off flag.
