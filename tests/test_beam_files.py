@@ -461,3 +461,98 @@ def test_c_header_compiles_and_holds_the_values(tmp_path, enc):
     assert float(out[5]) == t.directions[3, 0]
     assert float(out[6]) == (t.phase_offsets_deg[6] + t.directions[0, 1] + t.positions[1, 2])
     assert out[7:] == ["6", "0", "1", "65535", str(t.codes[2, 4, 0])]
+
+
+C_READER = r"""
+/* A binary weight-file reader written from the README's layout alone (C99). */
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <stdint.h>
+
+static const unsigned char *d;
+static uint32_t u16(size_t o) { return (uint32_t)d[o] | ((uint32_t)d[o + 1] << 8); }
+static uint32_t u32(size_t o) { return u16(o) | (u16(o + 2) << 16); }
+static int32_t s16(size_t o) {
+    uint32_t v = u16(o); return v >= 32768u ? (int32_t)v - 65536 : (int32_t)v;
+}
+static double f64(size_t o) {
+    uint64_t v = 0; double x; int i;
+    for (i = 7; i >= 0; i--) v = (v << 8) | d[o + (size_t)i];
+    memcpy(&x, &v, 8); return x;
+}
+static uint32_t crc32(const unsigned char *p, size_t n) {
+    uint32_t c = 0xFFFFFFFFu; size_t i; int k;
+    for (i = 0; i < n; i++) {
+        c ^= p[i];
+        for (k = 0; k < 8; k++) c = (c >> 1) ^ ((c & 1u) ? 0xEDB88320u : 0u);
+    }
+    return c ^ 0xFFFFFFFFu;
+}
+int main(int argc, char **argv) {
+    FILE *f; long size; unsigned char *buf;
+    uint32_t n, nb, b, e, hsize, flags, psize; size_t o, mask_at, states_at;
+    if (argc != 2 || !(f = fopen(argv[1], "rb"))) return 2;
+    fseek(f, 0, SEEK_END); size = ftell(f); fseek(f, 0, SEEK_SET);
+    buf = malloc((size_t)size);
+    if (fread(buf, 1, (size_t)size, f) != (size_t)size) return 2;
+    fclose(f); d = buf;
+    if (memcmp(d, "SRBW\r\n\x1a\n", 8) != 0) return 3;
+    if (crc32(d, 60) != u32(60)) return 4;
+    hsize = u16(10); n = u32(12); nb = u32(16); flags = d[22]; psize = u32(48);
+    if (d[23] != 0 || u32(56) != 0) return 5;
+    if ((long)(hsize + psize) != size || crc32(d + hsize, psize) != u32(52)) return 6;
+    o = hsize;
+    printf("version %u encoding %u n %u beams %u\n", u16(8), d[20], n, nb);
+    for (b = 0; b < nb; b++) printf("dir %.17g %.17g\n", f64(o + 16 * b), f64(o + 16 * b + 8));
+    o += 16 * (size_t)nb;
+    if (flags & 1) o += 24 * (size_t)n;
+    if (flags & 2) {
+        for (e = 0; e < n; e++) printf("off %.17g\n", f64(o + 8 * e));
+        o += 8 * (size_t)n;
+    }
+    mask_at = o;
+    if (flags & 4) o += 8 * (((size_t)n + 7) / 8);
+    states_at = o;
+    for (e = 0; e < n; e++) printf("on %d\n", (flags & 4) ? d[mask_at + e] : 1);
+    for (b = 0; b < nb; b++)
+        for (e = 0; e < n; e++) {
+            size_t at = states_at + 4 * ((size_t)b * n + e);
+            if (d[20] == 1) printf("s %ld %ld\n", (long)u16(at), (long)u16(at + 2));
+            else printf("s %ld %ld\n", (long)s16(at), (long)s16(at + 2));
+        }
+    free(buf);
+    return 0;
+}
+"""
+
+
+@pytest.mark.skipif(shutil.which("cc") is None, reason="no C compiler")
+def test_c_reader_from_the_documentation_decodes_the_binary(tmp_path):
+    """A C program written from the README's binary layout alone (offsets, IEEE-754 float64,
+    the documented CRC-32 parameters, the enable mask and its padding, the off flag) decodes
+    binaries in both encodings, with a disabled element, and agrees exactly with the JSON
+    file of the same table."""
+    src = tmp_path / "reader.c"
+    src.write_text(C_READER)
+    exe = tmp_path / "reader"
+    subprocess.run(["cc", "-std=c99", "-pedantic", "-Wall", "-o", str(exe), str(src)],
+                   check=True, capture_output=True)
+    for enc in ("codes", "iq"):
+        t = _table(n=11, nb=3, enc=enc, off=(0, 7))
+        write_weight_file(tmp_path / f"t_{enc}.bin", t)
+        write_weight_file(tmp_path / f"t_{enc}.json", t)
+        doc = json.loads((tmp_path / f"t_{enc}.json").read_text())
+        out = subprocess.run([str(exe), str(tmp_path / f"t_{enc}.bin")], check=True,
+                             capture_output=True, text=True).stdout.splitlines()
+        assert out[0] == f"version 2 encoding {1 if enc == 'codes' else 2} n 11 beams 3"
+        dirs = [tuple(map(float, ln.split()[1:])) for ln in out if ln.startswith("dir ")]
+        assert dirs == [(bm["theta_deg"], bm["phi_deg"]) for bm in doc["beams"]]
+        offs = [float(ln.split()[1]) for ln in out if ln.startswith("off ")]
+        assert offs == doc["elements"]["phase_offset_deg"]
+        assert [int(ln.split()[1]) for ln in out if ln.startswith("on ")] == \
+            doc["elements"]["enabled"]
+        keys = ("phase_code", "amplitude_code") if enc == "codes" else ("i_q15", "q_q15")
+        states = [tuple(map(int, ln.split()[1:])) for ln in out if ln.startswith("s ")]
+        assert states == [pair for bm in doc["beams"]
+                          for pair in zip(bm[keys[0]], bm[keys[1]], strict=True)]
