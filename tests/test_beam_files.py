@@ -556,3 +556,68 @@ def test_c_reader_from_the_documentation_decodes_the_binary(tmp_path):
         states = [tuple(map(int, ln.split()[1:])) for ln in out if ln.startswith("s ")]
         assert states == [pair for bm in doc["beams"]
                           for pair in zip(bm[keys[0]], bm[keys[1]], strict=True)]
+
+
+LINE_DESIGN = """
+[design]
+name = "line9"
+frequency_hz = 299792458.0
+
+[geometry]
+kind = "linear"
+units = "wavelength"
+count = 9
+spacing = 0.5
+disabled = [0, 3]
+
+[element]
+model = "isotropic"
+
+[taper]
+{taper}
+
+[channel]
+{channel}
+
+[beams]
+grid = "theta_phi"
+theta_deg = [0, 20]
+phi_deg = [0]
+"""
+
+
+def test_design_chain_disabled_elements_and_phase_only_taper(tmp_path):
+    """Issue 9, cases 1 and 2 from a design file through `steradian beams`: the 9-element
+    line with disabled = [0, 3] writes elements 0 and 3 as off in every file (before: codes
+    (0, 63), I = 872); a Taylor taper on a phase-only channel is refused in one line naming
+    [channel] and [taper], exit 2, and accepted with drop_taper = true."""
+    from click.testing import CliRunner
+
+    from steradian.cli import main
+
+    def run(taper, channel):
+        p = tmp_path / "line.toml"
+        p.write_text(LINE_DESIGN.format(taper=taper, channel=channel))
+        return CliRunner().invoke(main, ["beams", str(p), "-o", str(tmp_path / "out"),
+                                         "--bin-encoding", "iq"])
+
+    att = "phase_bits = 6\nattenuator_step_db = 0.5\nattenuator_span_db = 31.5"
+    res = run('kind = "uniform"', att)
+    assert res.exit_code == 0, res.output
+    for suffix in SUFFIXES:
+        t = read_weight_file(tmp_path / f"out{suffix}")
+        assert t.enabled.tolist() == [i not in (0, 3) for i in range(9)]
+        assert np.all(t.commanded()[:, [0, 3]] == 0)
+    assert np.all(read_weight_file(tmp_path / "out.bin").codes[:, [0, 3]] == 0)  # I/Q
+    assert np.all(read_weight_file(tmp_path / "out.json").codes[:, [0, 3]] == OFF_CODE)
+    taylor = 'kind = "taylor"\nnbar = 3\nsll = 25.0'
+    res = run(taylor, "phase_bits = 4")
+    assert res.exit_code == 2
+    lines = res.output.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("steradian: error: [channel] has no "
+                                                   "amplitude control")
+    assert "[taper]" in lines[0] and "drop_taper = true" in lines[0]
+    res = run(taylor, "phase_bits = 4\ndrop_taper = true")
+    assert res.exit_code == 0, res.output
+    notes = json.loads((tmp_path / "out.json").read_text())["metadata"]["notes"]
+    assert "amplitude taper dropped" in notes[0]
