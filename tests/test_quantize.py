@@ -218,3 +218,17 @@ def test_dead_channel_threshold_and_keys():
     assert ch.dead_channel_db == 12.5
     with pytest.raises(DesignError, match=r"channel\.dead_channel_db"):
         channel_from_table({"phase_bits": 4, "dead_channel_db": -1})
+
+
+def test_dead_channel_at_the_taper_peak_is_also_clipped():
+    """A dead channel asked for more than full scale (it sits at the taper's peak, the live
+    channels set the level) is named twice: dead, and clipped at full scale."""
+    cal = np.array([1, 1, 1, 1e-20], complex)
+    ch = ChannelModel.build(phase_bits=4, dac_bits=8, calibration=cal)
+    with pytest.warns(UserWarning) as rec:
+        q = ch.quantize(np.array([0.5, 0.5, 0.5, 1.0]))
+    msgs = [str(r.message) for r in rec]
+    assert any("dead channel(s) at element(s) 3" in m for m in msgs)
+    assert any("clipped at full scale: element(s) 3 (asked +6.02 dB)" in m for m in msgs)
+    assert q.notes == tuple(msgs)
+    assert np.abs(q.commanded[0]) == pytest.approx([1, 1, 1, 1])
