@@ -21,7 +21,7 @@ from steradian.beamtable import (
 )
 from steradian.errors import DesignError, SteradianError
 from steradian.io.directions_csv import read_directions
-from steradian.quantize import ChannelModel
+from steradian.quantize import ChannelModel, channel_from_table
 
 N_LINE = 400
 
@@ -66,8 +66,9 @@ def test_taylor_sidelobe_level(line):
     Trans. Antennas Propag. AP-3, 1955; the window from scipy is the outside reference)."""
     arr, ev = line
     a = arr.with_taper(taylor(N_LINE, nbar=5, sll=30, norm=False))
-    m = build_beam_table(a, ChannelModel.build(phase_bits=10), [[0.0, 0.0], [30.0, 0.0]],
-                         evaluator=ev).metrics
+    # A tapered design needs amplitude control (issue 9: a phase-only channel refuses it).
+    m = build_beam_table(a, ChannelModel.build(phase_bits=10, dac_bits=12),
+                         [[0.0, 0.0], [30.0, 0.0]], evaluator=ev).metrics
     assert np.all(m.ideal_psl_db <= -30.0 + 0.05)
     assert np.all(m.ideal_psl_db >= -30.6)
 
@@ -243,3 +244,123 @@ def test_memory_bounded_paths_agree():
     b = build_beam_table(arr, ch, d, evaluator=ev).metrics
     for f in ("directivity_dbi", "psl_db", "qlobe_db", "loss_db", "pointing_error_deg"):
         assert np.allclose(getattr(a, f), getattr(b, f), rtol=0, atol=1e-9)
+
+
+# --------------------------------------------------------------------------------------------
+# Issue 9: phase-only channels, dead channels and power, the quantizer's phase reference
+# --------------------------------------------------------------------------------------------
+def test_phase_only_channel_refuses_a_taper():
+    """Issue 9, case 2: phase_bits = 4 only with a Taylor taper silently dropped the taper
+    (PSL -9.4 dB reported as a quantization lobe). A phase-only beamformer cannot realise an
+    amplitude taper (common practice), so the build refuses naming [channel] and [taper];
+    drop_taper = true accepts it and the notes and metadata say the taper was dropped."""
+    arr = st.Array(st.linear(16, 0.5), st.C0, taper=taylor(16, nbar=4, sll=30, norm=False))
+    d = [[0.0, 0.0], [20.0, 0.0]]
+    with pytest.raises(SteradianError, match=r"\[channel\] has no amplitude control.*\[taper\]"
+                       r" varies the amplitude by .* drop_taper = true"):
+        build_beam_table(arr, ChannelModel.build(phase_bits=4), d)
+    ch = channel_from_table({"phase_bits": 4, "drop_taper": True})
+    res = build_beam_table(arr, ch, d)
+    assert any("amplitude taper dropped" in n for n in res.notes)
+    assert res.table.metadata["notes"] == list(res.notes)
+    assert res.table.metadata["channel"]["drop_taper"] is True
+    # The ideal is the uniform-amplitude version: the loss is phase quantization only.
+    assert np.allclose(np.abs(res.ideal), 1.0)
+    assert np.all(res.metrics.loss_db < 0.3) and np.all(res.metrics.loss_db > -1e-9)
+    with pytest.raises(DesignError, match=r"channel\.drop_taper.*true or false"):
+        channel_from_table({"phase_bits": 4, "drop_taper": "yes"})
+    # A uniform taper (and any channel with amplitude control) is built as before.
+    assert not build_beam_table(arr.with_taper(np.ones(16)), ChannelModel.build(phase_bits=4),
+                                d, evaluate=False).notes
+
+
+def test_dead_channel_is_named_and_does_not_flatten_the_taper():
+    """Issue 9, case 3: one calibration row of -400 dB pushed 95 of 96 channels to full
+    attenuation and the report showed only directivity. The dead channel is now named in a
+    warning, left out of the beam level (the other channels keep the attenuator codes of the
+    uncalibrated table), and each beam reports the drive loss and radiated power relative to
+    all channels at full drive (P_rad = xi sum |w|^2, common practice) and the EIRP P_in G
+    (as steradian.radiation.eirp)."""
+    from steradian.radiation import RF_EXPOSURE_CAUTION, eirp
+    from steradian.units import from_db10
+
+    n = 96
+    arr = st.Array(st.linear(n, 0.5), st.C0, taper=taylor(n, nbar=5, sll=30, norm=False))
+    states = dict(phase_bits=6, attenuator_step_db=0.5, attenuator_span_db=31.5)
+    cal = np.ones(n, complex)
+    cal[17] = 10 ** (-400 / 20)
+    d = [[0.0, 0.0], [25.0, 0.0]]
+    good = build_beam_table(arr, ChannelModel.build(**states), d, efficiency=0.8)
+    with pytest.warns(UserWarning, match=r"dead channel\(s\) at element\(s\) 17 \(-400\.0 dB"):
+        bad = build_beam_table(arr, ChannelModel.build(**states, calibration=cal), d,
+                               efficiency=0.8, element_power_w=2.0)
+    live = np.arange(n) != 17
+    # The taper survives: the same attenuator codes as without calibration (the phase codes
+    # may differ by the beam's common offset, chosen without the dead channel).
+    assert np.array_equal(bad.table.codes[:, live, 1], good.table.codes[:, live, 1])
+    assert np.count_nonzero(bad.table.codes[..., 1] == 63) < 5
+    assert any("element(s) 17" in x for x in bad.notes)
+    m = bad.metrics
+    real = bad.quantized.realised
+    assert m.radiated_power_db == pytest.approx(
+        10 * np.log10(0.8 * np.sum(np.abs(real) ** 2, axis=1) / n), abs=1e-12)
+    assert m.drive_loss_db == pytest.approx(
+        -10 * np.log10(np.sum(np.abs(bad.quantized.commanded) ** 2, axis=1) / n), abs=1e-12)
+    # Taylor 30 dB taper (about 3.2 dB below full drive) and xi = 0.8: about -4.2 dB, not -34.
+    assert np.all(m.radiated_power_db > good.metrics.radiated_power_db - 0.2)
+    assert np.all(m.radiated_power_db > -5.0) and np.all(m.drive_loss_db < 3.5)
+    for b in range(2):
+        ref = eirp(from_db10(m.gain_dbi[b]), 2.0, real[b] / np.abs(real[b]).max())
+        p_full = 2.0 * np.sum(np.abs(real[b]) ** 2)
+        assert m.eirp_dbw[b] == pytest.approx(
+            ref["eirp_dbw"] + 10 * np.log10(p_full / ref["total_power_w"]), abs=1e-9)
+    assert np.all(np.isnan(good.metrics.eirp_dbw))
+    assert bad.table.metadata["rf_exposure_caution"] == RF_EXPOSURE_CAUTION
+    assert bad.table.metrics[0]["eirp_dbw"] == pytest.approx(m.eirp_dbw[0])
+    s = m.summary()
+    assert s["radiated_power_db_min"] == pytest.approx(m.radiated_power_db.min())
+    # Uniform drive 3 dB below full scale: a 3 dB drive loss (code 6 of 0.5 dB exactly).
+    u = build_beam_table(arr.with_taper(np.ones(n)),
+                         ChannelModel.build(**states, gain_offset_db=-3.0), d).metrics
+    assert u.drive_loss_db == pytest.approx([3.0, 3.0], abs=1e-12)
+
+
+def test_common_phase_offset_near_the_quantization_tie():
+    """Issue 9, case 5: 3-bit phase, 32 half-wave elements, theta0 13.75..15.25 deg. Rounded
+    against the array centre, at sin theta0 = 2^(1-b) every phase lies on a rounding boundary
+    and floating-point noise decides the codes (PSL -12.68 dB, loss 0.40 dB there; -9.36 dB
+    and 0.167 dB at 14.25..14.75 deg). The quantizer now picks each beam's common offset by
+    an exact search over one step for the least error power |w_q - s w0|^2: the codes no
+    longer change under 1e-9 deg of phase noise, the error power never exceeds the
+    centre-referenced one, and where the ramp is representable (within ~0.3 deg of the tie)
+    the beam is the ideal one: PSL of the uniform 32-element line, -13.23 dB (Dirichlet
+    kernel, R. J. Mailloux, Phased Array Antenna Handbook, 3rd ed., 2018, ch. 2), no loss.
+    At 13.75-14.0 and 15.0-15.25 deg the -9.36 dB lobe stays: it is the quantization lobe
+    of a ramp of 0.95 steps per element, next to the main beam, and the centre reference
+    already had the least error power there."""
+    arr = st.Array(st.linear(32, 0.5), st.C0)
+    ev = BeamEvaluator(arr)
+    ch = ChannelModel.build(phase_bits=3)
+    tie = np.degrees(np.arcsin(2.0 ** (1 - 3)))
+    th = np.r_[np.arange(13.75, 15.26, 0.25), tie]
+    d = np.column_stack([th, np.zeros_like(th)])
+    res = build_beam_table(arr, ch, d, evaluator=ev)
+    w0 = res.ideal
+    centre = ch.states.commanded(ch.states.nearest_phase_code(np.angle(w0, deg=True)), 0)
+
+    def err(wq):
+        s = np.einsum("bn,bn->b", w0.conj(), wq) / np.einsum("bn,bn->b", w0.conj(), w0)
+        return np.sum(np.abs(wq - s[:, None] * w0) ** 2, axis=1)
+
+    assert np.all(err(res.quantized.commanded) <= err(centre) * (1 + 1e-12))
+    rng = np.random.default_rng(0)
+    jitter = w0 * np.exp(1j * np.deg2rad(rng.normal(0, 1e-9, w0.shape)))
+    assert np.array_equal(ch.quantize(jitter).phase_codes, res.quantized.phase_codes)
+    m = res.metrics
+    near = np.abs(th - tie) < 0.3
+    assert near.sum() == 4
+    assert np.all(m.psl_db[near] == pytest.approx(m.ideal_psl_db[near], abs=0.01))
+    assert np.all(m.psl_db[near] < -13.2) and np.all(np.abs(m.loss_db[near]) < 1e-6)
+    assert np.all(m.psl_db <= -9.35) and np.all(m.loss_db <= 0.168)
+    old = ev.evaluate(centre[-1:], d[-1:], ideal=w0[-1:])
+    assert old.psl_db[0] > -12.8 and old.loss_db[0] > 0.39  # the tie before the fix

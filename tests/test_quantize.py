@@ -9,7 +9,7 @@ from hypothesis import strategies as hs
 
 from steradian.errors import DesignError, FileFormatError, SteradianError
 from steradian.io.calibration_csv import read_calibration
-from steradian.quantize import ChannelModel, StateMap, channel_from_table
+from steradian.quantize import OFF_CODE, ChannelModel, StateMap, channel_from_table
 from steradian.units import wrap_deg
 
 
@@ -132,6 +132,10 @@ def test_mask_zeroes_disabled_elements(rng):
     mask = np.array([1, 1, 0, 1, 1, 1, 0, 1], bool)
     q = ChannelModel.build(phase_bits=4, dac_bits=4).quantize(w, mask=mask)
     assert np.all(q.realised[0, ~mask] == 0) and np.all(q.realised[0, mask] != 0)
+    # Off, not weakest (issue 9): zero commanded state and the off flag as both codes.
+    assert np.all(q.commanded[0, ~mask] == 0)
+    assert np.all(q.phase_codes[0, ~mask] == OFF_CODE) and np.all(q.amplitude_codes[0, ~mask]
+                                                                  == OFF_CODE)
     with pytest.raises(SteradianError, match="no non-zero weight"):
         ChannelModel.build(phase_bits=4).quantize(np.zeros(4))
 
@@ -193,3 +197,38 @@ def test_calibration_csv(tmp_path):
     p.write_text("element,gain_db,phase_deg\n0,0,0\n1,0,0\n")
     with pytest.raises(FileFormatError, match="has 2 channel rows, the array has 3"):
         read_calibration(p, 3)
+
+
+def test_dead_channel_threshold_and_keys():
+    """A calibrated gain more than dead_channel_db below the median channel is dead (named
+    in a warning, left out of the beam level); channels within it are compensated as
+    before (common practice: failed channels are flagged, not compensated)."""
+    cal = np.ones(8, complex)
+    cal[2] = 10 ** (-25 / 20)
+    ch = ChannelModel.build(phase_bits=4, dac_bits=8, calibration=cal)
+    assert ch.dead_channels().tolist() == [i == 2 for i in range(8)]
+    with pytest.warns(UserWarning, match=r"element\(s\) 2 \(-25\.0 dB\)"):
+        q = ch.quantize(np.ones(8))
+    assert np.abs(q.commanded[0]).max() == pytest.approx(1.0)
+    lax = ChannelModel.build(phase_bits=4, dac_bits=8, calibration=cal, dead_channel_db=30)
+    assert not lax.dead_channels().any()
+    q = lax.quantize(np.ones(8))  # compensated: the others backed off by 25 dB
+    assert np.abs(q.commanded[0, 0]) == pytest.approx(10 ** (-25 / 20), abs=1 / 255)
+    ch = channel_from_table({"phase_bits": 4, "dead_channel_db": 12.5})
+    assert ch.dead_channel_db == 12.5
+    with pytest.raises(DesignError, match=r"channel\.dead_channel_db"):
+        channel_from_table({"phase_bits": 4, "dead_channel_db": -1})
+
+
+def test_dead_channel_at_the_taper_peak_is_also_clipped():
+    """A dead channel asked for more than full scale (it sits at the taper's peak, the live
+    channels set the level) is named twice: dead, and clipped at full scale."""
+    cal = np.array([1, 1, 1, 1e-20], complex)
+    ch = ChannelModel.build(phase_bits=4, dac_bits=8, calibration=cal)
+    with pytest.warns(UserWarning) as rec:
+        q = ch.quantize(np.array([0.5, 0.5, 0.5, 1.0]))
+    msgs = [str(r.message) for r in rec]
+    assert any("dead channel(s) at element(s) 3" in m for m in msgs)
+    assert any("clipped at full scale: element(s) 3 (asked +6.02 dB)" in m for m in msgs)
+    assert q.notes == tuple(msgs)
+    assert np.abs(q.commanded[0]) == pytest.approx([1, 1, 1, 1])

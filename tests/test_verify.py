@@ -320,3 +320,22 @@ def test_a_table_built_with_another_taper_is_named(built, tmp_path):
     assert any("records another taper" in n for n in out["notes"])
     assert not any("records another taper" in n for n in _verify(design, tmp / "six.json")[1]
                    ["notes"])
+
+
+def test_binary_with_an_element_switched_off_is_named(built, tmp_path):
+    """Issue 9, items 1 and 12 together: a file that switches element 2 off (the off flag in
+    every beam and the enable mask, a well-formed layout-2 binary) is not the design's table:
+    exit 1, the enable mask named first (common practice: the delivered element states,
+    on/off included, must be the reference's)."""
+    from steradian.quantize import OFF_CODE
+
+    tmp, design, table = built
+    codes = np.array(table.codes)
+    codes[:, 2, :] = OFF_CODE
+    enabled = np.ones(table.n_elements, bool)
+    enabled[2] = False
+    p = write_weight_file(tmp_path / "off.bin", replace(table, codes=codes, enabled=enabled))
+    code, first = _first(design, p)
+    assert code == 1
+    assert first == ("element 2: the file has it off, the design on (1 element(s) differ in "
+                     "the enable mask)")

@@ -342,7 +342,8 @@ def beam_table_from_design(design, *, weights=None,
                           "(grid = 'theta_phi', 'az_el' or 'list')", src)
     eff = design.options.radiation_efficiency
     return build_beam_table(design.array, ch, d, weights=weights, efficiency=eff,
-                            evaluator=evaluator, metadata=design_metadata(design))
+                            evaluator=evaluator, metadata=design_metadata(design),
+                            element_power_w=design.options.element_power_w)
 
 
 def _design_directions(design) -> np.ndarray | None:

@@ -10,6 +10,7 @@ import numpy as np
 from ..array import Steering
 from ..errors import SteradianError
 from ..quantize import ChannelModel
+from ..radiation import RF_EXPOSURE_CAUTION
 from ..units import db20
 from ._evaluate import BeamEvaluator, BeamMetrics
 from ._table import BeamTable
@@ -77,18 +78,59 @@ def _array_metadata(array, channel: ChannelModel, efficiency: float) -> dict:
 
 @dataclass(frozen=True, eq=False)
 class BeamBuild:
-    """Result of :func:`build_beam_table`: the table and how its beams perform."""
+    """Result of :func:`build_beam_table`: the table and how its beams perform.
+
+    ``notes``: what a report must say besides the metrics (a dropped taper, dead or clipped
+    channels; the last two are also issued as warnings). They are in the table's metadata
+    under ``"notes"`` too.
+    """
 
     table: BeamTable
     metrics: BeamMetrics
     quantized: object
     ideal: np.ndarray
+    notes: tuple = ()
+
+
+TAPER_SPREAD_DB = 0.05
+"""An amplitude spread over the enabled elements above this (dB) is a taper a phase-only
+channel cannot realise."""
+
+
+def channel_ideal(channel: ChannelModel, w0: np.ndarray, enabled) -> tuple[np.ndarray, list]:
+    """The ideal weights a channel without amplitude control is asked for, and notes.
+
+    A phase-only beamformer cannot realise an amplitude taper (common practice): building
+    its table from a tapered design is refused unless the channel says ``drop_taper``; then
+    the ideal becomes the taper's phases at uniform amplitude and a note says so.
+    """
+    if channel.states.amplitude != "none":
+        return w0, []
+    on = np.ones(w0.shape[1], bool) if enabled is None else np.asarray(enabled, bool)
+    a = np.abs(w0[:, on])
+    spread = db20(a.max(axis=1) / np.maximum(a.min(axis=1), 1e-300), floor=None)
+    worst = float(np.max(spread))
+    if worst <= TAPER_SPREAD_DB:
+        return w0, []
+    if not channel.drop_taper:
+        raise SteradianError(
+            f"[channel] has no amplitude control (phase only) but the [taper] varies the "
+            f"amplitude by {min(worst, 999.0):.2f} dB over the enabled elements: a phase-only "
+            "beamformer cannot realise it; add an attenuator or DAC to [channel], use a "
+            "uniform [taper], or set drop_taper = true in [channel] to build the table "
+            "without the taper")
+    w = np.where(np.abs(w0) > 0, w0 / np.where(np.abs(w0) > 0, np.abs(w0), 1.0), 0.0)
+    w = np.where(on, np.where(np.abs(w0) > 0, w, 1.0), 0.0)
+    return w, [f"amplitude taper dropped (drop_taper = true): the phase-only channel drives "
+               f"every enabled element at full amplitude; the design's taper spans "
+               f"{min(worst, 999.0):.2f} dB and the ideal beams are its uniform-amplitude "
+               "version"]
 
 
 def build_beam_table(array, channel: ChannelModel, directions, *,
                      weights: WeightSource = None, efficiency: float = 1.0,
                      evaluator: BeamEvaluator | None = None, metadata: dict | None = None,
-                     evaluate: bool = True) -> BeamBuild:
+                     evaluate: bool = True, element_power_w: float | None = None) -> BeamBuild:
     """Quantized beam table of ``array`` over ``directions`` (B, 2) in degrees.
 
     Parameters
@@ -109,21 +151,43 @@ def build_beam_table(array, channel: ChannelModel, directions, *,
         Extra metadata merged into the table's (e.g. the design file and its taper spec).
     evaluate : bool
         Re-evaluate the quantized beams (the predicted metrics stored in the table).
+    element_power_w : float, optional
+        Power of one channel at full drive (W), for each beam's EIRP; the table's metadata
+        then carries the RF exposure caution.
 
     Returns
     -------
     BeamBuild
+
+    Raises
+    ------
+    SteradianError
+        A tapered design on a channel without amplitude control, unless the channel says
+        ``drop_taper`` (see :func:`channel_ideal`).
+
+    Warns
+    -----
+    UserWarning
+        Dead or clipped channels, naming the elements (from the quantizer).
     """
     d = np.atleast_2d(np.asarray(directions, float))
-    w0 = steered_weights(array, d, weights)
+    w0, notes = channel_ideal(channel, steered_weights(array, d, weights), array.enabled)
     q = channel.quantize(w0, mask=array.enabled)
+    notes += list(q.notes)
     codes = np.stack([q.phase_codes, q.amplitude_codes], -1)
     meta = _array_metadata(array, channel, efficiency)
+    if notes:
+        meta["notes"] = notes
+    if element_power_w is not None:
+        meta["element_power_w"] = element_power_w
+        meta["rf_exposure_caution"] = RF_EXPOSURE_CAUTION
     meta.update(metadata or {})
     metrics = None
     if evaluate:
         ev = evaluator or BeamEvaluator(array, efficiency=efficiency)
-        metrics = ev.evaluate(q.realised, d, ideal=w0)
+        metrics = ev.evaluate(q.realised, d, ideal=w0, commanded=q.commanded,
+                              element_power_w=element_power_w)
     table = BeamTable(channel.states, d, codes, "codes", q.phase_offsets_deg,
-                      array.positions, meta, None if metrics is None else metrics.rows())
-    return BeamBuild(table, metrics, q, w0)
+                      array.positions, meta, None if metrics is None else metrics.rows(),
+                      q.enabled)
+    return BeamBuild(table, metrics, q, w0, tuple(notes))

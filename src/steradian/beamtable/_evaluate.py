@@ -19,10 +19,9 @@ from ..elements import Isotropic
 from ..engine import MEMORY_BUDGET, response_matrix
 from ..errors import SteradianError
 from ..geometry import principal_axes
-from ..quantize import wrap_deg
 from ..radiation import power_matrix
 from ..sphere import SearchSet, refine_best, refine_maxima
-from ..units import db10
+from ..units import db10, wrap_deg
 from ..validate import positive
 
 RESPONSE_BUDGET = 512 * 2**20
@@ -50,17 +49,30 @@ def _jsonable(x: float):
 METRIC_FIELDS = ("theta_deg", "phi_deg", "peak_theta_deg", "peak_phi_deg", "directivity_dbi",
                   "gain_dbi", "pointing_error_deg", "psl_db", "qlobe_db",
                   "ideal_directivity_dbi", "ideal_psl_db", "ideal_pointing_error_deg", "loss_db",
-                  "rms_phase_error_deg")
+                  "rms_phase_error_deg", "drive_loss_db", "radiated_power_db", "eirp_dbw")
 """Names of the per-beam metrics, in report order."""
 _METRIC_FIELDS = METRIC_FIELDS  # old private spelling, until its importer uses the public one
 
 
 @dataclass(frozen=True, eq=False)
 class BeamMetrics:
-    """Per-beam metrics of a beam table, each an array of shape (B,) (see the module notes).
+    r"""Per-beam metrics of a beam table, each an array of shape (B,) (see the module notes).
 
     ``qlobe_db``, ``ideal_*``, ``loss_db`` and ``rms_phase_error_deg`` are NaN when no ideal
     weights were given.
+
+    Power (weights in full-scale units, 1 = a channel at full drive; N all elements):
+
+    - ``drive_loss_db``: commanded amplitude loss relative to full drive,
+      :math:`-10\log_{10}(\sum_n |c_n|^2 / N)` of the commanded states (taper loss plus the
+      gain offset and disabled elements; NaN when the commanded states were not given);
+    - ``radiated_power_db``: radiated power relative to all N channels at full drive,
+      :math:`10\log_{10}(\xi \sum_n |w_n|^2 / N)` of the realised weights (calibration,
+      dead channels and the radiation efficiency included; mutual coupling ignored, as
+      P_rad = xi P_in, common practice);
+    - ``eirp_dbw``: :math:`10\log_{10}(P_{el} \sum_n |w_n|^2) + G` with ``element_power_w``
+      P_el per channel at full drive and G the gain in dBi (EIRP = P_in G, as
+      :func:`steradian.radiation.eirp`); NaN without ``element_power_w``.
     """
 
     theta_deg: np.ndarray
@@ -77,6 +89,14 @@ class BeamMetrics:
     ideal_pointing_error_deg: np.ndarray
     loss_db: np.ndarray
     rms_phase_error_deg: np.ndarray
+    drive_loss_db: np.ndarray | None = None
+    radiated_power_db: np.ndarray | None = None
+    eirp_dbw: np.ndarray | None = None
+
+    def __post_init__(self):
+        for f in ("drive_loss_db", "radiated_power_db", "eirp_dbw"):
+            if getattr(self, f) is None:
+                object.__setattr__(self, f, np.full(len(self.theta_deg), np.nan))
 
     def __len__(self) -> int:
         return len(self.theta_deg)
@@ -112,7 +132,13 @@ class BeamMetrics:
                 "qlobe_db_max": mx(self.qlobe_db), "qlobe_db_max_beam": arg(self.qlobe_db),
                 "pointing_error_deg_max": mx(self.pointing_error_deg),
                 "pointing_error_deg_max_beam": arg(self.pointing_error_deg),
-                "rms_phase_error_deg_max": mx(self.rms_phase_error_deg)}
+                "rms_phase_error_deg_max": mx(self.rms_phase_error_deg),
+                "drive_loss_db_max": mx(self.drive_loss_db),
+                "drive_loss_db_max_beam": arg(self.drive_loss_db),
+                "radiated_power_db_min": mn(self.radiated_power_db),
+                "radiated_power_db_min_beam": arg(-np.asarray(self.radiated_power_db, float)),
+                "eirp_dbw_min": mn(self.eirp_dbw),
+                "eirp_dbw_min_beam": arg(-np.asarray(self.eirp_dbw, float))}
 
 
 class BeamEvaluator:
@@ -337,11 +363,14 @@ class BeamEvaluator:
             return np.abs(a - angle_between_deg(s, self.axis[None, :]))
         return angle_between_deg(peak, s)
 
-    def evaluate(self, W, directions, ideal=None) -> BeamMetrics:
+    def evaluate(self, W, directions, ideal=None, *, commanded=None,
+                 element_power_w: float | None = None) -> BeamMetrics:
         """Metrics of beams with weights W (B, N) commanded to directions (B, 2) in degrees.
 
         ``ideal`` (B, N): the unquantized weights of each beam, for the loss, the
-        quantization-lobe level and the phase error.
+        quantization-lobe level and the phase error. ``commanded`` (B, N): the nominal
+        channel states, for the drive loss; ``element_power_w``: each channel's power at
+        full drive, for the EIRP (see :class:`BeamMetrics`).
         """
         W = np.atleast_2d(np.asarray(W, complex))
         d = np.atleast_2d(np.asarray(directions, float))
@@ -354,8 +383,11 @@ class BeamEvaluator:
         chunk = max(1, int(self.chunk_bytes // (24 * len(self.dirs))))
         if B > chunk:  # bound the (directions x beams) work arrays
             W0 = None if ideal is None else np.atleast_2d(np.asarray(ideal, complex))
+            C = None if commanded is None else np.atleast_2d(np.asarray(commanded, complex))
             parts = [self.evaluate(W[i:i + chunk], d[i:i + chunk],
-                                   None if W0 is None else W0[i:i + chunk])
+                                   None if W0 is None else W0[i:i + chunk],
+                                   commanded=None if C is None else C[i:i + chunk],
+                                   element_power_w=element_power_w)
                      for i in range(0, B, chunk)]
             return BeamMetrics(**{f: np.concatenate([getattr(p, f) for p in parts])
                                   for f in METRIC_FIELDS})
@@ -380,6 +412,12 @@ class BeamEvaluator:
             rms = np.sqrt(np.nanmean(np.where(ok, ph, np.nan) ** 2, axis=1))
         dbi = db10(D)
         th, phi = angles_deg(peak)
+        p_in = np.sum(np.abs(W) ** 2, axis=1)
+        drive = nan if commanded is None else -db10(
+            np.sum(np.abs(np.atleast_2d(np.asarray(commanded, complex))) ** 2, axis=1) / N)
+        eirp = nan if element_power_w is None else (
+            db10(positive("element_power_w", element_power_w) * p_in) + dbi
+            + db10(self.efficiency))
         return BeamMetrics(
             theta_deg=d[:, 0].copy(), phi_deg=d[:, 1].copy(), peak_theta_deg=th,
             peak_phi_deg=phi, directivity_dbi=dbi,
@@ -387,6 +425,7 @@ class BeamEvaluator:
             pointing_error_deg=self.pointing_error_deg(peak, steer),
             psl_db=db10(side / ipk), qlobe_db=qlobe, ideal_directivity_dbi=d0,
             ideal_psl_db=psl0, ideal_pointing_error_deg=pe0, loss_db=d0 - dbi,
-            rms_phase_error_deg=rms)
+            rms_phase_error_deg=rms, drive_loss_db=drive,
+            radiated_power_db=db10(self.efficiency * p_in / N), eirp_dbw=eirp)
 
 

@@ -10,7 +10,7 @@ import numpy as np
 
 from ..array import direction
 from ..errors import SteradianError
-from ..quantize import StateMap
+from ..quantize import OFF_CODE, StateMap
 from ..validate import choice
 
 Encoding = Literal["codes", "iq"]
@@ -76,6 +76,10 @@ class BeamTable:
         JSON-friendly description (design frequency, geometry, taper, channel, version ...).
     metrics : sequence of dict, optional
         Predicted metrics of each beam (as built).
+    enabled : array_like of bool, shape (N,), optional
+        Element enable mask (default all on). A disabled element is *off* in every beam:
+        its codes are the off flag ``(OFF_CODE, OFF_CODE)`` = (65535, 65535), its I/Q
+        exactly (0, 0), and its commanded state zero.
     """
 
     states: StateMap
@@ -86,6 +90,7 @@ class BeamTable:
     positions: np.ndarray | None = None
     metadata: dict = field(default_factory=dict)
     metrics: tuple | None = None
+    enabled: np.ndarray | None = None
 
     def __post_init__(self):
         if not isinstance(self.states, StateMap):
@@ -109,15 +114,9 @@ class BeamTable:
         elif raw.dtype.kind not in "iu":
             raise SteradianError(f"codes must be integers, got dtype {raw.dtype}")
         c = raw.astype(np.int64)
-        if self.encoding == "codes":
-            self.states.check_codes(c[..., 0], c[..., 1])
-        else:
-            bad = (c < -IQ_SCALE) | (c >= IQ_SCALE)
-            if bad.any():
-                b, n, k = (int(i) for i in np.argwhere(bad)[0])
-                raise SteradianError(f"beam {b}, element {n}: {'IQ'[k]} value {int(c[b, n, k])}"
-                                     f" is outside the Q1.15 range -32768..32767")
         n = c.shape[1]
+        on = _mask(self.enabled, n)
+        _check_states(self.states, self.encoding, c, on)
         off = (np.zeros(n) if self.phase_offsets_deg is None
                else np.asarray(self.phase_offsets_deg, float).reshape(-1))
         if off.shape != (n,) or not np.all(np.isfinite(off)):
@@ -130,7 +129,7 @@ class BeamTable:
                 raise SteradianError(f"positions must be finite with shape ({n}, 3), got "
                                      f"{pos.shape}")
         for name, a in (("directions", d), ("codes", c), ("phase_offsets_deg", off),
-                        ("positions", pos)):
+                        ("positions", pos), ("enabled", on)):
             if a is not None:
                 a = np.ascontiguousarray(a)
                 a.setflags(write=False)
@@ -151,10 +150,16 @@ class BeamTable:
     def n_elements(self) -> int:
         return self.codes.shape[1]
 
+    @property
+    def n_enabled(self) -> int:
+        """Number of enabled (not off) elements."""
+        return int(np.count_nonzero(self.enabled))
+
     def commanded(self) -> np.ndarray:
-        """Nominal complex channel states, shape (B, N)."""
+        """Nominal complex channel states, shape (B, N); exactly 0 for disabled elements."""
         if self.encoding == "codes":
-            return self.states.commanded(self.codes[..., 0], self.codes[..., 1])
+            c = np.where(self.enabled[:, None], self.codes, 0)
+            return np.where(self.enabled, self.states.commanded(c[..., 0], c[..., 1]), 0.0)
         return (self.codes[..., 0] + 1j * self.codes[..., 1]) / IQ_SCALE
 
     def as_encoding(self, encoding: Encoding) -> BeamTable:
@@ -173,7 +178,7 @@ class BeamTable:
         else:
             pc = self.states.nearest_phase_code(np.angle(c, deg=True))
             ac = self.states.nearest_amplitude_code(np.abs(c))
-            new = np.stack([pc, ac], -1)
+            new = np.where(self.enabled[:, None], np.stack([pc, ac], -1), OFF_CODE)
         return replace(self, codes=new, encoding=encoding)
 
     def same_weights(self, other: BeamTable) -> bool:
@@ -185,10 +190,50 @@ class BeamTable:
         return (self.states == other.states and self.encoding == other.encoding
                 and eq(self.directions, other.directions) and eq(self.codes, other.codes)
                 and eq(self.phase_offsets_deg, other.phase_offsets_deg)
-                and eq(self.positions, other.positions))
+                and eq(self.positions, other.positions) and eq(self.enabled, other.enabled))
 
     def units(self) -> np.ndarray:
         """Commanded directions as unit vectors, shape (B, 3)."""
         return np.array([direction(t, p) for t, p in self.directions])
 
 
+
+
+def _mask(enabled, n: int) -> np.ndarray:
+    """The enable mask as bool (N,) (all on by default)."""
+    if enabled is None:
+        return np.ones(n, bool)
+    e = np.asarray(enabled)
+    if e.shape != (n,) or (e.dtype.kind not in "bui") or not np.all((e == 0) | (e == 1)):
+        raise SteradianError(f"enabled must be {n} values of 0/1 or true/false, got shape "
+                             f"{e.shape}")
+    if not e.any():
+        raise SteradianError("every element is disabled")
+    return e.astype(bool)
+
+
+def _check_states(states: StateMap, encoding: str, c: np.ndarray, on: np.ndarray) -> None:
+    """Raise naming the first state out of range, or an off state that disagrees with the
+    enable mask (beam, element)."""
+    off = (OFF_CODE, OFF_CODE) if encoding == "codes" else (0, 0)
+    bad = ~on[None, :] & np.any(c != off, axis=2)
+    if bad.any():
+        b, n = (int(i) for i in np.argwhere(bad)[0])
+        what = "the off flag (65535, 65535)" if encoding == "codes" else "I/Q (0, 0)"
+        raise SteradianError(f"beam {b}, element {n}: element is disabled but holds "
+                             f"{c[b, n].tolist()}, not {what}")
+    c = np.where(on[None, :, None], c, 0)
+    if encoding == "codes":
+        flag = on[None, :] & np.all(c == OFF_CODE, axis=2)
+        flag &= (states.phase_states <= OFF_CODE) | (states.amplitude_states <= OFF_CODE)
+        if flag.any():
+            b, n = (int(i) for i in np.argwhere(flag)[0])
+            raise SteradianError(f"beam {b}, element {n} holds the off flag (65535, 65535) "
+                                 "but the enable mask says the element is on")
+        states.check_codes(c[..., 0], c[..., 1])
+        return
+    bad = (c < -IQ_SCALE) | (c >= IQ_SCALE)
+    if bad.any():
+        b, n, k = (int(i) for i in np.argwhere(bad)[0])
+        raise SteradianError(f"beam {b}, element {n}: {'IQ'[k]} value {int(c[b, n, k])}"
+                             f" is outside the Q1.15 range -32768..32767")

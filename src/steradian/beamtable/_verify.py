@@ -18,7 +18,7 @@ import numpy as np
 from ..errors import SteradianError
 from ..quantize import ChannelModel
 from ..units import wrap_deg
-from ._build import WeightSource, build_beam_table, steered_weights
+from ._build import WeightSource, build_beam_table, channel_ideal, steered_weights
 from ._evaluate import BeamEvaluator, BeamMetrics
 from ._table import BeamTable
 
@@ -120,9 +120,12 @@ def verify_beam_table(array, channel: ChannelModel, table: BeamTable, *,
         notes.append(f"phase offsets in the file differ from the design's channel by up to "
                      f"{dev.max():.4g} deg; the file's offsets are used")
     real = channel.realise(table.commanded(), table.phase_offsets_deg, array.enabled)
-    w0 = steered_weights(array, table.directions, weights)
+    # The ideal beams as the build made them (a phase-only channel with drop_taper drops the
+    # taper there too), so loss figures compare like with like.
+    w0, _ = channel_ideal(channel, steered_weights(array, table.directions, weights),
+                          array.enabled)
     ev = evaluator or BeamEvaluator(array, efficiency=efficiency)
-    m = ev.evaluate(real, table.directions, ideal=w0)
+    m = ev.evaluate(real, table.directions, ideal=w0, commanded=table.commanded())
     ref_dirs = None if directions is None else np.atleast_2d(np.asarray(directions, float))
     ref_codes = None
     if compare_states:
@@ -130,6 +133,7 @@ def verify_beam_table(array, channel: ChannelModel, table: BeamTable, *,
         ref = build_beam_table(array, channel, d, weights=weights, evaluate=False).table
         ref_codes = ref.as_encoding(table.encoding).codes
     mism, compared = _compare(table, ref_dirs, ref_codes)
+    mism, compared = _compare_mask(table, array.enabled, mism, compared)
     if compared["beams_differing"]:
         notes += _taper_hint(table, ref)
     return Verification(m, _metric_differences(m, table), notes, mism, compared)
@@ -257,6 +261,22 @@ def _element_line(table: BeamTable, j: int, n: int, got, want, count: int) -> st
                 f"design gives {' and '.join(str(int(want[i])) for i in idx)}")
     more = f" ({count} of {table.n_elements} elements differ)" if count > 1 else ""
     return head + text + more
+
+
+def _compare_mask(table: BeamTable, enabled, mism: tuple, compared: dict):
+    """Put a difference of the file's element enable mask from the design's first: a file
+    that switches another element off (or on) is not the design's table, whatever its
+    states."""
+    own = np.ones(table.n_elements, bool) if enabled is None else np.asarray(enabled, bool)
+    bad = np.flatnonzero(table.enabled != own)
+    if not bad.size:
+        return mism, compared
+    n = int(bad[0])
+    line = (f"element {n}: the file has it {'on' if table.enabled[n] else 'off'}, the design "
+            f"{'on' if own[n] else 'off'} ({bad.size} element(s) differ in the enable mask)")
+    compared = dict(compared, mask_differing=int(bad.size),
+                    total=compared.get("total", len(mism)) + 1)
+    return (line, *mism)[:MAX_LISTED], compared
 
 
 def _compare(table: BeamTable, ref_dirs, ref_codes) -> tuple[tuple, dict]:

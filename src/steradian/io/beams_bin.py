@@ -1,42 +1,57 @@
 r"""Beam-table binary files for firmware: a fixed little-endian layout with CRC-32 checks.
 
-All multi-byte fields are little-endian. A file is a 64-byte header followed by the payload.
+All multi-byte fields are little-endian; floats are IEEE-754 binary64 (float64). A file is
+a 64-byte header followed by the payload, which starts at the header-size field's offset.
 
 Header (64 bytes)::
 
     offset size type      field
     0      8    bytes     magic: 53 52 42 57 0D 0A 1A 0A  ("SRBW\r\n\x1a\n")
-    8      2    uint16    layout version (1)
-    10     2    uint16    header size in bytes (64)
+    8      2    uint16    layout version (2; version 1 files are still read)
+    10     2    uint16    header size in bytes (64): the payload starts here
     12     4    uint32    N, elements per beam
     16     4    uint32    B, beams
     20     1    uint8     state encoding: 1 = codes, 2 = I/Q in Q1.15
     21     1    uint8     amplitude control: 0 = none, 1 = step attenuator, 2 = linear DAC
     22     1    uint8     flags: bit 0 = element positions block present,
-                                 bit 1 = phase offsets block present; other bits 0
+                                 bit 1 = phase offsets block present,
+                                 bit 2 = enable mask block present (version 2); others 0
     23     1    uint8     reserved (0)
     24     4    uint32    phase states (codes 0 .. phase states - 1)
     28     4    uint32    amplitude states (codes 0 .. amplitude states - 1)
     32     8    float64   phase step, degrees (code p means p * step)
     40     8    float64   amplitude step: dB per code (attenuator), 1/(states-1) (DAC), 0 (none)
     48     4    uint32    payload size in bytes
-    52     4    uint32    CRC-32 of the payload (zlib.crc32, the CRC-32 of ISO-HDLC / IEEE 802.3)
+    52     4    uint32    CRC-32 of the payload
     56     4    uint32    reserved (0)
     60     4    uint32    CRC-32 of header bytes 0 .. 59
 
+CRC-32 is the ISO-HDLC / IEEE 802.3 CRC (zlib.crc32): polynomial 0x04C11DB7 (reflected
+0xEDB88320), initial value 0xFFFFFFFF, input and output reflected, final XOR 0xFFFFFFFF;
+check value CRC-32("123456789") = 0xCBF43926. Reserved fields and padding bytes are 0 and a
+reader refuses other values.
+
 Payload, in this order::
 
-    beam directions   B x (float64 theta_deg, float64 phi_deg)
+    beam directions   B x (float64 theta_deg, float64 phi_deg), beams in table order
     positions         N x (float64 x_m, float64 y_m, float64 z_m)     if flag bit 0
     phase offsets     N x float64 degrees                                if flag bit 1
+    enable mask       N x uint8 (1 = on, 0 = off), then zero bytes up
+                      to a multiple of 8 bytes: 8 ceil(N / 8) bytes      if flag bit 2
     states            B x N x 4 bytes, beam-major, elements in order:
-                        codes: uint16 phase code, uint16 amplitude code
+                        codes: uint16 phase code, uint16 amplitude code;
+                               an off element holds the off flag 0xFFFF, 0xFFFF
                         I/Q:   int16 I, int16 Q; Q1.15, value = integer / 32768
-                               (range -1 .. 1 - 2^-15; full scale 1.0 saturates to 32767)
+                               (range -1 .. 1 - 2^-15); an off element holds 0, 0
 
 Element n of beam b is therefore at payload offset ``16 B + (24 N if positions) +
-(8 N if offsets) + 4 (b N + n)``. A file is refused with a clear message when the magic,
-version, header CRC, sizes or payload CRC do not match, or a code is out of range.
+(8 N if offsets) + (8 ceil(N / 8) if mask) + 4 (b N + n)``. Without a mask block every
+element is on (version 1 has none). Q1.15 values are value * 32768 rounded to the nearest
+integer (ties to even, the IEEE-754 default) and saturated to -32768 .. 32767: +1.0 becomes
+32767, -1.0 is -32768. A file
+is refused with a clear message when the magic, version, header CRC, sizes, reserved fields
+or payload CRC do not match, a code is out of range, or an off element's state is not the
+off flag.
 """
 
 from __future__ import annotations
@@ -51,11 +66,13 @@ from ..beamtable import BeamTable, Encoding
 from ..errors import FileFormatError, SteradianError
 from ..quantize import StateMap
 from .atomic import write_bytes
+from .formats import BIN_MAGIC, not_a
 
 __all__ = ["write_beams_bin", "read_beams_bin", "MAGIC", "LAYOUT_VERSION", "HEADER_SIZE"]
 
-MAGIC = b"SRBW\r\n\x1a\n"
-LAYOUT_VERSION = 1
+MAGIC = BIN_MAGIC
+LAYOUT_VERSION = 2
+READS = (1, 2)
 HEADER_SIZE = 64
 _HEAD = struct.Struct("<8sHHIIBBBBIIddIIII")  # the 64-byte header above
 
@@ -63,11 +80,17 @@ _ENC = {"codes": 1, "iq": 2}
 _AMP = {"none": 0, "attenuator": 1, "dac": 2}
 
 
+def _mask_size(n):
+    return 8 * ((n + 7) // 8)
+
+
 def _payload_size(n, nb, flags):
-    return 16 * nb + (24 * n if flags & 1 else 0) + (8 * n if flags & 2 else 0) + 4 * nb * n
+    return (16 * nb + (24 * n if flags & 1 else 0) + (8 * n if flags & 2 else 0)
+            + (_mask_size(n) if flags & 4 else 0) + 4 * nb * n)
 
 
-def write_beams_bin(path, table: BeamTable, encoding: Encoding | None = None) -> None:
+def write_beams_bin(path, table: BeamTable, encoding: Encoding | None = None,
+                    layout_version: int = LAYOUT_VERSION) -> None:
     """Write ``table`` in the binary layout (atomically).
 
     Parameters
@@ -75,21 +98,35 @@ def write_beams_bin(path, table: BeamTable, encoding: Encoding | None = None) ->
     encoding : {"codes", "iq"}, optional
         State encoding; default the table's own. Converting codes to I/Q rounds each state
         to Q1.15.
+    layout_version : {2, 1}
+        2 (default) carries the enable mask; 1, for readers of the old layout, has none and
+        is refused for a table with disabled elements.
     """
     t = table if encoding is None else table.as_encoding(encoding)
     st = t.states
+    if layout_version not in READS:
+        raise SteradianError(f"binary layout_version must be one of {READS}, got "
+                             f"{layout_version!r}")
+    if layout_version == 1 and not t.enabled.all():
+        raise SteradianError("binary layout version 1 has no enable mask; the table has "
+                             f"{t.n_elements - t.n_enabled} disabled element(s): write version 2")
     if st.phase_states > 65536 or st.amplitude_states > 65536:
         raise SteradianError("the binary layout stores codes as uint16 (at most 65536 states)")
-    flags = (1 if t.positions is not None else 0) | (2 if np.any(t.phase_offsets_deg) else 0)
+    flags = ((1 if t.positions is not None else 0) | (2 if np.any(t.phase_offsets_deg) else 0)
+             | (4 if layout_version >= 2 else 0))
     parts = [np.ascontiguousarray(t.directions, "<f8").tobytes()]
     if flags & 1:
         parts.append(np.ascontiguousarray(t.positions, "<f8").tobytes())
     if flags & 2:
         parts.append(np.ascontiguousarray(t.phase_offsets_deg, "<f8").tobytes())
+    if flags & 4:
+        mask = np.zeros(_mask_size(t.n_elements), np.uint8)
+        mask[:t.n_elements] = t.enabled
+        parts.append(mask.tobytes())
     dt = "<u2" if t.encoding == "codes" else "<i2"
     parts.append(np.ascontiguousarray(t.codes, dt).tobytes())
     payload = b"".join(parts)
-    head = _HEAD.pack(MAGIC, LAYOUT_VERSION, HEADER_SIZE, t.n_elements, t.n_beams,
+    head = _HEAD.pack(MAGIC, layout_version, HEADER_SIZE, t.n_elements, t.n_beams,
                       _ENC[t.encoding], _AMP[st.amplitude], flags, 0, st.phase_states,
                       st.amplitude_states, st.phase_step_deg, st.amplitude_step, len(payload),
                       zlib.crc32(payload), 0, 0)
@@ -108,26 +145,30 @@ def read_beams_bin(path) -> BeamTable:
     """
     path = Path(path)
     data = path.read_bytes()
+    if not data.startswith(MAGIC):
+        raise FileFormatError(path, not_a("bin", f"magic {data[:8]!r}, expected {MAGIC!r}"))
     if len(data) < HEADER_SIZE:
         raise FileFormatError(path, f"file is {len(data)} bytes, shorter than the "
                               f"{HEADER_SIZE}-byte header")
-    (magic, ver, hsize, n, nb, enc, amp, flags, _res, n_ph, n_amp, ph_step, amp_step,
-     psize, pcrc, _res2, hcrc) = _HEAD.unpack_from(data)
+    (magic, ver, hsize, n, nb, enc, amp, flags, res, n_ph, n_amp, ph_step, amp_step,
+     psize, pcrc, res2, hcrc) = _HEAD.unpack_from(data)
     if magic != MAGIC:
-        raise FileFormatError(path, f"not a steradian beam-table binary (magic {magic!r}, "
-                              f"expected {MAGIC!r})")
-    if ver != LAYOUT_VERSION:
+        raise FileFormatError(path, not_a("bin", f"magic {magic!r}, expected {MAGIC!r}"))
+    if ver not in READS:
         raise FileFormatError(path, f"layout version {ver} is not supported (this steradian "
-                              f"reads {LAYOUT_VERSION})")
+                              f"reads {' and '.join(map(str, READS))})")
     got = zlib.crc32(data[:60])
     if got != hcrc:
         raise FileFormatError(path, f"header CRC-32 mismatch: stored 0x{hcrc:08x}, computed "
                               f"0x{got:08x}; the header is corrupted")
     if hsize != HEADER_SIZE:
         raise FileFormatError(path, f"header size {hsize} is not {HEADER_SIZE}")
-    if enc not in (1, 2) or amp not in (0, 1, 2) or flags & ~3:
+    if enc not in (1, 2) or amp not in (0, 1, 2) or flags & ~(3 if ver == 1 else 7):
         raise FileFormatError(path, f"unknown encoding {enc}, amplitude control {amp} or "
                               f"flags 0x{flags:02x}")
+    if res or res2:
+        raise FileFormatError(path, f"reserved header fields must be 0, got {res} (byte 23) "
+                              f"and {res2} (bytes 56..59)")
     if n < 1 or nb < 1:
         raise FileFormatError(path, f"element count {n} and beam count {nb} must be >= 1")
     want = _payload_size(n, nb, flags)
@@ -158,9 +199,17 @@ def read_beams_bin(path) -> BeamTable:
     if flags & 2:
         off = np.frombuffer(payload, "<f8", n, o).astype(float)
         o += 8 * n
+    on = None
+    if flags & 4:
+        raw = np.frombuffer(payload, np.uint8, _mask_size(n), o)
+        if np.any(raw[:n] > 1) or np.any(raw[n:]):
+            raise FileFormatError(path, "enable mask bytes must be 0 or 1 and its padding 0")
+        on = raw[:n].astype(bool)
+        o += _mask_size(n)
     dt = "<u2" if enc == 1 else "<i2"
     codes = np.frombuffer(payload, dt, 2 * nb * n, o).reshape(nb, n, 2).astype(np.int64)
     try:
-        return BeamTable(states, dirs, codes, "codes" if enc == 1 else "iq", off, pos)
+        return BeamTable(states, dirs, codes, "codes" if enc == 1 else "iq", off, pos,
+                         enabled=on)
     except SteradianError as exc:
         raise FileFormatError(path, str(exc)) from None

@@ -3,7 +3,7 @@
 The header compiles as C99 (``#include <stdint.h>``). With the default prefix ``strd``::
 
     /*
-     * steradian beam weights: C header, layout 1
+     * steradian beam weights: C header, layout 2
      * ... human-readable metadata and a per-beam metrics table ...
      * steradian-metadata: {...}        (JSON on one line, "/" written as "\\/")
      * steradian-metrics: [...]         (optional)
@@ -11,10 +11,12 @@ The header compiles as C99 (``#include <stdint.h>``). With the default prefix ``
     #ifndef STRD_BEAM_WEIGHTS_H
     #define STRD_BEAM_WEIGHTS_H
     #include <stdint.h>
-    #define STRD_WEIGHTS_LAYOUT 1
+    #define STRD_WEIGHTS_LAYOUT 2
     #define STRD_N_ELEMENTS 256
     #define STRD_N_BEAMS 231
+    #define STRD_N_ENABLED 254
     #define STRD_ENCODING 1            /* 1 = codes, 2 = I/Q in Q1.15 */
+    #define STRD_OFF_CODE 0xFFFF       /* codes: both codes of an off element */
     #define STRD_PHASE_STATES 64
     #define STRD_PHASE_STEP_DEG 5.625
     #define STRD_AMPLITUDE_CONTROL 1   /* 0 none, 1 attenuator, 2 linear DAC */
@@ -24,11 +26,15 @@ The header compiles as C99 (``#include <stdint.h>``). With the default prefix ``
     static const double strd_beam_phi_deg[STRD_N_BEAMS] = {...};
     static const double strd_element_position_m[STRD_N_ELEMENTS][3] = {...};  /* optional */
     static const double strd_phase_offset_deg[STRD_N_ELEMENTS] = {...};
+    static const uint8_t strd_element_enabled[STRD_N_ELEMENTS] = {...};  /* 1 on, 0 off */
     static const uint16_t strd_state[STRD_N_BEAMS][STRD_N_ELEMENTS][2] = {...};
     #endif
 
 ``strd_state[b][n]`` is {phase code, amplitude code}; with ``STRD_ENCODING 2`` the array is
-``int16_t`` and holds {I, Q} with value = integer / 32768 (``STRD_IQ_SCALE``). Doubles are
+``int16_t`` and holds {I, Q} with value = integer / 32768 (``STRD_IQ_SCALE``; write with
+``encoding="iq"``). An element with ``strd_element_enabled[n] == 0`` is off in every beam:
+its state is {STRD_OFF_CODE, STRD_OFF_CODE} (codes) or {0, 0} (I/Q). Layout 1 headers (no
+mask) are still read, with every element on. Doubles are
 written with 17 significant digits at most (Python's shortest round-trip form), so reading
 the header back returns bit-identical tables.
 """
@@ -45,10 +51,12 @@ from ..beamtable import IQ_SCALE, BeamTable
 from ..errors import FileFormatError, SteradianError
 from ..quantize import StateMap
 from .atomic import write_text
+from .formats import not_a, weight_text
 
 __all__ = ["write_beams_cheader", "read_beams_cheader", "LAYOUT_VERSION"]
 
-LAYOUT_VERSION = 1
+LAYOUT_VERSION = 2
+READS = (1, 2)
 _IDENT = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
 _AMP = ("none", "attenuator", "dac")
 _PER_LINE = 8
@@ -70,16 +78,19 @@ def _comment_json(obj) -> str:
     return json.dumps(obj, allow_nan=False, separators=(",", ":")).replace("/", "\\/")
 
 
-def write_beams_cheader(path, table: BeamTable, prefix: str = "strd") -> None:
+def write_beams_cheader(path, table: BeamTable, prefix: str = "strd", encoding=None) -> None:
     """Write ``table`` as a C header (atomically).
 
     Parameters
     ----------
     prefix : str
         C identifier prefix: arrays are ``<prefix>_...`` and macros ``<PREFIX>_...``.
+    encoding : {"codes", "iq"}, optional
+        State encoding; default the table's own ("iq": int16 {I, Q} in Q1.15).
     """
     if not isinstance(prefix, str) or not _IDENT.match(prefix):
         raise SteradianError(f"C prefix must be a C identifier, got {prefix!r}")
+    table = table if encoding is None else table.as_encoding(encoding)
     lo, up = prefix.lower(), prefix.upper()
     lines = _comment_lines(table, lo) + _macro_lines(table, up) + _array_lines(table, lo, up)
     write_text(path, "\n".join(lines) + "\n")
@@ -138,8 +149,11 @@ def _macro_lines(t: BeamTable, up: str) -> list[str]:
              f"#define {up}_WEIGHTS_LAYOUT {LAYOUT_VERSION}",
              f"#define {up}_N_ELEMENTS {t.n_elements}",
              f"#define {up}_N_BEAMS {t.n_beams}",
+             f"#define {up}_N_ENABLED {t.n_enabled}  /* elements on; see "
+             f"{up.lower()}_element_enabled */",
              f"#define {up}_ENCODING {1 if t.encoding == 'codes' else 2}"
              "  /* 1 = codes {phase, amplitude}, 2 = {I, Q} in Q1.15 */",
+             f"#define {up}_OFF_CODE 0xFFFF  /* codes of an off element; I/Q of one: 0, 0 */",
              f"#define {up}_PHASE_STATES {st.phase_states}",
              f"#define {up}_PHASE_STEP_DEG {_f(st.phase_step_deg)}",
              f"#define {up}_AMPLITUDE_CONTROL {_AMP.index(st.amplitude)}"
@@ -166,6 +180,10 @@ def _array_lines(t: BeamTable, lo: str, up: str) -> list[str]:
     lines.append(f"static const double {lo}_phase_offset_deg[{up}_N_ELEMENTS] = {{")
     lines += _rows([_f(x) for x in t.phase_offsets_deg], _PER_LINE)
     lines.append("};")
+    lines.append(f"static const uint8_t {lo}_element_enabled[{up}_N_ELEMENTS] = {{"
+                 "  /* 1 on, 0 off */")
+    lines += _rows([str(int(x)) for x in t.enabled], 16)
+    lines.append("};")
     ctype = "uint16_t" if t.encoding == "codes" else "int16_t"
     what = "{phase code, amplitude code}" if t.encoding == "codes" else "{I, Q} (Q1.15)"
     lines.append(f"/* {lo}_state[beam][element] = {what} */")
@@ -177,8 +195,8 @@ def _array_lines(t: BeamTable, lo: str, up: str) -> list[str]:
     return lines + ["};", "", f"#endif /* {up}_BEAM_WEIGHTS_H */"]
 
 
-_ARRAY = re.compile(r"static\s+const\s+(double|uint16_t|int16_t)\s+(\w+)\s*((?:\[[^\]]*\])+)"
-                    r"\s*=\s*\{(.*?)\}\s*;", re.S)
+_ARRAY = re.compile(r"static\s+const\s+(double|uint16_t|int16_t|uint8_t)\s+(\w+)\s*"
+                    r"((?:\[[^\]]*\])+)\s*=\s*\{(.*?)\}\s*;", re.S)
 _DEFINE = re.compile(r"^\s*#define\s+(\w+)\s+(\S+)", re.M)
 
 
@@ -192,15 +210,15 @@ def read_beams_cheader(path) -> BeamTable:
         of range.
     """
     path = Path(path)
-    text = path.read_text(encoding="utf-8")
+    text = weight_text(path, "h")
     m = re.search(r"^\s*#define\s+(\w+)_WEIGHTS_LAYOUT\s+(\d+)", text, re.M)
     if not m:
-        raise FileFormatError(path, "no <PREFIX>_WEIGHTS_LAYOUT macro: not a steradian "
-                              "beam-weights header")
+        raise FileFormatError(path, not_a("h", "no <PREFIX>_WEIGHTS_LAYOUT macro"))
     up, ver = m.group(1), int(m.group(2))
-    if ver != LAYOUT_VERSION:
+    if ver not in READS:
         raise FileFormatError(path, f"layout {ver} is not supported (this steradian reads "
-                              f"{LAYOUT_VERSION})", text[:m.start()].count("\n") + 1)
+                              f"{' and '.join(map(str, READS))})",
+                              text[:m.start()].count("\n") + 1)
     meta, metrics = (_comment_block(path, text, key) for key in ("metadata", "metrics"))
     code = re.sub(r"/\*.*?\*/", " ", text, flags=re.S)
     defines = _Defines(path, up, dict(_DEFINE.findall(code)))
@@ -215,6 +233,15 @@ def read_beams_cheader(path) -> BeamTable:
     if arrays.has("element_position_m"):
         pos = arrays("element_position_m", 3 * n, "double").reshape(n, 3)
     off = arrays("phase_offset_deg", n, "double")
+    on = None
+    if ver >= 2:
+        on = arrays("element_enabled", n, "uint8_t")
+        if np.any((on != 0) & (on != 1)):
+            raise FileFormatError(path, f"array {up.lower()}_element_enabled must hold 0 or 1")
+        if defines("N_ENABLED", int) != int(np.count_nonzero(on)):
+            raise FileFormatError(path, f"{up}_N_ENABLED is {defines('N_ENABLED', int)} but "
+                                  f"{up.lower()}_element_enabled turns "
+                                  f"{int(np.count_nonzero(on))} on")
     if arrays.has("state") and arrays.size("state") != 2 * nb * n:
         raise FileFormatError(path, f"array {up.lower()}_state has {arrays.size('state') // 2} "
                               f"states, expected {up}_N_BEAMS x {up}_N_ELEMENTS = {nb} x {n}")
@@ -222,7 +249,8 @@ def read_beams_cheader(path) -> BeamTable:
     try:
         return BeamTable(states, np.column_stack([theta, phi]),
                          codes.reshape(nb, n, 2).astype(np.int64), "codes" if enc == 1 else "iq",
-                         off, pos, meta or {}, None if metrics is None else tuple(metrics))
+                         off, pos, meta or {}, None if metrics is None else tuple(metrics),
+                         None if on is None else on.astype(bool))
     except SteradianError as exc:
         raise FileFormatError(path, str(exc)) from None
 
@@ -276,7 +304,7 @@ class _Arrays:
         for ctype, name, _dims, body in _ARRAY.findall(code):
             vals = [v for v in re.split(r"[\s,{}]+", body) if v]
             try:
-                self.arrays[name] = (ctype, np.array([float(v) if ctype == "double" else int(v)
+                self.arrays[name] = (ctype, np.array([float(v) if ctype == "double" else int(v, 0)
                                                       for v in vals]))
             except ValueError:
                 raise FileFormatError(path, f"array {name} holds a value that is not a "

@@ -3,7 +3,7 @@
 Layout (``# key = value`` comment lines first, then a header and the rows)::
 
     # format = steradian-beam-weights
-    # layout_version = 1
+    # layout_version = 2
     # steradian_version = 0.1.0
     # encoding = codes
     # n_elements = 256
@@ -11,8 +11,8 @@ Layout (``# key = value`` comment lines first, then a header and the rows)::
     # states = {"phase_step_deg": 5.625, "phase_states": 64, ...}
     # metadata = {...}
     # metrics = [{...}, ...]
-    beam,theta_deg,phi_deg,element,x_m,y_m,z_m,phase_offset_deg,amplitude,amplitude_db,phase_deg,phase_code,amplitude_code
-    0,0.0,0.0,0,-0.1125,-0.1125,0.0,0.0,1.0,0.0,0.0,0,0
+    beam,theta_deg,phi_deg,element,x_m,y_m,z_m,phase_offset_deg,enabled,amplitude,amplitude_db,phase_deg,phase_code,amplitude_code
+    0,0.0,0.0,0,-0.1125,-0.1125,0.0,0.0,1,1.0,0.0,0.0,0,0
 
 Columns:
 
@@ -22,6 +22,11 @@ Columns:
     Element index and position in metres (positions are optional, all three or none).
 ``phase_offset_deg``
     Fixed phase of the element's channel path (randomised-offset mode; else 0).
+``enabled``
+    1 when the element is on, 0 when it is off (the same on every row of the element). An
+    off element's state is the off flag 65535, 65535 (codes) or 0, 0 (I/Q); it reads
+    amplitude 0, amplitude_db -inf, phase 0. Layout 1 files (no such column) are still read,
+    with every element on.
 ``amplitude``, ``amplitude_db``, ``phase_deg``
     The commanded channel state in the form people read (linear, 20 log10, degrees). They
     must agree with the state columns: edit the codes, these are for reading.
@@ -48,11 +53,13 @@ from ..quantize import StateMap
 from ..units import db20, from_db20, wrap_deg
 from .atomic import write_text
 from .csv_table import read_lines, split_fields
+from .formats import not_a, weight_text
 
 __all__ = ["write_beams_csv", "read_beams_csv"]
 
 FORMAT_ID = "steradian-beam-weights"
-LAYOUT_VERSION = 1
+LAYOUT_VERSION = 2
+READS = (1, 2)
 _META = re.compile(r"^\s*([a-z_]+)\s*=\s*(.*)$")
 _READING = ("amplitude", "amplitude_db", "phase_deg")
 
@@ -61,11 +68,14 @@ def _state_cols(enc):
     return ["phase_code", "amplitude_code"] if enc == "codes" else ["i_q15", "q_q15"]
 
 
-def _columns(enc, with_pos):
+def _columns(enc, with_pos, version=LAYOUT_VERSION):
     cols = ["beam", "theta_deg", "phi_deg", "element"]
     if with_pos:
         cols += ["x_m", "y_m", "z_m"]
-    return cols + ["phase_offset_deg", *_READING, *_state_cols(enc)]
+    cols.append("phase_offset_deg")
+    if version >= 2:
+        cols.append("enabled")
+    return cols + [*_READING, *_state_cols(enc)]
 
 
 def _reading(c):
@@ -73,10 +83,12 @@ def _reading(c):
     return amp, db20(amp, floor=None), np.angle(c, deg=True)
 
 
-def write_beams_csv(path, table: BeamTable) -> None:
-    """Write ``table`` as CSV (atomically)."""
+def write_beams_csv(path, table: BeamTable, encoding=None) -> None:
+    """Write ``table`` as CSV (atomically), in ``encoding`` ("codes" or "iq"; default the
+    table's own)."""
     from ..version import VERSION as __version__
 
+    table = table if encoding is None else table.as_encoding(encoding)
     enc = table.encoding
     head = [("format", FORMAT_ID), ("layout_version", str(LAYOUT_VERSION)),
             ("steradian_version", __version__), ("encoding", enc),
@@ -91,7 +103,8 @@ def write_beams_csv(path, table: BeamTable) -> None:
     amp, db, ph = _reading(table.commanded())
     r = repr
     pos = [[r(float(x)) for x in p] for p in table.positions] if with_pos else None
-    off = [r(float(x)) for x in table.phase_offsets_deg]
+    off = [f"{r(float(x))},{int(e)}" for x, e in zip(table.phase_offsets_deg, table.enabled,
+                                                       strict=True)]
     for b in range(table.n_beams):
         head_b = f"{b},{r(float(table.directions[b, 0]))},{r(float(table.directions[b, 1]))}"
         cb = table.codes[b]
@@ -116,9 +129,10 @@ def read_beams_csv(path) -> BeamTable:
         state columns, or codes outside the states' range.
     """
     path = Path(path)
+    weight_text(path, "csv")  # refuses a binary or non-UTF-8 file in one line
     comments, lines = read_lines(path)
     if not lines:
-        raise FileFormatError(path, "no header line")
+        raise FileFormatError(path, not_a("csv", "no header line"))
     (hline, first), body = lines[0], lines[1:]
     header = split_fields(first)
     meta = {}
@@ -127,9 +141,9 @@ def read_beams_csv(path) -> BeamTable:
         if m and i < hline:
             meta[m.group(1)] = (m.group(2).strip(), i)
 
-    enc, n, nb, states, jsons = _header_values(path, meta)
+    enc, n, nb, states, jsons, ver = _header_values(path, meta)
     with_pos = "x_m" in header
-    want = _columns(enc, with_pos)
+    want = _columns(enc, with_pos, ver)
     if header != want:
         missing = [c for c in want if c not in header]
         extra = [c for c in header if c not in want]
@@ -139,13 +153,18 @@ def read_beams_csv(path) -> BeamTable:
     if len(body) != n * nb:
         raise FileFormatError(path, f"has {len(body)} rows, expected n_beams x n_elements = "
                               f"{nb} x {n} = {n * nb}")
+    on = None
+    if ver >= 2:
+        body, on = _enabled_column(path, body, want.index("enabled"), len(want), n)
+        want.remove("enabled")
     parsed = _parse_fast(body, n, nb, with_pos, len(want))
     if parsed is None:  # something is wrong: the row-by-row pass names the line
         parsed = _parse_rows(path, body, n, nb, with_pos, enc, len(want))
     dirs, pos, off, codes, reading, row_line = parsed
     try:
         table = BeamTable(states, dirs, codes, enc, off, pos, jsons.get("metadata") or {},
-                          None if jsons.get("metrics") is None else tuple(jsons["metrics"]))
+                          None if jsons.get("metrics") is None else tuple(jsons["metrics"]),
+                          on)
     except SteradianError as exc:
         m = re.search(r"beam (\d+), element (\d+)", str(exc))
         line = int(row_line[int(m.group(1)), int(m.group(2))]) if m else None
@@ -153,6 +172,32 @@ def read_beams_csv(path) -> BeamTable:
     _check_reading(path, table, reading, row_line)
     return table
 
+
+def _enabled_column(path, body, col: int, ncol: int, n: int):
+    """Rows without the ``enabled`` column, and the enable mask (N,) it gives."""
+    on = np.full(n, -1)
+    first = np.zeros(n, int)
+    out = []
+    for lineno, s in body:
+        f = s.split(",")
+        if len(f) != ncol:
+            raise FileFormatError(path, f"expected {ncol} fields, got {len(f)}", lineno)
+        v = f.pop(col)
+        if v not in ("0", "1"):
+            raise FileFormatError(path, f"column 'enabled' must be 0 or 1, got {v!r}", lineno)
+        try:
+            e = int(f[3])
+        except ValueError:
+            raise FileFormatError(path, f"column 'element': {f[3]!r} is not a whole number",
+                                  lineno) from None
+        if 0 <= e < n:
+            if on[e] < 0:
+                on[e], first[e] = int(v), lineno
+            elif on[e] != int(v):
+                raise FileFormatError(path, f"element {e} 'enabled' differs from its row on "
+                                      f"line {first[e]}", lineno)
+        out.append((lineno, ",".join(f)))
+    return out, np.where(on < 0, 1, on).astype(bool)
 
 
 def _header_values(path, meta: dict):
@@ -163,13 +208,15 @@ def _header_values(path, meta: dict):
             raise FileFormatError(path, f"missing '# {key} = ...' line")
         return meta[key]
 
-    fmt, ln = need("format")
+    if "format" not in meta:
+        raise FileFormatError(path, not_a("csv", f"no '# format = {FORMAT_ID}' line"))
+    fmt, ln = meta["format"]
     if fmt != FORMAT_ID:
         raise FileFormatError(path, f"format must be {FORMAT_ID!r}, got {fmt!r}", ln)
     ver, ln = need("layout_version")
-    if ver != str(LAYOUT_VERSION):
+    if ver not in [str(v) for v in READS]:
         raise FileFormatError(path, f"layout_version {ver} is not supported (this steradian "
-                              f"reads {LAYOUT_VERSION})", ln)
+                              f"reads {' and '.join(map(str, READS))})", ln)
     enc, ln = need("encoding")
     if enc not in ("codes", "iq"):
         raise FileFormatError(path, f"encoding must be 'codes' or 'iq', got {enc!r}", ln)
@@ -194,7 +241,7 @@ def _header_values(path, meta: dict):
         states = StateMap.from_dict(jsons["states"])
     except (SteradianError, TypeError) as exc:
         raise FileFormatError(path, f"states: {exc}", meta["states"][1]) from None
-    return enc, n, nb, states, jsons
+    return enc, n, nb, states, jsons, int(ver)
 
 
 def _parse_fast(body, n, nb, with_pos, ncol):

@@ -4,15 +4,17 @@ Layout (one JSON object; each beam on one line)::
 
     {
      "format": "steradian-beam-weights",
-     "layout_version": 1,
+     "layout_version": 2,
      "steradian_version": "0.1.0",
      "encoding": "codes",                 # or "iq"
      "iq_format": "Q1.15",                # only for "iq"
      "n_elements": 256,
      "n_beams": 231,
+     "n_enabled": 254,
      "states": {"phase_step_deg": 5.625, "phase_states": 64, "amplitude": "attenuator",
                 "amplitude_step": 0.5, "amplitude_states": 64},
-     "elements": {"phase_offset_deg": [...], "positions_m": [[x, y, z], ...] or null},
+     "elements": {"enabled": [1, 1, 0, ...], "phase_offset_deg": [...],
+                  "positions_m": [[x, y, z], ...] or null},
      "beams": [
       {"beam": 0, "theta_deg": 0.0, "phi_deg": 0.0, "phase_code": [...],
        "amplitude_code": [...], "metrics": {...}},
@@ -22,7 +24,10 @@ Layout (one JSON object; each beam on one line)::
     }
 
 For ``"iq"`` each beam holds ``"i_q15"`` and ``"q_q15"`` (integers, value = integer / 32768)
-instead of the two code lists. ``metrics`` (the predicted metrics of the beam as built) is
+instead of the two code lists. ``elements.enabled`` is the enable mask (1 on, 0 off); an off
+element holds the off flag 65535 in both code lists (0 in both I/Q lists) in every beam, and
+``n_enabled`` counts the elements that are on. Layout 1 files (no mask) are still read, with
+every element on. ``metrics`` (the predicted metrics of the beam as built) is
 present on every beam or on none. Floats are written in Python's shortest round-trip form, so
 a write-read cycle returns bit-identical tables.
 """
@@ -38,24 +43,28 @@ from ..beamtable import BeamTable
 from ..errors import FileFormatError, SteradianError
 from ..quantize import StateMap
 from .atomic import write_text
+from .formats import not_a, weight_text
 
 __all__ = ["write_beams_json", "read_beams_json", "FORMAT_ID", "LAYOUT_VERSION"]
 
 FORMAT_ID = "steradian-beam-weights"
-LAYOUT_VERSION = 1
+LAYOUT_VERSION = 2
+READS = (1, 2)
 
 _TOP = ("format", "layout_version", "steradian_version", "encoding", "iq_format",
-        "n_elements", "n_beams", "states", "elements", "beams", "metadata")
+        "n_elements", "n_beams", "n_enabled", "states", "elements", "beams", "metadata")
 
 
 def _dump(v) -> str:
     return json.dumps(v, separators=(", ", ": "), allow_nan=False)
 
 
-def write_beams_json(path, table: BeamTable) -> None:
-    """Write ``table`` as JSON (atomically)."""
+def write_beams_json(path, table: BeamTable, encoding=None) -> None:
+    """Write ``table`` as JSON (atomically), in ``encoding`` ("codes" or "iq"; default the
+    table's own)."""
     from ..version import VERSION as __version__
 
+    table = table if encoding is None else table.as_encoding(encoding)
     enc = table.encoding
     codes = table.codes
     beams = []
@@ -76,8 +85,9 @@ def write_beams_json(path, table: BeamTable) -> None:
     if enc == "iq":
         top["iq_format"] = "Q1.15"
     top.update({"n_elements": table.n_elements, "n_beams": table.n_beams,
-                "states": table.states.to_dict(),
-                "elements": {"phase_offset_deg": table.phase_offsets_deg.tolist(),
+                "n_enabled": table.n_enabled, "states": table.states.to_dict(),
+                "elements": {"enabled": table.enabled.astype(int).tolist(),
+                             "phase_offset_deg": table.phase_offsets_deg.tolist(),
                              "positions_m": None if table.positions is None
                              else table.positions.tolist()}})
     lines = ["{"]
@@ -102,17 +112,23 @@ def read_beams_json(path) -> BeamTable:
         or codes outside the states' range.
     """
     path = Path(path)
-    text = path.read_text(encoding="utf-8")
+    text = weight_text(path, "json")
     try:
         doc = json.loads(text)
     except json.JSONDecodeError as exc:
+        if not text.lstrip().startswith("{"):
+            raise FileFormatError(path, not_a("json", f"not a JSON object ({exc.msg})"),
+                                  exc.lineno) from None
         raise FileFormatError(path, f"not valid JSON: {exc.msg}", exc.lineno) from None
     enc, n, nb = _top(path, doc)
     try:
         states = StateMap.from_dict(doc["states"])
     except (SteradianError, TypeError) as exc:
         raise FileFormatError(path, f"'states': {exc}") from None
-    off, pos = _elements(path, doc["elements"], n)
+    off, pos, on = _elements(path, doc["elements"], n, doc["layout_version"])
+    if "n_enabled" in doc and doc["n_enabled"] != int(np.count_nonzero(on)):
+        raise FileFormatError(path, f"'n_enabled' is {doc['n_enabled']!r} but "
+                              f"'elements.enabled' turns {int(np.count_nonzero(on))} on")
     beams = doc["beams"]
     if not isinstance(beams, list) or len(beams) != nb:
         got = len(beams) if isinstance(beams, list) else type(beams).__name__
@@ -130,7 +146,8 @@ def read_beams_json(path) -> BeamTable:
     try:
         return BeamTable(states, np.array(dirs, float), np.array(codes, np.int64), enc,
                          np.array(off, float), None if pos is None else np.array(pos, float),
-                         doc.get("metadata") or {}, tuple(metrics) if all(has_m) else None)
+                         doc.get("metadata") or {}, tuple(metrics) if all(has_m) else None,
+                         on)
     except (SteradianError, TypeError, ValueError) as exc:
         raise FileFormatError(path, str(exc)) from None
 
@@ -138,13 +155,14 @@ def read_beams_json(path) -> BeamTable:
 def _top(path, doc) -> tuple[str, int, int]:
     """Check the top-level keys; returns (encoding, n_elements, n_beams)."""
     if not isinstance(doc, dict):
-        raise FileFormatError(path, "the file must hold one JSON object")
+        raise FileFormatError(path, not_a("json", "the file must hold one JSON object"))
     if doc.get("format") != FORMAT_ID:
-        raise FileFormatError(path, f"'format' must be {FORMAT_ID!r}, got "
-                              f"{doc.get('format')!r}")
-    if doc.get("layout_version") != LAYOUT_VERSION:
-        raise FileFormatError(path, f"layout_version {doc.get('layout_version')!r} is not "
-                              f"supported (this steradian reads {LAYOUT_VERSION})")
+        raise FileFormatError(path, not_a("json", f"'format' must be {FORMAT_ID!r}, got "
+                                          f"{doc.get('format')!r}"))
+    ver = doc.get("layout_version")
+    if isinstance(ver, bool) or ver not in READS:
+        raise FileFormatError(path, f"layout_version {ver!r} is not supported (this "
+                              f"steradian reads {' and '.join(map(str, READS))})")
     for k in doc:
         if k not in _TOP:
             raise FileFormatError(path, f"unknown key {k!r}")
@@ -164,11 +182,15 @@ def _top(path, doc) -> tuple[str, int, int]:
     return enc, n, nb
 
 
-def _elements(path, el, n: int):
-    """(phase offsets, positions or None) of the ``elements`` object."""
-    if not isinstance(el, dict) or set(el) != {"phase_offset_deg", "positions_m"}:
-        raise FileFormatError(path, "'elements' must hold 'phase_offset_deg' and "
-                              "'positions_m'")
+def _elements(path, el, n: int, version: int):
+    """(phase offsets, positions or None, enable mask) of the ``elements`` object."""
+    keys = {"phase_offset_deg", "positions_m"} | ({"enabled"} if version >= 2 else set())
+    if not isinstance(el, dict) or set(el) != keys:
+        raise FileFormatError(path, f"'elements' must hold {', '.join(sorted(keys))}")
+    on = el.get("enabled", [1] * n)
+    if (not isinstance(on, list) or len(on) != n
+            or not all(type(x) is int and x in (0, 1) for x in on)):
+        raise FileFormatError(path, f"'elements.enabled' must list {n} values of 0 or 1")
     off = el["phase_offset_deg"]
     if not isinstance(off, list) or len(off) != n:
         raise FileFormatError(path, f"'elements.phase_offset_deg' must list {n} values")
@@ -176,7 +198,7 @@ def _elements(path, el, n: int):
     if pos is not None and (not isinstance(pos, list) or len(pos) != n):
         raise FileFormatError(path, f"'elements.positions_m' must list {n} [x, y, z] triples "
                               "or be null")
-    return off, pos
+    return off, pos, np.array(on, bool)
 
 
 def _beam(path, b: int, d, enc: str, n: int):

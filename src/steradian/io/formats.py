@@ -15,11 +15,34 @@ import importlib
 from dataclasses import dataclass
 from pathlib import Path
 
-from ..errors import SteradianError
+from ..errors import FileFormatError, SteradianError
 from ..validate import choice
 
 __all__ = ["FileFormat", "WEIGHT_FORMATS", "FORMATS", "format_of", "read_weight_file",
-           "write_weight_file", "write_beam_files"]
+           "write_weight_file", "write_beam_files", "BIN_MAGIC", "not_a", "weight_text"]
+
+BIN_MAGIC = b"SRBW\r\n\x1a\n"
+"""The first 8 bytes of a binary weight file (:mod:`steradian.io.beams_bin`)."""
+
+
+def not_a(fmt: str, reason: str) -> str:
+    """The one message of a reader refusing a file of the wrong kind."""
+    return f"is not a {fmt} weight file: {reason}"
+
+
+def weight_text(path, fmt: str) -> str:
+    """The UTF-8 text of a text weight file, or one :class:`FileFormatError` line saying it
+    is not a ``fmt`` weight file (a binary weight file, or bytes that are not UTF-8)."""
+    path = Path(path)
+    data = path.read_bytes()
+    if data.startswith(BIN_MAGIC):
+        raise FileFormatError(path, not_a(fmt, "it is a steradian binary weight file (read "
+                                          "it with format bin or name it .bin)"))
+    try:
+        return data.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise FileFormatError(path, not_a(fmt, f"not UTF-8 text (byte 0x{data[exc.start]:02x}"
+                                          f" at offset {exc.start})")) from None
 
 
 @dataclass(frozen=True)
@@ -71,7 +94,8 @@ def format_of(path, fmt: str | None = None) -> FileFormat:
 
 def write_weight_file(path, table, fmt: str | None = None, **options) -> Path:
     """Write ``table`` to ``path`` in ``fmt`` ("csv", "json", "bin", "h"; default from the
-    suffix). Options go to the format's writer (``encoding`` for bin, ``prefix`` for h)."""
+    suffix). Options go to the format's writer: ``encoding`` ("codes" or "iq", every
+    format), ``prefix`` (h), ``layout_version`` (bin)."""
     return format_of(path, fmt).write(path, table, **options)
 
 
@@ -82,13 +106,15 @@ def read_weight_file(path, fmt: str | None = None):
 
 
 def write_beam_files(table, prefix, formats=tuple(WEIGHT_FORMATS), *, bin_encoding=None,
-                     c_prefix: str = "strd") -> dict:
+                     c_prefix: str = "strd", h_encoding=None) -> dict:
     """Write ``table`` as ``<prefix>.csv``, ``.json``, ``.bin``, ``.h`` (those in ``formats``).
 
-    ``bin_encoding`` chooses codes or Q1.15 I/Q for the binary file (default the table's);
-    ``c_prefix`` names the C header's identifiers. Returns ``{format: path}``.
+    ``bin_encoding`` and ``h_encoding`` choose codes or Q1.15 I/Q for the binary file and the
+    C header (default the table's); ``c_prefix`` names the C header's identifiers. Returns
+    ``{format: path}``.
     """
-    options = {"bin": {"encoding": bin_encoding}, "h": {"prefix": c_prefix}}
+    options = {"bin": {"encoding": bin_encoding},
+               "h": {"prefix": c_prefix, "encoding": h_encoding}}
     out = {}
     for name in formats:
         f = WEIGHT_FORMATS[choice("format", name, tuple(WEIGHT_FORMATS))]
