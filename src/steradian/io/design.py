@@ -407,6 +407,25 @@ def _check_horizon(steering: Steering | None, element: Element, geom: Geometry,
 # --------------------------------------------------------------------------------------------
 # Entry points
 # --------------------------------------------------------------------------------------------
+def _check_sections(d, src) -> None:
+    """Raise for a document that is not a table of known sections with [design] and
+    [geometry]."""
+    if not isinstance(d, Mapping):
+        raise DesignError("", f"a design must be a table of sections, got {type_name(d)}", src)
+    known = (*SECTIONS, *PASS_THROUGH_SECTIONS)
+    for k, v in d.items():
+        if k not in known:
+            raise DesignError(k, f"unknown section{suggest(k, known)}; allowed: "
+                              f"{', '.join(known)}", src)
+        if k in SECTIONS and not isinstance(v, dict):
+            hint = "" if k == "design" else f" (write it as a [{k}] table)"
+            raise DesignError(k, f"must be a table, got {type_name(v)} {v!r}{hint}", src)
+    if "design" not in d:
+        raise DesignError("design", "missing section [design] (name, frequency_hz)", src)
+    if "geometry" not in d:
+        raise DesignError("geometry", "missing section [geometry]", src)
+
+
 def design_from_dict(d: Mapping, source=None, *, base_dir=None,
                      read_taper_file: bool = True) -> Design:
     """Build a :class:`Design` from a parsed TOML dictionary.
@@ -437,22 +456,7 @@ def design_from_dict(d: Mapping, source=None, *, base_dir=None,
         For a referenced CSV file that cannot be read (naming its line).
     """
     src = None if source is None else str(source)
-    if not isinstance(d, Mapping):
-        raise DesignError("", f"a design must be a table of sections, got {type_name(d)}", src)
-    known = (*SECTIONS, *PASS_THROUGH_SECTIONS)
-    for k, v in d.items():
-        if k not in known:
-            raise DesignError(k, f"unknown section{suggest(k, known)}; allowed: "
-                              f"{', '.join(known)}", src)
-        if k in SECTIONS and not isinstance(v, dict):
-            hint = ""
-            if k not in ("design",):
-                hint = f" (write it as a [{k}] table)"
-            raise DesignError(k, f"must be a table, got {type_name(v)} {v!r}{hint}", src)
-    if "design" not in d:
-        raise DesignError("design", "missing section [design] (name, frequency_hz)", src)
-    if "geometry" not in d:
-        raise DesignError("geometry", "missing section [geometry]", src)
+    _check_sections(d, src)
     if base_dir is None:
         base_dir = Path(source).resolve().parent if source is not None else Path.cwd()
     base_dir = Path(base_dir)
