@@ -202,10 +202,10 @@ def _power_rows(summary: dict, f, at) -> list[tuple[str, str]]:
 
     rows = []
     if summary.get("drive_loss_db_max") is not None:
-        rows.append(("drive loss", f"worst {f('drive_loss_db_max', '.3f')} dB"
+        rows.append(("drive loss", f"worst {f('drive_loss_db_max', 'z.3f')} dB"
                      f"{at('drive_loss_db_max')} below full drive"))
     if summary.get("radiated_power_db_min") is not None:
-        rows.append(("radiated power", f"lowest {f('radiated_power_db_min', '.3f')} dB"
+        rows.append(("radiated power", f"lowest {f('radiated_power_db_min', 'z.3f')} dB"
                      f"{at('radiated_power_db_min')} re all channels at full drive"))
     if summary.get("eirp_dbw_min") is not None:
         rows.append(("EIRP", f"lowest {f('eirp_dbw_min', '.2f')} dBW{at('eirp_dbw_min')}"))
@@ -306,7 +306,10 @@ _WORST = (("loss_db", "loss vs ideal", "dB", True), ("psl_db", "peak sidelobe", 
           ("qlobe_db", "quantization lobe", "dB", True),
           ("pointing_error_deg", "pointing error", "deg", True),
           ("gain_dbi", "peak gain", "dBi", False),
-          ("rms_phase_error_deg", "RMS phase error", "deg", True))
+          ("rms_phase_error_deg", "RMS phase error", "deg", True),
+          ("drive_loss_db", "drive loss", "dB", True),
+          ("radiated_power_db", "radiated power", "dB", False),
+          ("eirp_dbw", "EIRP", "dBW", False))
 """Per-beam metrics ``beams --worst`` lists: (row key, label, unit, whether high is bad)."""
 
 
@@ -322,7 +325,7 @@ def worst_beams(rows: list[dict], n: int) -> str:
         vals.sort(key=lambda t: (-t[0] if high else t[0], t[1]["beam"]))
         lines.append(f"worst {min(n, len(vals))} by {label}:")
         lines += [f"  beam {r['beam']:>4}  theta {r['theta_deg']:7.2f} deg  phi "
-                  f"{r['phi_deg']:7.2f} deg  {v:9.4f} {unit}" for v, r in vals[:n]]
+                  f"{r['phi_deg']:7.2f} deg  {v:z9.4f} {unit}" for v, r in vals[:n]]
     return "\n".join(lines)
 
 

@@ -85,7 +85,7 @@ def beams(design_file, prefix, formats, bin_encoding, c_prefix, weights_file, wo
         if worst:
             click.echo(worst_beams(build.metrics.rows(), worst))
         if verdicts is not None:
-            click.echo("\n".join(requirement_lines(verdicts)))
+            click.echo("\n".join(["", *requirement_lines(verdicts)]))
         echo_written(files.values())
     if verdicts is not None and not verdicts["met"]:
         click.get_current_context().exit(1)

@@ -60,6 +60,6 @@ def verify(design_file, weight_file, fmt, tolerance_db, as_json):
                                        tolerance_db):
             click.echo(line)
         if verdicts is not None:
-            click.echo("\n".join(requirement_lines(verdicts)))
+            click.echo("\n".join(["", *requirement_lines(verdicts)]))
     if not ok:
         click.get_current_context().exit(1)
