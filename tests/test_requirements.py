@@ -238,6 +238,8 @@ def test_analyze_table_prints_one_line_per_requirement(tmp_path):
     ("max_pointing_error_deg = -1\n", "requirements.max_pointing_error_deg", "zero or positive"),
     ("grating_lobe_free_scan_deg = 95\n", "requirements.grating_lobe_free_scan_deg",
      "at most 90"),
+    ("max_psl_db = 20\n", "requirements.max_psl_db", "at most 0 dB"),
+    ("[requirements.max_qlobe_db]\n", "requirements.max_qlobe_db", "must be a number"),
 ])
 def test_bad_requirements_exit_2_naming_the_key(tmp_path, req, key, words):
     """Unknown keys with the closest valid one, wrong types, out-of-range limits (common

@@ -173,7 +173,9 @@ def requirements_from_table(raw, source: str | None = None) -> dict:
     """Read a ``[requirements]`` table: ``{key: limit}`` in :data:`REQUIREMENTS` order.
 
     Limits are finite numbers (``grating_lobe_free_scan_deg`` and the maxima of angles and
-    losses zero or positive, an angle at most 90 deg); ``no_grating_lobe_in_scan`` is true
+    losses zero or positive, a scan angle at most 90 deg, a beamwidth or pointing error at
+    most 180 deg; ``max_psl_db`` and ``max_qlobe_db`` at most 0 dB: levels relative to the
+    beam peak, so a positive one is a sign slip); ``no_grating_lobe_in_scan`` is true
     or false (false asks for nothing and is dropped).
 
     Raises
@@ -197,6 +199,11 @@ def requirements_from_table(raw, source: str | None = None) -> dict:
             out[key] = sec.number(key, minimum=0, maximum=90 if "scan" in key else 180)
         elif key in ("max_loss_db", "max_drive_loss_db"):
             out[key] = sec.number(key, minimum=0)
+        elif key in ("max_psl_db", "max_qlobe_db"):
+            out[key] = sec.number(key)
+            if out[key] > 0:  # a sign slip: 20 meant as -20 would pass every beam
+                raise sec.error(key, f"must be at most 0 dB (a level relative to the beam "
+                                     f"peak, e.g. -{out[key]:g}), got {out[key]:g}")
         else:
             out[key] = sec.number(key)
     return out
