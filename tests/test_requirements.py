@@ -383,3 +383,20 @@ def test_verify_judges_the_files_beams(tmp_path):
     assert got["max_hpbw_deg"]["status"] == NOT_EVALUATED
     text = _run("verify", strict, tmp_path / "v.bin")
     assert text.exit_code == 1 and "FAIL  max_psl_db" in text.output
+
+
+def test_difference_beam_psl_is_its_difference_sidelobe_level():
+    """A difference beam's twin lobes are its main lobe (Bayliss 1968): max_psl_db judges its
+    difference sidelobe level, not a 0 dB "sidelobe" (issue 9 item 7; a synthetic summary)."""
+    from steradian.requirements import judge_analysis
+
+    d = design_from_dict({"design": {"frequency_hz": 1e9}, "geometry": {
+        "kind": "linear", "units": "wavelength", "count": 4, "spacing": 0.5}})
+    summary = {"gain_dbi": 5.0, "peak_directivity_dbi": 5.0, "frequency_hz": 1e9,
+               "metrics": {"beam_kind": "difference_az", "psl_db": 0.0,
+                           "difference_sidelobe_db": -25.0}}
+    (v,) = judge_analysis({"max_psl_db": -20.0}, summary, d.array)
+    assert v.status == PASS and v.value == -25.0 and v.margin == 5.0
+    summary["metrics"]["beam_kind"] = "sum"
+    (v,) = judge_analysis({"max_psl_db": -20.0}, summary, d.array)
+    assert v.status == FAIL and v.value == 0.0
