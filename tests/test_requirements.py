@@ -21,6 +21,7 @@ from steradian.requirements import (
     PASS,
     REQUIREMENTS,
     grating_clearance,
+    judge_analysis,
     requirements_from_table,
 )
 from steradian.workflows import analyze_design
@@ -388,8 +389,6 @@ def test_verify_judges_the_files_beams(tmp_path):
 def test_difference_beam_psl_is_its_difference_sidelobe_level():
     """A difference beam's twin lobes are its main lobe (Bayliss 1968): max_psl_db judges its
     difference sidelobe level, not a 0 dB "sidelobe" (issue 9 item 7; a synthetic summary)."""
-    from steradian.requirements import judge_analysis
-
     d = design_from_dict({"design": {"frequency_hz": 1e9}, "geometry": {
         "kind": "linear", "units": "wavelength", "count": 4, "spacing": 0.5}})
     summary = {"gain_dbi": 5.0, "peak_directivity_dbi": 5.0, "frequency_hz": 1e9,
