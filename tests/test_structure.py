@@ -38,7 +38,7 @@ LAYERS: list[tuple[str, tuple[str, ...]]] = [
     ("engine", ("steradian.engine",)),
     ("radiation", ("steradian.radiation",)),
     ("patterns and metrics", ("steradian.patterns", "steradian.metrics")),
-    ("analysis", ("steradian.analysis",)),
+    ("analysis", ("steradian.analysis", "steradian.requirements")),
     ("synthesis", ("steradian.tapers", "steradian.optimize")),
     ("hardware", ("steradian.quantize", "steradian.beamtable")),
     ("files", ("steradian.io",)),

@@ -4,7 +4,11 @@ Each recipe takes a :class:`~steradian.io.design.Design` (read by
 :func:`~steradian.io.design.load_design`) and strings together the computing parts
 (analysis, metrics, synthesis, beam tables) and the file parts (:mod:`steradian.io`):
 
-- :func:`analyze_design`: the analysis summary of a design (``steradian analyze``);
+- :func:`analyze_design`: the analysis summary of a design (``steradian analyze``), with
+  the verdicts of its ``[requirements]``;
+- :func:`requirements_of_design`, :func:`analysis_verdicts` and :func:`beam_verdicts`: the
+  ``[requirements]`` table judged against an analysis or a beam table
+  (:mod:`steradian.requirements`; ``analyze``, ``beams``, ``verify``);
 - :func:`export_patterns` and :func:`uv_map`: pattern cuts and u-v maps to CSV and PNG
   (``steradian pattern``, ``steradian demo``);
 - :func:`design_for_synthesis`, :func:`synthesize_design` and
@@ -49,11 +53,13 @@ from .io.pattern_csv import write_cuts, write_uv
 from .io.weights_csv import write_weights
 from .patterns import uv_map
 from .quantize import ChannelModel, channel_from_table
+from .requirements import judge_analysis, judge_beams, requirements_from_table, verdicts_dict
 
 __all__ = ["analyze_design", "design_block", "design_with_weights", "export_patterns", "uv_map",
            "design_for_synthesis", "synthesize_design", "write_synthesis_weights",
            "tradeoff_of_design", "channel_of_design", "check_taper_steerable",
-           "design_metadata", "beam_table_from_design", "verify_weight_file"]
+           "design_metadata", "beam_table_from_design", "verify_weight_file",
+           "requirements_of_design", "analysis_verdicts", "beam_verdicts"]
 
 
 # --------------------------------------------------------------------------------------------
@@ -71,12 +77,49 @@ def analyze_design(design, frequency: float | None = None) -> dict:
     ``frequency`` (Hz) overrides ``analysis.frequency_hz``; it is refused when more than
     :data:`steradian.array.FREQUENCY_RATIO_LIMIT` times away from the design frequency (a
     unit slip: ``28`` meant as GHz). The returned dictionary is the analysis summary with a
-    ``design`` block (name, description, source) first.
+    ``design`` block (name, description, source) first and, when the design has
+    ``[requirements]``, a ``requirements`` block last (:func:`analysis_verdicts`;
+    ``met`` and one verdict per requirement). The table is read before the analysis runs,
+    so a bad key fails at once.
     """
+    reqs = requirements_of_design(design)
     opt = design.options
     if frequency is not None:
         opt = replace(opt, frequency=check_frequency(frequency, design.array.frequency))
-    return {"design": design_block(design), **analyze(design.array, opt).to_dict()}
+    out = {"design": design_block(design), **analyze(design.array, opt).to_dict()}
+    if reqs:
+        out["requirements"] = verdicts_dict(judge_analysis(reqs, out, design.array))
+    return out
+
+
+def requirements_of_design(design) -> dict:
+    """The design's ``[requirements]`` as ``{key: limit}`` (empty when it has none).
+
+    Raises
+    ------
+    DesignError
+        An unknown key (with the closest valid one), a wrong type or an out-of-range
+        limit (:func:`steradian.requirements.requirements_from_table`).
+    """
+    src = None if design.source is None else str(design.source)
+    return requirements_from_table(design.sections.get("requirements"), src)
+
+
+def analysis_verdicts(design, summary: dict, reqs: dict | None = None) -> list:
+    """Verdicts of the design's ``[requirements]`` on an analysis summary of it
+    (:func:`steradian.requirements.judge_analysis`); ``reqs`` defaults to
+    :func:`requirements_of_design`."""
+    reqs = requirements_of_design(design) if reqs is None else reqs
+    return judge_analysis(reqs, summary, design.array)
+
+
+def beam_verdicts(design, metrics, reqs: dict | None = None) -> list:
+    """Verdicts of the design's ``[requirements]`` over every beam of a table
+    (``metrics``: the :class:`~steradian.beamtable.BeamMetrics` of a build or of a verified
+    file; :func:`steradian.requirements.judge_beams`); ``reqs`` defaults to
+    :func:`requirements_of_design`."""
+    reqs = requirements_of_design(design) if reqs is None else reqs
+    return judge_beams(reqs, metrics, design.array)
 
 
 def design_with_weights(design, path):

@@ -179,7 +179,12 @@ def format_summary(s: dict) -> str:
 # Beam tables (beams, verify)
 # --------------------------------------------------------------------------------------------
 def beam_summary_rows(summary: dict) -> list[tuple[str, str]]:
-    """Human rows for a :meth:`BeamMetrics.summary` dictionary."""
+    """Human rows for a :meth:`BeamMetrics.summary` dictionary.
+
+    The power rows (drive loss, radiated power, EIRP) appear when the table has them; the
+    EIRP row is followed by the RF exposure caution
+    (:data:`steradian.radiation.RF_EXPOSURE_CAUTION`), as in ``analyze``.
+    """
     def f(key, fmt, unit=""):
         v = summary.get(key)
         return "-" if v is None else f"{v:{fmt}}{unit}"
@@ -188,6 +193,27 @@ def beam_summary_rows(summary: dict) -> list[tuple[str, str]]:
         b = summary.get(f"{key}_beam")
         return "" if b is None else f" (beam {b})"
 
+    return _quality_rows(summary, f, at) + _power_rows(summary, f, at)
+
+
+def _power_rows(summary: dict, f, at) -> list[tuple[str, str]]:
+    """Drive loss, radiated power and EIRP rows of a beam-table summary (when present)."""
+    from ..radiation import RF_EXPOSURE_CAUTION
+
+    rows = []
+    if summary.get("drive_loss_db_max") is not None:
+        rows.append(("drive loss", f"worst {f('drive_loss_db_max', 'z.3f')} dB"
+                     f"{at('drive_loss_db_max')} below full drive"))
+    if summary.get("radiated_power_db_min") is not None:
+        rows.append(("radiated power", f"lowest {f('radiated_power_db_min', 'z.3f')} dB"
+                     f"{at('radiated_power_db_min')} re all channels at full drive"))
+    if summary.get("eirp_dbw_min") is not None:
+        rows.append(("EIRP", f"lowest {f('eirp_dbw_min', '.2f')} dBW{at('eirp_dbw_min')}"))
+        rows.append(("caution", RF_EXPOSURE_CAUTION))
+    return rows
+
+
+def _quality_rows(summary: dict, f, at) -> list[tuple[str, str]]:
     return [
         ("beams", str(summary["beams"])),
         ("peak directivity", f"{f('directivity_dbi_min', '.3f')} .. "
@@ -200,6 +226,46 @@ def beam_summary_rows(summary: dict) -> list[tuple[str, str]]:
                            f"{at('pointing_error_deg_max')}"),
         ("RMS phase error", f"worst {f('rms_phase_error_deg_max', '.3f')} deg"),
     ]
+
+
+def _req_number(v, unit: str) -> str:
+    if v is None:
+        return "-"
+    return f"{v:.3f}" + (f" {unit}" if unit else "")
+
+
+def requirement_lines(block: dict) -> list[str]:
+    """Human lines of a ``requirements`` block (:func:`steradian.requirements.verdicts_dict`):
+    a title with the counts, then one line per requirement: PASS/FAIL, the key, the
+    measured value, the limit, the margin (positive = pass) and the worst beam; or "not
+    evaluated here" and why."""
+    verdicts = block["verdicts"]
+    count = {s: sum(v["status"] == s for v in verdicts)
+             for s in ("FAIL", "PASS", "not evaluated")}
+    title = "requirements: " + ", ".join(f"{n} {s}" for s, n in count.items() if n)
+    lines = [title, "-" * len(title)]
+    width = max((len(v["key"]) for v in verdicts), default=0)
+    for v in verdicts:
+        head = f"{v['status'] if v['status'] != 'not evaluated' else '--':<4}  " \
+               f"{v['key']:<{width}}  "
+        if v["status"] == "not evaluated":
+            lines.append(head + f"not evaluated here: {v['note']}")
+            continue
+        u = v["unit"]
+        if v["key"] == "no_grating_lobe_in_scan":
+            text = (f"nearest grating lobe at |s| = {_req_number(v['value'], '')}, limit "
+                    f"> 1 (visible space), margin {v['margin']:+.3f}")
+        else:
+            limit = _req_number(v["limit"], u)
+            text = (f"{_req_number(v['value'], u)}, limit {limit}, margin "
+                    + ("-" if v["margin"] is None else f"{v['margin']:+.3f}"
+                       + (f" {u}" if u else "")))
+        if v.get("worst_beam") is not None:
+            text += f", worst beam {v['worst_beam']}"
+        if v.get("note"):
+            text += f" ({v['note']})"
+        lines.append(head + text)
+    return lines
 
 
 def _versus_design(ver) -> str:
@@ -240,7 +306,10 @@ _WORST = (("loss_db", "loss vs ideal", "dB", True), ("psl_db", "peak sidelobe", 
           ("qlobe_db", "quantization lobe", "dB", True),
           ("pointing_error_deg", "pointing error", "deg", True),
           ("gain_dbi", "peak gain", "dBi", False),
-          ("rms_phase_error_deg", "RMS phase error", "deg", True))
+          ("rms_phase_error_deg", "RMS phase error", "deg", True),
+          ("drive_loss_db", "drive loss", "dB", True),
+          ("radiated_power_db", "radiated power", "dB", False),
+          ("eirp_dbw", "EIRP", "dBW", False))
 """Per-beam metrics ``beams --worst`` lists: (row key, label, unit, whether high is bad)."""
 
 
@@ -256,7 +325,7 @@ def worst_beams(rows: list[dict], n: int) -> str:
         vals.sort(key=lambda t: (-t[0] if high else t[0], t[1]["beam"]))
         lines.append(f"worst {min(n, len(vals))} by {label}:")
         lines += [f"  beam {r['beam']:>4}  theta {r['theta_deg']:7.2f} deg  phi "
-                  f"{r['phi_deg']:7.2f} deg  {v:9.4f} {unit}" for v, r in vals[:n]]
+                  f"{r['phi_deg']:7.2f} deg  {v:z9.4f} {unit}" for v, r in vals[:n]]
     return "\n".join(lines)
 
 

@@ -33,30 +33,59 @@ def beams(design_file, prefix, formats, bin_encoding, c_prefix, weights_file, wo
 
     The design's [channel] table describes the beamformer channel and [beams] the steering
     grid. Every beam is quantized and re-evaluated: peak directivity and gain, pointing
-    error, peak sidelobe, quantization-lobe level, loss against the ideal beam.
+    error, peak sidelobe, quantization-lobe level, loss against the ideal beam, drive loss,
+    radiated power and (with analysis.element_power_w) EIRP. With a [requirements] table, a
+    PASS/FAIL line per requirement follows, judged on the worst beam. Exit status: 0, or 1
+    when a requirement FAILs (the files are still written, for inspection), 2 for bad input.
     """
     from ..io.design import load_design
     from ..io.formats import write_beam_files
-    from ..workflows import beam_table_from_design, design_with_weights
-    from ._render import beam_summary_rows, echo_written, emit_json, table, worst_beams
+    from ..requirements import verdicts_dict
+    from ..workflows import (
+        beam_table_from_design,
+        beam_verdicts,
+        design_with_weights,
+        requirements_of_design,
+    )
+    from ._render import (
+        beam_summary_rows,
+        echo_written,
+        emit_json,
+        requirement_lines,
+        table,
+        worst_beams,
+    )
 
     design = load_design(design_file, read_taper_file=weights_file is None)
     if weights_file is not None:
         design = design_with_weights(design, weights_file)
+    reqs = requirements_of_design(design)
     build = beam_table_from_design(design)
     if prefix is None:
         prefix = Path("out") / f"{design.name}-beams"
     files = write_beam_files(build.table, prefix, formats or FORMAT_NAMES,
                              bin_encoding=bin_encoding, c_prefix=c_prefix)
     summary = build.metrics.summary()
+    verdicts = verdicts_dict(beam_verdicts(design, build.metrics, reqs)) if reqs else None
     if as_json:
-        emit_json({"design": design.name, "channel": build.table.metadata["channel"],
-                   "files": {k: str(v) for k, v in files.items()}, "summary": summary,
-                   "beams": build.metrics.rows()})
-        return
-    rows = [("design", design.name), ("channel", build.table.states.describe()),
-            ("elements", str(build.table.n_elements))] + beam_summary_rows(summary)
-    click.echo(table(rows, "beam table"))
-    if worst:
-        click.echo(worst_beams(build.metrics.rows(), worst))
-    echo_written(files.values())
+        out = {"design": design.name, "channel": build.table.metadata["channel"],
+               "files": {k: str(v) for k, v in files.items()}, "summary": summary,
+               "notes": list(build.notes)}
+        if "rf_exposure_caution" in build.table.metadata:
+            out["rf_exposure_caution"] = build.table.metadata["rf_exposure_caution"]
+        if verdicts is not None:
+            out["requirements"] = verdicts
+        emit_json({**out, "beams": build.metrics.rows()})
+    else:
+        rows = [("design", design.name), ("channel", build.table.states.describe()),
+                ("elements", str(build.table.n_elements))] + beam_summary_rows(summary)
+        click.echo(table(rows, "beam table"))
+        for note in build.notes:
+            click.echo(f"note: {note}")
+        if worst:
+            click.echo(worst_beams(build.metrics.rows(), worst))
+        if verdicts is not None:
+            click.echo("\n".join(["", *requirement_lines(verdicts)]))
+        echo_written(files.values())
+    if verdicts is not None and not verdicts["met"]:
+        click.get_current_context().exit(1)

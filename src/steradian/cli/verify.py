@@ -33,25 +33,33 @@ def verify(design_file, weight_file, fmt, tolerance_db, as_json):
     them. Exit status: 0 when all agree, 1 on the first difference (printed in one line) or
     a metric off by more than --tolerance-db, 2 when the file does not fit the design or is
     malformed. Without [channel] the states cannot be compared, without [beams] the
-    directions; a note says so.
+    directions; a note says so. With a [requirements] table, a PASS/FAIL line per
+    requirement follows, judged on the file's beams as re-evaluated; a FAIL exits 1 too.
     """
     from ..io.design import load_design
-    from ..workflows import verify_weight_file
-    from ._render import emit_json, verification_lines
+    from ..requirements import verdicts_dict
+    from ..workflows import beam_verdicts, requirements_of_design, verify_weight_file
+    from ._render import emit_json, requirement_lines, verification_lines
 
     design = load_design(design_file)
+    reqs = requirements_of_design(design)
     tab, ver = verify_weight_file(design, weight_file, fmt)
     worst = {k: v for k, v in ver.differences.items() if k in _DB_METRICS}
     metrics_ok = all(v <= tolerance_db for v in worst.values())
-    ok = metrics_ok and ver.matches_design
+    verdicts = verdicts_dict(beam_verdicts(design, ver.metrics, reqs)) if reqs else None
+    ok = metrics_ok and ver.matches_design and (verdicts is None or verdicts["met"])
     if as_json:
         out = {"design": design.name, "file": str(weight_file), "encoding": tab.encoding,
                "ok": ok, "metrics_ok": metrics_ok, "tolerance_db": tolerance_db}
         out.update(ver.to_dict())
+        if verdicts is not None:
+            out["requirements"] = verdicts
         emit_json(out)
     else:
         for line in verification_lines(design.name, weight_file, tab, ver, worst,
                                        tolerance_db):
             click.echo(line)
+        if verdicts is not None:
+            click.echo("\n".join(["", *requirement_lines(verdicts)]))
     if not ok:
         click.get_current_context().exit(1)

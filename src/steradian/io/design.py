@@ -9,7 +9,8 @@ against the design file's folder. The full schema is in the README ("Design file
 
 Sections validated here: ``[design]``, ``[geometry]``, ``[element]``, ``[taper]``,
 ``[steering]``, ``[analysis]``. Sections owned by other features (``[synthesis]``,
-``[channel]``, ``[beams]``) are passed through unvalidated in :attr:`Design.sections`.
+``[channel]``, ``[beams]``, ``[requirements]``) are passed through unvalidated in
+:attr:`Design.sections`.
 
 Every problem raises :class:`~steradian.errors.DesignError` naming the dotted key and the
 file, in one line; unknown keys come with the closest valid key. Legal but doubtful values
@@ -45,7 +46,7 @@ __all__ = ["Design", "load_design", "design_from_dict", "demo_design", "weights_
 SECTIONS = ("design", "geometry", "element", "taper", "steering", "analysis")
 """Sections this module validates."""
 
-PASS_THROUGH_SECTIONS = ("synthesis", "channel", "beams")
+PASS_THROUGH_SECTIONS = ("synthesis", "channel", "beams", "requirements")
 """Sections owned (and validated) by other features; kept raw in :attr:`Design.sections`."""
 
 LENGTH_UNITS = {"m": 1.0, "mm": 1e-3, "wavelength": None}
@@ -78,7 +79,7 @@ class Design:
         From ``[analysis]``.
     sections : Mapping[str, Any]
         Raw tables of the pass-through sections present (``synthesis``, ``channel``,
-        ``beams``); their owners validate them.
+        ``beams``, ``requirements``); their owners validate them.
     source : Path or None
         The design file.
     base_dir : Path
