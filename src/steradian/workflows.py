@@ -434,6 +434,7 @@ def verify_weight_file(design, path, fmt: str | None = None, *, weights=None,
                      "beams are NOT compared; the file's directions are taken as commanded")
     eff = design.options.radiation_efficiency
     v = verify_beam_table(design.array, ch, table, weights=weights, efficiency=eff,
+                          element_power_w=design.options.element_power_w,
                           evaluator=evaluator, directions=d,
                           compare_states=own is not None)
     return table, replace(v, notes=notes + list(v.notes))

@@ -85,7 +85,8 @@ class Verification:
 def verify_beam_table(array, channel: ChannelModel, table: BeamTable, *,
                       weights: WeightSource = None, efficiency: float = 1.0,
                       evaluator: BeamEvaluator | None = None, directions=None,
-                      compare_states: bool = True) -> Verification:
+                      compare_states: bool = True,
+                      element_power_w: float | None = None) -> Verification:
     """Compare the beams a weight file holds with the design's, and re-evaluate them.
 
     The design's table is rebuilt with :func:`build_beam_table` (``channel``, ``weights``,
@@ -105,6 +106,8 @@ def verify_beam_table(array, channel: ChannelModel, table: BeamTable, *,
     compare_states : bool
         Compare the element states with the rebuilt table (False when ``channel`` is not the
         design's, e.g. the file's own states for a design without a channel).
+    element_power_w : float, optional
+        Power of one channel at full drive (W): each beam's EIRP is then evaluated.
 
     Raises
     ------
@@ -125,7 +128,8 @@ def verify_beam_table(array, channel: ChannelModel, table: BeamTable, *,
     w0, _ = channel_ideal(channel, steered_weights(array, table.directions, weights),
                           array.enabled)
     ev = evaluator or BeamEvaluator(array, efficiency=efficiency)
-    m = ev.evaluate(real, table.directions, ideal=w0, commanded=table.commanded())
+    m = ev.evaluate(real, table.directions, ideal=w0, commanded=table.commanded(),
+                    element_power_w=element_power_w)
     ref_dirs = None if directions is None else np.atleast_2d(np.asarray(directions, float))
     ref_codes = None
     if compare_states:
