@@ -297,3 +297,21 @@ def test_bad_arguments():
         opt.min_sidelobe(arr)
     with pytest.raises(SteradianError, match="mainlobe"):
         opt.max_directivity(arr, psl_db=-20, mainlobe=-1)
+
+
+def test_peak_sidelobe_of_a_beam_scanned_past_its_first_null_to_the_horizon():
+    """peak_sidelobe's default main lobe (first minimum along each axis) of a uniform 6 x 6
+    panel at 0.4 lambda scanned to 45 deg: toward the horizon the first null (u0 + 0.417)
+    is outside visible space, and the clipped horizon direction used to count as a minimum
+    (zone 0.295 wide), so the main lobe's own skirt was reported: -8.76 dB. The highest
+    sidelobe is the 6-element uniform array factor's first sidelobe (separable pattern):
+    max |sin(3 psi) / (6 sin(psi / 2))| between its nulls, from scipy's bounded minimiser."""
+    from scipy.optimize import minimize_scalar
+
+    arr = st.Array(st.rectangular(6, 6, 0.4), F, steering=st.Steering(45, 0))
+    res = opt.peak_sidelobe(arr)
+    m = minimize_scalar(lambda p: -abs(math.sin(3 * p) / (6 * math.sin(p / 2))),
+                        bounds=(2 * math.pi / 6, 4 * math.pi / 6), method="bounded",
+                        options={"xatol": 1e-10})
+    assert res["psl_db"] == pytest.approx(20 * math.log10(-m.fun), abs=0.01)
+    assert res["mainlobe"] == pytest.approx([1 / 2.4, 1 / 2.4], abs=0.01)

@@ -278,12 +278,31 @@ def synthesize_design(design, **overrides):
     """Run the synthesis the design's ``[synthesis]`` table asks for.
 
     ``overrides`` (keyword arguments of :func:`steradian.optimize.synthesize`: ``method``,
-    ``psl_db``, ``nulls`` ...) replace the table's values; ``None`` values are left to the
-    table. Returns a :class:`~steradian.optimize.SynthesisResult`.
+    ``psl_db``, ``nulls``, ``scan`` ...) replace the table's values; ``None`` values are left
+    to the table. ``scan = "beams"`` (table or override) is the design's ``[beams]`` set:
+    one amplitude taper for every beam of the table
+    (:func:`steradian.optimize.max_worst_directivity`). Returns a
+    :class:`~steradian.optimize.SynthesisResult`.
+
+    Raises
+    ------
+    DesignError
+        ``scan = "beams"`` and the design has no ``[beams]`` table.
     """
     from .optimize import synthesize
 
-    return synthesize(design.array, design.sections.get("synthesis"), **overrides)
+    spec = design.sections.get("synthesis")
+    scan = overrides.get("scan")
+    if scan is None and isinstance(spec, dict):
+        scan = spec.get("scan")
+    if isinstance(scan, str) and scan == "beams":
+        d = _design_directions(design)
+        if d is None:
+            raise DesignError("synthesis.scan", 'scan = "beams" needs the design\'s [beams] '
+                              "table (the beam directions); add it or list the directions",
+                              None if design.source is None else str(design.source))
+        overrides["scan"] = d
+    return synthesize(design.array, spec, **overrides)
 
 
 def write_synthesis_weights(res, path, name: str, steered: bool = False) -> bool:
@@ -292,7 +311,10 @@ def write_synthesis_weights(res, path, name: str, steered: bool = False) -> bool
     Without ``steered`` the taper is written, which the design's ``[steering]`` then steers;
     with it (and a steered array), the steered excitations. The file's
     ``steering_included`` line says which (``no`` for an unsteered array: its weights hold no
-    steering phases), so a design that would steer them again refuses the file.
+    steering phases), so a design that would steer them again refuses the file. When the
+    synthesis had a sidelobe target, ``psl_target_db`` records it (a beam table built from
+    the taper reports every beam above it); a scan-volume taper also records its ``scan``
+    directions.
     """
     arr = res.array
     include = bool(steered) and arr.steering is not None
@@ -301,8 +323,13 @@ def write_synthesis_weights(res, path, name: str, steered: bool = False) -> bool
             "directivity_dbi": f"{res.directivity_dbi:.6f}",
             "psl_db": "" if res.psl_db is None else f"{res.psl_db:.6f}",
             "steering_included": "yes" if include else "no"}
+    if res.limit_db is not None:
+        meta["psl_target_db"] = f"{res.limit_db:.6f}"
     if arr.steering is not None:
         meta["steering"] = f"theta {arr.steering.theta_deg:g} deg, phi {arr.steering.phi_deg:g} deg"
+    if res.beams:
+        meta["scan"] = "; ".join(f"theta {b['theta_deg']:g} deg, phi {b['phi_deg']:g} deg"
+                                 for b in res.beams)
     write_weights(path, w, positions=arr.positions, meta=meta)
     return include
 
@@ -384,9 +411,68 @@ def beam_table_from_design(design, *, weights=None,
         raise DesignError("beams", "the design has no [beams] table; give the steering grid "
                           "(grid = 'theta_phi', 'az_el' or 'list')", src)
     eff = design.options.radiation_efficiency
-    return build_beam_table(design.array, ch, d, weights=weights, efficiency=eff,
-                            evaluator=evaluator, metadata=design_metadata(design),
-                            element_power_w=design.options.element_power_w)
+    build = build_beam_table(design.array, ch, d, weights=weights, efficiency=eff,
+                             evaluator=evaluator, metadata=design_metadata(design),
+                             element_power_w=design.options.element_power_w)
+    return build if weights is not None else _against_synthesis_target(design, build)
+
+
+PSL_TARGET_TOL_DB = 0.1
+"""A beam's peak sidelobe this far (dB) above its taper's synthesis target is reported: the
+dense re-checks of synthesis and beam table differ by far less (both refine off-grid with
+the one lobe search), so more is the pattern, not the measurement."""
+
+
+def _psl_target(design) -> float | None:
+    """The PSL target the design's taper file records (``psl_target_db``), if any."""
+    from .io.weights_csv import read_weights_table
+
+    if design.taper_file is None:
+        return None
+    try:
+        raw = read_weights_table(design.taper_file, design.array.n).meta.get("psl_target_db")
+        return None if raw in (None, "") else float(raw)
+    except (OSError, ValueError):
+        return None
+
+
+def _against_synthesis_target(design, build: BeamBuild) -> BeamBuild:
+    """Compare every beam's peak sidelobe with the synthesis target of the design's taper.
+
+    A taper synthesised for one direction and steered elsewhere can lose its sidelobe level
+    (issue 9 item 6: a -30 dB taper synthesised at 45 deg, about -19 dB at broadside). The
+    table's metadata gets ``synthesis_target``: the target, the beams whose ideal (steered,
+    unquantized) taper is above it and those whose quantized beam is. Beams of the first
+    kind make a note and a warning naming the worst; quantization alone is left to the
+    quantization-lobe figures and ``[requirements]`` (a few tenths of a dB over a synthesis
+    target is common practice for a quantized table).
+    """
+    import warnings
+
+    target = _psl_target(design)
+    if target is None or build.metrics is None:
+        return build
+    psl = np.asarray(build.metrics.psl_db, float)
+    ideal = np.asarray(build.metrics.ideal_psl_db, float)
+    over = np.flatnonzero(ideal > target + PSL_TARGET_TOL_DB)
+    build.table.metadata["synthesis_target"] = {
+        "psl_target_db": target, "taper_file": str(design.taper_file),
+        "beams_over_target": over.tolist(),
+        "quantized_beams_over_target": np.flatnonzero(
+            psl > target + PSL_TARGET_TOL_DB).tolist()}
+    if len(over) == 0:
+        return build
+    i = int(over[np.argmax(ideal[over])])
+    t, p = build.metrics.theta_deg[i], build.metrics.phi_deg[i]
+    note = (f"{len(over)} of {len(psl)} beams exceed the synthesis target PSL {target:.2f} dB "
+            f"of {Path(design.taper_file).name} before quantization: worst beam {i} (theta "
+            f"{t:g}, phi {p:g} deg) {ideal[i]:.2f} dB ({psl[i]:.2f} dB quantized); the taper "
+            "was synthesised for other directions: synthesise it over the table's scan set "
+            '([synthesis] scan = "beams")')
+    warnings.warn(note, UserWarning, stacklevel=3)
+    notes = tuple(build.notes) + (note,)
+    build.table.metadata["notes"] = list(notes)
+    return replace(build, notes=notes)
 
 
 def _design_directions(design) -> np.ndarray | None:

@@ -44,12 +44,15 @@ def _nulls(ctx, param, values):
 @click.option("--wng-min-db", type=float, help="White-noise-gain floor, dB.")
 @click.option("--null", "nulls", multiple=True, callback=_nulls, metavar="THETA,PHI[,DB]",
               help="A null direction in degrees (repeatable); optional depth in dB.")
+@click.option("--scan", type=click.Choice(["beams"]),
+              help="One amplitude taper for every beam of the design's [beams] (scan-volume "
+                   "synthesis: the worst beam's directivity maximised, --psl-db at each).")
 @click.option("--steered", is_flag=True,
               help="Write the steered excitations (for use without [steering]); default "
                    "writes the taper, which the design's [steering] steers.")
 @json_option
 def synth(design_file, output, method, psl_db, loss_db, mainlobe, weights_kind, symmetry,
-          dynamic_range_db, wng_min_db, nulls, steered, as_json):
+          dynamic_range_db, wng_min_db, nulls, scan, steered, as_json):
     """Synthesise weights for a TOML design and write them as a weights CSV.
 
     The method and its targets come from the design's [synthesis] table; options override
@@ -62,13 +65,17 @@ def synth(design_file, output, method, psl_db, loss_db, mainlobe, weights_kind, 
     res = synthesize_design(design, method=method, psl_db=psl_db, loss_db=loss_db,
                             mainlobe=mainlobe, weights=weights_kind, symmetry=symmetry,
                             dynamic_range_db=dynamic_range_db, wng_min_db=wng_min_db,
-                            nulls=nulls)
+                            nulls=nulls, scan=scan)
     out = write_synthesis_weights(res, output, design.name, steered)
     if as_json:
         emit_json(res.summary() | {"design": design.name, "weights_file": str(output),
                                    "steering_included": out})
     else:
         click.echo(table(result_rows(res), title=f"steradian synthesis: {design.name}"))
+        for i, b in enumerate(res.beams):
+            click.echo(f"  beam {i} (theta {b['theta_deg']:g}, phi {b['phi_deg']:g} deg): "
+                       f"directivity {b['directivity_dbi']:.2f} dBi, PSL {b['psl_db']:.2f} dB"
+                       + ("" if b["met"] else " (limit not met)"))
         how = (" (steered excitations)" if out else " (taper; the design's [steering] "
                "applies the steering)" if res.array.steering is not None else " (taper)")
         click.echo(f"weights written to {output}{how}")

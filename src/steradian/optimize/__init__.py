@@ -3,7 +3,10 @@
 Convex problems (radiated-power objective with sidelobe, mask, null and hardware limits) are
 solved to a certified optimum by a conic interior-point solver (clarabel); non-convex ones
 (phase-only, thinning) by scipy's global and local optimisers with a stated stopping rule.
-Every result is re-checked on a dense grid independent of the constraint samples.
+A scan-volume taper (one amplitude taper for a set of beams, the worst beam's directivity
+maximised under the sidelobe limit at each) is the same conic machinery over several
+steered copies of the array. Every result is re-checked on a dense grid independent of the
+constraint samples.
 """
 
 from ._conic import Infeasible, SolverFailure
@@ -14,11 +17,14 @@ from ._masks import Mask, Notch, Null, itu_s465
 from ._nonconvex import phase_only, thin
 from ._report import peak_sidelobe
 from ._result import SynthesisResult
+from ._scan import max_worst_directivity, scan_directions
 from ._spec import METHODS, spec_mask, synthesize, tradeoff_from_spec
 from ._tradeoff import TradeCurve, tradeoff
 
 __all__ = [
     "max_directivity",
+    "max_worst_directivity",
+    "scan_directions",
     "min_sidelobe",
     "peak_sidelobe",
     "tradeoff",

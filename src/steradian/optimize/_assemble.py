@@ -19,7 +19,7 @@ from ..units import from_db20
 from ._conic import ConicProgram
 from ._problem import Setup, cholesky, rows_at
 
-__all__ = ["assemble", "null_rows"]
+__all__ = ["assemble", "assemble_scan", "null_rows"]
 
 
 def null_rows(setup: Setup, nulls):
@@ -170,3 +170,43 @@ def assemble(setup: Setup, rowsets, nulls, *, mode: str, tau, nonneg: bool,
     P = np.zeros((nv, nv))
     P[:n, :n] = 2.0 * np.eye(n)
     return b.prog, P, None
+
+
+def assemble_scan(setups, rowsets, alphas, *, tau, nonneg: bool, dr_lin: float | None):
+    r"""The program of one solve of the scan-volume problem (one real taper, many beams).
+
+    Unknowns: the taper parameters x (shared by every beam: ``setups`` are the same array
+    steered to each beam, with one amplitude parametrisation), the amplitude bound of the
+    dynamic-range limit when asked, and last the epigraph variable t. With
+    :math:`\hat c^Tx = 1` (``setups[0].c0 / alphas[0]``; beam b's main-beam field is then
+    :math:`\alpha_b`) the program is
+
+    .. math::
+        \min t \quad\text{s.t.}\quad \|L_b^Tx\|/|\alpha_b| \le t,\quad
+        |E^b_i(x)| \le \tau|\alpha_b| \ \ (i \in \text{samples of beam } b),
+
+    :math:`L_bL_b^T = Q_{s,b}`. ``rowsets`` holds one list of :class:`Rows` per beam. Returns
+    ``(program, None, q)`` for ``program.solve(None, q)``.
+    """
+    s0 = setups[0]
+    n = s0.n
+    extra_t = dr_lin is not None
+    nv = n + int(extra_t) + 1
+    b = _Blocks(ConicProgram(nv), n)
+    b.prog.zero(b.pad(s0.c0 / alphas[0]), 1.0)
+    for rsets, a in zip(rowsets, alphas, strict=True):
+        for rs in rsets:
+            if len(rs):
+                _samples_max(b, rs, None if tau is None else tau * abs(a))
+    if nonneg:
+        b.prog.leq(-np.eye(n, nv), 0.0)
+    if extra_t:
+        _dynamic_range(b, s0, n, dr_lin, None)
+    tr = np.zeros((len(setups), nv))
+    tr[:, nv - 1] = 1.0
+    V = np.stack([b.pad(cholesky(s.Qs, "radiated-power").T / abs(a))
+                  for s, a in zip(setups, alphas, strict=True)])
+    b.prog.socs(tr, np.zeros(len(setups)), V)
+    q = np.zeros(nv)
+    q[nv - 1] = 1.0
+    return b.prog, None, q

@@ -55,7 +55,12 @@ def _psl_family(setup, h, dense_spacing):
 
 
 def _first_null_halfwidths(arr, setup: Setup, step: float) -> np.ndarray:
-    """Main-lobe half-widths along each principal axis: distance to the first minimum."""
+    """Main-lobe half-widths along each principal axis: distance to the first minimum.
+
+    A side that reaches the edge of visible space before a minimum (a beam scanned toward
+    the horizon) gives no width; the other side's is used (a clipped direction repeats the
+    horizon's value, which looked like a minimum there and made the main lobe's own skirt a
+    "sidelobe")."""
     fr = setup.frame
     dom = setup.domain
     out = []
@@ -66,16 +71,23 @@ def _first_null_halfwidths(arr, setup: Setup, step: float) -> np.ndarray:
         for sgn in (1.0, -1.0):
             q = setup.r0 + sgn * np.outer(t, fr.axes[:, i])
             if dom.kind == "line":
+                inside = np.abs(q @ dom.e1) <= 1.0
                 d = dom.from_u(q @ dom.e1)
             elif dom.kind == "plane":
                 s = 1.0 if setup.r0 @ dom.e3 >= 0 else -1.0
+                inside = np.hypot(q @ dom.e1, q @ dom.e2) <= 1.0
                 d = dom.from_uv(q @ dom.e1, q @ dom.e2, s)
             else:
+                inside = np.ones(len(t), bool)
                 d = q / np.linalg.norm(q, axis=1, keepdims=True)
-            v = field_magnitude(arr, d)
+            m = len(t) if inside.all() else int(np.argmin(inside))
+            v = field_magnitude(arr, d[:m])
             k = np.flatnonzero((v[1:-1] <= v[:-2]) & (v[1:-1] <= v[2:]))
-            widths.append(t[k[0] + 1] if len(k) else t[-1])
-        out.append(min(widths))
+            if len(k):
+                widths.append(t[k[0] + 1])
+            elif m == len(t):
+                widths.append(t[-1])
+        out.append(min(widths) if widths else t[-1])
     return np.array(out)
 
 

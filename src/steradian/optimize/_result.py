@@ -69,6 +69,11 @@ class SynthesisResult:
         Warnings and remarks (superdirectivity, tolerance not met, stopping rule...).
     seconds : float
         Wall time.
+    beams : list of dict
+        Scan-volume synthesis only (:func:`~steradian.optimize.max_worst_directivity`): per
+        scan direction ``theta_deg``, ``phi_deg``, ``directivity_dbi``, ``psl_db``,
+        ``psl_direction_deg``, ``margin_db`` and ``met``; the headline figures above are then
+        those of the worst beam. Empty for single-beam methods.
     """
 
     array: object
@@ -93,6 +98,7 @@ class SynthesisResult:
     symmetry: str = "none"
     notes: list = field(default_factory=list)
     seconds: float = 0.0
+    beams: list = field(default_factory=list)
 
     def summary(self) -> dict:
         """JSON-friendly summary (no weights)."""
@@ -118,7 +124,7 @@ class SynthesisResult:
             "notes": list(self.notes),
             "seconds": self.seconds,
             "elements": int(self.array.n),
-        }
+        } | ({"beams": [dict(b) for b in self.beams]} if self.beams else {})
 
     def to_dict(self) -> dict:
         """Summary plus the weights (real and imaginary parts, amplitude dB, phase deg)."""

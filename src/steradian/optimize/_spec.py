@@ -10,11 +10,20 @@
     nulls = [{ theta_deg = 40.0, phi_deg = 0.0 }]
     notches = [{ theta_deg = [60.0, 70.0], phi_deg = [-10.0, 10.0], depth_db = -50.0 }]
     mask = { angles_deg = [5.0, 20.0, 90.0], levels_db = [-25.0, -35.0, -45.0] }
+    scan = [[0.0, 0.0], [45.0, 0.0]]  # max_directivity over a scan set (or "beams")
 
     [synthesis.tradeoff]
     start_db = -15.0
     stop_db = -45.0
     points = 20
+
+With ``scan`` (method ``max_directivity`` only) the result is one amplitude taper that
+maximises the worst beam's directivity with ``psl_db`` held at every listed direction
+(:func:`~steradian.optimize.max_worst_directivity`); ``scan = "beams"`` names the design's
+``[beams]`` set, which the design recipe (:func:`steradian.workflows.synthesize_design`)
+resolves. It takes ``psl_db``, ``mainlobe``, ``weights`` ("amplitude", the default with
+``scan``), ``symmetry``, ``nonnegative``, ``dynamic_range_db``, ``loading``, ``tol_db``,
+``max_rounds``, ``oversample`` and ``dense_oversample``.
 
 Every key is read through :class:`steradian.schema.Section`; a bad one raises
 :class:`~steradian.errors.DesignError` naming ``synthesis.<key>`` (with the closest valid key
@@ -32,6 +41,7 @@ from ._levels import null_list, nulls_in_front
 from ._masks import Mask, Notch, itu_s465
 from ._nonconvex import phase_only, thin
 from ._problem import SymmetryKind, WeightsKind
+from ._scan import max_worst_directivity, scan_directions
 from ._tradeoff import tradeoff
 
 __all__ = ["synthesize", "tradeoff_from_spec", "METHODS", "spec_mask"]
@@ -40,7 +50,7 @@ _COMMON = {"mainlobe", "nulls", "oversample", "dense_oversample"}
 _CONVEX = _COMMON | {"notches", "mask", "weights", "symmetry", "nonnegative",
                      "dynamic_range_db", "wng_min_db", "loading", "tol_db", "max_rounds"}
 METHODS: dict[str, set] = {
-    "max_directivity": _CONVEX | {"psl_db"},
+    "max_directivity": _CONVEX | {"psl_db", "scan"},
     "min_sidelobe": _CONVEX | {"loss_db", "min_directivity_dbi"},
     "phase_only": _COMMON | {"psl_db", "hops", "seed", "tol_db", "max_rounds"},
     "thin": {"mainlobe", "fill", "generations", "seed", "symmetric", "oversample",
@@ -55,6 +65,8 @@ _MASK_KEYS = {"table": ("kind", "angles_deg", "levels_db", "absolute"),
               "log_envelope": ("kind", "a_dbi", "b", "start_deg", "floor_dbi"),
               "itu_s465": ("kind", "d_over_lambda")}
 _NOTCH_KEYS = ("theta_deg", "phi_deg", "depth_db")
+_SCAN_KEYS = {"psl_db", "mainlobe", "weights", "symmetry", "nonnegative", "dynamic_range_db",
+              "loading", "tol_db", "max_rounds", "oversample", "dense_oversample"}
 
 
 def spec_mask(m, name: str = "synthesis.mask", source: str | None = None) -> Mask:
@@ -98,6 +110,19 @@ def _notches(s: Section, key: str) -> list[Notch]:
     return out
 
 
+def _scan(s: Section, key: str):
+    """``"beams"`` (resolved by the design recipe) or a list of [theta_deg, phi_deg]."""
+    v = s.data[key]
+    if isinstance(v, str):
+        return s.string(key, choices=("beams",))
+    if not isinstance(v, list) or not all(isinstance(p, list) for p in v):
+        raise s.error(key, f'must be "beams" or a list of [theta_deg, phi_deg] pairs, got {v!r}')
+    try:
+        return scan_directions(v)
+    except SteradianError as exc:
+        raise s.error(key, str(exc)) from None
+
+
 def _mainlobe(s: Section, key: str):
     return s.numbers(key) if isinstance(s.data[key], list) else s.number(key)
 
@@ -114,6 +139,7 @@ _GET = {
     "nulls": lambda s, k: null_list(_array(s, k), k, s.error),
     "notches": _notches,
     "mask": lambda s, k: spec_mask(s.child(k)),
+    "scan": _scan,
 }
 """Key -> reader of its value from a :class:`Section`."""
 
@@ -145,12 +171,34 @@ def synthesize(array, spec: dict | None = None, **overrides):
         kw[k] = v
     if method == "min_sidelobe" and "loss_db" not in kw and "min_directivity_dbi" not in kw:
         raise s.error("loss_db", "min_sidelobe needs loss_db or min_directivity_dbi")
+    if kw.get("scan") is not None:
+        return _scan_synthesis(array, s, kw)
     if kw.get("nulls"):
         if overrides.get("nulls") is None:
             nulls_in_front(array, kw["nulls"], "nulls", s.error)
         else:
             nulls_in_front(array, kw["nulls"])
     return _FUNCTIONS[method](array, **kw)
+
+
+def _scan_synthesis(array, s: Section, kw: dict):
+    """``max_directivity`` over a scan set: the keys it takes, then the synthesis."""
+    scan = kw.pop("scan")
+    if isinstance(scan, str):
+        raise s.error("scan", 'scan = "beams" names the design\'s [beams] set; run it on a '
+                      "design (steradian synth) or give the directions")
+    extra = sorted(k for k in kw if k not in _SCAN_KEYS)
+    if extra:
+        raise s.error(extra[0], "does not apply with scan (scan-volume synthesis takes "
+                      + ", ".join(sorted(_SCAN_KEYS)) + ")")
+    if kw.get("weights", "amplitude") != "amplitude":
+        raise s.error("weights", "scan-volume synthesis designs one amplitude taper for every "
+                      "beam: weights must be 'amplitude'")
+    try:
+        scan = scan_directions(scan)
+    except SteradianError as exc:
+        raise s.error("scan", str(exc)) from None
+    return max_worst_directivity(array, scan, **kw)
 
 
 def tradeoff_from_spec(array, spec: dict | None = None, **overrides):
