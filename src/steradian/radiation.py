@@ -17,6 +17,7 @@ from typing import Literal
 
 import numpy as np
 
+from .budget import require
 from .directions import (
     Directions,
     ThetaPhiGrid,
@@ -326,10 +327,17 @@ def power_matrix(array, *, frequency: float | None = None,
     For isotropic elements :math:`Q_{mn} = 4\pi\,\mathrm{sinc}(k|r_m - r_n|)` (closed form);
     otherwise :math:`Q = \sum_i \omega_i a_i^H a_i` over the nodes of the sphere rule, with
     :math:`a_i` the element responses of :func:`steradian.engine.response_matrix`. Element
-    mask and steering are not applied (Q acts on the full weight vector).
+    mask and steering are not applied (Q acts on the full weight vector). Refused before
+    anything is built when the N x N matrix and its intermediates (48 bytes per entry: the
+    complex result, its Hermitian part and, for isotropic elements, the distances and the
+    sinc; measured peak 40 B per entry) would exceed the memory budget
+    (:mod:`steradian.budget`).
     """
     from scipy.spatial.distance import pdist, squareform
 
+    n = array.n
+    require(48 * n * n, f"the radiated-power matrix of {n:,} x {n:,} elements",
+            "it is dense in the element count; use radiated_power for given weights")
     k = array.k(frequency)
     if _is_isotropic(array):
         r = squareform(pdist(array.positions))
