@@ -57,7 +57,8 @@ indices and distances), plus the sampled pattern value and its chunk of the fiel
 
 
 def _require_points(n, what: str) -> None:
-    require(int(n) * POINT_BYTES, f"a lobe search set of {int(n):,} directions ({what})",
+    many = f"{int(n):,}" if n < 2**62 else f"more than {2**62:.1e}"
+    require(int(n) * POINT_BYTES, f"a lobe search set of {many} directions ({what})",
             "the lobes are too narrow to search at this electrical size; reduce the frequency "
             "or the array extent, or raise the memory budget (STERADIAN_MEMORY_BUDGET)")
 
