@@ -115,7 +115,10 @@ def _closed_form_cheaper(array, frequency, margin) -> bool:
         return True
     t_quad = 0.0
     for c in (margin, margin + 10):
-        rule = rule_for(array, frequency, c)
+        try:
+            rule = rule_for(array, frequency, c)
+        except SteradianError:  # the rule is over the memory budget: the pair sum is O(N)
+            return True
         t_quad += field_seconds(array.positions, array.k(frequency), rule.grid,
                                 lattice=array.geometry.lattice)
     return t_closed <= t_quad
@@ -150,8 +153,10 @@ def radiated_power(array, *, frequency: float | None = None, method: PowerMethod
         "closed_form" needs isotropic elements. "auto" uses it for isotropic arrays of up to
         20,000 elements when the engine's cost model estimates it
         cheaper than the quadrature (small and mid-sized arrays; the N^2/2 pair sum loses to
-        the two quadrature rules evaluated by non-uniform FFT from a few thousand elements),
-        quadrature otherwise. Both agree to better than 1e-9 relative.
+        the two quadrature rules evaluated by non-uniform FFT from a few thousand elements)
+        or when the quadrature rule would exceed the memory budget (electrically huge
+        arrays: the pair sum needs O(N) memory), quadrature otherwise. Both agree to better
+        than 1e-9 relative.
     margin : int
         Extra nodes beyond the band limit (see :mod:`steradian.sphere`).
     """
