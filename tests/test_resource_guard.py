@@ -324,3 +324,15 @@ def test_cli_refuses_in_one_line_with_exit_2(tmp_path, changes, args, words):
     assert "Traceback" not in r.stderr and sum("error" in ln for ln in lines) == 1
     assert err.startswith("steradian: error:") and words in err and "budget" in err
     assert time.perf_counter() - t0 < 10
+
+
+def test_beam_table_refused_by_beams_times_elements():
+    """The beam table holds several (B, N) arrays: 185 B per beam and element measured."""
+    from steradian.beamtable import build_beam_table
+    from steradian.quantize import ChannelModel
+
+    a = st.Array(geometry.rectangular(16, 16, LAM / 2), F)
+    d = theta_phi_directions(np.arange(1.0, 61.0), np.arange(0.0, 360.0, 10.0))
+    with limited("10MB"), refused_cheaply(
+            r"a beam table of 2,160 beams x 256 elements would need 105 MiB"):
+        build_beam_table(a, ChannelModel.build(phase_bits=6), d)
