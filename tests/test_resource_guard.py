@@ -28,7 +28,7 @@ from steradian.budget import format_size, limited, parse_size, require, set_budg
 from steradian.cli import main
 from steradian.directions import az_el_directions, theta_phi_directions
 from steradian.elements import CosinePower, Isotropic
-from steradian.engine import response_matrix
+from steradian.engine import response_blocks, response_matrix
 from steradian.errors import SteradianError
 from steradian.geometry import principal_axes
 from steradian.radiation import RadiatedPower, peak_directivity, power_matrix, radiated_power
@@ -263,6 +263,10 @@ def test_response_matrix_uses_the_one_budget():
             r"response_matrix of 1,000 directions x 100 elements would need 3\.1 MiB "
             r"\(budget 1\.0 MiB\): use engine\.response_blocks"):
         response_matrix(a, d)
+    with limited("1MiB"), refused_cheaply(r"response blocks of 1,000 directions x 100 elements"):
+        next(response_blocks(a, d, rows=10**12))
+    with limited("1MiB"):
+        assert sum(len(b[0]) for _, b in [next(response_blocks(a, d, rows=100))]) == 100
 
 
 def test_power_matrix_refused_by_element_count():

@@ -211,6 +211,9 @@ def response_blocks(array, where, *, frequency: float | None = None, rows: int |
     """
     dirs, k, el, pos, groups = _response_setup(array, where, frequency)
     step = int(rows) if rows else budget_rows(64 * array.n)
+    m = min(step, len(dirs))
+    require(2 * m * array.n * 16, f"response blocks of {m:,} directions x {array.n:,} elements",
+            "ask for fewer rows per block")
     for i in range(0, len(dirs), step):
         d = dirs[i:i + step]
         block = np.zeros((2, len(d), array.n), complex)

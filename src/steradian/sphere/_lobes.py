@@ -89,8 +89,10 @@ def _per_spacing(total: float, spacing: float, power: int, div: int = 1,
     """Points of a set with ``total / spacing**power / div`` points (floor, or ceil); a
     zero, negative or non-finite spacing counts as unbounded (2**62)."""
     s = float(spacing)
-    ok = s > 0 and math.isfinite(s) and s**power > 0
-    x = total / s**power / div if ok else math.inf
+    try:
+        x = total / s**power / div if s > 0 and math.isfinite(s) else math.inf
+    except (ZeroDivisionError, OverflowError):  # s**power underflows to 0 or overflows
+        x = math.inf if s < 1 else 0.0
     if not x < 2**62:
         return 2**62
     return math.ceil(x) if ceil else int(x)
