@@ -28,7 +28,7 @@ from .directions import (
 from .elements import Isotropic
 from .engine import field
 from .errors import SteradianError
-from .sphere import DEFAULT_MARGIN, SearchSet, find_maxima, rule_for
+from .sphere import DEFAULT_MARGIN, SearchSet, find_maxima, require_search, rule_for
 from .sphere import search_spacing as sphere_spacing
 from .units import db10
 from .validate import nonneg, positive
@@ -211,11 +211,12 @@ def peak_directivity(array, *, frequency: float | None = None,
     maxima and the steering direction are refined by a safeguarded Newton ascent in the
     tangent plane.
     """
-    power = power or radiated_power(array, frequency=frequency)
     R = array.geometry.common_orientation
     front = array.element.front_only and (array.geometry.orientations is None or R is not None)
-    search = SearchSet.fibonacci(search_spacing(array, frequency), front_only=front,
-                                 rotation=R if front else None)
+    spacing = search_spacing(array, frequency)
+    require_search(spacing, front_only=front)  # refuse before the power integral
+    power = power or radiated_power(array, frequency=frequency)
+    search = SearchSet.fibonacci(spacing, front_only=front, rotation=R if front else None)
 
     def inten(v):
         return field(array, Directions.from_vectors(v), frequency=frequency).intensity

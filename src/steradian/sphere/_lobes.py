@@ -48,7 +48,7 @@ from ..budget import require
 from ..directions import fibonacci_directions, normalise, tangent_frames
 
 __all__ = ["SearchSet", "search_spacing", "refine_maxima", "estimate_maxima", "refine_best",
-           "find_maxima", "pointwise", "peak_value", "POINT_BYTES"]
+           "find_maxima", "pointwise", "peak_value", "POINT_BYTES", "require_search"]
 
 POINT_BYTES = 400
 """Peak bytes per direction of a search set and its first sampling: 314 B measured with
@@ -96,6 +96,15 @@ def _per_spacing(total: float, spacing: float, power: int, div: int = 1,
     if not x < 2**62:
         return 2**62
     return math.ceil(x) if ceil else int(x)
+
+
+def require_search(spacing: float, *, front_only: bool = False, min_points: int = 0) -> int:
+    """Directions of :meth:`SearchSet.fibonacci` for these arguments, after refusing a set
+    over the memory budget (:data:`POINT_BYTES` each). Cheap: a caller that will search
+    later can check first, before other work."""
+    n = max(_per_spacing(4 * np.pi, spacing, 2, 2 if front_only else 1), int(min_points))
+    _require_points(n, f"spacing {spacing:.3g} rad")
+    return n
 
 
 @dataclass(frozen=True, eq=False)
@@ -148,8 +157,7 @@ class SearchSet:
         about one direction per ``spacing``\\ :sup:`2` steradians; ``k`` neighbours (default
         6: use 8 when every lobe spans three spacings or more, fewer samples of one lobe are
         then taken for separate maxima)."""
-        n = max(_per_spacing(4 * np.pi, spacing, 2, 2 if front_only else 1), int(min_points))
-        _require_points(n, f"spacing {spacing:.3g} rad")
+        n = require_search(spacing, front_only=front_only, min_points=min_points)
         d = fibonacci_directions(n, front_only)
         if rotation is not None:
             d = d @ np.asarray(rotation, float).T

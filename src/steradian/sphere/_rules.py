@@ -37,7 +37,8 @@ from ..budget import require
 from ..directions import Directions, ThetaPhiGrid
 from ..errors import SteradianError
 
-__all__ = ["SphereRule", "sphere_rule", "rule_for", "gauss_legendre", "NODE_BYTES"]
+__all__ = ["SphereRule", "sphere_rule", "rule_for", "gauss_legendre", "NODE_BYTES",
+           "require_rule"]
 
 DEFAULT_MARGIN = 20
 
