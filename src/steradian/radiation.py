@@ -334,15 +334,15 @@ def power_matrix(array, *, frequency: float | None = None,
     otherwise :math:`Q = \sum_i \omega_i a_i^H a_i` over the nodes of the sphere rule, with
     :math:`a_i` the element responses of :func:`steradian.engine.response_matrix`. Element
     mask and steering are not applied (Q acts on the full weight vector). Refused before
-    anything is built when the N x N matrix and its intermediates (48 bytes per entry: the
-    complex result, its Hermitian part and, for isotropic elements, the distances and the
-    sinc; measured peak 40 B per entry) would exceed the memory budget
+    anything is built when the N x N matrix and its intermediates (64 bytes per entry: the
+    complex result and its Hermitian parts; for isotropic elements the distances and the
+    sinc, measured peak 40 B per entry) would exceed the memory budget
     (:mod:`steradian.budget`).
     """
     from scipy.spatial.distance import pdist, squareform
 
     n = array.n
-    require(48 * n * n, f"the radiated-power matrix of {n:,} x {n:,} elements",
+    require(64 * n * n, f"the radiated-power matrix of {n:,} x {n:,} elements",
             "it is dense in the element count; use radiated_power for given weights")
     k = array.k(frequency)
     if _is_isotropic(array):
