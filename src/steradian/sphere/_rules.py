@@ -169,11 +169,16 @@ def rule_for(array, frequency: float | None = None, margin: int = DEFAULT_MARGIN
     """Rule sized for ``array``'s band limit (electrical radius and element degree).
 
     Front-half-space elements with a common orientation get a rule on the front hemisphere
-    only (the split at the horizon), where their pattern is smooth.
+    only (the split at the horizon), where their pattern is smooth. A rule over the memory
+    budget is refused in one line naming its size, k R and the element degree, before any
+    node is computed.
     """
     kr = float(array.electrical_radius(frequency))
     el = array.element_at(frequency)
-    deg = el.degree(array.k(frequency))
+    try:
+        deg = el.degree(array.k(frequency))
+    except OverflowError:  # a model's ceil(inf): refused below as not finite
+        deg = math.inf
     L = 2 * kr + deg
     if not math.isfinite(L):
         raise SteradianError(f"the electrical size is not finite (k R = {kr:.3g}, element "
