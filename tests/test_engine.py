@@ -8,7 +8,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as hs
 
 import steradian as st
-from steradian.engine import RESULT_BUDGET, array_factor, response_blocks, response_matrix
+from steradian.budget import limited
+from steradian.engine import array_factor, response_blocks, response_matrix
 from steradian.errors import SteradianError
 
 
@@ -99,10 +100,11 @@ def test_response_matrix_chunks_and_blocks(rng, f1):
 
 
 def test_response_matrix_refuses_a_result_over_budget(f1):
-    """A result larger than RESULT_BUDGET is refused in one line saying what it would need,
-    before anything is allocated."""
+    """A result larger than the memory budget (steradian.budget) is refused in one line
+    saying what it would need, before anything is allocated."""
     a = st.Array(st.rectangular(40, 40, 0.5), f1)
-    m = RESULT_BUDGET // (2 * 16 * a.n) + 1
+    m = 2 * 2**30 // (2 * 16 * a.n) + 1
     d = np.tile([0.0, 0.0, 1.0], (m, 1))
-    with pytest.raises(SteradianError, match=r"would need 2\.0 GiB .*response_blocks"):
+    with limited("2GiB"), pytest.raises(
+            SteradianError, match=r"would need 2\.0 GiB \(budget 2\.0 GiB\).*response_blocks"):
         response_matrix(a, d)

@@ -30,7 +30,8 @@ PACKAGE = "steradian"
 # matching prefix decides a module's layer.
 LAYERS: list[tuple[str, tuple[str, ...]]] = [
     ("base values", ("steradian.errors", "steradian.version", "steradian.units",
-                     "steradian.validate", "steradian.schema", "steradian.settings")),
+                     "steradian.validate", "steradian.schema", "steradian.settings",
+                     "steradian.budget")),
     ("directions", ("steradian.directions", "steradian.samples")),
     ("geometry and sphere rules", ("steradian.geometry", "steradian.sphere")),
     ("elements", ("steradian.elements",)),

@@ -17,6 +17,7 @@ from typing import Literal
 
 import numpy as np
 
+from .budget import require
 from .directions import (
     Directions,
     ThetaPhiGrid,
@@ -27,7 +28,7 @@ from .directions import (
 from .elements import Isotropic
 from .engine import field
 from .errors import SteradianError
-from .sphere import DEFAULT_MARGIN, SearchSet, find_maxima, rule_for
+from .sphere import DEFAULT_MARGIN, SearchSet, find_maxima, require_search, rule_for
 from .sphere import search_spacing as sphere_spacing
 from .units import db10
 from .validate import nonneg, positive
@@ -114,7 +115,10 @@ def _closed_form_cheaper(array, frequency, margin) -> bool:
         return True
     t_quad = 0.0
     for c in (margin, margin + 10):
-        rule = rule_for(array, frequency, c)
+        try:
+            rule = rule_for(array, frequency, c)
+        except SteradianError:  # the rule is over the memory budget: the pair sum is O(N)
+            return True
         t_quad += field_seconds(array.positions, array.k(frequency), rule.grid,
                                 lattice=array.geometry.lattice)
     return t_closed <= t_quad
@@ -149,8 +153,10 @@ def radiated_power(array, *, frequency: float | None = None, method: PowerMethod
         "closed_form" needs isotropic elements. "auto" uses it for isotropic arrays of up to
         20,000 elements when the engine's cost model estimates it
         cheaper than the quadrature (small and mid-sized arrays; the N^2/2 pair sum loses to
-        the two quadrature rules evaluated by non-uniform FFT from a few thousand elements),
-        quadrature otherwise. Both agree to better than 1e-9 relative.
+        the two quadrature rules evaluated by non-uniform FFT from a few thousand elements)
+        or when the quadrature rule would exceed the memory budget (electrically huge
+        arrays: the pair sum needs O(N) memory), quadrature otherwise. Both agree to better
+        than 1e-9 relative.
     margin : int
         Extra nodes beyond the band limit (see :mod:`steradian.sphere`).
     """
@@ -205,11 +211,12 @@ def peak_directivity(array, *, frequency: float | None = None,
     maxima and the steering direction are refined by a safeguarded Newton ascent in the
     tangent plane.
     """
-    power = power or radiated_power(array, frequency=frequency)
     R = array.geometry.common_orientation
     front = array.element.front_only and (array.geometry.orientations is None or R is not None)
-    search = SearchSet.fibonacci(search_spacing(array, frequency), front_only=front,
-                                 rotation=R if front else None)
+    spacing = search_spacing(array, frequency)
+    require_search(spacing, front_only=front)  # refuse before the power integral
+    power = power or radiated_power(array, frequency=frequency)
+    search = SearchSet.fibonacci(spacing, front_only=front, rotation=R if front else None)
 
     def inten(v):
         return field(array, Directions.from_vectors(v), frequency=frequency).intensity
@@ -326,10 +333,17 @@ def power_matrix(array, *, frequency: float | None = None,
     For isotropic elements :math:`Q_{mn} = 4\pi\,\mathrm{sinc}(k|r_m - r_n|)` (closed form);
     otherwise :math:`Q = \sum_i \omega_i a_i^H a_i` over the nodes of the sphere rule, with
     :math:`a_i` the element responses of :func:`steradian.engine.response_matrix`. Element
-    mask and steering are not applied (Q acts on the full weight vector).
+    mask and steering are not applied (Q acts on the full weight vector). Refused before
+    anything is built when the N x N matrix and its intermediates (64 bytes per entry: the
+    complex result and its Hermitian parts; for isotropic elements the distances and the
+    sinc, measured peak 40 B per entry) would exceed the memory budget
+    (:mod:`steradian.budget`).
     """
     from scipy.spatial.distance import pdist, squareform
 
+    n = array.n
+    require(64 * n * n, f"the radiated-power matrix of {n:,} x {n:,} elements",
+            "it is dense in the element count; use radiated_power for given weights")
     k = array.k(frequency)
     if _is_isotropic(array):
         r = squareform(pdist(array.positions))

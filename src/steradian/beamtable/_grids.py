@@ -9,6 +9,7 @@ from typing import Literal, get_args
 
 import numpy as np
 
+from ..budget import require
 from ..directions import az_el_directions, theta_phi_directions
 from ..errors import DesignError, SteradianError
 from ..schema import Section
@@ -16,11 +17,18 @@ from ..validate import positive
 
 
 def span(start: float, stop: float, step: float) -> np.ndarray:
-    """Values start, start + step, ... up to stop inclusive (to 1e-9 of a step)."""
+    """Values start, start + step, ... up to stop inclusive (to 1e-9 of a step).
+
+    A span over the memory budget (16 bytes per value) is refused before it is built.
+    """
     step = positive("step", step)
     if stop < start:
         raise SteradianError(f"stop {stop} is below start {start}")
-    n = math.floor((stop - start) / step + 1e-9) + 1
+    x = (stop - start) / step + 1e-9
+    n = math.floor(x) + 1 if x < 2**62 else 2**62
+    many = f"{n:,}" if n < 2**62 else f"more than {2**62:.1e}"
+    require(16 * n, f"a span of {many} values ({start:g} to {stop:g} in steps of {step:g})",
+            "use a larger step")
     return start + step * np.arange(n)
 
 

@@ -15,6 +15,15 @@ __all__ = ["Isotropic", "CosinePower", "Dipole", "ShortDipole", "HalfWaveDipole"
 
 ExponentOn = Literal["power", "field"]
 
+_DEGREE_CAP = 2**53
+"""Cap of a model's degree: far past any rule the memory budget allows, so an extreme
+exponent or length (even inf) is refused by the rule's size check, not by an overflow."""
+
+
+def _degree(x: float, extra: int) -> int:
+    """ceil(x) + extra, capped at :data:`_DEGREE_CAP` (inf and NaN included)."""
+    return int(math.ceil(x)) + extra if x < _DEGREE_CAP else _DEGREE_CAP
+
 
 class Isotropic(Element):
     """Isotropic point source (scalar): unit field in every direction. D = 1."""
@@ -67,7 +76,7 @@ class CosinePower(Element):
         return f.astype(complex), np.zeros(c.shape, complex)
 
     def degree(self, k):
-        return int(math.ceil(self.power_exponent)) + 2
+        return _degree(self.power_exponent, 2)
 
     def describe(self):
         return {"model": "cosine_power", "q": self.q, "exponent_on": self.exponent_on}
@@ -155,7 +164,7 @@ class Dipole(Element):
         return e_th.astype(complex), e_ph.astype(complex)
 
     def degree(self, k):
-        return int(math.ceil(2 * self._kl2)) + 12
+        return _degree(2 * self._kl2, 12)
 
     def at_frequency(self, frequency):
         if self.length is None:

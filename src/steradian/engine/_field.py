@@ -2,23 +2,20 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
 
+from ..budget import require
 from ..directions import Directions, ThetaPhiGrid, UVGrid, angles_of, as_directions, spherical_basis
 from ..elements import Isotropic
-from ..errors import SteradianError
 from ._cache import LRU
 from ._direct import budget_rows
 from ._evaluate import DEFAULT_TOL, Method, check_method, check_tol, evaluate
 from ._layout import lattice_hint
 
-__all__ = ["Field", "field", "response_matrix", "response_blocks", "RESULT_BUDGET"]
-
-RESULT_BUDGET = 2 * 2**30
-"""Bytes the full result of :func:`response_matrix` may take; beyond it, the call is refused
-(:func:`response_blocks` takes the directions a chunk at a time)."""
+__all__ = ["Field", "field", "response_matrix", "response_blocks"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -214,6 +211,9 @@ def response_blocks(array, where, *, frequency: float | None = None, rows: int |
     """
     dirs, k, el, pos, groups = _response_setup(array, where, frequency)
     step = int(rows) if rows else budget_rows(64 * array.n)
+    m = min(step, len(dirs))
+    require(2 * m * array.n * 16, f"response blocks of {m:,} directions x {array.n:,} elements",
+            "ask for fewer rows per block")
     for i in range(0, len(dirs), step):
         d = dirs[i:i + step]
         block = np.zeros((2, len(d), array.n), complex)
@@ -228,17 +228,15 @@ def response_matrix(array, where, *, frequency: float | None = None) -> np.ndarr
     (element pattern times its phase term) at the M directions, without weights. For scalar
     models the second component is zero. Used by synthesis, which needs patterns linear in the
     weights. Intermediates are computed in chunks of directions within
-    :data:`MEMORY_BUDGET`; a result larger than :data:`RESULT_BUDGET` is refused (use
-    :func:`response_blocks`).
+    :data:`MEMORY_BUDGET`; a result over the memory budget (:mod:`steradian.budget`) is
+    refused before it is allocated (use :func:`response_blocks`).
     """
+    where = as_directions(where)
+    m = math.prod(where.shape)
+    require(2 * m * array.n * 16, f"response_matrix of {m:,} directions x {array.n:,} "
+            "elements", "use engine.response_blocks to take the directions a chunk at a time")
     dirs, k, el, pos, groups = _response_setup(array, where, frequency)
     m, n = len(dirs), array.n
-    need = 2 * m * n * 16
-    if need > RESULT_BUDGET:
-        raise SteradianError(
-            f"response_matrix would need {need / 2**30:.1f} GiB for {m} directions x {n} "
-            f"elements (limit {RESULT_BUDGET / 2**30:.0f} GiB): use "
-            "engine.response_blocks to take the directions a chunk at a time")
     out = np.zeros((2, m, n), complex)
     step = budget_rows(32 * n)
     for i in range(0, m, step):

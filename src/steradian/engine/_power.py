@@ -6,6 +6,7 @@ import math
 
 import numpy as np
 
+from ..budget import require
 from ..directions import as_directions
 from . import _cost
 from ._direct import budget_rows, kernels, re_im_columns, xyz_columns
@@ -26,6 +27,9 @@ def gram_matrix(positions, k: float, dirs: np.ndarray, weights: np.ndarray) -> n
 
     pos = np.asarray(positions, float)
     n = len(pos)
+    # G, its upper triangle, the conjugate part and the sum: 64 bytes per entry at the peak.
+    require(64 * n * n, f"a Gram matrix of {n:,} x {n:,} elements",
+            "it is dense in the element count")
     wts = np.asarray(weights, float)
     keep = wts > 0
     dirs, wts = np.asarray(dirs, float)[keep], wts[keep]

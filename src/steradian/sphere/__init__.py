@@ -13,6 +13,10 @@ array or an element):
   or many patterns), :func:`refine_maxima` (batched safeguarded Newton ascent),
   :func:`refine_best` (coarse to fine, the best of each group of starts),
   :func:`find_maxima` and :func:`peak_value` (the two steps together).
+
+Both refuse, before building anything, a rule or a search set over the memory budget
+(:mod:`steradian.budget`); :func:`require_rule` and :func:`require_search` make the same
+check alone, for callers that want to refuse before other work.
 """
 
 from ._lobes import (
@@ -22,11 +26,18 @@ from ._lobes import (
     pointwise,
     refine_best,
     refine_maxima,
+    require_search,
     search_spacing,
 )
-from ._rules import DEFAULT_MARGIN, SphereRule, gauss_legendre, rule_for, sphere_rule
+from ._rules import (
+    DEFAULT_MARGIN,
+    SphereRule,
+    gauss_legendre,
+    require_rule,
+    rule_for,
+    sphere_rule,
+)
 
 __all__ = ["SphereRule", "sphere_rule", "rule_for", "gauss_legendre", "DEFAULT_MARGIN",
            "SearchSet", "search_spacing", "refine_maxima", "refine_best", "find_maxima",
-           "peak_value",
-           "pointwise"]
+           "peak_value", "pointwise", "require_rule", "require_search"]
