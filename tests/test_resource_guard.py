@@ -356,3 +356,15 @@ def test_gram_matrix_refused_by_element_count():
     with limited("100MB"), refused_cheaply(r"a Gram matrix of 3,000 x 3,000 elements would "
                                            r"need 549 MiB \(budget 95\.4 MiB\)"):
         gram_matrix(pos, 1.0, np.array([[0.0, 0.0, 1.0]]), np.ones(1))
+
+
+def test_analysis_with_metrics_refuses_an_oversized_search_up_front():
+    """Issue 10, item 2: two elements 1,000 wavelengths apart with metrics ran for over a
+    minute (radiated power and peak first) before the sidelobe search set was refused. The
+    analysis now checks that search set first: refused at once under a 4 GiB budget, naming
+    the search spacing (common practice: size the work before doing it)."""
+    lam = 1.0
+    geom = st.Geometry(np.array([[0.0, 0.0, 0.0], [1000.0 * lam, 0.0, 0.0]]))
+    arr = st.Array(geom, st.C0 / lam)
+    with limited("4GiB"), refused_cheaply("search|spacing", peak_mib=16.0):
+        analyze(arr, AnalysisOptions(metrics=True))

@@ -125,6 +125,10 @@ def analyze(array, options: AnalysisOptions | None = None) -> Analysis:
     """
     opt = options or AnalysisOptions()
     f = opt.frequency
+    if opt.metrics:
+        from .metrics import require_metrics_search
+
+        require_metrics_search(array, f)  # refuse an oversized search before any work
     power = radiated_power(array, frequency=f)
     pk = peak_directivity(array, frequency=f, power=power)
     g = float(gain(pk.directivity, opt.radiation_efficiency))

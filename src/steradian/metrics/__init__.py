@@ -79,12 +79,13 @@ from ..patterns import Cut, cut, principal_cuts
 from ..radiation import Peak
 from ..units import DB_FLOOR
 from ..validate import positive
-from ._context import Context
+from ._context import Context, require_metrics_search
 from ._measures import METRICS, Metric, metric
 from ._results import GratingLobe, Lobe, PatternMetrics, PlaneWidths
 
 __all__ = ["Cut", "principal_cuts", "cut", "DB_FLOOR", "PatternMetrics", "PlaneWidths", "Lobe",
-           "GratingLobe", "pattern_metrics", "METRICS", "Metric", "metric"]
+           "GratingLobe", "pattern_metrics", "METRICS", "Metric", "metric",
+           "require_metrics_search"]
 
 
 def pattern_metrics(array, *, frequency: float | None = None, peak: Peak | None = None,

@@ -12,12 +12,13 @@ import numpy as np
 
 from ..patterns import beam_axis, resolve_peak, symmetry
 from ..radiation import search_spacing
-from ..sphere import SearchSet, pointwise, refine_maxima
+from ..sphere import SearchSet, pointwise, refine_maxima, require_search
 from ._beam import N_RADIALS, BandLobe, Beam, RadialLobe, arc
 
-__all__ = ["Context", "SEARCH_PER_NULL", "N_REFINE"]
+__all__ = ["Context", "SEARCH_PER_NULL", "N_REFINE", "require_metrics_search"]
 
 SEARCH_PER_NULL = 3.0
+_MIN_SEARCH = 2000
 """Sidelobe search samples per main-lobe null width."""
 
 N_REFINE = 16
@@ -110,7 +111,7 @@ class Context:
         """(SearchSet, relative intensity g on it) for sidelobes and the rear hemisphere."""
         front = self.array.element.front_only and self.array.geometry.orientations is None
         sp = search_spacing(self.array, self.frequency, per_null=SEARCH_PER_NULL)
-        s = SearchSet.fibonacci(sp, front_only=front, min_points=2000)
+        s = SearchSet.fibonacci(sp, front_only=front, min_points=_MIN_SEARCH)
         return s, self.beam.g(s.directions)
 
     def lobes(self, allowed, count: int, key):
@@ -147,3 +148,12 @@ class Context:
         """Refined lobes outside the main lobe (list of (direction, g), highest first)."""
         lobe, _, _, key = self.main_lobe
         return self.lobes(lambda x: ~lobe.inside(x), N_REFINE, key)
+
+
+def require_metrics_search(array, frequency=None) -> None:
+    """Refuse, before any other work, an array whose sidelobe search set would exceed the
+    memory budget (:func:`steradian.sphere.require_search`), so an analysis with metrics
+    fails in milliseconds instead of after its radiated power and peak."""
+    front = array.element.front_only and array.geometry.orientations is None
+    require_search(search_spacing(array, frequency, per_null=SEARCH_PER_NULL),
+                   front_only=front, min_points=_MIN_SEARCH)
