@@ -51,6 +51,7 @@ from .optimize import (
     SynthesisInfeasible,
     SynthesisResult,
     max_directivity,
+    max_worst_directivity,
     min_sidelobe,
     phase_only,
     synthesize,
