@@ -93,5 +93,6 @@ __all__ += ["ChannelModel", "StateMap", "BeamTable", "BeamEvaluator", "build_bea
             "az_el_directions"]
 __all__ += ["Design", "load_design", "design_from_dict", "read_positions", "write_positions",
             "read_weights", "write_weights"]
-__all__ += ["tapers", "optimize", "max_directivity", "max_worst_directivity", "min_sidelobe", "tradeoff", "phase_only",
-            "thin", "synthesize", "SynthesisResult", "SynthesisInfeasible"]
+__all__ += ["tapers", "optimize", "max_directivity", "max_worst_directivity", "min_sidelobe",
+            "tradeoff", "phase_only", "thin", "synthesize", "SynthesisResult",
+            "SynthesisInfeasible"]
