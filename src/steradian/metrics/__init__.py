@@ -80,15 +80,17 @@ from ..radiation import Peak
 from ..units import DB_FLOOR
 from ..validate import positive
 from ._context import Context
+from ._difference import BEAM_KINDS, check_beam_kind, check_sum_beam
 from ._measures import METRICS, Metric, metric
 from ._results import GratingLobe, Lobe, PatternMetrics, PlaneWidths
 
 __all__ = ["Cut", "principal_cuts", "cut", "DB_FLOOR", "PatternMetrics", "PlaneWidths", "Lobe",
-           "GratingLobe", "pattern_metrics", "METRICS", "Metric", "metric"]
+           "GratingLobe", "pattern_metrics", "METRICS", "Metric", "metric", "BEAM_KINDS",
+           "check_sum_beam"]
 
 
 def pattern_metrics(array, *, frequency: float | None = None, peak: Peak | None = None,
-                    grating_lobe_db: float = 3.0) -> PatternMetrics:
+                    grating_lobe_db: float = 3.0, beam_kind: str = "sum") -> PatternMetrics:
     """Beamwidths, sidelobes, grating lobes, pointing, front-to-back and scan loss of a beam.
 
     Parameters
@@ -109,9 +111,17 @@ def pattern_metrics(array, *, frequency: float | None = None, peak: Peak | None 
     PatternMetrics
         Every registered metric (:data:`METRICS`) of the beam; the definitions are in
         :mod:`steradian.metrics`.
+
+    Raises
+    ------
+    SteradianError
+        For a sum beam whose excitation is a difference (see :func:`check_sum_beam`), and a
+        difference beam without a boresight null.
     """
     grating_lobe_db = positive("grating_lobe_db", grating_lobe_db, " dB")
-    ctx = Context(array, frequency, peak, grating_lobe_db)
+    ctx = Context(array, frequency, peak, grating_lobe_db, check_beam_kind(beam_kind))
+    if beam_kind == "sum":
+        check_sum_beam(ctx)
     values: dict = {}
     for m in METRICS:
         out = m.compute(ctx)
