@@ -194,7 +194,10 @@ def difference_beam(ctx) -> DifferenceBeam:
             f"{'x' if ctx.beam_kind == 'difference_az' else 'y'}: the first maximum beside "
             f"boresight is {-rel_db(g_start.min()):.1f} dB below the pattern's peak (is the "
             "difference taken in the other plane?)")
-    peaks, peak_g = refine_maxima(pointwise(g), starts, ctx.h)
+    # A line's pattern is a cone about its axis: refine on the great circle through boresight.
+    line = _axes(arr).dimension == 1
+    peaks, peak_g = refine_maxima(pointwise(g), starts, ctx.h,
+                                  normal=np.cross(r0, t) if line else None)
     g0 = float(g(r0[None, :])[0])
     if not g0 <= 10 ** (DIFFERENCE_NULL_DB / 10) * peak_g.max():
         th, ph = angles_deg(r0)
