@@ -1,4 +1,5 @@
-r"""Pattern metrics: beamwidths, sidelobes, grating lobes, pointing, front-to-back, scan loss.
+r"""Pattern metrics: beamwidths, sidelobes, grating lobes, pointing, front-to-back, scan loss,
+and the difference (monopulse) beam's null, lobes and slope.
 
 Every pattern value comes from :func:`steradian.engine.field`. Angles are in degrees, levels
 in dB, floored at :data:`DB_FLOOR` so reports never hold NaN or infinity. Crossings and nulls
@@ -60,6 +61,35 @@ cuts as in :mod:`steradian.patterns`:
   Both are capped at -DB_FLOOR (300 dB) when the rear is dark.
 - **Scan loss**: peak directivity of the array minus that of the same array with its
   steering removed, in dB (negative when steering costs directivity; 0 when unsteered).
+- **Beam kind** (``beam_kind``): ``"sum"``, ``"difference_az"`` (excitation antisymmetric
+  about the y-z plane through the array centre: the difference axis is x) or
+  ``"difference_el"`` (about the x-z plane: the axis is y); for a collinear array the axis is
+  the line's. *Boresight* :math:`\hat r_b` is the steering direction, else broadside (the
+  +z-side normal of a planar array; the perpendicular of a line nearest +z). A declared
+  **sum** beam is refused when its excitation is a difference: the array factor at
+  :math:`\hat r_b`, :math:`|\sum_n w_n e^{jk\hat r_b\cdot r_n}|`, is 20 dB or more below
+  :math:`\sum_n|w_n|` and the beam axis lies within a null width :math:`2\pi/kR` of
+  :math:`\hat r_b` (its "sidelobe" would be its twin lobe at 0 dB).
+- **Difference lobes**: from :math:`\hat r_b` along the great circle in the difference axis'
+  tangent direction :math:`\hat t` (both ways) the first local maximum, refined by the lobe
+  search (on that great circle for a line). Each lobe must be within 10 dB of the pattern's
+  peak, and :math:`U(\hat r_b)` 10 dB or more below the higher lobe, else the declared kind is
+  refused. The **main lobe** of a difference beam is the union of the main lobes (as above)
+  about both difference lobes; PSL, ISLR and grating lobes found use it.
+- **Boresight null depth**: :math:`10\log_{10}(U(\hat r_b)/U_\Delta)`, :math:`U_\Delta` the
+  higher difference lobe; **difference peak**: its directivity; **difference sidelobe
+  level**: the highest lobe outside the main lobe relative to :math:`U_\Delta`. **Pointing
+  error** of a difference beam: the angle between the null (k-section minimum between the
+  lobes) and the steering direction.
+- **Difference slope**: :math:`s = d|E_\Delta|/d\rho` at :math:`\hat r_b` along
+  :math:`\hat t`, :math:`|E_\Delta| = \sqrt{D_\Delta}` the field normalised to directivity,
+  per degree, from :math:`(|E(\delta)| + |E(-\delta)|)/2\delta` (exact for a field linear
+  through a null within :math:`\delta`) at :math:`\delta` and :math:`2\delta` with Richardson
+  extrapolation. For isotropic elements on a half-wave line it is
+  :math:`k|\sum_n w_n x_n|\cos\theta_0/\sqrt{\sum_n|w_n|^2}` per radian (the aperture's first
+  moment). **Monopulse slope**: :math:`s/\sqrt{D_\Sigma(\hat r_b)}`, the slope of
+  :math:`\Delta/\Sigma` with both patterns normalised to directivity, :math:`\Sigma` the
+  uniform-amplitude beam of the same enabled elements and steering (Sherman and Barton).
 
 References
 ----------
@@ -70,6 +100,10 @@ R. J. Mailloux, *Phased Array Antenna Handbook*, 3rd ed., Artech House, 2018, ch
 R. C. Hansen, *Phased Array Antennas*, 2nd ed., Wiley, 2009, ch. 2-3 (beamwidth, sidelobes,
 integrated sidelobe ratio).
 C. A. Balanis, *Antenna Theory: Analysis and Design*, 4th ed., Wiley, 2016, ch. 2 and 6.
+E. T. Bayliss, "Design of monopulse antenna difference patterns with low sidelobes," Bell
+Syst. Tech. J. 47 (1968) 623-650 (difference patterns).
+S. M. Sherman and D. K. Barton, *Monopulse Principles and Techniques*, 2nd ed., Artech House,
+2011 (difference slope, normalised monopulse slope).
 """
 
 from __future__ import annotations

@@ -222,6 +222,8 @@ def difference_beam(ctx) -> DifferenceBeam:
     uni = arr.with_taper(np.ones(arr.n))
     p_sum = radiated_power(uni, frequency=f).value
     d_sum = 4 * np.pi * float(intensity(uni, r0, f)) / p_sum
+    ctx.notes.append("difference beam: the beamwidths are those of the difference lobe at "
+                     "the beam axis; its two lobes together are the main lobe")
     make = type(ctx)
     subs = tuple(make(arr, f, ctx.peak, ctx.grating_lobe_db, axis=p) for p in peaks)
     return DifferenceBeam(r0, t, peaks, peak_g, null, g0, slope, rel_db(d_sum), subs)
