@@ -192,3 +192,27 @@ def test_design_file_and_cli_declare_the_beam_kind(tmp_path):
                              "geometry": {"kind": "linear", "count": 4, "spacing": 0.5,
                                           "units": "wavelength"},
                              "analysis": {"beam_kind": "difference"}})
+
+
+def test_beam_table_of_a_difference_taper_is_refused(tmp_path):
+    """Issue 9 item 7 in beam tables: `steradian beams` on a Bayliss x Taylor design printed
+    "peak sidelobe worst 0.00 dB" and a 6 deg pointing error with exit 0 and wrote the
+    files. Beam tables score sum beams only, so the difference table is refused in one line
+    (exit 2) and nothing is written."""
+    p = tmp_path / "d.toml"
+    p.write_text(PANEL.format(analysis="") + """
+[channel]
+phase_bits = 6
+attenuator_step_db = 0.5
+attenuator_span_db = 31.5
+
+[beams]
+grid = "theta_phi"
+theta_deg = [0, 20]
+phi_deg = [0]
+""")
+    out = tmp_path / "table"
+    r = CliRunner().invoke(main, ["beams", str(p), "-o", str(out)])
+    assert r.exit_code == 2 and "Traceback" not in r.stderr
+    assert r.stderr.count("\n") == 1 and "difference beam" in r.stderr
+    assert not list(tmp_path.glob("table*"))

@@ -114,13 +114,19 @@ from ..radiation import Peak
 from ..units import DB_FLOOR
 from ..validate import positive
 from ._context import Context
-from ._difference import BEAM_KINDS, check_beam_kind, check_sum_beam
+from ._difference import (
+    BEAM_KINDS,
+    SUM_NULL_DB,
+    check_beam_kind,
+    check_sum_beam,
+    coherent_level_db,
+)
 from ._measures import METRICS, Metric, metric
 from ._results import GratingLobe, Lobe, PatternMetrics, PlaneWidths
 
 __all__ = ["Cut", "principal_cuts", "cut", "DB_FLOOR", "PatternMetrics", "PlaneWidths", "Lobe",
            "GratingLobe", "pattern_metrics", "METRICS", "Metric", "metric", "BEAM_KINDS",
-           "check_sum_beam"]
+           "check_sum_beam", "coherent_level_db", "SUM_NULL_DB"]
 
 
 def pattern_metrics(array, *, frequency: float | None = None, peak: Peak | None = None,

@@ -34,8 +34,8 @@ from ..units import db20
 from ._beam import KSECTION_MINIMUM, arc, ksection, rel_db
 
 __all__ = ["BEAM_KINDS", "SUM_NULL_DB", "DIFFERENCE_NULL_DB", "LOBE_DB", "reference_direction",
-           "boresight_level_db", "check_sum_beam", "check_beam_kind", "DifferenceBeam",
-           "difference_beam"]
+           "coherent_level_db", "boresight_level_db", "check_sum_beam", "check_beam_kind",
+           "DifferenceBeam", "difference_beam"]
 
 SUM_NULL_DB = -20.0
 """A declared sum beam whose excitation puts the array factor at boresight this far below its
@@ -83,14 +83,21 @@ def reference_direction(array) -> np.ndarray:
     return _EZ
 
 
+def coherent_level_db(positions, k: float, weights, directions) -> np.ndarray:
+    r"""Array factor of each beam at its direction relative to its co-phased maximum, in dB:
+    :math:`20\log_{10}(|\sum_n w_{bn} e^{jk\hat r_b\cdot r_n}| / \sum_n|w_{bn}|)`, weights
+    (B, N), directions (B, 3) -> (B,) (0 dB for a sum beam steered there, the floor for an
+    antisymmetric excitation)."""
+    W = np.atleast_2d(np.asarray(weights, complex))
+    r = np.atleast_2d(np.asarray(directions, float))
+    af = np.abs(np.sum(W * np.exp(1j * k * (r @ np.asarray(positions, float).T)), axis=1))
+    return np.asarray(db20(af / np.maximum(np.sum(np.abs(W), axis=1), 1e-300)), float)
+
+
 def boresight_level_db(array) -> float:
-    r"""Array factor at boresight relative to its co-phased maximum, in dB:
-    :math:`20\log_{10}(|\sum_n w_n e^{jk\hat r_0\cdot r_n}| / \sum_n|w_n|)` at the design
-    frequency (0 dB for a sum taper, the floor for an antisymmetric one)."""
-    w = array.weights()
-    r0 = reference_direction(array)
-    af = abs(np.sum(w * np.exp(1j * array.k() * (array.positions @ r0))))
-    return float(db20(af / np.sum(np.abs(w))))
+    """:func:`coherent_level_db` of the array's weights at boresight (design frequency)."""
+    return float(coherent_level_db(array.positions, array.k(), array.weights(),
+                                   reference_direction(array))[0])
 
 
 def check_sum_beam(ctx) -> None:
