@@ -216,3 +216,15 @@ phi_deg = [0]
     assert r.exit_code == 2 and "Traceback" not in r.stderr
     assert r.stderr.count("\n") == 1 and "difference beam" in r.stderr
     assert not list(tmp_path.glob("table*"))
+
+
+def test_difference_null_squints_off_frequency_like_a_phase_steered_beam():
+    """Phase steering off the design frequency moves the difference null to
+    sin(theta) = sin(theta_0) f_0 / f, as it moves a sum beam (Mailloux, Phased Array Antenna
+    Handbook, 3rd ed., 2018, ch. 1: beam squint); the pointing error of a difference beam is
+    that of its null, and the null depth at the commanded direction becomes shallow."""
+    arr = _line(tapers.bayliss(32, 5, 30.0), 30.0)
+    m = pattern_metrics(arr, frequency=1.1 * F, beam_kind="difference_az")
+    squint = 30.0 - np.rad2deg(np.arcsin(np.sin(np.deg2rad(30.0)) / 1.1))
+    assert m.pointing_error_deg == pytest.approx(squint, abs=1e-6)
+    assert m.boresight_null_db > -20

@@ -33,17 +33,14 @@ from ..sphere import pointwise, refine_maxima
 from ..units import db20
 from ._beam import KSECTION_MINIMUM, arc, ksection, rel_db
 
-__all__ = ["BEAM_KINDS", "SUM_NULL_DB", "DIFFERENCE_NULL_DB", "LOBE_DB", "reference_direction",
+__all__ = ["BEAM_KINDS", "SUM_NULL_DB", "LOBE_DB", "reference_direction",
            "coherent_level_db", "boresight_level_db", "check_sum_beam", "check_beam_kind",
            "DifferenceBeam", "difference_beam"]
 
 SUM_NULL_DB = -20.0
 """A declared sum beam whose excitation puts the array factor at boresight this far below its
-co-phased maximum, with the pattern peak within a null width of boresight, is refused."""
-
-DIFFERENCE_NULL_DB = -10.0
-"""A declared difference beam must be at least this far below its difference peak at
-boresight (else it is not a difference beam)."""
+co-phased maximum, with the pattern peak within a null width of boresight, is refused; a
+declared difference beam must reach it."""
 
 LOBE_DB = -10.0
 """Each difference lobe (the first maximum beside boresight along the difference axis) must
@@ -160,14 +157,18 @@ class DifferenceBeam:
         return _Union([p[0] for p in parts]), parts[0][1] + parts[1][1], model, key
 
 
-def _first_rise(g, r0, t, h):
-    """Direction of the first local maximum of ``g`` along the great circle from ``r0``
-    toward ``t`` (sampled every ``h`` up to pi/2), or of the largest sample."""
-    rho = np.arange(1, int(np.ceil(0.5 * np.pi / h)) + 1) * h
+def _lobe_starts(g, r0, t, h, span):
+    """The two highest local maxima of ``g`` on the great circle through ``r0`` along ``t``,
+    sampled every ``h`` within ``span`` either side: (signed arc angles (2,), directions
+    (2, 3), values (2,)), the larger angle first; None when there are fewer than two."""
+    n = int(np.ceil(span / h))
+    rho = np.arange(-n, n + 1) * h
     vals = g(arc(r0, np.broadcast_to(t, (len(rho), 3)), rho))
-    i = next((i for i in range(len(vals) - 1) if vals[i] > 0 and vals[i] >= vals[i + 1]),
-             int(np.argmax(vals)))
-    return arc(r0, t[None, :], rho[i:i + 1])[0]
+    i = np.flatnonzero((vals[1:-1] > vals[:-2]) & (vals[1:-1] >= vals[2:])) + 1
+    if len(i) < 2:
+        return None
+    top = np.sort(i[np.argsort(vals[i])[-2:]])[::-1]
+    return rho[top], arc(r0, np.broadcast_to(t, (2, 3)), rho[top]), vals[top]
 
 
 def _field_slope(g_abs, r0, t, delta):
@@ -192,30 +193,29 @@ def difference_beam(ctx) -> DifferenceBeam:
         raise SteradianError(f"beam_kind {ctx.beam_kind!r}: boresight is along the difference "
                              "axis; no difference pattern to measure")
     t /= np.linalg.norm(t)
-    g = ctx.beam.g
-    starts = np.array([_first_rise(g, r0, t, ctx.h), _first_rise(g, r0, -t, ctx.h)])
-    g_start = g(starts)
-    if g_start.min() < 10 ** (LOBE_DB / 10):
-        raise SteradianError(
-            f"beam_kind {ctx.beam_kind!r}, but the pattern has no difference lobe along "
-            f"{'x' if ctx.beam_kind == 'difference_az' else 'y'}: the first maximum beside "
-            f"boresight is {-rel_db(g_start.min()):.1f} dB below the pattern's peak (is the "
-            "difference taken in the other plane?)")
-    # A line's pattern is a cone about its axis: refine on the great circle through boresight.
-    line = _axes(arr).dimension == 1
-    peaks, peak_g = refine_maxima(pointwise(g), starts, ctx.h,
-                                  normal=np.cross(r0, t) if line else None)
-    g0 = float(g(r0[None, :])[0])
-    if not g0 <= 10 ** (DIFFERENCE_NULL_DB / 10) * peak_g.max():
+    if boresight_level_db(arr) > SUM_NULL_DB:
         th, ph = angles_deg(r0)
         raise SteradianError(
-            f"beam_kind {ctx.beam_kind!r}, but the pattern has no boresight null: "
-            f"{rel_db(g0 / peak_g.max()):.1f} dB at theta {th:.2f}, phi {ph:.2f} deg relative "
-            "to the difference lobes (is the excitation antisymmetric about the "
+            f"beam_kind {ctx.beam_kind!r}, but the excitation has no boresight null: "
+            f"{boresight_level_db(arr):.1f} dB at theta {th:.2f}, phi {ph:.2f} deg relative to "
+            "its co-phased sum (is it antisymmetric about the "
             f"{'y-z' if ctx.beam_kind == 'difference_az' else 'x-z'} plane?)")
+    g = ctx.beam.g
+    found = _lobe_starts(g, r0, t, ctx.h, min(4 * np.pi / ctx.kr, 0.5 * np.pi))
+    if found is None or found[2].min() < 10 ** (LOBE_DB / 10):
+        raise SteradianError(
+            f"beam_kind {ctx.beam_kind!r}, but the pattern has no difference lobe along "
+            f"{'x' if ctx.beam_kind == 'difference_az' else 'y'}: the second maximum beside "
+            "boresight is "
+            + ("missing" if found is None else f"{-rel_db(found[2].min()):.1f} dB below the "
+               "pattern's peak") + " (is the difference taken in the other plane?)")
+    # A line's pattern is a cone about its axis: refine on the great circle through boresight.
+    line = _axes(arr).dimension == 1
+    peaks, peak_g = refine_maxima(pointwise(g), found[1], ctx.h,
+                                  normal=np.cross(r0, t) if line else None)
     # The null between the lobes: k-section minimisation along the great circle through them.
-    lo = -np.arccos(np.clip(peaks[1] @ r0, -1, 1))
-    hi = np.arccos(np.clip(peaks[0] @ r0, -1, 1))
+    hi, lo = (np.sign(rho) * np.arccos(np.clip(p @ r0, -1, 1))
+              for rho, p in zip(found[0], peaks, strict=True))
     s = ksection(lambda act, x: g(arc(r0, t[None, :], x)), [lo], [hi], [KSECTION_MINIMUM])[0]
     null = arc(r0, t[None, :], np.array([s]))[0]
     power = ctx.peak.power.value
@@ -224,13 +224,16 @@ def difference_beam(ctx) -> DifferenceBeam:
     def g_abs(v):  # directivity
         return 4 * np.pi * u0 * g(v) / power
 
-    delta = 0.02 * min(hi, -lo)
-    slope = _field_slope(g_abs, r0, t, delta)
+    # Slopes at the null (boresight at the design frequency; squinted off it).
+    delta = 0.02 * min(hi - s, s - lo)
+    t_null = t * np.cos(s) - r0 * np.sin(s)  # the arc's tangent at the null
+    slope = _field_slope(g_abs, null, t_null, delta)
     uni = arr.with_taper(np.ones(arr.n))
     p_sum = radiated_power(uni, frequency=f).value
-    d_sum = 4 * np.pi * float(intensity(uni, r0, f)) / p_sum
+    d_sum = 4 * np.pi * float(intensity(uni, null, f)) / p_sum
     ctx.notes.append("difference beam: the beamwidths are those of the difference lobe at "
                      "the beam axis; its two lobes together are the main lobe")
     make = type(ctx)
     subs = tuple(make(arr, f, ctx.peak, ctx.grating_lobe_db, axis=p) for p in peaks)
+    g0 = float(g(r0[None, :])[0])
     return DifferenceBeam(r0, t, peaks, peak_g, null, g0, slope, rel_db(d_sum), subs)
