@@ -70,24 +70,27 @@ cuts as in :mod:`steradian.patterns`:
   :math:`\hat r_b`, :math:`|\sum_n w_n e^{jk\hat r_b\cdot r_n}|`, is 20 dB or more below
   :math:`\sum_n|w_n|` and the beam axis lies within a null width :math:`2\pi/kR` of
   :math:`\hat r_b` (its "sidelobe" would be its twin lobe at 0 dB).
-- **Difference lobes**: from :math:`\hat r_b` along the great circle in the difference axis'
-  tangent direction :math:`\hat t` (both ways) the first local maximum, refined by the lobe
-  search (on that great circle for a line). Each lobe must be within 10 dB of the pattern's
-  peak, and :math:`U(\hat r_b)` 10 dB or more below the higher lobe, else the declared kind is
-  refused. The **main lobe** of a difference beam is the union of the main lobes (as above)
-  about both difference lobes; PSL, ISLR and grating lobes found use it.
+- **Difference lobes**: the two highest local maxima of U on the great circle through
+  :math:`\hat r_b` along the difference axis' tangent :math:`\hat t`, sampled within two null
+  widths either side, refined by the lobe search (on that great circle for a line). A
+  declared difference beam is refused when its excitation has no boresight null (the array
+  factor test above above -20 dB) or a lobe is more than 10 dB below the pattern's peak (the
+  difference is in the other plane). The **main lobe** of a difference beam is the union of
+  the main lobes (as above) about both difference lobes; PSL, ISLR and grating lobes found
+  use it.
 - **Boresight null depth**: :math:`10\log_{10}(U(\hat r_b)/U_\Delta)`, :math:`U_\Delta` the
   higher difference lobe; **difference peak**: its directivity; **difference sidelobe
-  level**: the highest lobe outside the main lobe relative to :math:`U_\Delta`. **Pointing
-  error** of a difference beam: the angle between the null (k-section minimum between the
-  lobes) and the steering direction.
-- **Difference slope**: :math:`s = d|E_\Delta|/d\rho` at :math:`\hat r_b` along
-  :math:`\hat t`, :math:`|E_\Delta| = \sqrt{D_\Delta}` the field normalised to directivity,
-  per degree, from :math:`(|E(\delta)| + |E(-\delta)|)/2\delta` (exact for a field linear
-  through a null within :math:`\delta`) at :math:`\delta` and :math:`2\delta` with Richardson
-  extrapolation. For isotropic elements on a half-wave line it is
-  :math:`k|\sum_n w_n x_n|\cos\theta_0/\sqrt{\sum_n|w_n|^2}` per radian (the aperture's first
-  moment). **Monopulse slope**: :math:`s/\sqrt{D_\Sigma(\hat r_b)}`, the slope of
+  level**: the highest lobe outside the main lobe relative to :math:`U_\Delta`. The *null*
+  is the k-section minimum of U between the lobes; the **pointing error** of a difference
+  beam is its angle from the steering direction (it squints off-frequency as a sum beam
+  does).
+- **Difference slope**: :math:`s = d|E_\Delta|/d\rho` at the null along the great circle
+  through the lobes, :math:`|E_\Delta| = \sqrt{D_\Delta}` the field normalised to
+  directivity, per degree, from :math:`(|E(\delta)| + |E(-\delta)|)/2\delta` (exact for a
+  field linear through the null) at :math:`\delta` and :math:`2\delta` with Richardson
+  extrapolation. For isotropic elements on a half-wave line steered to :math:`\theta_0` it
+  is :math:`k|\sum_n w_n x_n|\cos\theta_0/\sqrt{\sum_n|w_n|^2}` per radian (the aperture's
+  first moment). **Monopulse slope**: :math:`s/\sqrt{D_\Sigma}` at the null, the slope of
   :math:`\Delta/\Sigma` with both patterns normalised to directivity, :math:`\Sigma` the
   uniform-amplitude beam of the same enabled elements and steering (Sherman and Barton).
 
