@@ -228,3 +228,14 @@ def test_difference_null_squints_off_frequency_like_a_phase_steered_beam():
     squint = 30.0 - np.rad2deg(np.arcsin(np.sin(np.deg2rad(30.0)) / 1.1))
     assert m.pointing_error_deg == pytest.approx(squint, abs=1e-6)
     assert m.boresight_null_db > -20
+
+
+def test_pattern_plot_of_a_declared_difference_beam(tmp_path):
+    """The principal-cut PNG annotates the declared kind's sidelobe level: `steradian
+    pattern --png` on a design with [analysis] beam_kind = "difference_az" runs (it
+    measured the beam as a sum beam and was refused)."""
+    p = tmp_path / "d.toml"
+    p.write_text(PANEL.format(analysis='[analysis]\nbeam_kind = "difference_az"'))
+    r = CliRunner().invoke(main, ["pattern", str(p), "--png", str(tmp_path / "c.png")])
+    assert r.exit_code == 0, r.stderr
+    assert (tmp_path / "c.png").stat().st_size > 0
