@@ -239,3 +239,22 @@ def test_pattern_plot_of_a_declared_difference_beam(tmp_path):
     r = CliRunner().invoke(main, ["pattern", str(p), "--png", str(tmp_path / "c.png")])
     assert r.exit_code == 0, r.stderr
     assert (tmp_path / "c.png").stat().st_size > 0
+
+
+def test_circular_bayliss_in_both_planes():
+    """Bayliss's circular difference distribution (Bayliss 1968, section on circular
+    apertures) cos(phi - phi_0) g(rho): phi_0 = 0 is an azimuth difference, phi_0 = 90 deg an
+    elevation one with the same figures on a layout symmetric under the 90 deg turn; an
+    exact boresight null, and the wrong plane is refused."""
+    g = st.rectangular(16, 16, 0.5)
+    keep = np.hypot(g.positions[:, 0], g.positions[:, 1]) <= 4.0
+    circ = st.Geometry(g.positions[keep])
+    m_az = pattern_metrics(st.Array(circ, F, taper=tapers.bayliss_circular(circ, 5, 30.0)),
+                           beam_kind="difference_az")
+    el = st.Array(circ, F, taper=tapers.bayliss_circular(circ, 5, 30.0, phi_deg=90.0))
+    m_el = pattern_metrics(el, beam_kind="difference_el")
+    assert m_az.boresight_null_db < -100 and m_el.boresight_null_db < -100
+    for key in ("difference_peak_dbi", "difference_sidelobe_db", "monopulse_slope_per_deg"):
+        assert getattr(m_el, key) == pytest.approx(getattr(m_az, key), rel=1e-6, abs=1e-6)
+    with pytest.raises(SteradianError, match="no difference lobe along x"):
+        pattern_metrics(el, beam_kind="difference_az")

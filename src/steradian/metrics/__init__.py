@@ -69,7 +69,8 @@ cuts as in :mod:`steradian.patterns`:
   **sum** beam is refused when its excitation is a difference: the array factor at
   :math:`\hat r_b`, :math:`|\sum_n w_n e^{jk\hat r_b\cdot r_n}|`, is 20 dB or more below
   :math:`\sum_n|w_n|` and the beam axis lies within a null width :math:`2\pi/kR` of
-  :math:`\hat r_b` (its "sidelobe" would be its twin lobe at 0 dB).
+  :math:`\hat r_b` (its "sidelobe" would be its twin lobe at 0 dB); an unsteered
+  three-dimensional array has no boresight and is not checked.
 - **Difference lobes**: the two highest local maxima of U on the great circle through
   :math:`\hat r_b` along the difference axis' tangent :math:`\hat t`, sampled within two null
   widths either side, refined by the lobe search (on that great circle for a line). A

@@ -100,7 +100,10 @@ def boresight_level_db(array) -> float:
 def check_sum_beam(ctx) -> None:
     """Refuse a declared sum beam whose excitation is a difference: a boresight array factor
     :data:`SUM_NULL_DB` or more below its co-phased maximum, with the pattern peak within a
-    null width (2 pi / kR) of boresight."""
+    null width (2 pi / kR) of boresight. An unsteered three-dimensional array has no
+    boresight and is not checked."""
+    if ctx.array.steering is None and _axes(ctx.array).dimension == 3:
+        return
     level = boresight_level_db(ctx.array)
     r0 = reference_direction(ctx.array)
     near = np.deg2rad(angle_between_deg(ctx.r0, r0)) < 2 * np.pi / ctx.kr
