@@ -139,7 +139,7 @@ def analyze(array, options: AnalysisOptions | None = None) -> Analysis:
     if opt.metrics:
         from .metrics import pattern_metrics
 
-        metrics = pattern_metrics(array, frequency=f, peak=pk)
+        metrics = pattern_metrics(array, frequency=f, peak=pk, beam_kind=opt.beam_kind)
     freq = array.frequency if f is None else f
     return Analysis(
         n_elements=array.n,

@@ -9,7 +9,11 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-__all__ = ["AnalysisOptions"]
+__all__ = ["AnalysisOptions", "BEAM_KINDS"]
+
+BEAM_KINDS = ("sum", "difference_az", "difference_el")
+"""Beam kinds: a sum beam, or a difference beam antisymmetric about the y-z plane (azimuth)
+or the x-z plane (elevation); see :mod:`steradian.metrics`."""
 
 
 @dataclass(frozen=True)
@@ -28,6 +32,9 @@ class AnalysisOptions:
         Transmit power per element channel at full amplitude (W), for EIRP.
     metrics : bool
         Compute beamwidths, sidelobes, grating lobes (slower than directivity alone).
+    beam_kind : {"sum", "difference_az", "difference_el"}
+        What the excitation forms (:data:`BEAM_KINDS`): difference beams get difference
+        metrics, and a sum beam whose excitation is a difference is refused.
     """
 
     frequency: float | None = None
@@ -36,3 +43,4 @@ class AnalysisOptions:
     return_loss_db: float | None = None
     element_power_w: float | None = None
     metrics: bool = True
+    beam_kind: str = "sum"

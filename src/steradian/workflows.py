@@ -152,7 +152,8 @@ def design_with_weights(design, path):
 def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_png_path=None,
                     uv_points: int = 201, span_deg: float = 90.0,
                     frequency: float | None = None, meta: dict | None = None,
-                    title: str | None = None, metrics: dict | None = None) -> dict:
+                    title: str | None = None, metrics: dict | None = None,
+                    beam_kind: str = "sum") -> dict:
     """Compute the principal cuts and/or the u-v map of ``array`` and write the files asked.
 
     Parameters
@@ -178,6 +179,8 @@ def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_pn
         ``PatternMetrics.to_dict()`` of this array at ``frequency`` (e.g. the ``metrics``
         block of :func:`analyze_design`) for the plot annotations; computed with
         :func:`steradian.metrics.pattern_metrics` when omitted and ``png_path`` is given.
+    beam_kind : str
+        The beam's kind for those metrics (a design's ``[analysis] beam_kind``).
 
     Returns
     -------
@@ -200,7 +203,7 @@ def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_pn
             write_cuts(cuts_path, cuts, m)
             written.append(str(cuts_path))
         if png_path is not None:
-            _plot_cuts(array, cuts, png_path, frequency, pk, title, metrics)
+            _plot_cuts(array, cuts, png_path, frequency, pk, title, metrics, beam_kind)
             written.append(str(png_path))
     if uv_path is not None or uv_png_path is not None:
         uvm = uv_map(array, uv_points, frequency=frequency, power=power)
@@ -218,14 +221,15 @@ def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_pn
             "peak_phi_deg": pk.phi_deg, "files": written}
 
 
-def _plot_cuts(array, cuts, path, frequency, pk, title, metrics) -> None:
+def _plot_cuts(array, cuts, path, frequency, pk, title, metrics, beam_kind="sum") -> None:
     """The principal-cut PNG, annotated with both half-power beamwidths and the PSL."""
     from .plots import plot_cuts
 
     if metrics is None:
         from .metrics import pattern_metrics
 
-        metrics = pattern_metrics(array, frequency=frequency, peak=pk).to_dict()
+        metrics = pattern_metrics(array, frequency=frequency, peak=pk,
+                                  beam_kind=beam_kind).to_dict()
     hp = metrics.get("hpbw_deg") or {}
     plot_cuts(cuts, path, hpbw_deg=[hp.get("phi_plane"), hp.get("cross_plane")],
               psl_db=metrics.get("psl_db"),

@@ -19,6 +19,7 @@ from ..elements import Isotropic
 from ..engine import MEMORY_BUDGET, response_matrix
 from ..errors import SteradianError
 from ..geometry import principal_axes
+from ..metrics import SUM_NULL_DB, coherent_level_db
 from ..radiation import power_matrix
 from ..sphere import SearchSet, refine_best, refine_maxima
 from ..units import db10, wrap_deg
@@ -355,6 +356,23 @@ class BeamEvaluator:
             self._cache[key] = (d0, psl0, pe0)
         return self._cache[key]
 
+    def _refuse_difference(self, W, d, steer, peak) -> None:
+        """Refuse a beam whose weights form a difference beam (sum-beam metrics would score
+        its twin lobe as a 0 dB sidelobe): array factor at the commanded direction
+        :data:`~steradian.metrics.SUM_NULL_DB` or more below its co-phased sum, with the peak
+        within a null width of it (as :func:`steradian.metrics.check_sum_beam`)."""
+        lvl = coherent_level_db(self.array.positions, self.array.k(), W, steer)
+        near = self.pointing_error_deg(peak, steer) < np.rad2deg(
+            2 * np.pi / max(self.array.electrical_radius(), 1.0))
+        bad = np.flatnonzero((lvl <= SUM_NULL_DB) & near)
+        if len(bad):
+            b = int(bad[0])
+            raise SteradianError(
+                f"the beam at theta {d[b, 0]:g}, phi {d[b, 1]:g} deg has a boresight null "
+                f"({lvl[b]:.1f} dB): its weights form a difference beam, and beam tables "
+                "score sum beams only (its twin lobe would be a 0 dB sidelobe); difference-"
+                "beam tables are not supported yet")
+
     def pointing_error_deg(self, peak, steer) -> np.ndarray:
         """Angle between refined peaks and commanded directions (cone angle if collinear)."""
         s = self._steer_start(steer) if self.mirror else np.asarray(steer, float)
@@ -396,6 +414,7 @@ class BeamEvaluator:
         if np.any(P <= 0):
             raise SteradianError(f"beam {int(np.flatnonzero(P <= 0)[0])} radiates no power")
         I, peak, ipk = self._beam_peaks(W, steer)
+        self._refuse_difference(W if ideal is None else ideal, d, steer, peak)
         side = self._sidelobe(I, W, peak)
         D = 4 * np.pi * ipk / P
         nan = np.full(B, np.nan)

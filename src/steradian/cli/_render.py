@@ -119,9 +119,24 @@ def metric_rows(m: dict) -> list[tuple[str, str]]:
     fb = m["front_to_back_db"]
     rows.append(("front-to-back", f"{fb:.2f} dB" if fb < 299.99 else "no radiation behind"))
     rows.append(("scan loss", f"{m['scan_loss_db']:.3f} dB"))
+    rows += difference_rows(m)
     for note in m.get("notes") or []:
         rows.append(("note", str(note)))
     return rows
+
+
+def difference_rows(m: dict) -> list[tuple[str, str]]:
+    """Rows of a difference beam's metrics (none for a sum beam)."""
+    if m.get("beam_kind", "sum") == "sum":
+        return []
+    return [("beam kind", m["beam_kind"]),
+            ("boresight null",
+             f"{m['boresight_null_db']:.2f} dB relative to the difference peak"),
+            ("difference peak", f"{m['difference_peak_dbi']:.3f} dBi"),
+            ("difference SLL", "none found" if m["difference_sidelobe_db"] is None
+             else f"{m['difference_sidelobe_db']:.2f} dB"),
+            ("monopulse slope", f"{m['monopulse_slope_per_deg']:.4f} /deg (difference slope "
+             f"{m['difference_slope_per_deg']:.4f} sqrt(D)/deg)")]
 
 
 def _design_rows(s: dict) -> list[tuple[str, str]]:

@@ -45,7 +45,7 @@ def pattern(design_file, cuts_path, uv_path, uv_points, png_path, uv_png_path, s
     res = export_patterns(design.array, cuts_path=cuts_path, uv_path=uv_path,
                           png_path=png_path, uv_png_path=uv_png_path, uv_points=uv_points,
                           span_deg=span_deg, frequency=f, meta={"design": design.name},
-                          title=design.name)
+                          title=design.name, beam_kind=design.options.beam_kind)
     if as_json:
         emit_json(res)
     else:

@@ -35,7 +35,7 @@ from ..elements import ELEMENT_MODELS, Element
 from ..errors import DesignError, FileFormatError, SteradianError, suggest
 from ..geometry import LATTICE_KINDS, Geometry, rotation_to
 from ..schema import Section, type_name
-from ..settings import AnalysisOptions
+from ..settings import BEAM_KINDS, AnalysisOptions
 from ..units import C0
 from .element_table import read_element_table
 
@@ -362,7 +362,7 @@ def _steering(t: Section | None) -> Steering | None:
 
 
 _ANALYSIS_KEYS = ("frequency_hz", "radiation_efficiency", "vswr", "return_loss_db",
-                  "element_power_w", "metrics")
+                  "element_power_w", "metrics", "beam_kind")
 
 
 def _analysis(t: Section | None) -> AnalysisOptions:
@@ -379,6 +379,7 @@ def _analysis(t: Section | None) -> AnalysisOptions:
         return_loss_db=t.number("return_loss_db", None, above=0),
         element_power_w=t.number("element_power_w", None, above=0),
         metrics=t.boolean("metrics", True),
+        beam_kind=t.string("beam_kind", "sum", choices=BEAM_KINDS),
     )
 
 

@@ -1,4 +1,5 @@
-r"""Pattern metrics: beamwidths, sidelobes, grating lobes, pointing, front-to-back, scan loss.
+r"""Pattern metrics: beamwidths, sidelobes, grating lobes, pointing, front-to-back, scan loss,
+and the difference (monopulse) beam's null, lobes and slope.
 
 Every pattern value comes from :func:`steradian.engine.field`. Angles are in degrees, levels
 in dB, floored at :data:`DB_FLOOR` so reports never hold NaN or infinity. Crossings and nulls
@@ -60,6 +61,39 @@ cuts as in :mod:`steradian.patterns`:
   Both are capped at -DB_FLOOR (300 dB) when the rear is dark.
 - **Scan loss**: peak directivity of the array minus that of the same array with its
   steering removed, in dB (negative when steering costs directivity; 0 when unsteered).
+- **Beam kind** (``beam_kind``): ``"sum"``, ``"difference_az"`` (excitation antisymmetric
+  about the y-z plane through the array centre: the difference axis is x) or
+  ``"difference_el"`` (about the x-z plane: the axis is y); for a collinear array the axis is
+  the line's. *Boresight* :math:`\hat r_b` is the steering direction, else broadside (the
+  +z-side normal of a planar array; the perpendicular of a line nearest +z). A declared
+  **sum** beam is refused when its excitation is a difference: the array factor at
+  :math:`\hat r_b`, :math:`|\sum_n w_n e^{jk\hat r_b\cdot r_n}|`, is 20 dB or more below
+  :math:`\sum_n|w_n|` and the beam axis lies within a null width :math:`2\pi/kR` of
+  :math:`\hat r_b` (its "sidelobe" would be its twin lobe at 0 dB); an unsteered
+  three-dimensional array has no boresight and is not checked.
+- **Difference lobes**: the two highest local maxima of U on the great circle through
+  :math:`\hat r_b` along the difference axis' tangent :math:`\hat t`, sampled within two null
+  widths either side, refined by the lobe search (on that great circle for a line). A
+  declared difference beam is refused when its excitation has no boresight null (the array
+  factor test above above -20 dB) or a lobe is more than 10 dB below the pattern's peak (the
+  difference is in the other plane). The **main lobe** of a difference beam is the union of
+  the main lobes (as above) about both difference lobes; PSL, ISLR and grating lobes found
+  use it.
+- **Boresight null depth**: :math:`10\log_{10}(U(\hat r_b)/U_\Delta)`, :math:`U_\Delta` the
+  higher difference lobe; **difference peak**: its directivity; **difference sidelobe
+  level**: the highest lobe outside the main lobe relative to :math:`U_\Delta`. The *null*
+  is the k-section minimum of U between the lobes; the **pointing error** of a difference
+  beam is its angle from the steering direction (it squints off-frequency as a sum beam
+  does).
+- **Difference slope**: :math:`s = d|E_\Delta|/d\rho` at the null along the great circle
+  through the lobes, :math:`|E_\Delta| = \sqrt{D_\Delta}` the field normalised to
+  directivity, per degree, from :math:`(|E(\delta)| + |E(-\delta)|)/2\delta` (exact for a
+  field linear through the null) at :math:`\delta` and :math:`2\delta` with Richardson
+  extrapolation. For isotropic elements on a half-wave line steered to :math:`\theta_0` it
+  is :math:`k|\sum_n w_n x_n|\cos\theta_0/\sqrt{\sum_n|w_n|^2}` per radian (the aperture's
+  first moment). **Monopulse slope**: :math:`s/\sqrt{D_\Sigma}` at the null, the slope of
+  :math:`\Delta/\Sigma` with both patterns normalised to directivity, :math:`\Sigma` the
+  uniform-amplitude beam of the same enabled elements and steering (Sherman and Barton).
 
 References
 ----------
@@ -70,6 +104,10 @@ R. J. Mailloux, *Phased Array Antenna Handbook*, 3rd ed., Artech House, 2018, ch
 R. C. Hansen, *Phased Array Antennas*, 2nd ed., Wiley, 2009, ch. 2-3 (beamwidth, sidelobes,
 integrated sidelobe ratio).
 C. A. Balanis, *Antenna Theory: Analysis and Design*, 4th ed., Wiley, 2016, ch. 2 and 6.
+E. T. Bayliss, "Design of monopulse antenna difference patterns with low sidelobes," Bell
+Syst. Tech. J. 47 (1968) 623-650 (difference patterns).
+S. M. Sherman and D. K. Barton, *Monopulse Principles and Techniques*, 2nd ed., Artech House,
+2011 (difference slope, normalised monopulse slope).
 """
 
 from __future__ import annotations
@@ -80,16 +118,23 @@ from ..radiation import Peak
 from ..units import DB_FLOOR
 from ..validate import positive
 from ._context import Context, require_metrics_search
+from ._difference import (
+    BEAM_KINDS,
+    SUM_NULL_DB,
+    check_beam_kind,
+    check_sum_beam,
+    coherent_level_db,
+)
 from ._measures import METRICS, Metric, metric
 from ._results import GratingLobe, Lobe, PatternMetrics, PlaneWidths
 
 __all__ = ["Cut", "principal_cuts", "cut", "DB_FLOOR", "PatternMetrics", "PlaneWidths", "Lobe",
-           "GratingLobe", "pattern_metrics", "METRICS", "Metric", "metric",
-           "require_metrics_search"]
+           "GratingLobe", "pattern_metrics", "METRICS", "Metric", "metric", "BEAM_KINDS",
+           "check_sum_beam", "coherent_level_db", "SUM_NULL_DB", "require_metrics_search"]
 
 
 def pattern_metrics(array, *, frequency: float | None = None, peak: Peak | None = None,
-                    grating_lobe_db: float = 3.0) -> PatternMetrics:
+                    grating_lobe_db: float = 3.0, beam_kind: str = "sum") -> PatternMetrics:
     """Beamwidths, sidelobes, grating lobes, pointing, front-to-back and scan loss of a beam.
 
     Parameters
@@ -110,9 +155,17 @@ def pattern_metrics(array, *, frequency: float | None = None, peak: Peak | None 
     PatternMetrics
         Every registered metric (:data:`METRICS`) of the beam; the definitions are in
         :mod:`steradian.metrics`.
+
+    Raises
+    ------
+    SteradianError
+        For a sum beam whose excitation is a difference (see :func:`check_sum_beam`), and a
+        difference beam without a boresight null.
     """
     grating_lobe_db = positive("grating_lobe_db", grating_lobe_db, " dB")
-    ctx = Context(array, frequency, peak, grating_lobe_db)
+    ctx = Context(array, frequency, peak, grating_lobe_db, check_beam_kind(beam_kind))
+    if beam_kind == "sum":
+        check_sum_beam(ctx)
     values: dict = {}
     for m in METRICS:
         out = m.compute(ctx)

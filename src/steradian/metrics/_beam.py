@@ -16,7 +16,7 @@ from ..units import db10
 from ._results import Lobe, PlaneWidths
 
 __all__ = ["N_RADIALS", "Beam", "RadialLobe", "BandLobe", "arc", "rel_db", "plane_widths",
-           "ksection"]
+           "ksection", "KSECTION_MINIMUM"]
 
 N_RADIALS = 96
 """Radials for the main-lobe boundary (a multiple of 4: the principal cuts are four of them)."""
@@ -37,6 +37,8 @@ def arc(r0, tangents, rho):
 
 
 _HALF, _EDGE, _MIN = 0, 1, 2  # refinement kinds: half-power root, zero edge, minimum
+KSECTION_MINIMUM = _MIN
+"""The :func:`ksection` kind that brackets a minimum."""
 
 
 def ksection(fun, a, b, kind, k: int = 8, tol: float = 1e-13, iters: int = 40):

@@ -14,6 +14,7 @@ from ..patterns import beam_axis, resolve_peak, symmetry
 from ..radiation import search_spacing
 from ..sphere import SearchSet, pointwise, refine_maxima, require_search
 from ._beam import N_RADIALS, BandLobe, Beam, RadialLobe, arc
+from ._difference import difference_beam
 
 __all__ = ["Context", "SEARCH_PER_NULL", "N_REFINE", "require_metrics_search"]
 
@@ -28,12 +29,15 @@ N_REFINE = 16
 class Context:
     """One beam of ``array`` at ``frequency`` and the work its metrics share."""
 
-    def __init__(self, array, frequency, peak, grating_lobe_db: float):
+    def __init__(self, array, frequency, peak, grating_lobe_db: float, beam_kind: str = "sum",
+                 axis=None):
         self.array = array
         self.frequency = frequency
         self.grating_lobe_db = grating_lobe_db
+        self.beam_kind = beam_kind
         self.peak = resolve_peak(array, frequency, peak)
-        self.r0 = beam_axis(array, self.peak, frequency)
+        self.r0 = (beam_axis(array, self.peak, frequency) if axis is None
+                   else np.asarray(axis, float))
         self.beam = Beam(array, frequency, self.r0, self.peak.power.value)
         self.kr = max(array.electrical_radius(frequency), 1.0)
         self.h = 2 * np.pi / self.kr / 16  # radial march: 16 samples per null width
@@ -52,10 +56,23 @@ class Context:
         return b.march(T, self.h, np.pi)
 
     @cached_property
+    def difference(self):
+        """The difference beam's lobes, null and slope (:class:`DifferenceBeam`), None for a
+        sum beam."""
+        return None if self.beam_kind == "sum" else difference_beam(self)
+
+    @cached_property
     def main_lobe(self):
         """(model, main-lobe power, name, key): ``key`` maps a direction to the one that
         represents its lobe (a cone's point in the plane of the beam and array axes; the
-        front image of a mirror lobe)."""
+        front image of a mirror lobe). For a difference beam the main lobe is the union of
+        its two difference lobes (each bounded by its first nulls, the boresight null one of
+        them)."""
+        if self.difference is not None:
+            return self.difference.main_lobe(self._sum_main_lobe()[3])
+        return self._sum_main_lobe()
+
+    def _sum_main_lobe(self):
         kind, vec = self.symmetry
         if kind == "band":
             return self._band(vec)

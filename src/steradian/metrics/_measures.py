@@ -10,6 +10,8 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import dataclass
 
+import numpy as np
+
 from ..directions import angle_between_deg, angles_deg
 from ..radiation import peak_directivity
 from ._beam import N_RADIALS, plane_widths, rel_db
@@ -98,10 +100,39 @@ def grating_lobes(ctx: Context) -> dict:
 
 @metric("pointing", "pointing_error_deg")
 def pointing(ctx: Context) -> dict:
-    """Angle between the beam axis and the steering direction (None when unsteered)."""
+    """Angle between the beam axis (a difference beam's null) and the steering direction
+    (None when unsteered)."""
     st = ctx.array.steering
+    axis = ctx.r0 if ctx.difference is None else ctx.difference.null
     return {"pointing_error_deg": None if st is None
-            else float(angle_between_deg(ctx.r0, st.unit))}
+            else float(angle_between_deg(axis, st.unit))}
+
+
+@metric("difference", "beam_kind", "boresight_null_db", "difference_peak_dbi",
+        "difference_lobes", "difference_sidelobe_db", "difference_slope_per_deg",
+        "monopulse_slope_per_deg")
+def difference(ctx: Context) -> dict:
+    """Boresight null depth, the two difference lobes, the difference sidelobe level and the
+    difference and monopulse slopes (None for a sum beam)."""
+    d = ctx.difference
+    out = {"beam_kind": ctx.beam_kind, "boresight_null_db": None,
+           "difference_peak_dbi": None, "difference_lobes": (),
+           "difference_sidelobe_db": None, "difference_slope_per_deg": None,
+           "monopulse_slope_per_deg": None}
+    if d is None:
+        return out
+    g_pk = float(d.peak_g.max())
+    side = ctx.outside
+    per_deg = np.pi / 180.0
+    out.update(
+        boresight_null_db=rel_db(d.boresight_g / g_pk),
+        difference_peak_dbi=ctx.beam.dbi(g_pk),
+        difference_lobes=tuple(ctx.beam.lobe(p, gv) for p, gv in zip(d.peaks, d.peak_g,
+                                                                       strict=True)),
+        difference_sidelobe_db=rel_db(side[0][1] / g_pk) if side else None,
+        difference_slope_per_deg=d.slope_per_rad * per_deg,
+        monopulse_slope_per_deg=d.slope_per_rad * per_deg / 10 ** (d.sum_reference_dbi / 20))
+    return out
 
 
 @metric("front_to_back", "front_to_back_db", "front_to_back_hemisphere_db")

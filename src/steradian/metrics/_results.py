@@ -125,6 +125,13 @@ class PatternMetrics:
     front_to_back_hemisphere_db: float
     scan_loss_db: float
     unsteered_peak_directivity_dbi: float
+    beam_kind: str = "sum"
+    boresight_null_db: float | None = None
+    difference_peak_dbi: float | None = None
+    difference_lobes: tuple[Lobe, ...] = ()
+    difference_sidelobe_db: float | None = None
+    difference_slope_per_deg: float | None = None
+    monopulse_slope_per_deg: float | None = None
     notes: tuple[str, ...] = ()
 
     @property
