@@ -118,9 +118,9 @@ def write_beam_files(table, prefix, formats=tuple(WEIGHT_FORMATS), *, bin_encodi
     from .fileset import write_file_set
 
     text = str(prefix)
-    if text in ("", ".", "..") or text.endswith(("/", "\\")) or Path(text).name in ("", ".", ".."):
-        raise SteradianError(f"output prefix {text!r}: give a file name without suffix, "
-                             "e.g. out/panel-beams")
+    if text.endswith(("/", "\\")) or Path(text).name in ("", ".", "..") or Path(text).is_dir():
+        raise SteradianError(f"output prefix {text!r} names no file (empty, or a folder): "
+                             "give a path without suffix, e.g. out/panel-beams")
     options = {"bin": {"encoding": bin_encoding},
                "h": {"prefix": c_prefix, "encoding": h_encoding}}
     chosen = [WEIGHT_FORMATS[choice("format", name, tuple(WEIGHT_FORMATS))] for name in formats]
