@@ -349,3 +349,63 @@ def test_exit_codes_documented():
     for code in ("0", "1", "2", "3", "130"):
         assert f"`{code}`" in section
     assert "STERADIAN_TRACEBACK" in section
+
+
+_CRASHES = """
+import json, os, sys
+from click.testing import CliRunner
+import steradian.io.atomic as atomic
+from steradian.cli import main
+from steradian.io.fileset import check_manifest
+design, folder = sys.argv[1], sys.argv[2]
+run = lambda: CliRunner().invoke(main, ["beams", design, "-o", folder + "/t"])
+assert run().exit_code == 0          # the old set (and everything compiled before forking)
+text = open(design).read()
+open(design, "w").write(text.replace("phase_bits = 4", "phase_bits = 3"))
+out = []
+for call in ("fsync", "replace"):
+    for k in range(1, 7):
+        pid = os.fork()
+        if pid == 0:                 # the child dies at its k-th fsync or rename: a kill
+            real, n = getattr(os, call), [0]
+            def crash(*a, real=real, n=n, k=k):
+                n[0] += 1
+                if n[0] == k:
+                    os._exit(9)
+                return real(*a)
+            setattr(atomic.os, call, crash)
+            run()
+            os._exit(0)
+        code = os.waitpid(pid, 0)[1] >> 8
+        temps = sorted(f for f in os.listdir(folder) if f.endswith(".tmp"))
+        problems = check_manifest(folder + "/t.manifest.json")
+        out.append([call, k, code, len(temps), len(problems)])
+        open(design, "w").write(text)           # back to the old set, for the next point
+        assert run().exit_code == 0
+        assert not [f for f in os.listdir(folder) if f.endswith(".tmp")]
+        open(design, "w").write(text.replace("phase_bits = 4", "phase_bits = 3"))
+print(json.dumps(out))
+"""
+
+
+@pytest.mark.skipif(not hasattr(os, "fork"), reason="needs fork")
+def test_a_crash_at_every_step_leaves_a_set_the_manifest_describes(tmp_path):
+    """A writer killed at each fsync and each rename of `beams` (the issue's "40 kills", made
+    exhaustive): before the first rename the old set stays whole and its manifest checks;
+    during the renames the set may be mixed, and the old manifest (renamed last) then reports
+    it; after the last rename the new set checks. The next write removes every temporary."""
+    design = _design(tmp_path)
+    env = {**os.environ, "PYTHONPATH": str(SRC)}
+    p = subprocess.run([sys.executable, "-c", _CRASHES, str(design), str(tmp_path)],
+                       capture_output=True, text=True, env=env, timeout=300)
+    assert p.returncode == 0, p.stderr[-2000:]
+    rows = json.loads(p.stdout.splitlines()[-1])
+    by = {(c, k): (code, temps, problems) for c, k, code, temps, problems in rows}
+    for k in range(1, 6):   # 4 files + the manifest are each flushed once before any rename
+        code, temps, problems = by["fsync", k]
+        assert code == 9 and problems == 0 and temps == k
+    for k in range(1, 6):   # rename k never happens: k - 1 files are new, 6 - k temporaries
+        code, temps, problems = by["replace", k]
+        assert code == 9 and temps == 6 - k and problems == k - 1
+    assert by["fsync", 6] == (9, 0, 0)      # the folder's fsync, after every rename: new set
+    assert by["replace", 6][0] == 0         # only five renames
