@@ -318,6 +318,11 @@ def test_internal_error_is_one_line_exit_3(tmp_path, monkeypatch):
     (OSError(errno.EIO, "Input/output error", "somefile"), 2,
      "steradian: error: somefile: Input/output error"),
     (KeyboardInterrupt(), 130, "steradian: interrupted"),
+    (ValueError("Maximum allowed size exceeded"), 2,
+     "steradian: error: the problem is too large for this machine"),
+    (ValueError("array is too big; `arr.size * arr.dtype.itemsize` is larger than the "
+                "maximum possible size."), 2, "steradian: error: the problem is too large"),
+    (ValueError("math domain error"), 3, "steradian: internal error: ValueError: math domain"),
     (RecursionError("maximum recursion depth exceeded"), 3,
      "steradian: internal error: RecursionError"),
 ])

@@ -12,7 +12,8 @@ Exit codes (kept by :meth:`_LazyGroup.invoke`; README "Exit codes"):
 - 1: a verification or requirement failed (the command says which) -- never a crash;
 - 2: bad input or environment: a :class:`~steradian.errors.SteradianError` (design, file,
   option), any ``OSError`` (missing or unreadable file, disk full, read-only file system,
-  permission, file-size limit) or ``MemoryError``; one ``steradian: error: ...`` line;
+  permission, file-size limit), ``MemoryError`` or numpy's refusal of an array larger than
+  the address space; one ``steradian: error: ...`` line;
   click's own usage errors also exit 2;
 - 3: an internal error (any other exception, a bug): one ``steradian: internal error: ...``
   line with the exception type and message and a request to report it; the traceback only
@@ -78,6 +79,16 @@ def _os_error_message(exc: OSError) -> str:
     return f"{exc.filename}: {reason}" if exc.filename is not None else reason
 
 
+# numpy's refusals of an array larger than the address space (numpy/core/src/multiarray:
+# "array is too big", arange's "Maximum allowed size exceeded"): the problem is too large,
+# an environment limit (exit 2), not a bug. The resource guard should refuse such sizes first.
+_TOO_BIG = ("array is too big", "Maximum allowed size exceeded")
+
+
+def _too_big(exc: BaseException) -> bool:
+    return type(exc) is ValueError and str(exc).startswith(_TOO_BIG)
+
+
 def _internal_error(ctx, exc: BaseException) -> None:
     verbose = (ctx.params.get("verbose") or 0) > 0 or os.environ.get(TRACEBACK_ENV, "") not in (
         "", "0")
@@ -118,6 +129,11 @@ class _LazyGroup(click.Group):
             raise
         except SteradianError as exc:
             _error(exc)
+        except ValueError as exc:
+            if not _too_big(exc):
+                _internal_error(ctx, exc)
+                ctx.exit(EXIT_INTERNAL)
+            _error(f"the problem is too large for this machine (numpy: {exc})")
         except OSError as exc:
             _error(_os_error_message(exc))
         except MemoryError as exc:
