@@ -200,7 +200,7 @@ def test_design_mutants(config, fuzz_dir):
     assert run_cli(["analyze", config]).exit_code == 0  # the original is fine
     path = fuzz_dir / config.name
 
-    @_settings(15)
+    @_settings(50)
     @given(kind=st.sampled_from(DESIGN_KINDS), seed=st.integers(0, 2**32 - 1))
     def case(kind, seed):
         path.write_bytes(mutate_design(text, kind, random.Random(seed)))
@@ -271,7 +271,7 @@ def test_weight_file_mutants(suffix, weight_files):
     original = (d / f"t{suffix}").read_bytes()
     path = d / f"m{suffix}"
 
-    @_settings(40)
+    @_settings(60)
     @given(kind=st.sampled_from(("flip", "truncate")), seed=st.integers(0, 2**32 - 1))
     def case(kind, seed):
         path.write_bytes(mutate_bytes(original, kind, random.Random(seed)))
