@@ -4,14 +4,29 @@ Commands are registered by name in :data:`COMMANDS` and imported only when invok
 ``steradian --help`` never waits on numba or matplotlib. Each command parses its options,
 calls one recipe and shows the result through :mod:`steradian.cli._render` (tables, JSON);
 commands never import each other. Library warnings (``UserWarning``: legal but doubtful input)
-are shown as one ``steradian: warning: ...`` line on stderr; errors as one
-``steradian: error: ...`` line with exit code 2.
+are shown as one ``steradian: warning: ...`` line on stderr each.
+
+Exit codes (kept by :meth:`_LazyGroup.invoke`; README "Exit codes"):
+
+- 0: success;
+- 1: a verification or requirement failed (the command says which) -- never a crash;
+- 2: bad input or environment: a :class:`~steradian.errors.SteradianError` (design, file,
+  option), any ``OSError`` (missing or unreadable file, disk full, read-only file system,
+  permission, file-size limit), ``MemoryError`` or numpy's refusal of an array larger than
+  the address space; one ``steradian: error: ...`` line;
+  click's own usage errors also exit 2;
+- 3: an internal error (any other exception, a bug): one ``steradian: internal error: ...``
+  line with the exception type and message and a request to report it; the traceback only
+  with ``-v`` or the environment variable ``STERADIAN_TRACEBACK=1``;
+- 130: interrupted (Ctrl-C), as shells report SIGINT.
 """
 
 from __future__ import annotations
 
 import importlib
 import logging
+import os
+import traceback
 import warnings
 
 import click
@@ -42,6 +57,48 @@ SHORT_HELP: dict[str, str] = {
 }
 
 
+EXIT_OK, EXIT_FAILED, EXIT_INPUT, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 1, 2, 3, 130
+"""The exit codes of every command (see the module docstring)."""
+
+REPORT_URL = "the steradian issue tracker"
+TRACEBACK_ENV = "STERADIAN_TRACEBACK"
+
+
+def _one_line(text, limit: int = 2000) -> str:
+    """``text`` on one line, at most ``limit`` characters (messages may quote input)."""
+    flat = " ".join(str(text).split())
+    return flat if len(flat) <= limit else flat[: limit - 3] + "..."
+
+
+def _error(message) -> None:
+    click.echo(f"steradian: error: {_one_line(message)}", err=True)
+
+
+def _os_error_message(exc: OSError) -> str:
+    reason = exc.strerror or str(exc) or type(exc).__name__
+    return f"{exc.filename}: {reason}" if exc.filename is not None else reason
+
+
+# numpy's refusals of an array larger than the address space (numpy/core/src/multiarray:
+# "array is too big", arange's "Maximum allowed size exceeded"): the problem is too large,
+# an environment limit (exit 2), not a bug. The resource guard should refuse such sizes first.
+_TOO_BIG = ("array is too big", "Maximum allowed size exceeded")
+
+
+def _too_big(exc: BaseException) -> bool:
+    return type(exc) is ValueError and str(exc).startswith(_TOO_BIG)
+
+
+def _internal_error(ctx, exc: BaseException) -> None:
+    verbose = (ctx.params.get("verbose") or 0) > 0 or os.environ.get(TRACEBACK_ENV, "") not in (
+        "", "0")
+    if verbose:
+        click.echo("".join(traceback.format_exception(exc)).rstrip(), err=True)
+    click.echo(f"steradian: internal error: {type(exc).__name__}: {_one_line(exc, 300)} "
+               f"(a bug: please report it to {REPORT_URL} with the command and input; "
+               f"-v or {TRACEBACK_ENV}=1 shows the traceback)", err=True)
+
+
 def _show_warning(message, category, filename, lineno, file=None, line=None):
     click.echo(f"steradian: warning: {message}", err=True)
 
@@ -68,12 +125,27 @@ class _LazyGroup(click.Group):
                 warnings.simplefilter("always", UserWarning)
                 warnings.showwarning = _show_warning
                 return super().invoke(ctx)
+        except (click.exceptions.Exit, click.exceptions.Abort, click.ClickException):
+            raise
         except SteradianError as exc:
-            click.echo(f"steradian: error: {exc}", err=True)
-            ctx.exit(2)
-        except (FileNotFoundError, IsADirectoryError, PermissionError) as exc:
-            click.echo(f"steradian: error: {exc.filename}: {exc.strerror}", err=True)
-            ctx.exit(2)
+            _error(exc)
+        except ValueError as exc:
+            if not _too_big(exc):
+                _internal_error(ctx, exc)
+                ctx.exit(EXIT_INTERNAL)
+            _error(f"the problem is too large for this machine (numpy: {exc})")
+        except OSError as exc:
+            _error(_os_error_message(exc))
+        except MemoryError as exc:
+            _error(f"out of memory{': ' + str(exc) if str(exc) else ''} (the problem is too "
+                   "large for this machine; reduce it)")
+        except KeyboardInterrupt:
+            click.echo("steradian: interrupted", err=True)
+            ctx.exit(EXIT_INTERRUPTED)
+        except Exception as exc:
+            _internal_error(ctx, exc)
+            ctx.exit(EXIT_INTERNAL)
+        ctx.exit(EXIT_INPUT)
 
 
 @click.group(cls=_LazyGroup, context_settings={"help_option_names": ["-h", "--help"]})

@@ -20,6 +20,7 @@ def demo(out_dir):
     from ..workflows import analyze_design, export_patterns
     from ._render import echo_written, format_summary, write_json
 
+    out_dir.mkdir(parents=True, exist_ok=True)  # --out names a folder: created (README)
     design = demo_design()
     summary = analyze_design(design)
     click.echo(format_summary(summary))

@@ -110,13 +110,24 @@ def write_beam_files(table, prefix, formats=tuple(WEIGHT_FORMATS), *, bin_encodi
     """Write ``table`` as ``<prefix>.csv``, ``.json``, ``.bin``, ``.h`` (those in ``formats``).
 
     ``bin_encoding`` and ``h_encoding`` choose codes or Q1.15 I/Q for the binary file and the
-    C header (default the table's); ``c_prefix`` names the C header's identifiers. Returns
-    ``{format: path}``.
+    C header (default the table's); ``c_prefix`` names the C header's identifiers. The files
+    are written as one group with ``<prefix>.manifest.json`` (sizes and SHA-256 of each; see
+    :mod:`steradian.io.fileset`): no target is replaced until all are written. An empty
+    prefix, or one naming a folder, is refused. Returns ``{format: path}``.
     """
+    from .fileset import write_file_set
+
+    text = str(prefix)
+    if text.endswith(("/", "\\")) or Path(text).name in ("", ".", "..") or Path(text).is_dir():
+        raise SteradianError(f"output prefix {text!r} names no file (empty, or a folder): "
+                             "give a path without suffix, e.g. out/panel-beams")
     options = {"bin": {"encoding": bin_encoding},
                "h": {"prefix": c_prefix, "encoding": h_encoding}}
-    out = {}
-    for name in formats:
-        f = WEIGHT_FORMATS[choice("format", name, tuple(WEIGHT_FORMATS))]
-        out[name] = f.write(Path(f"{prefix}{f.suffix}"), table, **options.get(name, {}))
+    chosen = [WEIGHT_FORMATS[choice("format", name, tuple(WEIGHT_FORMATS))] for name in formats]
+
+    def writer(f):
+        return lambda: f.write(Path(f"{prefix}{f.suffix}"), table, **options.get(f.name, {}))
+
+    out = write_file_set(prefix, [(f.name, writer(f)) for f in chosen])
+    out.pop("manifest")
     return out
