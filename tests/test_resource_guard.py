@@ -368,3 +368,20 @@ def test_analysis_with_metrics_refuses_an_oversized_search_up_front():
     arr = st.Array(geom, st.C0 / lam)
     with limited("4GiB"), refused_cheaply("search|spacing", peak_mib=16.0):
         analyze(arr, AnalysisOptions(metrics=True))
+
+
+def test_cli_memory_budget_option_refuses_and_restores(tmp_path):
+    """The root option --memory-budget sets the one budget for a command: a 16 x 16 panel's
+    analysis with metrics is refused in one line under 1 MiB (exit 2), runs under the
+    default, and the caller's budget is restored afterwards (common practice: a CLI option
+    does not leak into the process)."""
+    from pathlib import Path
+
+    demo = Path(__file__).resolve().parents[1] / "configs" / "harbour_radar_panel.toml"
+    before = budget.budget()
+    r = CliRunner().invoke(main, ["--memory-budget", "1MiB", "analyze", str(demo)])
+    assert r.exit_code == 2
+    assert "would need" in r.output and "budget 1" in r.output
+    assert budget.budget() == before
+    r = CliRunner().invoke(main, ["--memory-budget", "lots", "analyze", str(demo)])
+    assert r.exit_code == 2 and "memory budget" in r.output

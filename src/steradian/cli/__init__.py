@@ -152,8 +152,12 @@ class _LazyGroup(click.Group):
 @click.version_option(__version__, prog_name="steradian")
 @click.option("-v", "--verbose", count=True, help="More log output (repeatable).")
 @click.option("-q", "--quiet", is_flag=True, help="Only errors.")
+@click.option("--memory-budget", metavar="SIZE",
+              help="Largest memory one step may use, e.g. 2GiB or 500MB (default: the "
+                   "STERADIAN_MEMORY_BUDGET environment variable, else a quarter of the "
+                   "machine's memory); larger work is refused in one line.")
 @click.pass_context
-def main(ctx, verbose, quiet):
+def main(ctx, verbose, quiet, memory_budget):
     """steradian: phased-array analysis and design.
 
     Element pattern x array factor, directivity and gain by spherical integration, pattern
@@ -162,4 +166,9 @@ def main(ctx, verbose, quiet):
     level = logging.ERROR if quiet else (logging.WARNING, logging.INFO, logging.DEBUG)[
         min(verbose, 2)]
     logging.basicConfig(level=level, format="%(levelname)s: %(message)s")
+    if memory_budget is not None:
+        from ..budget import set_budget  # light: no numpy import
+
+        old = set_budget(memory_budget)
+        ctx.call_on_close(lambda: set_budget(old))  # in-process callers keep their budget
     ctx.ensure_object(dict)
