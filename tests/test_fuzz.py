@@ -299,10 +299,6 @@ OVERSIZED = [("geometry", "count_x", 150), ("geometry", "count_x", 10**9),
              ("geometry", "spacing_x", 1e6), ("element", "q", 1e6)]
 
 
-@pytest.mark.slow
-@pytest.mark.skipif(os.environ.get("STERADIAN_FUZZ_MEMORY") != "1",
-                    reason="opt-in (STERADIAN_FUZZ_MEMORY=1): needs the resource guard of "
-                           "issue 10 item 2, without which some cases run for minutes")
 @pytest.mark.parametrize("table, key, value", OVERSIZED)
 def test_oversized_mutant_under_a_memory_limit(fuzz_dir, table, key, value):
     """An oversized mutant of harbour_radar_panel in a subprocess limited to 3 GiB of address
