@@ -175,6 +175,15 @@ class TabulatedElement(Element):
             if not np.all(np.isfinite(c)):
                 idx = tuple(np.argwhere(~np.isfinite(c))[0].tolist())
                 raise SteradianError(f"{name} contains NaN or infinity at index {idx}")
+        # Patterns are relative: scale by the largest component first, so values near the
+        # float limits (1e308, 1e-320) neither overflow when squared nor lose their bits.
+        big = max(max(float(np.abs(c.real).max()), float(np.abs(c.imag).max())) for c in comps)
+        if big == 0:
+            raise SteradianError("the tabulated field is zero everywhere")
+        if big < np.finfo(float).tiny:
+            raise SteradianError(f"the tabulated field is at most {big:.3g}, below the "
+                                 "smallest normal double (2.2e-308): scale the table")
+        comps = [c / big for c in comps]
 
         th, ph, comps, dth, dph = self._regular_axes(th, ph, comps)
         self._theta_deg = th

@@ -176,8 +176,8 @@ def read_beams_bin(path) -> BeamTable:
         raise FileFormatError(path, f"header payload size {psize} does not match {nb} beams x "
                               f"{n} elements ({want} bytes)")
     if len(data) != HEADER_SIZE + psize:
-        what = "truncated" if len(data) < HEADER_SIZE + psize else "has trailing bytes"
-        raise FileFormatError(path, f"file is {what}: {len(data)} bytes, expected "
+        what = "is truncated" if len(data) < HEADER_SIZE + psize else "has trailing bytes"
+        raise FileFormatError(path, f"file {what}: {len(data)} bytes, expected "
                               f"{HEADER_SIZE + psize}")
     payload = data[HEADER_SIZE:]
     got = zlib.crc32(payload)

@@ -40,10 +40,11 @@ from pathlib import Path
 import numpy as np
 
 from ..beamtable import BeamTable
-from ..errors import FileFormatError, SteradianError
+from ..errors import FileFormatError, shown
 from ..quantize import StateMap
 from .atomic import write_text
-from .formats import not_a, weight_text
+from .formats import CODE_LIMIT, check_extras, not_a, weight_text
+from .text import check_nesting
 
 __all__ = ["write_beams_json", "read_beams_json", "FORMAT_ID", "LAYOUT_VERSION"]
 
@@ -113,6 +114,7 @@ def read_beams_json(path) -> BeamTable:
     """
     path = Path(path)
     text = weight_text(path, "json")
+    check_nesting(path, text)
     try:
         doc = json.loads(text)
     except json.JSONDecodeError as exc:
@@ -123,7 +125,7 @@ def read_beams_json(path) -> BeamTable:
     enc, n, nb = _top(path, doc)
     try:
         states = StateMap.from_dict(doc["states"])
-    except (SteradianError, TypeError) as exc:
+    except (ValueError, TypeError, OverflowError) as exc:  # SteradianError is a ValueError
         raise FileFormatError(path, f"'states': {exc}") from None
     off, pos, on = _elements(path, doc["elements"], n, doc["layout_version"])
     if "n_enabled" in doc and doc["n_enabled"] != int(np.count_nonzero(on)):
@@ -143,12 +145,13 @@ def read_beams_json(path) -> BeamTable:
     if any(has_m) and not all(has_m):
         raise FileFormatError(path, f"beams[{has_m.index(not has_m[0])}]: metrics must be on "
                               "every beam or none")
+    check_extras(path, doc.get("metadata"), metrics if all(has_m) else None, nb)
     try:
         return BeamTable(states, np.array(dirs, float), np.array(codes, np.int64), enc,
                          np.array(off, float), None if pos is None else np.array(pos, float),
                          doc.get("metadata") or {}, tuple(metrics) if all(has_m) else None,
                          on)
-    except (SteradianError, TypeError, ValueError) as exc:
+    except (TypeError, ValueError, OverflowError) as exc:  # SteradianError is a ValueError
         raise FileFormatError(path, str(exc)) from None
 
 
@@ -215,8 +218,8 @@ def _beam(path, b: int, d, enc: str, n: int):
                               "be numbered 0, 1, 2, ... in order")
     for k in ("theta_deg", "phi_deg"):
         v = d.get(k)
-        if isinstance(v, bool) or not isinstance(v, (int, float)):
-            raise FileFormatError(path, f"beams[{b}].{k} must be a number, got {v!r}")
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or abs(v) > 1e300:
+            raise FileFormatError(path, f"beams[{b}].{k} must be a number, got {shown(v)}")
     pair = []
     for k in keys:
         v = d.get(k)
@@ -225,7 +228,9 @@ def _beam(path, b: int, d, enc: str, n: int):
         if len(v) != n:
             raise FileFormatError(path, f"beams[{b}].{k} has {len(v)} entries but n_elements "
                                   f"is {n}")
-        if not all(isinstance(x, int) and not isinstance(x, bool) for x in v):
-            raise FileFormatError(path, f"beams[{b}].{k} must hold whole numbers")
+        if not all(isinstance(x, int) and not isinstance(x, bool)
+                   and -CODE_LIMIT <= x < CODE_LIMIT for x in v):
+            raise FileFormatError(path, f"beams[{b}].{k} must hold whole numbers in "
+                                  f"-2^31..2^31-1")
         pair.append(v)
     return (float(d["theta_deg"]), float(d["phi_deg"])), pair

@@ -37,10 +37,11 @@ from ..schema import Section, type_name
 from ..settings import AnalysisOptions
 from ..units import C0
 from .element_table import read_element_table
+from .text import check_nesting, decode_text, read_bytes
 
 __all__ = ["Design", "load_design", "design_from_dict", "demo_design", "weights_file_taper",
            "SECTIONS", "PASS_THROUGH_SECTIONS", "GEOMETRY_KINDS", "ELEMENT_MODELS", "LENGTH_UNITS",
-           "SPACING_WARN_WL"]
+           "SPACING_WARN_WL", "MAX_DESIGN_BYTES"]
 
 SECTIONS = ("design", "geometry", "element", "taper", "steering", "analysis")
 """Sections this module validates."""
@@ -51,6 +52,10 @@ PASS_THROUGH_SECTIONS = ("synthesis", "channel", "beams")
 LENGTH_UNITS = {"m": 1.0, "mm": 1e-3, "wavelength": None}
 """Values of ``geometry.units`` and their size in metres (wavelength: at the design
 frequency)."""
+
+MAX_DESIGN_BYTES = 16 * 2**20
+"""Largest design file read: 16 MiB (the example designs are 1 to 3 kB; positions and
+weights of large arrays live in CSV files the design names)."""
 
 SPACING_WARN_WL = (0.05, 10.0)
 """Nearest-element spacing, in wavelengths at the design frequency, outside which a design
@@ -504,15 +509,20 @@ def load_design(path, *, read_taper_file: bool = True) -> Design:
     """
     path = Path(path)
     try:
-        raw = path.read_bytes()
+        raw = read_bytes(path, "design file", MAX_DESIGN_BYTES)
+        text = decode_text(path, raw)
+        check_nesting(path, text)
     except IsADirectoryError:
         raise DesignError("", "is a folder, not a design file", str(path)) from None
+    except FileFormatError as exc:  # too large, not UTF-8 or nested too deep
+        where = exc.path if exc.line is None else f"{exc.path}:{exc.line}"
+        raise DesignError("", str(exc)[len(where) + 2:], where) from None
     try:
-        doc = tomllib.loads(raw.decode("utf-8"))
-    except UnicodeDecodeError as exc:
-        raise DesignError("", f"not UTF-8 text ({exc.reason})", str(path)) from None
+        doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise DesignError("", f"not valid TOML: {exc}", str(path)) from None
+    except RecursionError:  # pragma: no cover - check_nesting refuses these first
+        raise DesignError("", "values nested too deep", str(path)) from None
     return design_from_dict(doc, path, read_taper_file=read_taper_file)
 
 

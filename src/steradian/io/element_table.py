@@ -22,10 +22,10 @@ from ..elements import (
     element_power,
     table_grid,
 )
-from ..errors import FileFormatError, SteradianError, suggest
+from ..errors import FileFormatError, SteradianError, shown, suggest
 from ..units import C0, db10, from_db20
 from .atomic import atomic_open
-from .csv_table import read_lines, split_fields
+from .csv_table import NUMBER, read_lines, split_fields
 
 __all__ = ["read_element_table", "write_element_table"]
 
@@ -33,6 +33,10 @@ __all__ = ["read_element_table", "write_element_table"]
 # ---- CSV reader ---------------------------------------------------------------------------
 
 _KEY_RE = re.compile(r"^([A-Za-z_][A-Za-z0-9_]*)\s*=\s*(.*?)\s*$")
+
+
+_WORDS = ("inf", "infinity", "nan")
+"""Words a table value may be besides a number (refused with their own message)."""
 
 
 def _header_keys(path, comments, first_row: float) -> dict[str, tuple[str, int]]:
@@ -124,10 +128,7 @@ def _settings(path, header) -> tuple[str, str, bool, float | None]:
     freq = None
     if "frequency_hz" in header:
         ftxt, fl = header["frequency_hz"]
-        try:
-            freq = float(ftxt)
-        except ValueError:
-            freq = math.nan
+        freq = float(ftxt) if NUMBER.fullmatch(ftxt.strip()) else math.nan
         if not (math.isfinite(freq) and freq > 0):
             raise FileFormatError(path, f"frequency_hz must be a positive number, got {ftxt!r}",
                                   fl)
@@ -164,10 +165,11 @@ def _samples(path, rows, cols, expected, front_only) -> np.ndarray:
                                   f"({', '.join(cols)}), got {len(fields)}", n)
         for j, c in enumerate(expected):
             s = fields[idx[c]]
-            try:
-                x = float(s)
-            except ValueError:
-                raise FileFormatError(path, f"cannot read {c}={s!r} as a number", n) from None
+            t = s.strip()
+            if not (NUMBER.fullmatch(t) or t.lower().lstrip("+-") in _WORDS):
+                raise FileFormatError(path, f"cannot read {c}={shown(s)} as a number (digits "
+                                      "0-9, sign, point and exponent only)", n)
+            x = float(t)
             if math.isnan(x):
                 raise FileFormatError(path, f"{c} is NaN", n)
             if math.isinf(x) and not (c in db_cols and x < 0):

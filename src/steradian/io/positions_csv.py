@@ -29,8 +29,8 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import FileFormatError, SteradianError
-from ..geometry import Geometry, coincident_pair, rotation_to
+from ..errors import FileFormatError, SteradianError, shown
+from ..geometry import MAX_COORDINATE_M, Geometry, coincident_pair, rotation_to
 from .atomic import write_text
 from .csv_table import check_columns, parse_float, read_table
 
@@ -163,6 +163,11 @@ def _layout_rows(path, rows, col, unit: str, scale: float):
         for a, c in enumerate(coords):
             if c in col:
                 pos[r, a] = parse_float(path, lineno, c, fields[col[c]]) * scale
+                if not abs(pos[r, a]) <= MAX_COORDINATE_M:
+                    raise FileFormatError(path, f"column {c!r}: {shown(fields[col[c]])} is "
+                                          f"{pos[r, a]:.6g} m from the origin, beyond "
+                                          f"+-{MAX_COORDINATE_M:g} m (not a physical "
+                                          "position)", lineno)
         if normals is not None:
             for a, c in enumerate(_NORMALS):
                 normals[r, a] = parse_float(path, lineno, c, fields[col[c]])
