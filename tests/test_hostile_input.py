@@ -333,7 +333,7 @@ def test_phi_within_two_turns_is_accepted(tmp_path):
 def test_cli_frequency_1e_minus_300(tmp_path):
     d = _design(tmp_path, '\n[element]\nmodel = "isotropic"\n')
     msg = _one_error_line(["analyze", d, "--frequency", "1e-300"])
-    assert "frequency" in msg and "inf" not in msg.split("frequency", 1)[1].split("Hz", 1)[0]
+    assert "frequency" in msg and "more than 1e300 times below" in msg and "inf" not in msg
 
 
 def test_design_frequency_1e_minus_300(tmp_path):

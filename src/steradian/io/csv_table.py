@@ -28,7 +28,7 @@ write them. Python's ``float()`` also takes ``1_5``, Unicode digits (``Ù£``, ``ï
 ``infinity``; those are refused here, so a file reads the same in any program."""
 
 
-def read_lines(path, max_rows: int | None = None,
+def read_lines(path, max_rows: int | None = None, why: str = "",
                ) -> tuple[list[tuple[int, str]], list[tuple[int, str]]]:
     """The lines of a text table: ``(comments, rows)``, each a list of ``(line, text)``.
 
@@ -37,7 +37,8 @@ def read_lines(path, max_rows: int | None = None,
     (:func:`read_text`): :class:`FileFormatError` for one that is too large or not UTF-8
     text (a byte-order mark is allowed); ``OSError`` passes through. With ``max_rows``,
     reading stops with :class:`FileFormatError` at the first row past it (the header counts
-    as a row), so a file of a million rows is refused without splitting them all.
+    as a row; ``why`` is added to the message), so a file of a million rows is refused
+    without splitting them all.
     """
     path = Path(path)
     text = read_text(path)
@@ -51,8 +52,8 @@ def read_lines(path, max_rows: int | None = None,
             comments.append((lineno, s[1:].strip()))
         else:
             if max_rows is not None and len(rows) >= max_rows:
-                raise FileFormatError(path, f"has more than {max_rows - 1} data rows; "
-                                      f"expected at most {max_rows - 1}", lineno)
+                raise FileFormatError(path, f"has more than {max_rows - 1} data rows{why}; "
+                                      "reading stopped here", lineno)
             rows.append((lineno, s))
     return comments, rows
 
@@ -62,7 +63,7 @@ def split_fields(line: str) -> list[str]:
     return [f.strip() for f in next(csv.reader(io.StringIO(line)))]
 
 
-def read_table(path, max_rows: int | None = None,
+def read_table(path, max_rows: int | None = None, why: str = "",
                ) -> tuple[list[str], list[tuple[int, list[str]]], int, list[str]]:
     """Read a comma-separated table with ``#`` comments.
 
@@ -70,9 +71,9 @@ def read_table(path, max_rows: int | None = None,
     ``(line_number, fields)`` pairs (1-based line numbers) and ``comments`` the comment lines
     without their ``#``. Raises :class:`FileFormatError` for an empty file, a row whose
     field count differs from the header's, or more than ``max_rows`` data rows (reading
-    stops there).
+    stops there; ``why`` says why in the message).
     """
-    comments, lines = read_lines(path, None if max_rows is None else max_rows + 1)
+    comments, lines = read_lines(path, None if max_rows is None else max_rows + 1, why)
     if not lines:
         raise FileFormatError(path, "no header row (file is empty or only comments)")
     header_line, first = lines[0]

@@ -41,7 +41,8 @@ from .text import check_nesting, decode_text, read_bytes
 
 __all__ = ["Design", "load_design", "design_from_dict", "demo_design", "weights_file_taper",
            "SECTIONS", "PASS_THROUGH_SECTIONS", "GEOMETRY_KINDS", "ELEMENT_MODELS", "LENGTH_UNITS",
-           "SPACING_WARN_WL", "MAX_DESIGN_BYTES"]
+           "SPACING_WARN_WL", "MAX_DESIGN_BYTES", "PHI_LIMIT_DEG", "WAVELENGTH_RANGE_M",
+           "MIN_TAPER_PEAK"]
 
 SECTIONS = ("design", "geometry", "element", "taper", "steering", "analysis")
 """Sections this module validates."""
@@ -52,6 +53,21 @@ PASS_THROUGH_SECTIONS = ("synthesis", "channel", "beams")
 LENGTH_UNITS = {"m": 1.0, "mm": 1e-3, "wavelength": None}
 """Values of ``geometry.units`` and their size in metres (wavelength: at the design
 frequency)."""
+
+PHI_LIMIT_DEG = 720.0
+"""``steering.phi_deg`` must lie in -720..720: two turns either way covers every way of
+writing an azimuth; beyond that the number is a slip (and past ~1e16 degrees a double no
+longer holds the angle's fraction of a turn)."""
+
+WAVELENGTH_RANGE_M = (1e-9, 1e9)
+"""The design wavelength (``speed_m_s / frequency_hz``) must lie in 1 nm .. 1e6 km: every
+radio, sonar, acoustic and optical array lies well inside (common practice); outside it the
+frequency is a slip of units, and lengths in wavelengths overflow."""
+
+MIN_TAPER_PEAK = float(np.sqrt(np.finfo(float).tiny))
+"""Smallest largest-weight magnitude of a taper file (1.5e-154): the power |w|^2 of a
+smaller one is below the smallest normal double (IEEE 754 binary64, 2^-1022), so every
+directivity would be 0/0. All-zero weights are refused too."""
 
 MAX_DESIGN_BYTES = 16 * 2**20
 """Largest design file read: 16 MiB (the example designs are 1 to 3 kB; positions and
@@ -184,9 +200,14 @@ def _geometry(t: Section, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
     if "disabled" in t:
         idx = t.integers("disabled", minimum=0, nonempty=False)
         mask = np.ones(geom.n, bool) if enabled is None else enabled.copy()
+        first: dict[int, int] = {}
         for i, j in enumerate(idx):
             if j >= geom.n:
                 raise t.error(f"disabled[{i}]", f"element index {j} is outside 0..{geom.n - 1}")
+            if j in first:
+                raise t.error(f"disabled[{i}]", f"element {j} is listed twice (first at "
+                              f"disabled[{first[j]}])")
+            first[j] = i
             mask[j] = False
         if not mask.any():
             raise t.error("disabled", "every element is disabled")
@@ -302,6 +323,11 @@ def weights_file_taper(path, geometry: Geometry, wavelength: float,
 
     path = Path(path)
     table = read_weights_table(path, geometry.n)
+    peak = float(np.abs(table.weights).max())
+    if not peak >= MIN_TAPER_PEAK:
+        raise FileFormatError(path, "every weight is zero" if peak == 0 else
+                              f"the largest weight magnitude is {peak:.3g}, below "
+                              f"{MIN_TAPER_PEAK:.3g}: its power underflows (scale the weights)")
     if table.positions is not None:
         d = np.linalg.norm(table.positions - geometry.positions, axis=1)
         if d.max() > 1e-6 * wavelength:
@@ -360,7 +386,7 @@ def _steering(t: Section | None) -> Steering | None:
         return None
     t.only(("theta_deg", "phi_deg", "mode"))
     theta = t.number("theta_deg", 0.0, minimum=0, maximum=180)
-    phi = t.number("phi_deg", 0.0)
+    phi = t.number("phi_deg", 0.0, minimum=-PHI_LIMIT_DEG, maximum=PHI_LIMIT_DEG)
     mode = t.string("mode", "phase", choices=("phase", "delay"))
     return Steering(theta, phi, mode)
 
@@ -473,8 +499,7 @@ def design_from_dict(d: Mapping, source=None, *, base_dir=None,
     if not name.strip():
         raise td.error("name", "must not be empty")
     description = td.string("description", "")
-    ctx = _Context(src, base_dir, td.number("frequency_hz", above=0),
-                   td.number("speed_m_s", C0, above=0))
+    ctx = _context(td, src, base_dir)
 
     geom, enabled = _geometry(Section("geometry", d["geometry"], src), ctx)
     element = _element(Section("element", d.get("element", {"model": "isotropic"}), src), ctx)
@@ -498,6 +523,20 @@ def design_from_dict(d: Mapping, source=None, *, base_dir=None,
     sections = MappingProxyType({k: d[k] for k in PASS_THROUGH_SECTIONS if k in d})
     return Design(name, description, array, options, sections,
                   None if source is None else Path(source), base_dir, taper_file, steered)
+
+
+def _context(td: Section, src: str | None, base_dir: Path) -> _Context:
+    """The shared context of the sections, its wavelength checked against
+    :data:`WAVELENGTH_RANGE_M`."""
+    f, c = td.number("frequency_hz", above=0), td.number("speed_m_s", C0, above=0)
+    lam = c / f
+    lo, hi = WAVELENGTH_RANGE_M
+    if not lo <= lam <= hi:
+        size = f"{lam:.3g} m" if np.isfinite(lam) else "more than 1e308 m"
+        raise td.error("frequency_hz", f"{f:g} Hz gives a wavelength of {size} at "
+                       f"{c:g} m/s, outside {lo:g} .. {hi:g} m (frequencies are in Hz, e.g. "
+                       "28e9 for 28 GHz)")
+    return _Context(src, base_dir, f, c)
 
 
 def load_design(path, *, read_taper_file: bool = True) -> Design:

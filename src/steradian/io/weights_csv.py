@@ -149,7 +149,8 @@ def read_weights_table(path, n: int | None = None) -> WeightsTable:
         missing element index, or columns that disagree.
     """
     path = Path(path)
-    header, rows, hline, comments = read_table(path)
+    header, rows, hline, comments = read_table(
+        path, None if n is None else n, "" if n is None else f" (the array has {n} elements)")
     col = _weight_columns(path, header, hline)
     if not rows:
         raise FileFormatError(path, "no element rows after the header", hline)
