@@ -388,3 +388,105 @@ def test_shown_is_used_by_steradian_errors():
 
         positive("x", np.float64(-1.0))
     assert "np." not in str(info.value)
+
+
+# --------------------------------------------------------------------------------------------
+# More of the same classes: elements, C headers, byte-order marks, line ends, keys
+# --------------------------------------------------------------------------------------------
+@pytest.mark.parametrize("keys, words", [
+    ("eps_r = 1e308\nheight_m = 0.001", "eps_r"),
+    ("eps_r = 2.2\nheight_m = 1e308", "height_m"),
+    ("eps_r = 2.2\nheight_m = 1e-320", "height_m"),
+    ("eps_r = 2.2\nheight_m = 0.001\nwidth_m = 1e308", "width_m"),
+])
+def test_patch_of_absurd_size_is_refused(tmp_path, keys, words):
+    d = _design(tmp_path, f'\n[element]\nmodel = "patch"\n{keys}\n')
+    msg = _one_error_line(["analyze", d])
+    assert words in msg and "nan" not in msg and " inf " not in msg
+
+
+def test_dipole_of_1e_minus_320_wavelengths_is_a_short_dipole(tmp_path):
+    """A wire far shorter than a wavelength has the short-dipole pattern sin(psi) (Balanis,
+    Antenna Theory, ch. 4), not 0/0."""
+    from steradian.elements import Dipole
+
+    d = Dipole(1e-320, "z", 1e9)
+    eth, _ = d.pattern(np.array([np.pi / 2, np.pi / 6]), np.zeros(2))
+    np.testing.assert_allclose(np.abs(eth), [1.0, 0.5], rtol=1e-12)
+
+
+def test_dipole_product_form_matches_the_cosine_difference():
+    """cos(x c) - cos(x) = 2 sin(x(1+c)/2) sin(x(1-c)/2) (sum-to-product identity): the
+    half-wave dipole pattern is unchanged, cos(pi/2 cos t)/sin t (Balanis, ch. 4)."""
+    from steradian.elements import Dipole
+    from steradian.units import C0
+
+    d = Dipole(0.5, "z", C0)
+    t = np.linspace(0.1, np.pi - 0.1, 7)
+    eth, _ = d.pattern(t, np.zeros_like(t))
+    np.testing.assert_allclose(np.abs(eth), np.cos(np.pi / 2 * np.cos(t)) / np.sin(t),
+                               rtol=1e-12)
+
+
+def test_geometry_refuses_a_coordinate_beyond_1e8_m():
+    from steradian.geometry import Geometry
+
+    with pytest.raises(SteradianError, match=r"element 1 has x = 1e\+300 m"):
+        Geometry(np.array([[0.0, 0, 0], [1e300, 0, 0]]))
+
+
+@pytest.mark.parametrize("old, new", [
+    ("STEP_DEG 22.5", "STEP_DEG 2_2.5"),
+    ("{0, 0}, {0, 0}, {0, 0}, {0, 0},", "{1_0, 0}, {0, 0}, {0, 0}, {0, 0},"),
+])
+def test_c_header_strict_numbers(tmp_path, old, new):
+    p = _edit(_table(tmp_path, ".h"), old, new)
+    _refused(p, "not a")
+
+
+@pytest.mark.parametrize("suffix", [".csv", ".json", ".h"])
+def test_weight_files_with_a_byte_order_mark_are_read(tmp_path, suffix):
+    p = _table(tmp_path, suffix)
+    p.write_bytes(b"\xef\xbb\xbf" + p.read_bytes())
+    assert read_weight_file(p).n_beams == 2
+
+
+def test_weight_csv_with_crlf_line_ends_is_read(tmp_path):
+    p = _table(tmp_path, ".csv")
+    p.write_bytes(p.read_bytes().replace(b"\n", b"\r\n"))
+    assert read_weight_file(p).n_beams == 2
+
+
+def test_weight_csv_underscore_in_a_code_is_refused(tmp_path):
+    p = _table(tmp_path, ".csv")
+    text = p.read_text().splitlines()
+    text[-1] = text[-1].rsplit(",", 2)[0] + ",1_0,0"
+    p.write_text("\n".join(text) + "\n")
+    _refused(p, r":17: column 'phase_code'")
+
+
+def test_design_file_with_a_byte_order_mark_is_read(tmp_path):
+    p = tmp_path / "d.toml"
+    p.write_bytes(b"\xef\xbb\xbf" + LINE.encode())
+    assert load_design(p).name == "h"
+
+
+def test_design_file_with_one_ff_byte(tmp_path):
+    p = tmp_path / "d.toml"
+    p.write_bytes(LINE.encode().replace(b'"h"', b'"\xff"'))
+    msg = _one_error_line(["analyze", p])
+    assert "d.toml" in msg and "UTF-8" in msg and "0xff" in msg
+
+
+def test_a_5000_character_key_is_cut_in_the_message(tmp_path):
+    d = _design(tmp_path, "k" * 5000 + " = 1\n")
+    with pytest.raises(DesignError) as info:
+        load_design(d)
+    assert len(str(info.value)) < 600
+
+
+def test_positions_csv_plus_sign_is_accepted(tmp_path):
+    """A leading + is accepted everywhere (strtod and every spreadsheet write it)."""
+    p = tmp_path / "pos.csv"
+    p.write_text("x_m,y_m,z_m\n0,0,0\n+0.5,0,0\n")
+    assert read_positions(p).positions[1, 0] == 0.5

@@ -42,7 +42,7 @@ from .text import check_nesting, decode_text, read_bytes
 __all__ = ["Design", "load_design", "design_from_dict", "demo_design", "weights_file_taper",
            "SECTIONS", "PASS_THROUGH_SECTIONS", "GEOMETRY_KINDS", "ELEMENT_MODELS", "LENGTH_UNITS",
            "SPACING_WARN_WL", "MAX_DESIGN_BYTES", "PHI_LIMIT_DEG", "WAVELENGTH_RANGE_M",
-           "MIN_TAPER_PEAK"]
+           "MIN_TAPER_PEAK", "read_toml"]
 
 SECTIONS = ("design", "geometry", "element", "taper", "steering", "analysis")
 """Sections this module validates."""
@@ -543,13 +543,25 @@ def load_design(path, *, read_taper_file: bool = True) -> Design:
     """Read a TOML design file into a :class:`Design`.
 
     Relative file paths inside the design (positions, weights, element tables) resolve
-    against the design file's folder. See :func:`design_from_dict` for ``read_taper_file``
-    and the errors.
+    against the design file's folder. See :func:`read_toml` for the checks made before
+    parsing, :func:`design_from_dict` for ``read_taper_file`` and the errors.
+    """
+    path = Path(path)
+    return design_from_dict(read_toml(path), path, read_taper_file=read_taper_file)
+
+
+def read_toml(path) -> dict:
+    """The TOML document of a design file, read defensively.
+
+    The file is read as bytes first: larger than :data:`MAX_DESIGN_BYTES`, not UTF-8 (a
+    byte-order mark is accepted), nested deeper than
+    :data:`~steradian.io.text.MAX_NESTING` brackets or braces, or not TOML, it is refused
+    with one :class:`~steradian.errors.DesignError` line naming the file (and line) before
+    the parser's recursion could fail.
     """
     path = Path(path)
     try:
-        raw = read_bytes(path, "design file", MAX_DESIGN_BYTES)
-        text = decode_text(path, raw)
+        text = decode_text(path, read_bytes(path, "design file", MAX_DESIGN_BYTES))
         check_nesting(path, text)
     except IsADirectoryError:
         raise DesignError("", "is a folder, not a design file", str(path)) from None
@@ -557,12 +569,11 @@ def load_design(path, *, read_taper_file: bool = True) -> Design:
         where = exc.path if exc.line is None else f"{exc.path}:{exc.line}"
         raise DesignError("", str(exc)[len(where) + 2:], where) from None
     try:
-        doc = tomllib.loads(text)
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise DesignError("", f"not valid TOML: {exc}", str(path)) from None
     except RecursionError:  # pragma: no cover - check_nesting refuses these first
         raise DesignError("", "values nested too deep", str(path)) from None
-    return design_from_dict(doc, path, read_taper_file=read_taper_file)
 
 
 def demo_design() -> Design:
