@@ -490,3 +490,24 @@ def test_positions_csv_plus_sign_is_accepted(tmp_path):
     p = tmp_path / "pos.csv"
     p.write_text("x_m,y_m,z_m\n0,0,0\n+0.5,0,0\n")
     assert read_positions(p).positions[1, 0] == 0.5
+
+
+def test_weight_csv_disagreement_message_shows_plain_numbers(tmp_path):
+    p = _table(tmp_path, ".csv")
+    text = p.read_text().splitlines()
+    f = text[-1].split(",")
+    f[6] = "8.0"
+    text[-1] = ",".join(f)
+    p.write_text("\n".join(text) + "\n")
+    msg = _refused(p, r":17: column 'amplitude' \(8\.0\) disagrees")
+    assert "np." not in msg
+
+
+def test_weight_csv_long_field_is_cut_in_the_message(tmp_path):
+    p = _table(tmp_path, ".csv")
+    text = p.read_text().splitlines()
+    f = text[-1].split(",")
+    f[5] = "[" * 5000
+    text[-1] = ",".join(f)
+    p.write_text("\n".join(text) + "\n")
+    assert len(_refused(p, r":17: column 'enabled'")) < 300

@@ -12,7 +12,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .errors import SteradianError
+from .errors import SteradianError, shown
 from .validate import count, finite_array, positive
 
 __all__ = [
@@ -186,7 +186,7 @@ def linear(n: int, d: float, axis: str = "x") -> Geometry:
     d = positive("spacing d", d, " m")
     ax = {"x": 0, "y": 1, "z": 2}.get(axis)
     if ax is None:
-        raise SteradianError(f"axis must be 'x', 'y' or 'z', got {axis!r}")
+        raise SteradianError(f"axis must be 'x', 'y' or 'z', got {shown(axis)}")
     pos = np.zeros((n, 3))
     pos[:, ax] = (np.arange(n) - (n - 1) / 2) * d
     lat = np.zeros((1, 3))

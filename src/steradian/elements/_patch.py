@@ -11,7 +11,7 @@ import math
 
 import numpy as np
 
-from ..errors import SteradianError
+from ..errors import SteradianError, shown
 from ..units import C0
 from ..validate import doubtful, positive
 from ._base import Element
@@ -151,7 +151,7 @@ class Patch(Element):
         self.speed = positive("speed", speed, " m/s")
         er = positive("element.eps_r", eps_r)
         if er < 1:
-            raise SteradianError(f"element.eps_r must be at least 1, got eps_r={eps_r!r}")
+            raise SteradianError(f"element.eps_r must be at least 1, got eps_r={shown(eps_r)}")
         self.eps_r = er
         _check_sizes(self.frequency, self.speed, er, width_m=self.width_m,
                      length_m=self.length_m, height_m=self.height_m)
@@ -183,7 +183,7 @@ class Patch(Element):
         er = positive("element.eps_r", eps_r)
         h = positive("element.height_m", height_m, " m")
         if er < 1:
-            raise SteradianError(f"element.eps_r must be at least 1, got eps_r={eps_r!r}")
+            raise SteradianError(f"element.eps_r must be at least 1, got eps_r={shown(eps_r)}")
         if width_m is None:
             w = C0 / (2 * f) * math.sqrt(2 / (er + 1))
         else:

@@ -7,7 +7,7 @@ from typing import Literal, get_args
 
 import numpy as np
 
-from ..errors import SteradianError
+from ..errors import SteradianError, shown
 from ..units import C0
 from ..validate import choice, nonneg, positive
 from ._base import Element, spherical_basis, unit_vectors
@@ -120,11 +120,12 @@ class Dipole(Element):
         if isinstance(axis, str):
             ax = {"x": (1, 0, 0), "y": (0, 1, 0), "z": (0, 0, 1)}.get(axis)
             if ax is None:
-                raise ValueError(f"element.axis must be 'x', 'y', 'z' or 3 numbers, got {axis!r}")
+                raise ValueError(f"element.axis must be 'x', 'y', 'z' or 3 numbers, got "
+                                 f"{shown(axis)}")
             axis = ax
         a = np.asarray(axis, float).reshape(3)
         if not np.all(np.isfinite(a)) or np.linalg.norm(a) == 0:
-            raise ValueError(f"element.axis must be a non-zero finite vector, got {axis!r}")
+            raise ValueError(f"element.axis must be a non-zero finite vector, got {shown(axis)}")
         self.axis = a / np.linalg.norm(a)
         self.length = None if length is None else positive("element.length", length, " m")
         self.speed = speed

@@ -51,7 +51,7 @@ import math
 
 import numpy as np
 
-from ..errors import SteradianError
+from ..errors import SteradianError, shown
 from ..sphere import peak_value
 from ..validate import doubtful
 from ._base import Element, angles_of, spherical_basis, unit_vectors
@@ -360,7 +360,8 @@ def table_grid(front_only, dth, dph):
     npf = round(360.0 / dph)
     if nt < 2 or abs(nt * dth - top) > GRID_TOL:
         raise SteradianError(f"theta_step_deg must divide {top:g} into at least 2 steps, "
-                             f"got {dth!r}")
+                             f"got {shown(dth)}")
     if npf < 4 or abs(npf * dph - 360.0) > GRID_TOL:
-        raise SteradianError(f"phi_step_deg must divide 360 into at least 4 steps, got {dph!r}")
+        raise SteradianError(f"phi_step_deg must divide 360 into at least 4 steps, got "
+                             f"{shown(dph)}")
     return np.linspace(0.0, top, nt + 1), 360.0 * np.arange(npf) / npf

@@ -63,7 +63,7 @@ from pathlib import Path
 import numpy as np
 
 from ..beamtable import BeamTable, Encoding
-from ..errors import FileFormatError, SteradianError
+from ..errors import FileFormatError, SteradianError, shown
 from ..quantize import StateMap
 from .atomic import write_bytes
 from .formats import BIN_MAGIC, not_a
@@ -106,7 +106,7 @@ def write_beams_bin(path, table: BeamTable, encoding: Encoding | None = None,
     st = t.states
     if layout_version not in READS:
         raise SteradianError(f"binary layout_version must be one of {READS}, got "
-                             f"{layout_version!r}")
+                             f"{shown(layout_version)}")
     if layout_version == 1 and not t.enabled.all():
         raise SteradianError("binary layout version 1 has no enable mask; the table has "
                              f"{t.n_elements - t.n_enabled} disabled element(s): write version 2")
@@ -146,14 +146,15 @@ def read_beams_bin(path) -> BeamTable:
     path = Path(path)
     data = path.read_bytes()
     if not data.startswith(MAGIC):
-        raise FileFormatError(path, not_a("bin", f"magic {data[:8]!r}, expected {MAGIC!r}"))
+        raise FileFormatError(path, not_a("bin", f"magic {shown(data[:8])}, expected "
+                                          f"{shown(MAGIC)}"))
     if len(data) < HEADER_SIZE:
         raise FileFormatError(path, f"file is {len(data)} bytes, shorter than the "
                               f"{HEADER_SIZE}-byte header")
     (magic, ver, hsize, n, nb, enc, amp, flags, res, n_ph, n_amp, ph_step, amp_step,
      psize, pcrc, res2, hcrc) = _HEAD.unpack_from(data)
     if magic != MAGIC:
-        raise FileFormatError(path, not_a("bin", f"magic {magic!r}, expected {MAGIC!r}"))
+        raise FileFormatError(path, not_a("bin", f"magic {shown(magic)}, expected {shown(MAGIC)}"))
     if ver not in READS:
         raise FileFormatError(path, f"layout version {ver} is not supported (this steradian "
                               f"reads {' and '.join(map(str, READS))})")

@@ -91,7 +91,7 @@ def write_beams_cheader(path, table: BeamTable, prefix: str = "strd", encoding=N
         State encoding; default the table's own ("iq": int16 {I, Q} in Q1.15).
     """
     if not isinstance(prefix, str) or not _IDENT.match(prefix):
-        raise SteradianError(f"C prefix must be a C identifier, got {prefix!r}")
+        raise SteradianError(f"C prefix must be a C identifier, got {shown(prefix)}")
     table = table if encoding is None else table.as_encoding(encoding)
     lo, up = prefix.lower(), prefix.upper()
     lines = _comment_lines(table, lo) + _macro_lines(table, up) + _array_lines(table, lo, up)

@@ -148,8 +148,8 @@ def read_beams_csv(path) -> BeamTable:
     if header != want:
         missing = [c for c in want if c not in header]
         extra = [c for c in header if c not in want]
-        what = (f"missing column {missing[0]!r}" if missing else
-                f"unexpected column {extra[0]!r}" if extra else "columns out of order")
+        what = (f"missing column {shown(missing[0])}" if missing else
+                f"unexpected column {shown(extra[0])}" if extra else "columns out of order")
         raise FileFormatError(path, f"{what}; expected {','.join(want)}", hline)
     if len(body) != n * nb:
         raise FileFormatError(path, f"has {len(body)} rows, expected n_beams x n_elements = "
@@ -185,11 +185,11 @@ def _enabled_column(path, body, col: int, ncol: int, n: int):
             raise FileFormatError(path, f"expected {ncol} fields, got {len(f)}", lineno)
         v = f.pop(col)
         if v not in ("0", "1"):
-            raise FileFormatError(path, f"column 'enabled' must be 0 or 1, got {v!r}", lineno)
+            raise FileFormatError(path, f"column 'enabled' must be 0 or 1, got {shown(v)}", lineno)
         try:
             e = int(f[3])
         except ValueError:
-            raise FileFormatError(path, f"column 'element': {f[3]!r} is not a whole number",
+            raise FileFormatError(path, f"column 'element': {shown(f[3])} is not a whole number",
                                   lineno) from None
         if 0 <= e < n:
             if on[e] < 0:
@@ -213,14 +213,14 @@ def _header_values(path, meta: dict):
         raise FileFormatError(path, not_a("csv", f"no '# format = {FORMAT_ID}' line"))
     fmt, ln = meta["format"]
     if fmt != FORMAT_ID:
-        raise FileFormatError(path, f"format must be {FORMAT_ID!r}, got {fmt!r}", ln)
+        raise FileFormatError(path, f"format must be {shown(FORMAT_ID)}, got {shown(fmt)}", ln)
     ver, ln = need("layout_version")
     if ver not in [str(v) for v in READS]:
         raise FileFormatError(path, f"layout_version {ver} is not supported (this steradian "
                               f"reads {' and '.join(map(str, READS))})", ln)
     enc, ln = need("encoding")
     if enc not in ("codes", "iq"):
-        raise FileFormatError(path, f"encoding must be 'codes' or 'iq', got {enc!r}", ln)
+        raise FileFormatError(path, f"encoding must be 'codes' or 'iq', got {shown(enc)}", ln)
     counts = {}
     for key in ("n_elements", "n_beams"):
         v, ln = need(key)
@@ -351,6 +351,7 @@ def _check_reading(path, table, reading, row_line):
             k = _READING.index(name)
             cols = "/".join(_state_cols(table.encoding))
             raise FileFormatError(
-                path, f"column {name!r} ({reading[b, e, k]!r}) disagrees with the {cols} of "
-                f"beam {b}, element {e} ({want[b, e]!r}); edit the state columns, the "
+                path, f"column {shown(name)} ({shown(reading[b, e, k])}) disagrees with the "
+                f"{cols} of "
+                f"beam {b}, element {e} ({shown(want[b, e])}); edit the state columns, the "
                 "amplitude and phase columns are for reading", int(row_line[b, e]))

@@ -129,7 +129,7 @@ def read_beams_json(path) -> BeamTable:
         raise FileFormatError(path, f"'states': {exc}") from None
     off, pos, on = _elements(path, doc["elements"], n, doc["layout_version"])
     if "n_enabled" in doc and doc["n_enabled"] != int(np.count_nonzero(on)):
-        raise FileFormatError(path, f"'n_enabled' is {doc['n_enabled']!r} but "
+        raise FileFormatError(path, f"'n_enabled' is {shown(doc['n_enabled'])} but "
                               f"'elements.enabled' turns {int(np.count_nonzero(on))} on")
     beams = doc["beams"]
     if not isinstance(beams, list) or len(beams) != nb:
@@ -160,28 +160,28 @@ def _top(path, doc) -> tuple[str, int, int]:
     if not isinstance(doc, dict):
         raise FileFormatError(path, not_a("json", "the file must hold one JSON object"))
     if doc.get("format") != FORMAT_ID:
-        raise FileFormatError(path, not_a("json", f"'format' must be {FORMAT_ID!r}, got "
-                                          f"{doc.get('format')!r}"))
+        raise FileFormatError(path, not_a("json", f"'format' must be {shown(FORMAT_ID)}, got "
+                                          f"{shown(doc.get('format'))}"))
     ver = doc.get("layout_version")
     if isinstance(ver, bool) or ver not in READS:
-        raise FileFormatError(path, f"layout_version {ver!r} is not supported (this "
+        raise FileFormatError(path, f"layout_version {shown(ver)} is not supported (this "
                               f"steradian reads {' and '.join(map(str, READS))})")
     for k in doc:
         if k not in _TOP:
-            raise FileFormatError(path, f"unknown key {k!r}")
+            raise FileFormatError(path, f"unknown key {shown(k)}")
     for k in ("encoding", "n_elements", "n_beams", "states", "elements", "beams"):
         if k not in doc:
-            raise FileFormatError(path, f"missing key {k!r}")
+            raise FileFormatError(path, f"missing key {shown(k)}")
     enc = doc["encoding"]
     if enc not in ("codes", "iq"):
-        raise FileFormatError(path, f"'encoding' must be 'codes' or 'iq', got {enc!r}")
+        raise FileFormatError(path, f"'encoding' must be 'codes' or 'iq', got {shown(enc)}")
     if enc == "iq" and doc.get("iq_format") != "Q1.15":
         raise FileFormatError(path, f"'iq_format' must be 'Q1.15', got "
-                              f"{doc.get('iq_format')!r}")
+                              f"{shown(doc.get('iq_format'))}")
     n, nb = doc["n_elements"], doc["n_beams"]
     for k, v in (("n_elements", n), ("n_beams", nb)):
         if isinstance(v, bool) or not isinstance(v, int) or v < 1:
-            raise FileFormatError(path, f"{k!r} must be a whole number >= 1, got {v!r}")
+            raise FileFormatError(path, f"{shown(k)} must be a whole number >= 1, got {shown(v)}")
     return enc, n, nb
 
 
@@ -212,9 +212,10 @@ def _beam(path, b: int, d, enc: str, n: int):
         raise FileFormatError(path, f"beams[{b}] must be an object")
     for k in d:
         if k not in allowed:
-            raise FileFormatError(path, f"beams[{b}]: unknown key {k!r} for encoding {enc!r}")
+            raise FileFormatError(path, f"beams[{b}]: unknown key {shown(k)} for encoding "
+                                  f"{shown(enc)}")
     if d.get("beam") != b:
-        raise FileFormatError(path, f"beams[{b}] has 'beam' = {d.get('beam')!r}; beams must "
+        raise FileFormatError(path, f"beams[{b}] has 'beam' = {shown(d.get('beam'))}; beams must "
                               "be numbered 0, 1, 2, ... in order")
     for k in ("theta_deg", "phi_deg"):
         v = d.get(k)

@@ -80,7 +80,7 @@ def read_table(path, max_rows: int | None = None, why: str = "",
     header = [f.lower() for f in split_fields(first)]
     dup = [h for h in header if header.count(h) > 1]
     if dup:
-        raise FileFormatError(path, f"column {dup[0]!r} appears twice", header_line)
+        raise FileFormatError(path, f"column {shown(dup[0])} appears twice", header_line)
     rows: list[tuple[int, list[str]]] = []
     for lineno, line in lines[1:]:
         fields = split_fields(line)
@@ -107,21 +107,21 @@ def parse_float(path, lineno: int, column: str, text: str, *, allow_inf: bool = 
     elif word in ("inf", "infinity") and allow_inf:
         x = float(t)
     elif word in ("inf", "infinity", "nan"):
-        raise FileFormatError(path, f"column {column!r}: {shown(text)} is not a finite number",
+        raise FileFormatError(path, f"column {shown(column)}: {shown(text)} is not a finite number",
                               lineno)
     else:
-        raise FileFormatError(path, f"column {column!r}: {shown(text)} is not a number "
+        raise FileFormatError(path, f"column {shown(column)}: {shown(text)} is not a number "
                               "(digits 0-9, sign, point and exponent only)", lineno)
     if math.isinf(x) and not allow_inf:
-        raise FileFormatError(path, f"column {column!r}: {shown(text)} is not a finite number",
+        raise FileFormatError(path, f"column {shown(column)}: {shown(text)} is not a finite number",
                               lineno)
     return x
 
 
 def unknown_column(path, column: str, allowed, lineno: int) -> FileFormatError:
     """Error for an unexpected column, suggesting the closest allowed name."""
-    return FileFormatError(path, f"unknown column {column!r}{suggest(column, allowed)}; allowed: "
-                           f"{', '.join(allowed)}", lineno)
+    return FileFormatError(path, f"unknown column {shown(column)}{suggest(column, allowed)}; "
+                           f"allowed: {', '.join(allowed)}", lineno)
 
 
 def check_columns(path, header, allowed, required, line: int) -> dict[str, int]:
@@ -145,14 +145,15 @@ def parse_int(path, lineno: int | None, column: str, text: str, lo: int | None =
     :class:`FileFormatError` naming line and column (``1_5``, ``³`` and ``٣`` are refused)."""
     t = text.strip()
     if not (t.isascii() and t.lstrip("+-").isdigit() and len(t.lstrip("+-")) + 1 >= len(t)):
-        raise FileFormatError(path, f"column {column!r}: {shown(text)} is not a whole number",
+        raise FileFormatError(path, f"column {shown(column)}: {shown(text)} is not a whole number",
                               lineno)
     if len(t) > 30:
-        raise FileFormatError(path, f"column {column!r}: {shown(text)} is out of range", lineno)
+        raise FileFormatError(path, f"column {shown(column)}: {shown(text)} is out of range",
+                              lineno)
     i = int(t)
     if (lo is not None and i < lo) or (hi is not None and i >= hi):
         span = f"{'' if lo is None else lo}..{'' if hi is None else hi - 1}"
-        raise FileFormatError(path, f"column {column!r}: {shown(i)} is outside {span}", lineno)
+        raise FileFormatError(path, f"column {shown(column)}: {shown(i)} is outside {span}", lineno)
     return i
 
 

@@ -31,7 +31,7 @@ import numpy as np
 
 from ..array import Array, Steering, check_frequency
 from ..elements import ELEMENT_MODELS, Element
-from ..errors import DesignError, FileFormatError, SteradianError, suggest
+from ..errors import DesignError, FileFormatError, SteradianError, shown, suggest
 from ..geometry import LATTICE_KINDS, Geometry, rotation_to
 from ..schema import Section, type_name
 from ..settings import AnalysisOptions
@@ -172,7 +172,7 @@ lattices of :data:`steradian.geometry.LATTICE_KINDS` and a positions file (``csv
 
 def _geometry(t: Section, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
     kind = t.string("kind", choices=tuple(GEOMETRY_KINDS))
-    t.only((*_GEOMETRY_COMMON, *GEOMETRY_KINDS[kind]), f"for kind = {kind!r}")
+    t.only((*_GEOMETRY_COMMON, *GEOMETRY_KINDS[kind]), f"for kind = {shown(kind)}")
     enabled = None
     if kind == "csv":
         if "units" in t:
@@ -285,7 +285,7 @@ def _facing(t: Section, geom: Geometry) -> Geometry:
 def _element(t: Section, ctx: _Context) -> Element:
     model = t.string("model", choices=tuple(ELEMENT_MODELS))
     spec = ELEMENT_MODELS[model]
-    t.only(("model", *spec.keys), f"for model = {model!r}")
+    t.only(("model", *spec.keys), f"for model = {shown(model)}")
     try:
         return spec.build(t, ctx)
     except (DesignError, FileFormatError):
@@ -423,7 +423,7 @@ def _check_horizon(steering: Steering | None, element: Element, geom: Geometry,
         if r0[2] <= 1e-12:
             raise t.error(
                 "theta_deg", f"{steering.theta_deg:g} deg is at or below the horizon of the "
-                f"front-half-space element {element.describe()['model']!r} (must be "
+                f"front-half-space element {shown(element.describe()['model'])} (must be "
                 "below 90)")
         return
     facing = R[:, :, 2] @ r0 > 1e-12
@@ -450,7 +450,7 @@ def _check_sections(d, src) -> None:
                               f"{', '.join(known)}", src)
         if k in SECTIONS and not isinstance(v, dict):
             hint = "" if k == "design" else f" (write it as a [{k}] table)"
-            raise DesignError(k, f"must be a table, got {type_name(v)} {v!r}{hint}", src)
+            raise DesignError(k, f"must be a table, got {type_name(v)} {shown(v)}{hint}", src)
     if "design" not in d:
         raise DesignError("design", "missing section [design] (name, frequency_hz)", src)
     if "geometry" not in d:

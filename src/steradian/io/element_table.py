@@ -48,10 +48,11 @@ def _header_keys(path, comments, first_row: float) -> dict[str, tuple[str, int]]
             continue  # free-text comment (keys are read only before the data)
         key, value = m.group(1), m.group(2)
         if key not in TABLE_KEYS:
-            raise FileFormatError(path, f"unknown header key {key!r}{suggest(key, TABLE_KEYS)};"
-                                  f" keys are {', '.join(TABLE_KEYS)}", n)
+            raise FileFormatError(path, f"unknown header key {shown(key)}"
+                                  f"{suggest(key, TABLE_KEYS)}; keys are "
+                                  f"{', '.join(TABLE_KEYS)}", n)
         if key in header and key != "note":
-            raise FileFormatError(path, f"header key {key!r} given twice (first on line "
+            raise FileFormatError(path, f"header key {shown(key)} given twice (first on line "
                                   f"{header[key][1]})", n)
         header[key] = (value, n)
     return header
@@ -114,24 +115,24 @@ def _settings(path, header) -> tuple[str, str, bool, float | None]:
     """(quantity, components, front_only, frequency_hz) from the header keys."""
     quantity, qline = _need(path, header, "quantity")
     if quantity not in ("field", "gain_dbi"):
-        raise FileFormatError(path, f"quantity must be 'field' or 'gain_dbi', got {quantity!r}"
+        raise FileFormatError(path, f"quantity must be 'field' or 'gain_dbi', got {shown(quantity)}"
                               f"{suggest(quantity, ('field', 'gain_dbi'))}", qline)
     components, cline = header.get("components", ("theta_phi", qline))
     if components not in ("theta_phi", "scalar"):
         raise FileFormatError(path, f"components must be 'theta_phi' or 'scalar', got "
-                              f"{components!r}{suggest(components, ('theta_phi', 'scalar'))}",
+                              f"{shown(components)}{suggest(components, ('theta_phi', 'scalar'))}",
                               cline)
     front_txt, fline = header.get("front_only", ("false", None))
     if front_txt.lower() not in ("true", "false"):
-        raise FileFormatError(path, f"front_only must be 'true' or 'false', got {front_txt!r}",
+        raise FileFormatError(path, f"front_only must be 'true' or 'false', got {shown(front_txt)}",
                               fline)
     freq = None
     if "frequency_hz" in header:
         ftxt, fl = header["frequency_hz"]
         freq = float(ftxt) if NUMBER.fullmatch(ftxt.strip()) else math.nan
         if not (math.isfinite(freq) and freq > 0):
-            raise FileFormatError(path, f"frequency_hz must be a positive number, got {ftxt!r}",
-                                  fl)
+            raise FileFormatError(path, f"frequency_hz must be a positive number, got "
+                                  f"{shown(ftxt)}", fl)
     return quantity, components, front_txt.lower() == "true", freq
 
 
@@ -141,11 +142,11 @@ def _columns(path, header, expected, kind: str) -> list[str]:
     cols = [c.strip() for c in col_txt.split(",")]
     for c in cols:
         if c not in expected:
-            raise FileFormatError(path, f"unknown column {c!r}{suggest(c, expected)} for "
+            raise FileFormatError(path, f"unknown column {shown(c)}{suggest(c, expected)} for "
                                   f"{kind}; expected {', '.join(expected)}", col_line)
     dup = [c for c in cols if cols.count(c) > 1]
     if dup:
-        raise FileFormatError(path, f"column {dup[0]!r} listed twice", col_line)
+        raise FileFormatError(path, f"column {shown(dup[0])} listed twice", col_line)
     missing = [c for c in expected if c not in cols]
     if missing:
         raise FileFormatError(path, f"columns lack {', '.join(missing)} ({kind} needs "
@@ -240,7 +241,7 @@ def write_element_table(path, element: Element, *, theta_step_deg: float | None 
         Significant digits written (17 round-trips doubles exactly).
     """
     if quantity not in ("field", "gain_dbi"):
-        raise SteradianError(f"quantity must be 'field' or 'gain_dbi', got {quantity!r}")
+        raise SteradianError(f"quantity must be 'field' or 'gain_dbi', got {shown(quantity)}")
     if isinstance(element, TabulatedElement):
         dth, dph = element.steps_deg
     else:

@@ -125,7 +125,7 @@ def format_of(path, fmt: str | None = None) -> FileFormat:
     suf = Path(path).suffix.lower()
     if suf not in FORMATS:
         raise SteradianError(f"{path}: cannot tell the weight-file format from the suffix "
-                             f"{suf!r}; use one of {', '.join(FORMATS)} or give the format")
+                             f"{shown(suf)}; use one of {', '.join(FORMATS)} or give the format")
     return WEIGHT_FORMATS[FORMATS[suf]]
 
 
