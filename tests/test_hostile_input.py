@@ -511,3 +511,16 @@ def test_weight_csv_long_field_is_cut_in_the_message(tmp_path):
     text[-1] = ",".join(f)
     p.write_text("\n".join(text) + "\n")
     assert len(_refused(p, r":17: column 'enabled'")) < 300
+
+
+def test_a_5000_character_file_name(tmp_path):
+    d = _design(tmp_path, base=LINE.split("[geometry]")[0] + '[geometry]\nkind = "csv"\n'
+                f'file = "{"y" * 5000}"\n')
+    with pytest.raises(DesignError, match=r"geometry\.file: cannot use"):
+        load_design(d)
+
+
+def test_a_message_quoting_a_huge_number_is_cut(tmp_path):
+    p = _edit(_table(tmp_path, ".csv"), '"phase_step_deg": 22.5',
+              '"phase_step_deg": 1' + "0" * 3000)
+    assert len(_refused(p, r":7: states")) < 600

@@ -7,10 +7,16 @@ stderr and exit code 2; library callers can catch them as ``ValueError``.
 
 from __future__ import annotations
 
-__all__ = ["SteradianError", "DesignError", "FileFormatError", "suggest", "shown", "SHOWN_CHARS"]
+__all__ = ["SteradianError", "DesignError", "FileFormatError", "suggest", "shown", "SHOWN_CHARS",
+           "MAX_MESSAGE_CHARS"]
 
 SHOWN_CHARS = 60
 """Longest value :func:`shown` echoes into a message (longer ones are cut with "...")."""
+
+MAX_MESSAGE_CHARS = 400
+"""Longest message a :class:`DesignError` or :class:`FileFormatError` carries after its
+file and key: every value is already cut by :func:`shown`; this bounds the rest (an error
+of a lower layer quoting a hostile value)."""
 
 
 class SteradianError(ValueError):
@@ -36,6 +42,7 @@ class DesignError(SteradianError):
         if len(key) > 2 * SHOWN_CHARS:  # a hostile file's 5,000-character key
             key = key[:2 * SHOWN_CHARS - 3] + "..."
         where = f"{source}: " if source else ""
+        message = _clip(message)
         super().__init__(f"{where}{key}: {message}" if key else f"{where}{message}")
 
 
@@ -56,7 +63,15 @@ class FileFormatError(SteradianError):
         self.path = str(path)
         self.line = line
         loc = f"{path}:{line}" if line is not None else f"{path}"
-        super().__init__(f"{loc}: {message}")
+        super().__init__(f"{loc}: {_clip(message)}")
+
+
+def _clip(message: str) -> str:
+    """A message cut to :data:`MAX_MESSAGE_CHARS` (a nested error echoing a hostile value)."""
+    message = str(message)
+    if len(message) > MAX_MESSAGE_CHARS:
+        return message[:MAX_MESSAGE_CHARS - 3] + "..."
+    return message
 
 
 def suggest(word, options, cutoff: float = 0.6) -> str:

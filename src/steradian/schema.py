@@ -160,10 +160,15 @@ class Section:
         p = self.string(key)
         if not p.strip():
             raise self.error(key, "must be a file name, got an empty string")
-        full = Path(p).expanduser()
-        full = full if full.is_absolute() else base_dir / full
-        if not full.is_file():
-            raise self.error(key, f"file not found: {full}")
+        try:
+            full = Path(p).expanduser()
+            full = full if full.is_absolute() else base_dir / full
+            found = full.is_file()
+        except (OSError, RuntimeError) as exc:  # a name too long, "~nobody"
+            raise self.error(key, f"cannot use {shown(p)} as a file name "
+                             f"({getattr(exc, 'strerror', None) or exc})") from None
+        if not found:
+            raise self.error(key, f"file not found: {shown(str(full))}")
         return full
 
     def only(self, allowed, context: str = "") -> None:
