@@ -168,7 +168,7 @@ class Section:
             raise self.error(key, f"cannot use {shown(p)} as a file name "
                              f"({getattr(exc, 'strerror', None) or exc})") from None
         if not found:
-            raise self.error(key, f"file not found: {shown(str(full))}")
+            raise self.error(key, f"file not found: {full}")
         return full
 
     def only(self, allowed, context: str = "") -> None:
