@@ -524,3 +524,18 @@ def test_a_message_quoting_a_huge_number_is_cut(tmp_path):
     p = _edit(_table(tmp_path, ".csv"), '"phase_step_deg": 22.5',
               '"phase_step_deg": 1' + "0" * 3000)
     assert len(_refused(p, r":7: states")) < 600
+
+
+def test_toml_integer_of_5000_digits(tmp_path):
+    d = _design(tmp_path, "\n[steering]\nphi_deg = 1" + "0" * 5000 + "\n")
+    with pytest.raises(DesignError, match=r"d\.toml.*4300 digits"):
+        load_design(d)
+
+
+@pytest.mark.parametrize("suffix", [".csv", ".json", ".h"])
+def test_weight_file_json_integer_of_5000_digits(tmp_path, suffix):
+    p = _table(tmp_path, suffix)
+    old = {".csv": '# metadata = {"a": 1}', ".json": '"a": 1',
+           ".h": 'steradian-metadata: {"a":1}'}[suffix]
+    _edit(p, old, old.replace("1", "1" + "0" * 5000))
+    _refused(p, "4300 digits")

@@ -271,6 +271,9 @@ def _comment_block(path, text: str, key: str):
     except json.JSONDecodeError as exc:
         raise FileFormatError(path, f"steradian-{key} comment is not valid JSON ({exc.msg})",
                               text[:mm.start()].count("\n") + 1) from None
+    except ValueError as exc:  # an integer of more than 4,300 digits
+        raise FileFormatError(path, f"steradian-{key} comment: {str(exc).split(';')[0]}",
+                              text[:mm.start()].count("\n") + 1) from None
 
 
 class _Defines:

@@ -122,6 +122,8 @@ def read_beams_json(path) -> BeamTable:
             raise FileFormatError(path, not_a("json", f"not a JSON object ({exc.msg})"),
                                   exc.lineno) from None
         raise FileFormatError(path, f"not valid JSON: {exc.msg}", exc.lineno) from None
+    except ValueError as exc:  # an integer of more than 4,300 digits
+        raise FileFormatError(path, f"not valid JSON: {str(exc).split(';')[0]}") from None
     enc, n, nb = _top(path, doc)
     try:
         states = StateMap.from_dict(doc["states"])

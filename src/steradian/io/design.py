@@ -572,6 +572,8 @@ def read_toml(path) -> dict:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise DesignError("", f"not valid TOML: {exc}", str(path)) from None
+    except ValueError as exc:  # an integer of more than 4,300 digits
+        raise DesignError("", f"not valid TOML: {str(exc).split(';')[0]}", str(path)) from None
     except RecursionError:  # pragma: no cover - check_nesting refuses these first
         raise DesignError("", "values nested too deep", str(path)) from None
 

@@ -62,6 +62,8 @@ def json_value(path, text: str, what: str, line: int | None = None):
     except json.JSONDecodeError as exc:
         raise FileFormatError(path, f"{what}: not valid JSON ({exc.msg})",
                               line if line is not None else exc.lineno) from None
+    except ValueError as exc:  # an integer of more than 4,300 digits
+        raise FileFormatError(path, f"{what}: {str(exc).split(';')[0]}", line) from None
 
 
 def check_extras(path, metadata, metrics, n_beams: int, lines=(None, None)) -> None:
