@@ -539,3 +539,21 @@ def test_weight_file_json_integer_of_5000_digits(tmp_path, suffix):
            ".h": 'steradian-metadata: {"a":1}'}[suffix]
     _edit(p, old, old.replace("1", "1" + "0" * 5000))
     _refused(p, "4300 digits")
+
+
+def test_calibration_gain_of_1e308_db(tmp_path):
+    from steradian.io.calibration_csv import read_calibration
+
+    p = tmp_path / "cal.csv"
+    p.write_text("element,gain_db,phase_deg\n0,0,0\n1,1e308,0\n")
+    with pytest.raises(FileFormatError, match=r"cal\.csv:3: column 'gain_db'"):
+        read_calibration(p, 2)
+
+
+def test_calibration_file_of_many_rows_stops_early(tmp_path):
+    from steradian.io.calibration_csv import read_calibration
+
+    p = tmp_path / "cal.csv"
+    p.write_text("element,gain_db,phase_deg\n" + "0,0,0\n" * 100_000)
+    with pytest.raises(FileFormatError, match=r"cal\.csv:6: .*4 elements"):
+        read_calibration(p, 4)
