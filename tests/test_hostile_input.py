@@ -557,3 +557,14 @@ def test_calibration_file_of_many_rows_stops_early(tmp_path):
     p.write_text("element,gain_db,phase_deg\n" + "0,0,0\n" * 100_000)
     with pytest.raises(FileFormatError, match=r"cal\.csv:6: .*4 elements"):
         read_calibration(p, 4)
+
+
+def test_read_bytes_stops_at_the_limit(tmp_path):
+    """The size limit reads at most limit + 1 bytes, then refuses naming the file."""
+    from steradian.io.text import read_bytes
+
+    p = tmp_path / "big.bin"
+    p.write_bytes(b"x" * 5000)
+    with pytest.raises(FileFormatError, match=r"big\.bin: .*larger than"):
+        read_bytes(p, "test file", 4096)
+    assert len(read_bytes(p, "test file", 5000)) == 5000

@@ -67,13 +67,19 @@ from ..errors import FileFormatError, SteradianError, shown
 from ..quantize import StateMap
 from .atomic import write_bytes
 from .formats import BIN_MAGIC, not_a
+from .text import read_bytes
 
-__all__ = ["write_beams_bin", "read_beams_bin", "MAGIC", "LAYOUT_VERSION", "HEADER_SIZE"]
+__all__ = ["write_beams_bin", "read_beams_bin", "MAGIC", "LAYOUT_VERSION", "HEADER_SIZE",
+           "MAX_BIN_BYTES"]
 
 MAGIC = BIN_MAGIC
 LAYOUT_VERSION = 2
 READS = (1, 2)
 HEADER_SIZE = 64
+
+MAX_BIN_BYTES = 2**30
+"""Largest binary weight file read (1 GiB: 4,000 beams x 65,536 elements of 4-byte states);
+a larger file is refused before it is read."""
 _HEAD = struct.Struct("<8sHHIIBBBBIIddIIII")  # the 64-byte header above
 
 _ENC = {"codes": 1, "iq": 2}
@@ -144,7 +150,7 @@ def read_beams_bin(path) -> BeamTable:
         file), a size that does not match the counts, or codes out of range.
     """
     path = Path(path)
-    data = path.read_bytes()
+    data = read_bytes(path, "bin weight file", MAX_BIN_BYTES)
     if not data.startswith(MAGIC):
         raise FileFormatError(path, not_a("bin", f"magic {shown(data[:8])}, expected "
                                           f"{shown(MAGIC)}"))
