@@ -568,3 +568,30 @@ def test_read_bytes_stops_at_the_limit(tmp_path):
     with pytest.raises(FileFormatError, match=r"big\.bin: .*larger than"):
         read_bytes(p, "test file", 4096)
     assert len(read_bytes(p, "test file", 5000)) == 5000
+
+
+def _gain_table(tmp_path, value, column):
+    p = tmp_path / "g.csv"
+    rows = [[t, ph, 0.0, 0.0] for t in (0, 90, 180) for ph in (0, 90, 180, 270, 360)]
+    rows[7][column] = value
+    p.write_text("# quantity = gain_dbi\n# components = scalar\n# columns = theta_deg, phi_deg, "
+                 "gain_dbi, phase_deg\n" + "".join(",".join(map(str, r)) + "\n" for r in rows))
+    return p
+
+
+@pytest.mark.parametrize("value, column, words", [("1e308", 2, "above 300 dBi"),
+                                                  ("1e308", 1, "phi_deg=1e\\+308 is outside")])
+def test_element_table_absurd_gain_or_phi(tmp_path, value, column, words):
+    """No overflow warning (tests run with warnings as errors): one line naming the line."""
+    with pytest.raises(FileFormatError, match=rf"g\.csv:11: .*{words}"):
+        read_element_table(_gain_table(tmp_path, value, column))
+
+
+def test_positions_csv_normal_of_1e300_is_a_direction(tmp_path):
+    from steradian.io.positions_csv import read_layout
+
+    p = tmp_path / "pos.csv"
+    p.write_text("x_m,y_m,z_m,normal_x,normal_y,normal_z\n0,0,0,1e300,0,1e300\n"
+                 "0.5,0,0,0,0,1\n")
+    layout = read_layout(p)
+    assert np.all(np.isfinite(layout.geometry.orientations))

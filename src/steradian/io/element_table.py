@@ -27,13 +27,18 @@ from ..units import C0, db10, from_db20
 from .atomic import atomic_open
 from .csv_table import NUMBER, read_lines, split_fields
 
-__all__ = ["read_element_table", "write_element_table"]
+__all__ = ["read_element_table", "write_element_table", "MAX_GAIN_DBI"]
 
 
 # ---- CSV reader ---------------------------------------------------------------------------
 
 _KEY_RE = re.compile(r"^([A-Za-z_][A-Za-z0-9_]*)\s*=\s*(.*?)\s*$")
 
+
+MAX_GAIN_DBI = 300.0
+"""Largest gain value read (dBi): the most directive antennas reach about 80 dBi (common
+practice); above 300 dBi the value is a slip, and past ~6,000 dB its linear field
+overflows."""
 
 _WORDS = ("inf", "infinity", "nan")
 """Words a table value may be besides a number (refused with their own message)."""
@@ -177,10 +182,14 @@ def _samples(path, rows, cols, expected, front_only) -> np.ndarray:
                 raise FileFormatError(path, f"{c} is infinite"
                                       + (" (only -inf dBi, a zero field, is allowed)"
                                          if c in db_cols else ""), n)
+            if c in db_cols and x > MAX_GAIN_DBI:
+                raise FileFormatError(path, f"{c}={x:g} is above {MAX_GAIN_DBI:g} dBi", n)
             data[r, j] = x
         th = data[r, 0]
         if not 0.0 <= th <= 180.0:
             raise FileFormatError(path, f"theta_deg={th:g} is outside 0..180", n)
+        if not abs(data[r, 1]) <= 720.0:
+            raise FileFormatError(path, f"phi_deg={data[r, 1]:g} is outside -720..720", n)
         if front_only and th > 90.0 + GRID_TOL:
             raise FileFormatError(path, f"theta_deg={th:g} is behind the front half-space of a "
                                   "front_only table (theta must be at most 90)", n)

@@ -171,8 +171,10 @@ def _layout_rows(path, rows, col, unit: str, scale: float):
         if normals is not None:
             for a, c in enumerate(_NORMALS):
                 normals[r, a] = parse_float(path, lineno, c, fields[col[c]])
-            if np.linalg.norm(normals[r]) == 0:
+            big = float(np.abs(normals[r]).max())
+            if big == 0:
                 raise FileFormatError(path, "normal vector is zero", lineno)
+            normals[r] /= big  # any length: scaled first, so its norm cannot overflow
         if enabled is not None:
             v = fields[col["enabled"]].lower()
             if v not in _TRUE | _FALSE:
