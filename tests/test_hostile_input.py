@@ -595,3 +595,17 @@ def test_positions_csv_normal_of_1e300_is_a_direction(tmp_path):
                  "0.5,0,0,0,0,1\n")
     layout = read_layout(p)
     assert np.all(np.isfinite(layout.geometry.orientations))
+
+
+@pytest.mark.parametrize("suffix, old, new", [
+    (".json", '"phase_code": [0, 0, 0, 0]', f'"phase_code": [{2**70}, 0, 0, 0]'),
+    (".json", '"metadata": {\n  "a": 1\n }', '"metadata": ' + "[" * 5000 + "]" * 5000),
+    (".csv", "# n_beams = 2", "# n_beams = \u00b3"),
+    (".csv", '# metadata = {"a": 1}', "# metadata = [1]"),
+    (".h", "{0, 0}, {0, 0}, {0, 0}, {0, 0},", f"{{{2**70}, 0}}, {{0, 0}}, {{0, 0}}, {{0, 0}},"),
+])
+def test_hostile_weight_files_through_verify(tmp_path, suffix, old, new):
+    """The real command: exit 2, one ``steradian: error:`` line naming the file."""
+    p = _edit(_table(tmp_path, suffix), old, new)
+    d = _design(tmp_path, '\n[element]\nmodel = "isotropic"\n')
+    assert p.name in _one_error_line(["verify", d, p])
