@@ -609,3 +609,11 @@ def test_hostile_weight_files_through_verify(tmp_path, suffix, old, new):
     p = _edit(_table(tmp_path, suffix), old, new)
     d = _design(tmp_path, '\n[element]\nmodel = "isotropic"\n')
     assert p.name in _one_error_line(["verify", d, p])
+
+
+def test_all_zero_weights_through_analyze_weights_option(tmp_path):
+    w = tmp_path / "w.csv"
+    w.write_text("element,real,imag\n" + "".join(f"{i},1e-320,0\n" for i in range(4)))
+    d = _design(tmp_path, '\n[element]\nmodel = "isotropic"\n')
+    msg = _one_error_line(["analyze", d, "--weights", w])
+    assert "w.csv" in msg and "nan" not in msg and "np." not in msg
