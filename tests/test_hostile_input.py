@@ -617,3 +617,17 @@ def test_all_zero_weights_through_analyze_weights_option(tmp_path):
     d = _design(tmp_path, '\n[element]\nmodel = "isotropic"\n')
     msg = _one_error_line(["analyze", d, "--weights", w])
     assert "w.csv" in msg and "nan" not in msg and "np." not in msg
+
+
+@pytest.mark.parametrize("pattern", ['"\\', '"""\\"', "'''\"", "'"])
+def test_nesting_scan_is_linear_for_unterminated_strings(tmp_path, pattern):
+    """Quotes that never close must not make the depth scan quadratic (2 MB in well under a
+    second; a backtracking scan took minutes)."""
+    import time
+
+    from steradian.io.text import check_nesting
+
+    text = pattern * (2**21 // len(pattern)) + "[" * 10
+    t0 = time.perf_counter()
+    check_nesting("x.toml", text)
+    assert time.perf_counter() - t0 < 2.0

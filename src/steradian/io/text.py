@@ -32,8 +32,12 @@ a weight file four; 64 is far above any real file and far below the ~1,000 level
 Python's recursive parsers fail (common practice: parsers of untrusted JSON cap depth in the
 same range, e.g. 128)."""
 
-_SKIP = re.compile(rb'"""(?:[^\\]|\\.)*?"""|\'\'\'.*?\'\'\'|"(?:[^"\\\n]|\\.)*"|\'[^\'\n]*\''
-                   rb"|#[^\n]*", re.DOTALL)
+_SKIP = re.compile(rb'"""(?:[^\\]|\\.)*?(?:"""|\Z)|\'\'\'.*?(?:\'\'\'|\Z)'
+                   rb'|"(?:[^"\\\n]|\\[^\n])*(?:"|$)|\'[^\'\n]*(?:\'|$)|#[^\n]*',
+                   re.DOTALL | re.MULTILINE)
+"""Strings and comments, skipped by the depth scan. An unterminated string runs to the end
+of its line (or of the text, for a multi-line one), so every opening quote matches at once
+and the scan stays linear in the size of the text (the parser refuses such a string)."""
 
 
 def decode_text(path, data: bytes) -> str:
