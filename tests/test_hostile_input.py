@@ -631,3 +631,13 @@ def test_nesting_scan_is_linear_for_unterminated_strings(tmp_path, pattern):
     t0 = time.perf_counter()
     check_nesting("x.toml", text)
     assert time.perf_counter() - t0 < 2.0
+
+
+@pytest.mark.parametrize("count", [2**70, 10**9])
+def test_weight_json_absurd_element_count(tmp_path, count):
+    """No list of ``n_elements`` is built before the file's own lists are counted."""
+    p = _edit(_table(tmp_path, ".json"), '"n_elements": 4', f'"n_elements": {count}')
+    _refused(p)
+    p = _edit(p, '"layout_version": 2', '"layout_version": 1')
+    _edit(p, '"enabled": [1, 1, 1, 1], ', "")
+    _refused(p)

@@ -192,9 +192,9 @@ def _elements(path, el, n: int, version: int):
     keys = {"phase_offset_deg", "positions_m"} | ({"enabled"} if version >= 2 else set())
     if not isinstance(el, dict) or set(el) != keys:
         raise FileFormatError(path, f"'elements' must hold {', '.join(sorted(keys))}")
-    on = el.get("enabled", [1] * n)
-    if (not isinstance(on, list) or len(on) != n
-            or not all(type(x) is int and x in (0, 1) for x in on)):
+    on = el.get("enabled")  # absent in layout 1: every element on
+    if on is not None and (not isinstance(on, list) or len(on) != n
+                           or not all(type(x) is int and x in (0, 1) for x in on)):
         raise FileFormatError(path, f"'elements.enabled' must list {n} values of 0 or 1")
     off = el["phase_offset_deg"]
     if not isinstance(off, list) or len(off) != n:
@@ -203,7 +203,7 @@ def _elements(path, el, n: int, version: int):
     if pos is not None and (not isinstance(pos, list) or len(pos) != n):
         raise FileFormatError(path, f"'elements.positions_m' must list {n} [x, y, z] triples "
                               "or be null")
-    return off, pos, np.array(on, bool)
+    return off, pos, np.ones(len(off), bool) if on is None else np.array(on, bool)
 
 
 def _beam(path, b: int, d, enc: str, n: int):
