@@ -641,3 +641,10 @@ def test_weight_json_absurd_element_count(tmp_path, count):
     p = _edit(p, '"layout_version": 2', '"layout_version": 1')
     _edit(p, '"enabled": [1, 1, 1, 1], ', "")
     _refused(p)
+
+
+@pytest.mark.parametrize("layout", ["9" * 5000, "\u0662"])
+def test_c_header_layout_macro_of_5000_digits_or_arabic_indic(tmp_path, layout):
+    p = _edit(_table(tmp_path, ".h"), "#define STRD_WEIGHTS_LAYOUT 2",
+              f"#define STRD_WEIGHTS_LAYOUT {layout}")
+    assert len(_refused(p)) < 600

@@ -215,7 +215,7 @@ def read_beams_cheader(path) -> BeamTable:
     """
     path = Path(path)
     text = weight_text(path, "h")
-    m = re.search(r"^\s*#define\s+(\w+)_WEIGHTS_LAYOUT\s+(\d+)", text, re.M)
+    m = re.search(r"^\s*#define\s+(\w+)_WEIGHTS_LAYOUT\s+([0-9]{1,9})\b", text, re.M)
     if not m:
         raise FileFormatError(path, not_a("h", "no <PREFIX>_WEIGHTS_LAYOUT macro"))
     up, ver = m.group(1), int(m.group(2))

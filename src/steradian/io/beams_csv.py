@@ -216,8 +216,8 @@ def _header_values(path, meta: dict):
         raise FileFormatError(path, f"format must be {shown(FORMAT_ID)}, got {shown(fmt)}", ln)
     ver, ln = need("layout_version")
     if ver not in [str(v) for v in READS]:
-        raise FileFormatError(path, f"layout_version {ver} is not supported (this steradian "
-                              f"reads {' and '.join(map(str, READS))})", ln)
+        raise FileFormatError(path, f"layout_version {shown(ver)} is not supported (this "
+                              f"steradian reads {' and '.join(map(str, READS))})", ln)
     enc, ln = need("encoding")
     if enc not in ("codes", "iq"):
         raise FileFormatError(path, f"encoding must be 'codes' or 'iq', got {shown(enc)}", ln)
