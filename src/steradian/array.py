@@ -43,7 +43,8 @@ def check_frequency(frequency: float, design_frequency: float,
     f = positive(name, frequency, " Hz")
     ratio = f / float(design_frequency)
     if not 1.0 / FREQUENCY_RATIO_LIMIT <= ratio <= FREQUENCY_RATIO_LIMIT:
-        side = f"{1 / ratio:.3g} times below" if ratio < 1 else f"{ratio:.3g} times above"
+        side = ((f"{1 / ratio:.3g}" if ratio > 1e-300 else "more than 1e300") + " times below"
+                if ratio < 1 else f"{ratio:.3g} times above")
         raise SteradianError(
             f"{name} = {f:g} Hz is {side} the design frequency {design_frequency:g} Hz (more "
             f"than {FREQUENCY_RATIO_LIMIT:g}x away; frequencies are in Hz, e.g. 28e9 for "

@@ -7,7 +7,16 @@ stderr and exit code 2; library callers can catch them as ``ValueError``.
 
 from __future__ import annotations
 
-__all__ = ["SteradianError", "DesignError", "FileFormatError", "suggest"]
+__all__ = ["SteradianError", "DesignError", "FileFormatError", "suggest", "shown", "SHOWN_CHARS",
+           "MAX_MESSAGE_CHARS"]
+
+SHOWN_CHARS = 60
+"""Longest value :func:`shown` echoes into a message (longer ones are cut with "...")."""
+
+MAX_MESSAGE_CHARS = 400
+"""Longest message a :class:`DesignError` or :class:`FileFormatError` carries after its
+file and key: every value is already cut by :func:`shown`; this bounds the rest (an error
+of a lower layer quoting a hostile value)."""
 
 
 class SteradianError(ValueError):
@@ -30,7 +39,10 @@ class DesignError(SteradianError):
     def __init__(self, key: str, message: str, source: str | None = None):
         self.key = key
         self.source = source
+        if len(key) > 2 * SHOWN_CHARS:  # a hostile file's 5,000-character key
+            key = key[:2 * SHOWN_CHARS - 3] + "..."
         where = f"{source}: " if source else ""
+        message = _clip(message)
         super().__init__(f"{where}{key}: {message}" if key else f"{where}{message}")
 
 
@@ -51,7 +63,15 @@ class FileFormatError(SteradianError):
         self.path = str(path)
         self.line = line
         loc = f"{path}:{line}" if line is not None else f"{path}"
-        super().__init__(f"{loc}: {message}")
+        super().__init__(f"{loc}: {_clip(message)}")
+
+
+def _clip(message: str) -> str:
+    """A message cut to :data:`MAX_MESSAGE_CHARS` (a nested error echoing a hostile value)."""
+    message = str(message)
+    if len(message) > MAX_MESSAGE_CHARS:
+        return message[:MAX_MESSAGE_CHARS - 3] + "..."
+    return message
 
 
 def suggest(word, options, cutoff: float = 0.6) -> str:
@@ -62,5 +82,34 @@ def suggest(word, options, cutoff: float = 0.6) -> str:
     """
     import difflib
 
-    hint = difflib.get_close_matches(str(word), [str(o) for o in options], n=1, cutoff=cutoff)
+    hint = difflib.get_close_matches(str(word)[:2 * SHOWN_CHARS], [str(o) for o in options],
+                                     n=1, cutoff=cutoff)
     return f" (did you mean {hint[0]!r}?)" if hint else ""
+
+
+def shown(value, limit: int = SHOWN_CHARS) -> str:
+    """``value`` as a message shows it: plain Python repr, at most ``limit`` characters.
+
+    The one place values are echoed into error messages, so a 5,000-character string or
+    array in a hostile file gives a short line, and numpy scalars read as numbers
+    (``0.5``, never ``np.float64(0.5)``). Strings keep their quotes; arrays show as lists.
+    """
+    if hasattr(value, "tolist") and callable(value.tolist):  # numpy scalar or array
+        try:
+            if getattr(value, "ndim", 0):
+                value = value.ravel()[:limit]
+            value = value.tolist()
+        except (TypeError, ValueError):  # pragma: no cover - exotic array-likes
+            pass
+    if isinstance(value, float):
+        text = repr(value)
+    elif isinstance(value, str):
+        text = repr(value if len(value) <= limit else value[:limit])
+    else:
+        try:
+            text = repr(value)
+        except RecursionError:  # a structure nested too deep to print
+            text = f"<{type(value).__name__} nested too deep to show>"
+    if len(text) > limit:
+        text = text[:limit - 3] + "..."
+    return text

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .budget import require
-from .errors import SteradianError
+from .errors import SteradianError, shown
 from .validate import count, finite_array, positive
 
 __all__ = [
@@ -28,12 +28,18 @@ __all__ = [
     "concentric_rings",
     "rotation_to",
     "COINCIDENT_TOL",
+    "MAX_COORDINATE_M",
     "coincident_pair",
     "LATTICE_KINDS",
 ]
 
 COINCIDENT_TOL = 1e-9
 """Metres: elements closer than this are "at the same position"."""
+
+MAX_COORDINATE_M = 1e8
+"""Metres: a coordinate farther than this from the origin (100,000 km, eight Earth
+diameters) is not a physical element position; it is refused, so that sums of squares and
+the nearest-neighbour search stay far from overflow (a slip of units or a hostile file)."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -65,6 +71,11 @@ class Geometry:
         if len(pos) == 0:
             raise SteradianError("geometry has zero elements")
         pos = finite_array("positions", pos)
+        far = np.abs(pos) > MAX_COORDINATE_M
+        if far.any():
+            n, a = (int(i) for i in np.argwhere(far)[0])
+            raise SteradianError(f"element {n} has {'xyz'[a]} = {float(pos[n, a]):.6g} m, beyond "
+                                 f"+-{MAX_COORDINATE_M:g} m (not a physical position)")
         _check_coincident(pos)
         pos = np.ascontiguousarray(pos)
         pos.setflags(write=False)
@@ -187,7 +198,7 @@ def linear(n: int, d: float, axis: str = "x") -> Geometry:
     d = positive("spacing d", d, " m")
     ax = {"x": 0, "y": 1, "z": 2}.get(axis)
     if ax is None:
-        raise SteradianError(f"axis must be 'x', 'y' or 'z', got {axis!r}")
+        raise SteradianError(f"axis must be 'x', 'y' or 'z', got {shown(axis)}")
     pos = np.zeros((n, 3))
     pos[:, ax] = (np.arange(n) - (n - 1) / 2) * d
     lat = np.zeros((1, 3))

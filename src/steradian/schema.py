@@ -14,7 +14,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import DesignError, suggest
+from .errors import DesignError, shown, suggest
 
 __all__ = ["Section", "MISSING", "type_name"]
 
@@ -79,18 +79,18 @@ class Section:
 
     def _check_number(self, key, v, *, minimum=None, above=None, maximum=None):
         if isinstance(v, bool) or not isinstance(v, (int, float)):
-            raise self.error(key, f"must be a number, got {type_name(v)} {v!r}")
+            raise self.error(key, f"must be a number, got {type_name(v)} {shown(v)}")
         x = float(v)
         if not math.isfinite(x):
-            raise self.error(key, f"must be a finite number, got {v!r}")
+            raise self.error(key, f"must be a finite number, got {shown(v)}")
         if above is not None and not x > above:
             word = "positive" if above == 0 else f"greater than {above:g}"
-            raise self.error(key, f"must be {word}, got {v!r}")
+            raise self.error(key, f"must be {word}, got {shown(v)}")
         if minimum is not None and x < minimum:
             word = "zero or positive" if minimum == 0 else f"at least {minimum:g}"
-            raise self.error(key, f"must be {word}, got {v!r}")
+            raise self.error(key, f"must be {word}, got {shown(v)}")
         if maximum is not None and x > maximum:
-            raise self.error(key, f"must be at most {maximum:g}, got {v!r}")
+            raise self.error(key, f"must be at most {maximum:g}, got {shown(v)}")
         return x
 
     def integer(self, key, default=MISSING, *, minimum=None):
@@ -101,7 +101,7 @@ class Section:
 
     def _check_int(self, key, v, *, minimum=None):
         if isinstance(v, bool) or not isinstance(v, int):
-            raise self.error(key, f"must be a whole number, got {type_name(v)} {v!r}")
+            raise self.error(key, f"must be a whole number, got {type_name(v)} {shown(v)}")
         if minimum is not None and v < minimum:
             raise self.error(key, f"must be at least {minimum}, got {v}")
         return v
@@ -111,16 +111,16 @@ class Section:
         if not given:
             return v
         if not isinstance(v, str):
-            raise self.error(key, f"must be a string, got {type_name(v)} {v!r}")
+            raise self.error(key, f"must be a string, got {type_name(v)} {shown(v)}")
         if choices is not None and v not in choices:
             raise self.error(key, f"must be one of {', '.join(map(repr, choices))}, got "
-                             f"{v!r}{suggest(v, choices)}")
+                             f"{shown(v)}{suggest(v, choices)}")
         return v
 
     def boolean(self, key, default=MISSING):
         v, given = self._get(key, default)
         if given and not isinstance(v, bool):
-            raise self.error(key, f"must be true or false, got {type_name(v)} {v!r}")
+            raise self.error(key, f"must be true or false, got {type_name(v)} {shown(v)}")
         return v
 
     def numbers(self, key, default=MISSING, *, above=None, nonempty=True):
@@ -128,7 +128,8 @@ class Section:
         if not given:
             return v
         if not isinstance(v, list):
-            raise self.error(key, f"must be an array of numbers, got {type_name(v)} {v!r}")
+            raise self.error(key, f"must be an array of numbers, got {type_name(v)} "
+                             f"{shown(v)}")
         if nonempty and not v:
             raise self.error(key, "must not be empty")
         return [self._check_number(f"{key}[{i}]", x, above=above) for i, x in enumerate(v)]
@@ -139,7 +140,7 @@ class Section:
             return v
         if not isinstance(v, list):
             raise self.error(key, f"must be an array of whole numbers, got {type_name(v)} "
-                             f"{v!r}")
+                             f"{shown(v)}")
         if nonempty and not v:
             raise self.error(key, "must not be empty")
         return [self._check_int(f"{key}[{i}]", x, minimum=minimum) for i, x in enumerate(v)]
@@ -149,7 +150,7 @@ class Section:
         if not given:
             return v
         if not isinstance(v, list) or len(v) != 3:
-            raise self.error(key, f"must be an array of 3 numbers, got {v!r}")
+            raise self.error(key, f"must be an array of 3 numbers, got {shown(v)}")
         x = np.array([self._check_number(f"{key}[{i}]", c) for i, c in enumerate(v)])
         if not np.linalg.norm(x) > 0:
             raise self.error(key, "must be a non-zero vector")
@@ -159,9 +160,14 @@ class Section:
         p = self.string(key)
         if not p.strip():
             raise self.error(key, "must be a file name, got an empty string")
-        full = Path(p).expanduser()
-        full = full if full.is_absolute() else base_dir / full
-        if not full.is_file():
+        try:
+            full = Path(p).expanduser()
+            full = full if full.is_absolute() else base_dir / full
+            found = full.is_file()
+        except (OSError, RuntimeError) as exc:  # a name too long, "~nobody"
+            raise self.error(key, f"cannot use {shown(p)} as a file name "
+                             f"({getattr(exc, 'strerror', None) or exc})") from None
+        if not found:
             raise self.error(key, f"file not found: {full}")
         return full
 

@@ -7,7 +7,7 @@ from typing import Any
 
 import numpy as np
 
-from .errors import DesignError, SteradianError, suggest
+from .errors import DesignError, SteradianError, shown, suggest
 
 
 def positive(name: str, value: Any, unit: str = "") -> float:
@@ -15,9 +15,9 @@ def positive(name: str, value: Any, unit: str = "") -> float:
     try:
         x = float(value)
     except (TypeError, ValueError):
-        raise SteradianError(f"{name} must be a number, got {value!r}") from None
+        raise SteradianError(f"{name} must be a number, got {shown(value)}") from None
     if not np.isfinite(x) or x <= 0:
-        raise SteradianError(f"{name} must be positive, got {name}={value!r}{unit}")
+        raise SteradianError(f"{name} must be positive, got {name}={shown(value)}{unit}")
     return x
 
 
@@ -26,9 +26,10 @@ def nonneg(name: str, value: Any, unit: str = "") -> float:
     try:
         x = float(value)
     except (TypeError, ValueError):
-        raise SteradianError(f"{name} must be a number, got {value!r}") from None
+        raise SteradianError(f"{name} must be a number, got {shown(value)}") from None
     if not np.isfinite(x) or x < 0:
-        raise SteradianError(f"{name} must be zero or positive, got {name}={value!r}{unit}")
+        raise SteradianError(f"{name} must be zero or positive, got "
+                             f"{name}={shown(value)}{unit}")
     return x
 
 
@@ -38,7 +39,7 @@ def count(name: str, value: Any, minimum: int = 1) -> int:
         if isinstance(value, float) and value.is_integer():
             value = int(value)
         else:
-            raise SteradianError(f"{name} must be a whole number, got {value!r}")
+            raise SteradianError(f"{name} must be a whole number, got {shown(value)}")
     if value < minimum:
         raise SteradianError(f"{name} must be at least {minimum}, got {name}={value}")
     return int(value)
@@ -62,7 +63,7 @@ def choice(name: str, value: Any, allowed) -> str:
     """Check ``value`` is one of ``allowed`` (e.g. ``typing.get_args`` of a Literal)."""
     if value not in allowed:
         raise SteradianError(f"{name} must be one of {', '.join(map(repr, allowed))}, got "
-                             f"{value!r}{suggest(value, allowed)}")
+                             f"{shown(value)}{suggest(value, allowed)}")
     return value
 
 

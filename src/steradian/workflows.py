@@ -27,7 +27,6 @@ The command line only parses options, calls one of these and renders the result.
 
 from __future__ import annotations
 
-import tomllib
 from dataclasses import replace
 from pathlib import Path
 
@@ -46,7 +45,7 @@ from .beamtable import (
 )
 from .errors import DesignError, SteradianError
 from .io.calibration_csv import read_calibration
-from .io.design import load_design, weights_file_taper
+from .io.design import load_design, read_toml, weights_file_taper
 from .io.directions_csv import read_directions
 from .io.formats import read_weight_file
 from .io.pattern_csv import write_cuts, write_uv
@@ -364,7 +363,7 @@ def design_metadata(design) -> dict:
     meta = {"design": design_block(design)}
     if design.source is not None:
         try:
-            doc = tomllib.loads(Path(design.source).read_text(encoding="utf-8"))
+            doc = read_toml(design.source)
         except (OSError, ValueError):
             doc = {}
         for key in ("taper", "synthesis", "beams"):

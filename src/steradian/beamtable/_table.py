@@ -137,9 +137,12 @@ class BeamTable:
         object.__setattr__(self, "metadata", jsonable(dict(self.metadata or {})))
         if self.metrics is not None:
             m = jsonable(list(self.metrics))
-            if len(m) != len(d) or not all(isinstance(x, dict) for x in m):
-                raise SteradianError(f"metrics must be one dict per beam ({len(d)}), got "
-                                     f"{len(m)}")
+            if len(m) != len(d):
+                raise SteradianError(f"metrics must be one dict per beam: {len(d)} beams, got "
+                                     f"{len(m)} entries")
+            if not all(isinstance(x, dict) for x in m):
+                b = next(i for i, x in enumerate(m) if not isinstance(x, dict))
+                raise SteradianError(f"metrics[{b}] must be a dict, got {type(m[b]).__name__}")
             object.__setattr__(self, "metrics", tuple(m))
 
     @property

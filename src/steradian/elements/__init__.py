@@ -8,7 +8,7 @@ reader (:mod:`steradian.io.design`) looks models up there.
 from ._base import Element, angles_of, element_power, spherical_basis, unit_vectors
 from ._patch import Patch
 from ._registry import ELEMENT_MODELS, DesignContext, ElementModel
-from ._simple import CosinePower, Dipole, HalfWaveDipole, Isotropic, ShortDipole
+from ._simple import MAX_DIPOLE_WL, CosinePower, Dipole, HalfWaveDipole, Isotropic, ShortDipole
 from ._table import COLUMNS, GRID_TOL, SAME_TOL, TABLE_KEYS, TabulatedElement, table_grid
 
 __all__ = [
@@ -18,6 +18,7 @@ __all__ = [
     "Dipole",
     "ShortDipole",
     "HalfWaveDipole",
+    "MAX_DIPOLE_WL",
     "Patch",
     "TabulatedElement",
     "element_power",

@@ -11,13 +11,38 @@ import math
 
 import numpy as np
 
-from ..errors import SteradianError
+from ..errors import SteradianError, shown
 from ..units import C0
 from ..validate import doubtful, positive
 from ._base import Element
 from ._table import peak_intensity
 
-__all__ = ["Patch", "effective_permittivity", "length_extension"]
+__all__ = ["Patch", "effective_permittivity", "length_extension", "PATCH_SIZE_WL", "MAX_EPS_R"]
+
+PATCH_SIZE_WL = (1e-6, 10.0)
+"""Width, length and substrate height of a patch, in free-space wavelengths, must lie in this
+range: real patches are about half a wavelength wide on substrates 0.003 to 0.05 wavelength
+thick (common practice); far outside it the transmission-line model means nothing and its
+formulas overflow or divide 0 by 0 (a unit slip or a hostile file)."""
+
+MAX_EPS_R = 1e4
+"""Largest substrate permittivity accepted (ferroelectric ceramics reach a few thousand;
+common practice)."""
+
+
+def _check_sizes(frequency: float, speed: float, eps_r: float, **dims) -> None:
+    """Refuse a permittivity above :data:`MAX_EPS_R` or a dimension outside
+    :data:`PATCH_SIZE_WL` (in wavelengths at ``frequency``), naming the key."""
+    if eps_r > MAX_EPS_R:
+        raise SteradianError(f"element.eps_r must be at most {MAX_EPS_R:g}, got {eps_r:g}")
+    lo, hi = PATCH_SIZE_WL
+    for name, v in dims.items():
+        wl = v / speed * frequency
+        if not lo <= wl <= hi:
+            size = f"{wl:.3g}" if math.isfinite(wl) else "more than 1e308"
+            raise SteradianError(f"element.{name} = {v:.6g} m is {size} wavelengths at "
+                                 f"{frequency:g} Hz; a patch dimension must be {lo:g} to "
+                                 f"{hi:g} wavelengths")
 
 
 def effective_permittivity(eps_r: float, height_m: float, width_m: float) -> float:
@@ -126,8 +151,10 @@ class Patch(Element):
         self.speed = positive("speed", speed, " m/s")
         er = positive("element.eps_r", eps_r)
         if er < 1:
-            raise SteradianError(f"element.eps_r must be at least 1, got eps_r={eps_r!r}")
+            raise SteradianError(f"element.eps_r must be at least 1, got eps_r={shown(eps_r)}")
         self.eps_r = er
+        _check_sizes(self.frequency, self.speed, er, width_m=self.width_m,
+                     length_m=self.length_m, height_m=self.height_m)
         if self.width_m < self.height_m:
             doubtful(f"patch width W={self.width_m} m is less than the substrate height "
                      f"h={self.height_m} m: the transmission-line formulas assume W/h > 1")
@@ -156,11 +183,12 @@ class Patch(Element):
         er = positive("element.eps_r", eps_r)
         h = positive("element.height_m", height_m, " m")
         if er < 1:
-            raise SteradianError(f"element.eps_r must be at least 1, got eps_r={eps_r!r}")
+            raise SteradianError(f"element.eps_r must be at least 1, got eps_r={shown(eps_r)}")
         if width_m is None:
             w = C0 / (2 * f) * math.sqrt(2 / (er + 1))
         else:
             w = positive("element.width_m", width_m, " m")
+        _check_sizes(f, C0, er, height_m=h, width_m=w)
         ee = effective_permittivity(er, h, w)
         length = C0 / (2 * f * math.sqrt(ee)) - 2 * length_extension(ee, h, w)
         if length <= 0:

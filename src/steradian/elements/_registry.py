@@ -12,10 +12,11 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Protocol
 
+from ..errors import shown
 from ..schema import Section
 from ._base import Element
 from ._patch import Patch
-from ._simple import CosinePower, Dipole, Isotropic, ShortDipole
+from ._simple import MAX_DIPOLE_WL, CosinePower, Dipole, Isotropic, ShortDipole
 from ._table import TabulatedElement
 
 __all__ = ["ElementModel", "ELEMENT_MODELS", "DesignContext"]
@@ -61,6 +62,9 @@ def _dipole(t: Section, ctx: DesignContext) -> Element:
                       "element.length_wl (wavelengths)")
     length = t.number(has[0], above=0)
     if has[0] == "length_wl":
+        if length > MAX_DIPOLE_WL:
+            raise t.error("length_wl", f"must be at most {MAX_DIPOLE_WL:g} wavelengths, got "
+                          f"{shown(length)}")
         length *= ctx.wavelength
     return Dipole(length, _axis(t), ctx.frequency, ctx.speed)
 

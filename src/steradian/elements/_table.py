@@ -51,7 +51,7 @@ import math
 
 import numpy as np
 
-from ..errors import SteradianError
+from ..errors import SteradianError, shown
 from ..sphere import peak_value
 from ..validate import doubtful
 from ._base import Element, angles_of, spherical_basis, unit_vectors
@@ -175,6 +175,15 @@ class TabulatedElement(Element):
             if not np.all(np.isfinite(c)):
                 idx = tuple(np.argwhere(~np.isfinite(c))[0].tolist())
                 raise SteradianError(f"{name} contains NaN or infinity at index {idx}")
+        # Patterns are relative: scale by the largest component first, so values near the
+        # float limits (1e308, 1e-320) neither overflow when squared nor lose their bits.
+        big = max(max(float(np.abs(c.real).max()), float(np.abs(c.imag).max())) for c in comps)
+        if big == 0:
+            raise SteradianError("the tabulated field is zero everywhere")
+        if big < np.finfo(float).tiny:
+            raise SteradianError(f"the tabulated field is at most {big:.3g}, below the "
+                                 "smallest normal double (2.2e-308): scale the table")
+        comps = [c / big for c in comps]
 
         th, ph, comps, dth, dph = self._regular_axes(th, ph, comps)
         self._theta_deg = th
@@ -351,7 +360,8 @@ def table_grid(front_only, dth, dph):
     npf = round(360.0 / dph)
     if nt < 2 or abs(nt * dth - top) > GRID_TOL:
         raise SteradianError(f"theta_step_deg must divide {top:g} into at least 2 steps, "
-                             f"got {dth!r}")
+                             f"got {shown(dth)}")
     if npf < 4 or abs(npf * dph - 360.0) > GRID_TOL:
-        raise SteradianError(f"phi_step_deg must divide 360 into at least 4 steps, got {dph!r}")
+        raise SteradianError(f"phi_step_deg must divide 360 into at least 4 steps, got "
+                             f"{shown(dph)}")
     return np.linspace(0.0, top, nt + 1), 360.0 * np.arange(npf) / npf

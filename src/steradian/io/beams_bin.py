@@ -63,17 +63,23 @@ from pathlib import Path
 import numpy as np
 
 from ..beamtable import BeamTable, Encoding
-from ..errors import FileFormatError, SteradianError
+from ..errors import FileFormatError, SteradianError, shown
 from ..quantize import StateMap
 from .atomic import write_bytes
 from .formats import BIN_MAGIC, not_a
+from .text import read_bytes
 
-__all__ = ["write_beams_bin", "read_beams_bin", "MAGIC", "LAYOUT_VERSION", "HEADER_SIZE"]
+__all__ = ["write_beams_bin", "read_beams_bin", "MAGIC", "LAYOUT_VERSION", "HEADER_SIZE",
+           "MAX_BIN_BYTES"]
 
 MAGIC = BIN_MAGIC
 LAYOUT_VERSION = 2
 READS = (1, 2)
 HEADER_SIZE = 64
+
+MAX_BIN_BYTES = 2**30
+"""Largest binary weight file read (1 GiB: 4,000 beams x 65,536 elements of 4-byte states);
+a larger file is refused before it is read."""
 _HEAD = struct.Struct("<8sHHIIBBBBIIddIIII")  # the 64-byte header above
 
 _ENC = {"codes": 1, "iq": 2}
@@ -106,7 +112,7 @@ def write_beams_bin(path, table: BeamTable, encoding: Encoding | None = None,
     st = t.states
     if layout_version not in READS:
         raise SteradianError(f"binary layout_version must be one of {READS}, got "
-                             f"{layout_version!r}")
+                             f"{shown(layout_version)}")
     if layout_version == 1 and not t.enabled.all():
         raise SteradianError("binary layout version 1 has no enable mask; the table has "
                              f"{t.n_elements - t.n_enabled} disabled element(s): write version 2")
@@ -144,16 +150,17 @@ def read_beams_bin(path) -> BeamTable:
         file), a size that does not match the counts, or codes out of range.
     """
     path = Path(path)
-    data = path.read_bytes()
+    data = read_bytes(path, "bin weight file", MAX_BIN_BYTES)
     if not data.startswith(MAGIC):
-        raise FileFormatError(path, not_a("bin", f"magic {data[:8]!r}, expected {MAGIC!r}"))
+        raise FileFormatError(path, not_a("bin", f"magic {shown(data[:8])}, expected "
+                                          f"{shown(MAGIC)}"))
     if len(data) < HEADER_SIZE:
         raise FileFormatError(path, f"file is {len(data)} bytes, shorter than the "
                               f"{HEADER_SIZE}-byte header")
     (magic, ver, hsize, n, nb, enc, amp, flags, res, n_ph, n_amp, ph_step, amp_step,
      psize, pcrc, res2, hcrc) = _HEAD.unpack_from(data)
     if magic != MAGIC:
-        raise FileFormatError(path, not_a("bin", f"magic {magic!r}, expected {MAGIC!r}"))
+        raise FileFormatError(path, not_a("bin", f"magic {shown(magic)}, expected {shown(MAGIC)}"))
     if ver not in READS:
         raise FileFormatError(path, f"layout version {ver} is not supported (this steradian "
                               f"reads {' and '.join(map(str, READS))})")
@@ -176,8 +183,8 @@ def read_beams_bin(path) -> BeamTable:
         raise FileFormatError(path, f"header payload size {psize} does not match {nb} beams x "
                               f"{n} elements ({want} bytes)")
     if len(data) != HEADER_SIZE + psize:
-        what = "truncated" if len(data) < HEADER_SIZE + psize else "has trailing bytes"
-        raise FileFormatError(path, f"file is {what}: {len(data)} bytes, expected "
+        what = "is truncated" if len(data) < HEADER_SIZE + psize else "has trailing bytes"
+        raise FileFormatError(path, f"file {what}: {len(data)} bytes, expected "
                               f"{HEADER_SIZE + psize}")
     payload = data[HEADER_SIZE:]
     got = zlib.crc32(payload)

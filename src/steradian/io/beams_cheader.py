@@ -48,10 +48,12 @@ from pathlib import Path
 import numpy as np
 
 from ..beamtable import IQ_SCALE, BeamTable
-from ..errors import FileFormatError, SteradianError
+from ..errors import FileFormatError, SteradianError, shown
 from ..quantize import StateMap
 from .atomic import write_text
-from .formats import not_a, weight_text
+from .csv_table import NUMBER
+from .formats import CODE_LIMIT, check_extras, not_a, weight_text
+from .text import check_nesting
 
 __all__ = ["write_beams_cheader", "read_beams_cheader", "LAYOUT_VERSION"]
 
@@ -89,7 +91,7 @@ def write_beams_cheader(path, table: BeamTable, prefix: str = "strd", encoding=N
         State encoding; default the table's own ("iq": int16 {I, Q} in Q1.15).
     """
     if not isinstance(prefix, str) or not _IDENT.match(prefix):
-        raise SteradianError(f"C prefix must be a C identifier, got {prefix!r}")
+        raise SteradianError(f"C prefix must be a C identifier, got {shown(prefix)}")
     table = table if encoding is None else table.as_encoding(encoding)
     lo, up = prefix.lower(), prefix.upper()
     lines = _comment_lines(table, lo) + _macro_lines(table, up) + _array_lines(table, lo, up)
@@ -198,6 +200,8 @@ def _array_lines(t: BeamTable, lo: str, up: str) -> list[str]:
 _ARRAY = re.compile(r"static\s+const\s+(double|uint16_t|int16_t|uint8_t)\s+(\w+)\s*"
                     r"((?:\[[^\]]*\])+)\s*=\s*\{(.*?)\}\s*;", re.S)
 _DEFINE = re.compile(r"^\s*#define\s+(\w+)\s+(\S+)", re.M)
+_C_INT = re.compile(r"[+-]?(?:0[xX][0-9a-fA-F]{1,16}|0|[1-9][0-9]{0,18})")
+"""A whole number as the header writes it (decimal, or hex as in ``0xFFFF``)."""
 
 
 def read_beams_cheader(path) -> BeamTable:
@@ -211,7 +215,7 @@ def read_beams_cheader(path) -> BeamTable:
     """
     path = Path(path)
     text = weight_text(path, "h")
-    m = re.search(r"^\s*#define\s+(\w+)_WEIGHTS_LAYOUT\s+(\d+)", text, re.M)
+    m = re.search(r"^\s*#define\s+(\w+)_WEIGHTS_LAYOUT\s+([0-9]{1,9})\b", text, re.M)
     if not m:
         raise FileFormatError(path, not_a("h", "no <PREFIX>_WEIGHTS_LAYOUT macro"))
     up, ver = m.group(1), int(m.group(2))
@@ -222,6 +226,7 @@ def read_beams_cheader(path) -> BeamTable:
     meta, metrics = (_comment_block(path, text, key) for key in ("metadata", "metrics"))
     code = re.sub(r"/\*.*?\*/", " ", text, flags=re.S)
     defines = _Defines(path, up, dict(_DEFINE.findall(code)))
+    check_extras(path, meta, metrics, defines("N_BEAMS", int))
     n, nb, enc = defines("N_ELEMENTS", int), defines("N_BEAMS", int), defines("ENCODING", int)
     if enc not in (1, 2):
         raise FileFormatError(path, f"{up}_ENCODING must be 1 or 2, got {enc}")
@@ -261,9 +266,13 @@ def _comment_block(path, text: str, key: str):
     if not mm:
         return None
     try:
+        check_nesting(path, mm.group(1), line_of=text[:mm.start()].count("\n") + 1)
         return json.loads(mm.group(1))
     except json.JSONDecodeError as exc:
         raise FileFormatError(path, f"steradian-{key} comment is not valid JSON ({exc.msg})",
+                              text[:mm.start()].count("\n") + 1) from None
+    except ValueError as exc:  # an integer of more than 4,300 digits
+        raise FileFormatError(path, f"steradian-{key} comment: {str(exc).split(';')[0]}",
                               text[:mm.start()].count("\n") + 1) from None
 
 
@@ -277,11 +286,11 @@ class _Defines:
         full = f"{self.up}_{name}"
         if full not in self.defines:
             raise FileFormatError(self.path, f"missing macro {full}")
-        try:
-            return kind(self.defines[full])
-        except ValueError:
-            raise FileFormatError(self.path, f"macro {full} = {self.defines[full]!r} is not a "
-                                  f"{kind.__name__}") from None
+        text = self.defines[full]
+        if not (NUMBER if kind is float else _C_INT).fullmatch(text) or len(text) > 40:
+            raise FileFormatError(self.path, f"macro {full} = {shown(text)} is not a "
+                                  f"{kind.__name__}")
+        return kind(text) if kind is float else int(text, 0)
 
 
 def _states(path, define: _Defines, up: str) -> StateMap:
@@ -303,12 +312,15 @@ class _Arrays:
         self.path, self.lo, self.arrays = path, lo, {}
         for ctype, name, _dims, body in _ARRAY.findall(code):
             vals = [v for v in re.split(r"[\s,{}]+", body) if v]
-            try:
-                self.arrays[name] = (ctype, np.array([float(v) if ctype == "double" else int(v, 0)
-                                                      for v in vals]))
-            except ValueError:
-                raise FileFormatError(path, f"array {name} holds a value that is not a "
-                                      "number") from None
+            num = NUMBER if ctype == "double" else _C_INT
+            bad = next((v for v in vals if not num.fullmatch(v)), None)
+            if bad is None and ctype != "double":
+                vals = [int(v, 0) for v in vals]
+                bad = next((v for v in vals if not -CODE_LIMIT <= v < CODE_LIMIT), None)
+            if bad is not None:
+                raise FileFormatError(path, f"array {name} holds {shown(bad)}, not a "
+                                      f"{'number' if ctype == 'double' else 'value of ' + ctype}")
+            self.arrays[name] = (ctype, np.array(vals, float if ctype == "double" else np.int64))
 
     def has(self, name: str) -> bool:
         return f"{self.lo}_{name}" in self.arrays

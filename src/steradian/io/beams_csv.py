@@ -41,19 +41,18 @@ round-trip form, so a write-read cycle returns bit-identical tables.
 from __future__ import annotations
 
 import json
-import math
 import re
 from pathlib import Path
 
 import numpy as np
 
 from ..beamtable import IQ_SCALE, BeamTable
-from ..errors import FileFormatError, SteradianError
+from ..errors import FileFormatError, SteradianError, shown
 from ..quantize import StateMap
 from ..units import db20, from_db20, wrap_deg
 from .atomic import write_text
-from .csv_table import read_lines, split_fields
-from .formats import not_a, weight_text
+from .csv_table import parse_float, parse_int, read_lines, split_fields
+from .formats import CODE_LIMIT, check_extras, json_value, not_a, weight_text
 
 __all__ = ["write_beams_csv", "read_beams_csv"]
 
@@ -61,6 +60,8 @@ FORMAT_ID = "steradian-beam-weights"
 LAYOUT_VERSION = 2
 READS = (1, 2)
 _META = re.compile(r"^\s*([a-z_]+)\s*=\s*(.*)$")
+_NOT_NUMERIC = re.compile(r"[^0-9eE+\-.,inf]")
+"""A character no field of a well-formed row holds (then the strict row-by-row parse runs)."""
 _READING = ("amplitude", "amplitude_db", "phase_deg")
 
 
@@ -147,8 +148,8 @@ def read_beams_csv(path) -> BeamTable:
     if header != want:
         missing = [c for c in want if c not in header]
         extra = [c for c in header if c not in want]
-        what = (f"missing column {missing[0]!r}" if missing else
-                f"unexpected column {extra[0]!r}" if extra else "columns out of order")
+        what = (f"missing column {shown(missing[0])}" if missing else
+                f"unexpected column {shown(extra[0])}" if extra else "columns out of order")
         raise FileFormatError(path, f"{what}; expected {','.join(want)}", hline)
     if len(body) != n * nb:
         raise FileFormatError(path, f"has {len(body)} rows, expected n_beams x n_elements = "
@@ -184,11 +185,11 @@ def _enabled_column(path, body, col: int, ncol: int, n: int):
             raise FileFormatError(path, f"expected {ncol} fields, got {len(f)}", lineno)
         v = f.pop(col)
         if v not in ("0", "1"):
-            raise FileFormatError(path, f"column 'enabled' must be 0 or 1, got {v!r}", lineno)
+            raise FileFormatError(path, f"column 'enabled' must be 0 or 1, got {shown(v)}", lineno)
         try:
             e = int(f[3])
         except ValueError:
-            raise FileFormatError(path, f"column 'element': {f[3]!r} is not a whole number",
+            raise FileFormatError(path, f"column 'element': {shown(f[3])} is not a whole number",
                                   lineno) from None
         if 0 <= e < n:
             if on[e] < 0:
@@ -212,35 +213,35 @@ def _header_values(path, meta: dict):
         raise FileFormatError(path, not_a("csv", f"no '# format = {FORMAT_ID}' line"))
     fmt, ln = meta["format"]
     if fmt != FORMAT_ID:
-        raise FileFormatError(path, f"format must be {FORMAT_ID!r}, got {fmt!r}", ln)
+        raise FileFormatError(path, f"format must be {shown(FORMAT_ID)}, got {shown(fmt)}", ln)
     ver, ln = need("layout_version")
     if ver not in [str(v) for v in READS]:
-        raise FileFormatError(path, f"layout_version {ver} is not supported (this steradian "
-                              f"reads {' and '.join(map(str, READS))})", ln)
+        raise FileFormatError(path, f"layout_version {shown(ver)} is not supported (this "
+                              f"steradian reads {' and '.join(map(str, READS))})", ln)
     enc, ln = need("encoding")
     if enc not in ("codes", "iq"):
-        raise FileFormatError(path, f"encoding must be 'codes' or 'iq', got {enc!r}", ln)
+        raise FileFormatError(path, f"encoding must be 'codes' or 'iq', got {shown(enc)}", ln)
     counts = {}
     for key in ("n_elements", "n_beams"):
         v, ln = need(key)
-        if not v.isdigit() or int(v) < 1:
-            raise FileFormatError(path, f"{key} must be a whole number >= 1, got {v!r}", ln)
+        if not (v.isascii() and v.isdigit()) or len(v) > 12 or int(v) < 1:
+            raise FileFormatError(path, f"{key} must be a whole number >= 1, got {shown(v)}",
+                                  ln)
         counts[key] = int(v)
     n, nb = counts["n_elements"], counts["n_beams"]
     jsons = {}
     for key in ("states", "metadata", "metrics"):
         if key in meta:
             v, ln = meta[key]
-            try:
-                jsons[key] = json.loads(v)
-            except json.JSONDecodeError as exc:
-                raise FileFormatError(path, f"{key}: not valid JSON ({exc.msg})", ln) from None
+            jsons[key] = json_value(path, v, key, ln)
     if "states" not in jsons:
         need("states")
     try:
         states = StateMap.from_dict(jsons["states"])
-    except (SteradianError, TypeError) as exc:
+    except (ValueError, TypeError, OverflowError) as exc:  # SteradianError is a ValueError
         raise FileFormatError(path, f"states: {exc}", meta["states"][1]) from None
+    check_extras(path, jsons.get("metadata"), jsons.get("metrics"), counts["n_beams"],
+                 tuple(meta[k][1] if k in meta else None for k in ("metadata", "metrics")))
     return enc, n, nb, states, jsons, int(ver)
 
 
@@ -249,6 +250,8 @@ def _parse_fast(body, n, nb, with_pos, ncol):
     fields = [s.split(",") for _, s in body]
     if any(len(f) != ncol for f in fields):
         return None
+    if any(_NOT_NUMERIC.search(s) for _, s in body):  # numpy's parser takes 1_5 and ٣
+        return None
     A = np.array(fields)
     try:
         beam = A[:, 0].astype(np.int64)
@@ -256,7 +259,7 @@ def _parse_fast(body, n, nb, with_pos, ncol):
         k_off = 7 if with_pos else 4
         fl = A[:, [1, 2, *range(4, k_off + 4)]].astype(float)
         st = A[:, k_off + 4:k_off + 6].astype(np.int64)
-    except ValueError:
+    except (ValueError, OverflowError):
         return None
     if np.isnan(fl).any() or np.any((beam < 0) | (beam >= nb) | (elem < 0) | (elem >= n)):
         return None
@@ -293,24 +296,12 @@ def _parse_rows(path, body, n, nb, with_pos, enc, ncol):
     row_line = np.zeros((nb, n), int)
 
     def num(lineno, col, text):
-        try:
-            v = float(text)
-        except ValueError:
-            raise FileFormatError(path, f"column {col!r}: {text!r} is not a number",
-                                  lineno) from None
-        if math.isnan(v):
-            raise FileFormatError(path, f"column {col!r} is NaN", lineno)
-        return v
+        return parse_float(path, lineno, col, text, allow_inf=True)
 
     def whole(lineno, col, text, hi=None):
-        try:
-            v = int(text)
-        except ValueError:
-            raise FileFormatError(path, f"column {col!r}: {text!r} is not a whole number",
-                                  lineno) from None
-        if hi is not None and not 0 <= v < hi:
-            raise FileFormatError(path, f"column {col!r}: {v} is outside 0..{hi - 1}", lineno)
-        return v
+        if hi is None:  # a hardware code or I/Q integer
+            return parse_int(path, lineno, col, text, -CODE_LIMIT, CODE_LIMIT)
+        return parse_int(path, lineno, col, text, 0, hi)
 
     for lineno, s in body:
         f = s.split(",")
@@ -360,6 +351,7 @@ def _check_reading(path, table, reading, row_line):
             k = _READING.index(name)
             cols = "/".join(_state_cols(table.encoding))
             raise FileFormatError(
-                path, f"column {name!r} ({reading[b, e, k]!r}) disagrees with the {cols} of "
-                f"beam {b}, element {e} ({want[b, e]!r}); edit the state columns, the "
+                path, f"column {shown(name)} ({shown(reading[b, e, k])}) disagrees with the "
+                f"{cols} of "
+                f"beam {b}, element {e} ({shown(want[b, e])}); edit the state columns, the "
                 "amplitude and phase columns are for reading", int(row_line[b, e]))

@@ -40,10 +40,11 @@ from pathlib import Path
 import numpy as np
 
 from ..beamtable import BeamTable
-from ..errors import FileFormatError, SteradianError
+from ..errors import FileFormatError, shown
 from ..quantize import StateMap
 from .atomic import write_text
-from .formats import not_a, weight_text
+from .formats import CODE_LIMIT, check_extras, not_a, weight_text
+from .text import check_nesting
 
 __all__ = ["write_beams_json", "read_beams_json", "FORMAT_ID", "LAYOUT_VERSION"]
 
@@ -113,6 +114,7 @@ def read_beams_json(path) -> BeamTable:
     """
     path = Path(path)
     text = weight_text(path, "json")
+    check_nesting(path, text)
     try:
         doc = json.loads(text)
     except json.JSONDecodeError as exc:
@@ -120,14 +122,16 @@ def read_beams_json(path) -> BeamTable:
             raise FileFormatError(path, not_a("json", f"not a JSON object ({exc.msg})"),
                                   exc.lineno) from None
         raise FileFormatError(path, f"not valid JSON: {exc.msg}", exc.lineno) from None
+    except ValueError as exc:  # an integer of more than 4,300 digits
+        raise FileFormatError(path, f"not valid JSON: {str(exc).split(';')[0]}") from None
     enc, n, nb = _top(path, doc)
     try:
         states = StateMap.from_dict(doc["states"])
-    except (SteradianError, TypeError) as exc:
+    except (ValueError, TypeError, OverflowError) as exc:  # SteradianError is a ValueError
         raise FileFormatError(path, f"'states': {exc}") from None
     off, pos, on = _elements(path, doc["elements"], n, doc["layout_version"])
     if "n_enabled" in doc and doc["n_enabled"] != int(np.count_nonzero(on)):
-        raise FileFormatError(path, f"'n_enabled' is {doc['n_enabled']!r} but "
+        raise FileFormatError(path, f"'n_enabled' is {shown(doc['n_enabled'])} but "
                               f"'elements.enabled' turns {int(np.count_nonzero(on))} on")
     beams = doc["beams"]
     if not isinstance(beams, list) or len(beams) != nb:
@@ -143,12 +147,13 @@ def read_beams_json(path) -> BeamTable:
     if any(has_m) and not all(has_m):
         raise FileFormatError(path, f"beams[{has_m.index(not has_m[0])}]: metrics must be on "
                               "every beam or none")
+    check_extras(path, doc.get("metadata"), metrics if all(has_m) else None, nb)
     try:
         return BeamTable(states, np.array(dirs, float), np.array(codes, np.int64), enc,
                          np.array(off, float), None if pos is None else np.array(pos, float),
                          doc.get("metadata") or {}, tuple(metrics) if all(has_m) else None,
                          on)
-    except (SteradianError, TypeError, ValueError) as exc:
+    except (TypeError, ValueError, OverflowError) as exc:  # SteradianError is a ValueError
         raise FileFormatError(path, str(exc)) from None
 
 
@@ -157,28 +162,28 @@ def _top(path, doc) -> tuple[str, int, int]:
     if not isinstance(doc, dict):
         raise FileFormatError(path, not_a("json", "the file must hold one JSON object"))
     if doc.get("format") != FORMAT_ID:
-        raise FileFormatError(path, not_a("json", f"'format' must be {FORMAT_ID!r}, got "
-                                          f"{doc.get('format')!r}"))
+        raise FileFormatError(path, not_a("json", f"'format' must be {shown(FORMAT_ID)}, got "
+                                          f"{shown(doc.get('format'))}"))
     ver = doc.get("layout_version")
     if isinstance(ver, bool) or ver not in READS:
-        raise FileFormatError(path, f"layout_version {ver!r} is not supported (this "
+        raise FileFormatError(path, f"layout_version {shown(ver)} is not supported (this "
                               f"steradian reads {' and '.join(map(str, READS))})")
     for k in doc:
         if k not in _TOP:
-            raise FileFormatError(path, f"unknown key {k!r}")
+            raise FileFormatError(path, f"unknown key {shown(k)}")
     for k in ("encoding", "n_elements", "n_beams", "states", "elements", "beams"):
         if k not in doc:
-            raise FileFormatError(path, f"missing key {k!r}")
+            raise FileFormatError(path, f"missing key {shown(k)}")
     enc = doc["encoding"]
     if enc not in ("codes", "iq"):
-        raise FileFormatError(path, f"'encoding' must be 'codes' or 'iq', got {enc!r}")
+        raise FileFormatError(path, f"'encoding' must be 'codes' or 'iq', got {shown(enc)}")
     if enc == "iq" and doc.get("iq_format") != "Q1.15":
         raise FileFormatError(path, f"'iq_format' must be 'Q1.15', got "
-                              f"{doc.get('iq_format')!r}")
+                              f"{shown(doc.get('iq_format'))}")
     n, nb = doc["n_elements"], doc["n_beams"]
     for k, v in (("n_elements", n), ("n_beams", nb)):
         if isinstance(v, bool) or not isinstance(v, int) or v < 1:
-            raise FileFormatError(path, f"{k!r} must be a whole number >= 1, got {v!r}")
+            raise FileFormatError(path, f"{shown(k)} must be a whole number >= 1, got {shown(v)}")
     return enc, n, nb
 
 
@@ -187,9 +192,9 @@ def _elements(path, el, n: int, version: int):
     keys = {"phase_offset_deg", "positions_m"} | ({"enabled"} if version >= 2 else set())
     if not isinstance(el, dict) or set(el) != keys:
         raise FileFormatError(path, f"'elements' must hold {', '.join(sorted(keys))}")
-    on = el.get("enabled", [1] * n)
-    if (not isinstance(on, list) or len(on) != n
-            or not all(type(x) is int and x in (0, 1) for x in on)):
+    on = el.get("enabled")  # absent in layout 1: every element on
+    if on is not None and (not isinstance(on, list) or len(on) != n
+                           or not all(type(x) is int and x in (0, 1) for x in on)):
         raise FileFormatError(path, f"'elements.enabled' must list {n} values of 0 or 1")
     off = el["phase_offset_deg"]
     if not isinstance(off, list) or len(off) != n:
@@ -198,7 +203,7 @@ def _elements(path, el, n: int, version: int):
     if pos is not None and (not isinstance(pos, list) or len(pos) != n):
         raise FileFormatError(path, f"'elements.positions_m' must list {n} [x, y, z] triples "
                               "or be null")
-    return off, pos, np.array(on, bool)
+    return off, pos, np.ones(len(off), bool) if on is None else np.array(on, bool)
 
 
 def _beam(path, b: int, d, enc: str, n: int):
@@ -209,14 +214,15 @@ def _beam(path, b: int, d, enc: str, n: int):
         raise FileFormatError(path, f"beams[{b}] must be an object")
     for k in d:
         if k not in allowed:
-            raise FileFormatError(path, f"beams[{b}]: unknown key {k!r} for encoding {enc!r}")
+            raise FileFormatError(path, f"beams[{b}]: unknown key {shown(k)} for encoding "
+                                  f"{shown(enc)}")
     if d.get("beam") != b:
-        raise FileFormatError(path, f"beams[{b}] has 'beam' = {d.get('beam')!r}; beams must "
+        raise FileFormatError(path, f"beams[{b}] has 'beam' = {shown(d.get('beam'))}; beams must "
                               "be numbered 0, 1, 2, ... in order")
     for k in ("theta_deg", "phi_deg"):
         v = d.get(k)
-        if isinstance(v, bool) or not isinstance(v, (int, float)):
-            raise FileFormatError(path, f"beams[{b}].{k} must be a number, got {v!r}")
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or abs(v) > 1e300:
+            raise FileFormatError(path, f"beams[{b}].{k} must be a number, got {shown(v)}")
     pair = []
     for k in keys:
         v = d.get(k)
@@ -225,7 +231,9 @@ def _beam(path, b: int, d, enc: str, n: int):
         if len(v) != n:
             raise FileFormatError(path, f"beams[{b}].{k} has {len(v)} entries but n_elements "
                                   f"is {n}")
-        if not all(isinstance(x, int) and not isinstance(x, bool) for x in v):
-            raise FileFormatError(path, f"beams[{b}].{k} must hold whole numbers")
+        if not all(isinstance(x, int) and not isinstance(x, bool)
+                   and -CODE_LIMIT <= x < CODE_LIMIT for x in v):
+            raise FileFormatError(path, f"beams[{b}].{k} must hold whole numbers in "
+                                  f"-2^31..2^31-1")
         pair.append(v)
     return (float(d["theta_deg"]), float(d["phi_deg"])), pair

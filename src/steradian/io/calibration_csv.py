@@ -19,10 +19,16 @@ from ..errors import FileFormatError
 from ..units import from_db20
 from .csv_table import check_columns, parse_float, parse_index, read_table
 
-__all__ = ["read_calibration", "CALIBRATION_COLUMNS"]
+__all__ = ["read_calibration", "CALIBRATION_COLUMNS", "MAX_GAIN_DB"]
 
 CALIBRATION_COLUMNS = ("element", "gain_db", "phase_deg")
 """The columns of a calibration file (all required, any order)."""
+
+
+MAX_GAIN_DB = 200.0
+"""Largest calibration gain magnitude read (dB): channels differ from nominal by tens of dB
+at most (common practice); beyond 200 dB the value is a slip, and past ~6,000 dB the linear
+factor overflows."""
 
 
 def read_calibration(path, n: int | None = None) -> np.ndarray:
@@ -37,7 +43,8 @@ def read_calibration(path, n: int | None = None) -> np.ndarray:
     FileFormatError
         Naming the line for a bad number, a duplicate or missing element, or a wrong count.
     """
-    header, rows, hline, _ = read_table(path)
+    header, rows, hline, _ = read_table(
+        path, n, "" if n is None else f" (the array has {n} elements)")
     col = check_columns(path, header, CALIBRATION_COLUMNS, CALIBRATION_COLUMNS, hline)
     if not rows:
         raise FileFormatError(path, "no calibration rows (need a header line "
@@ -54,5 +61,8 @@ def read_calibration(path, n: int | None = None) -> np.ndarray:
                                   f"{seen[i]})", lineno)
         seen[i] = lineno
         g, ph = (parse_float(path, lineno, c, f[col[c]]) for c in ("gain_db", "phase_deg"))
+        if abs(g) > MAX_GAIN_DB:
+            raise FileFormatError(path, f"column 'gain_db': {g:g} dB is beyond +-{MAX_GAIN_DB:g}"
+                                  " dB (not a measured channel response)", lineno)
         cal[i] = from_db20(g) * np.exp(1j * np.deg2rad(ph))
     return cal

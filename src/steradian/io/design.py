@@ -32,16 +32,18 @@ import numpy as np
 
 from ..array import Array, Steering, check_frequency
 from ..elements import ELEMENT_MODELS, Element
-from ..errors import DesignError, FileFormatError, SteradianError, suggest
+from ..errors import DesignError, FileFormatError, SteradianError, shown, suggest
 from ..geometry import LATTICE_KINDS, Geometry, rotation_to
 from ..schema import Section, type_name
 from ..settings import BEAM_KINDS, AnalysisOptions
 from ..units import C0
 from .element_table import read_element_table
+from .text import check_nesting, decode_text, read_bytes
 
 __all__ = ["Design", "load_design", "design_from_dict", "demo_design", "weights_file_taper",
            "SECTIONS", "PASS_THROUGH_SECTIONS", "GEOMETRY_KINDS", "ELEMENT_MODELS", "LENGTH_UNITS",
-           "SPACING_WARN_WL"]
+           "SPACING_WARN_WL", "MAX_DESIGN_BYTES", "PHI_LIMIT_DEG", "WAVELENGTH_RANGE_M",
+           "MIN_TAPER_PEAK", "read_toml"]
 
 SECTIONS = ("design", "geometry", "element", "taper", "steering", "analysis")
 """Sections this module validates."""
@@ -52,6 +54,25 @@ PASS_THROUGH_SECTIONS = ("synthesis", "channel", "beams", "requirements")
 LENGTH_UNITS = {"m": 1.0, "mm": 1e-3, "wavelength": None}
 """Values of ``geometry.units`` and their size in metres (wavelength: at the design
 frequency)."""
+
+PHI_LIMIT_DEG = 720.0
+"""``steering.phi_deg`` must lie in -720..720: two turns either way covers every way of
+writing an azimuth; beyond that the number is a slip (and past ~1e16 degrees a double no
+longer holds the angle's fraction of a turn)."""
+
+WAVELENGTH_RANGE_M = (1e-9, 1e9)
+"""The design wavelength (``speed_m_s / frequency_hz``) must lie in 1 nm .. 1e6 km: every
+radio, sonar, acoustic and optical array lies well inside (common practice); outside it the
+frequency is a slip of units, and lengths in wavelengths overflow."""
+
+MIN_TAPER_PEAK = float(np.sqrt(np.finfo(float).tiny))
+"""Smallest largest-weight magnitude of a taper file (1.5e-154): the power |w|^2 of a
+smaller one is below the smallest normal double (IEEE 754 binary64, 2^-1022), so every
+directivity would be 0/0. All-zero weights are refused too."""
+
+MAX_DESIGN_BYTES = 16 * 2**20
+"""Largest design file read: 16 MiB (the example designs are 1 to 3 kB; positions and
+weights of large arrays live in CSV files the design names)."""
 
 SPACING_WARN_WL = (0.05, 10.0)
 """Nearest-element spacing, in wavelengths at the design frequency, outside which a design
@@ -152,7 +173,7 @@ lattices of :data:`steradian.geometry.LATTICE_KINDS` and a positions file (``csv
 
 def _geometry(t: Section, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
     kind = t.string("kind", choices=tuple(GEOMETRY_KINDS))
-    t.only((*_GEOMETRY_COMMON, *GEOMETRY_KINDS[kind]), f"for kind = {kind!r}")
+    t.only((*_GEOMETRY_COMMON, *GEOMETRY_KINDS[kind]), f"for kind = {shown(kind)}")
     enabled = None
     if kind == "csv":
         if "units" in t:
@@ -180,9 +201,14 @@ def _geometry(t: Section, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
     if "disabled" in t:
         idx = t.integers("disabled", minimum=0, nonempty=False)
         mask = np.ones(geom.n, bool) if enabled is None else enabled.copy()
+        first: dict[int, int] = {}
         for i, j in enumerate(idx):
             if j >= geom.n:
                 raise t.error(f"disabled[{i}]", f"element index {j} is outside 0..{geom.n - 1}")
+            if j in first:
+                raise t.error(f"disabled[{i}]", f"element {j} is listed twice (first at "
+                              f"disabled[{first[j]}])")
+            first[j] = i
             mask[j] = False
         if not mask.any():
             raise t.error("disabled", "every element is disabled")
@@ -260,7 +286,7 @@ def _facing(t: Section, geom: Geometry) -> Geometry:
 def _element(t: Section, ctx: _Context) -> Element:
     model = t.string("model", choices=tuple(ELEMENT_MODELS))
     spec = ELEMENT_MODELS[model]
-    t.only(("model", *spec.keys), f"for model = {model!r}")
+    t.only(("model", *spec.keys), f"for model = {shown(model)}")
     try:
         return spec.build(t, ctx)
     except (DesignError, FileFormatError):
@@ -298,6 +324,11 @@ def weights_file_taper(path, geometry: Geometry, wavelength: float,
 
     path = Path(path)
     table = read_weights_table(path, geometry.n)
+    peak = float(np.abs(table.weights).max())
+    if not peak >= MIN_TAPER_PEAK:
+        raise FileFormatError(path, "every weight is zero" if peak == 0 else
+                              f"the largest weight magnitude is {peak:.3g}, below "
+                              f"{MIN_TAPER_PEAK:.3g}: its power underflows (scale the weights)")
     if table.positions is not None:
         d = np.linalg.norm(table.positions - geometry.positions, axis=1)
         if d.max() > 1e-6 * wavelength:
@@ -356,7 +387,7 @@ def _steering(t: Section | None) -> Steering | None:
         return None
     t.only(("theta_deg", "phi_deg", "mode"))
     theta = t.number("theta_deg", 0.0, minimum=0, maximum=180)
-    phi = t.number("phi_deg", 0.0)
+    phi = t.number("phi_deg", 0.0, minimum=-PHI_LIMIT_DEG, maximum=PHI_LIMIT_DEG)
     mode = t.string("mode", "phase", choices=("phase", "delay"))
     return Steering(theta, phi, mode)
 
@@ -394,7 +425,7 @@ def _check_horizon(steering: Steering | None, element: Element, geom: Geometry,
         if r0[2] <= 1e-12:
             raise t.error(
                 "theta_deg", f"{steering.theta_deg:g} deg is at or below the horizon of the "
-                f"front-half-space element {element.describe()['model']!r} (must be "
+                f"front-half-space element {shown(element.describe()['model'])} (must be "
                 "below 90)")
         return
     facing = R[:, :, 2] @ r0 > 1e-12
@@ -421,7 +452,7 @@ def _check_sections(d, src) -> None:
                               f"{', '.join(known)}", src)
         if k in SECTIONS and not isinstance(v, dict):
             hint = "" if k == "design" else f" (write it as a [{k}] table)"
-            raise DesignError(k, f"must be a table, got {type_name(v)} {v!r}{hint}", src)
+            raise DesignError(k, f"must be a table, got {type_name(v)} {shown(v)}{hint}", src)
     if "design" not in d:
         raise DesignError("design", "missing section [design] (name, frequency_hz)", src)
     if "geometry" not in d:
@@ -470,8 +501,7 @@ def design_from_dict(d: Mapping, source=None, *, base_dir=None,
     if not name.strip():
         raise td.error("name", "must not be empty")
     description = td.string("description", "")
-    ctx = _Context(src, base_dir, td.number("frequency_hz", above=0),
-                   td.number("speed_m_s", C0, above=0))
+    ctx = _context(td, src, base_dir)
 
     geom, enabled = _geometry(Section("geometry", d["geometry"], src), ctx)
     element = _element(Section("element", d.get("element", {"model": "isotropic"}), src), ctx)
@@ -497,25 +527,57 @@ def design_from_dict(d: Mapping, source=None, *, base_dir=None,
                   None if source is None else Path(source), base_dir, taper_file, steered)
 
 
+def _context(td: Section, src: str | None, base_dir: Path) -> _Context:
+    """The shared context of the sections, its wavelength checked against
+    :data:`WAVELENGTH_RANGE_M`."""
+    f, c = td.number("frequency_hz", above=0), td.number("speed_m_s", C0, above=0)
+    lam = c / f
+    lo, hi = WAVELENGTH_RANGE_M
+    if not lo <= lam <= hi:
+        size = f"{lam:.3g} m" if np.isfinite(lam) else "more than 1e308 m"
+        raise td.error("frequency_hz", f"{f:g} Hz gives a wavelength of {size} at "
+                       f"{c:g} m/s, outside {lo:g} .. {hi:g} m (frequencies are in Hz, e.g. "
+                       "28e9 for 28 GHz)")
+    return _Context(src, base_dir, f, c)
+
+
 def load_design(path, *, read_taper_file: bool = True) -> Design:
     """Read a TOML design file into a :class:`Design`.
 
     Relative file paths inside the design (positions, weights, element tables) resolve
-    against the design file's folder. See :func:`design_from_dict` for ``read_taper_file``
-    and the errors.
+    against the design file's folder. See :func:`read_toml` for the checks made before
+    parsing, :func:`design_from_dict` for ``read_taper_file`` and the errors.
+    """
+    path = Path(path)
+    return design_from_dict(read_toml(path), path, read_taper_file=read_taper_file)
+
+
+def read_toml(path) -> dict:
+    """The TOML document of a design file, read defensively.
+
+    The file is read as bytes first: larger than :data:`MAX_DESIGN_BYTES`, not UTF-8 (a
+    byte-order mark is accepted), nested deeper than
+    :data:`~steradian.io.text.MAX_NESTING` brackets or braces, or not TOML, it is refused
+    with one :class:`~steradian.errors.DesignError` line naming the file (and line) before
+    the parser's recursion could fail.
     """
     path = Path(path)
     try:
-        raw = path.read_bytes()
+        text = decode_text(path, read_bytes(path, "design file", MAX_DESIGN_BYTES))
+        check_nesting(path, text)
     except IsADirectoryError:
         raise DesignError("", "is a folder, not a design file", str(path)) from None
+    except FileFormatError as exc:  # too large, not UTF-8 or nested too deep
+        where = exc.path if exc.line is None else f"{exc.path}:{exc.line}"
+        raise DesignError("", str(exc)[len(where) + 2:], where) from None
     try:
-        doc = tomllib.loads(raw.decode("utf-8"))
-    except UnicodeDecodeError as exc:
-        raise DesignError("", f"not UTF-8 text ({exc.reason})", str(path)) from None
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise DesignError("", f"not valid TOML: {exc}", str(path)) from None
-    return design_from_dict(doc, path, read_taper_file=read_taper_file)
+    except ValueError as exc:  # an integer of more than 4,300 digits
+        raise DesignError("", f"not valid TOML: {str(exc).split(';')[0]}", str(path)) from None
+    except RecursionError:  # pragma: no cover - check_nesting refuses these first
+        raise DesignError("", "values nested too deep", str(path)) from None
 
 
 def demo_design() -> Design:

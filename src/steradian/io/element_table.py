@@ -22,17 +22,26 @@ from ..elements import (
     element_power,
     table_grid,
 )
-from ..errors import FileFormatError, SteradianError, suggest
+from ..errors import FileFormatError, SteradianError, shown, suggest
 from ..units import C0, db10, from_db20
 from .atomic import atomic_open
-from .csv_table import read_lines, split_fields
+from .csv_table import NUMBER, read_lines, split_fields
 
-__all__ = ["read_element_table", "write_element_table"]
+__all__ = ["read_element_table", "write_element_table", "MAX_GAIN_DBI"]
 
 
 # ---- CSV reader ---------------------------------------------------------------------------
 
 _KEY_RE = re.compile(r"^([A-Za-z_][A-Za-z0-9_]*)\s*=\s*(.*?)\s*$")
+
+
+MAX_GAIN_DBI = 300.0
+"""Largest gain value read (dBi): the most directive antennas reach about 80 dBi (common
+practice); above 300 dBi the value is a slip, and past ~6,000 dB its linear field
+overflows."""
+
+_WORDS = ("inf", "infinity", "nan")
+"""Words a table value may be besides a number (refused with their own message)."""
 
 
 def _header_keys(path, comments, first_row: float) -> dict[str, tuple[str, int]]:
@@ -44,10 +53,11 @@ def _header_keys(path, comments, first_row: float) -> dict[str, tuple[str, int]]
             continue  # free-text comment (keys are read only before the data)
         key, value = m.group(1), m.group(2)
         if key not in TABLE_KEYS:
-            raise FileFormatError(path, f"unknown header key {key!r}{suggest(key, TABLE_KEYS)};"
-                                  f" keys are {', '.join(TABLE_KEYS)}", n)
+            raise FileFormatError(path, f"unknown header key {shown(key)}"
+                                  f"{suggest(key, TABLE_KEYS)}; keys are "
+                                  f"{', '.join(TABLE_KEYS)}", n)
         if key in header and key != "note":
-            raise FileFormatError(path, f"header key {key!r} given twice (first on line "
+            raise FileFormatError(path, f"header key {shown(key)} given twice (first on line "
                                   f"{header[key][1]})", n)
         header[key] = (value, n)
     return header
@@ -110,27 +120,24 @@ def _settings(path, header) -> tuple[str, str, bool, float | None]:
     """(quantity, components, front_only, frequency_hz) from the header keys."""
     quantity, qline = _need(path, header, "quantity")
     if quantity not in ("field", "gain_dbi"):
-        raise FileFormatError(path, f"quantity must be 'field' or 'gain_dbi', got {quantity!r}"
+        raise FileFormatError(path, f"quantity must be 'field' or 'gain_dbi', got {shown(quantity)}"
                               f"{suggest(quantity, ('field', 'gain_dbi'))}", qline)
     components, cline = header.get("components", ("theta_phi", qline))
     if components not in ("theta_phi", "scalar"):
         raise FileFormatError(path, f"components must be 'theta_phi' or 'scalar', got "
-                              f"{components!r}{suggest(components, ('theta_phi', 'scalar'))}",
+                              f"{shown(components)}{suggest(components, ('theta_phi', 'scalar'))}",
                               cline)
     front_txt, fline = header.get("front_only", ("false", None))
     if front_txt.lower() not in ("true", "false"):
-        raise FileFormatError(path, f"front_only must be 'true' or 'false', got {front_txt!r}",
+        raise FileFormatError(path, f"front_only must be 'true' or 'false', got {shown(front_txt)}",
                               fline)
     freq = None
     if "frequency_hz" in header:
         ftxt, fl = header["frequency_hz"]
-        try:
-            freq = float(ftxt)
-        except ValueError:
-            freq = math.nan
+        freq = float(ftxt) if NUMBER.fullmatch(ftxt.strip()) else math.nan
         if not (math.isfinite(freq) and freq > 0):
-            raise FileFormatError(path, f"frequency_hz must be a positive number, got {ftxt!r}",
-                                  fl)
+            raise FileFormatError(path, f"frequency_hz must be a positive number, got "
+                                  f"{shown(ftxt)}", fl)
     return quantity, components, front_txt.lower() == "true", freq
 
 
@@ -140,11 +147,11 @@ def _columns(path, header, expected, kind: str) -> list[str]:
     cols = [c.strip() for c in col_txt.split(",")]
     for c in cols:
         if c not in expected:
-            raise FileFormatError(path, f"unknown column {c!r}{suggest(c, expected)} for "
+            raise FileFormatError(path, f"unknown column {shown(c)}{suggest(c, expected)} for "
                                   f"{kind}; expected {', '.join(expected)}", col_line)
     dup = [c for c in cols if cols.count(c) > 1]
     if dup:
-        raise FileFormatError(path, f"column {dup[0]!r} listed twice", col_line)
+        raise FileFormatError(path, f"column {shown(dup[0])} listed twice", col_line)
     missing = [c for c in expected if c not in cols]
     if missing:
         raise FileFormatError(path, f"columns lack {', '.join(missing)} ({kind} needs "
@@ -164,20 +171,25 @@ def _samples(path, rows, cols, expected, front_only) -> np.ndarray:
                                   f"({', '.join(cols)}), got {len(fields)}", n)
         for j, c in enumerate(expected):
             s = fields[idx[c]]
-            try:
-                x = float(s)
-            except ValueError:
-                raise FileFormatError(path, f"cannot read {c}={s!r} as a number", n) from None
+            t = s.strip()
+            if not (NUMBER.fullmatch(t) or t.lower().lstrip("+-") in _WORDS):
+                raise FileFormatError(path, f"cannot read {c}={shown(s)} as a number (digits "
+                                      "0-9, sign, point and exponent only)", n)
+            x = float(t)
             if math.isnan(x):
                 raise FileFormatError(path, f"{c} is NaN", n)
             if math.isinf(x) and not (c in db_cols and x < 0):
                 raise FileFormatError(path, f"{c} is infinite"
                                       + (" (only -inf dBi, a zero field, is allowed)"
                                          if c in db_cols else ""), n)
+            if c in db_cols and x > MAX_GAIN_DBI:
+                raise FileFormatError(path, f"{c}={x:g} is above {MAX_GAIN_DBI:g} dBi", n)
             data[r, j] = x
         th = data[r, 0]
         if not 0.0 <= th <= 180.0:
             raise FileFormatError(path, f"theta_deg={th:g} is outside 0..180", n)
+        if not abs(data[r, 1]) <= 720.0:
+            raise FileFormatError(path, f"phi_deg={data[r, 1]:g} is outside -720..720", n)
         if front_only and th > 90.0 + GRID_TOL:
             raise FileFormatError(path, f"theta_deg={th:g} is behind the front half-space of a "
                                   "front_only table (theta must be at most 90)", n)
@@ -238,7 +250,7 @@ def write_element_table(path, element: Element, *, theta_step_deg: float | None 
         Significant digits written (17 round-trips doubles exactly).
     """
     if quantity not in ("field", "gain_dbi"):
-        raise SteradianError(f"quantity must be 'field' or 'gain_dbi', got {quantity!r}")
+        raise SteradianError(f"quantity must be 'field' or 'gain_dbi', got {shown(quantity)}")
     if isinstance(element, TabulatedElement):
         dth, dph = element.steps_deg
     else:

@@ -12,14 +12,22 @@ To add a format: write ``steradian/io/beams_<name>.py`` with ``read_beams_<name>
 from __future__ import annotations
 
 import importlib
+import json
 from dataclasses import dataclass
 from pathlib import Path
 
-from ..errors import FileFormatError, SteradianError
+from ..errors import FileFormatError, SteradianError, shown
 from ..validate import choice
+from .text import check_nesting, decode_text, read_bytes
 
 __all__ = ["FileFormat", "WEIGHT_FORMATS", "FORMATS", "format_of", "read_weight_file",
-           "write_weight_file", "write_beam_files", "BIN_MAGIC", "not_a", "weight_text"]
+           "write_weight_file", "write_beam_files", "BIN_MAGIC", "not_a", "weight_text",
+           "json_value", "check_extras", "CODE_LIMIT"]
+
+CODE_LIMIT = 2**31
+"""Hardware codes and I/Q integers read from a weight file must lie in
+``-CODE_LIMIT .. CODE_LIMIT - 1`` before they are checked against the channel's states (the
+files hold 16-bit values; a larger number is refused in one line instead of overflowing)."""
 
 BIN_MAGIC = b"SRBW\r\n\x1a\n"
 """The first 8 bytes of a binary weight file (:mod:`steradian.io.beams_bin`)."""
@@ -32,17 +40,48 @@ def not_a(fmt: str, reason: str) -> str:
 
 def weight_text(path, fmt: str) -> str:
     """The UTF-8 text of a text weight file, or one :class:`FileFormatError` line saying it
-    is not a ``fmt`` weight file (a binary weight file, or bytes that are not UTF-8)."""
+    is not a ``fmt`` weight file (a binary weight file, bytes that are not UTF-8, or a file
+    over :data:`~steradian.io.text.MAX_TEXT_BYTES`). A UTF-8 byte-order mark is dropped."""
     path = Path(path)
-    data = path.read_bytes()
+    data = read_bytes(path, f"{fmt} weight file")
     if data.startswith(BIN_MAGIC):
         raise FileFormatError(path, not_a(fmt, "it is a steradian binary weight file (read "
                                           "it with format bin or name it .bin)"))
     try:
-        return data.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise FileFormatError(path, not_a(fmt, f"not UTF-8 text (byte 0x{data[exc.start]:02x}"
-                                          f" at offset {exc.start})")) from None
+        return decode_text(path, data)
+    except FileFormatError as exc:
+        raise FileFormatError(path, not_a(fmt, str(exc)[len(str(path)) + 2:])) from None
+
+
+def json_value(path, text: str, what: str, line: int | None = None):
+    """``text`` parsed as JSON, its nesting checked first (:func:`~steradian.io.text.
+    check_nesting`); one :class:`FileFormatError` naming ``what`` and ``line`` otherwise."""
+    check_nesting(path, text, line_of=line)
+    try:
+        return json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise FileFormatError(path, f"{what}: not valid JSON ({exc.msg})",
+                              line if line is not None else exc.lineno) from None
+    except ValueError as exc:  # an integer of more than 4,300 digits
+        raise FileFormatError(path, f"{what}: {str(exc).split(';')[0]}", line) from None
+
+
+def check_extras(path, metadata, metrics, n_beams: int, lines=(None, None)) -> None:
+    """Refuse ``metadata`` that is not a JSON object, or ``metrics`` that is not a list of
+    ``n_beams`` objects (``lines``: the file lines of the two, for the message)."""
+    if metadata is not None and not isinstance(metadata, dict):
+        raise FileFormatError(path, f"metadata must be a JSON object, got {shown(metadata)}",
+                              lines[0])
+    if metrics is None:
+        return
+    if not isinstance(metrics, list) or len(metrics) != n_beams:
+        got = (f"{len(metrics)} entries" if isinstance(metrics, list) else shown(metrics))
+        raise FileFormatError(path, f"metrics must list one JSON object per beam "
+                              f"(n_beams = {n_beams}), got {got}", lines[1])
+    for b, m in enumerate(metrics):
+        if not isinstance(m, dict):
+            raise FileFormatError(path, f"metrics[{b}] must be a JSON object, got {shown(m)}",
+                                  lines[1])
 
 
 @dataclass(frozen=True)
@@ -88,7 +127,7 @@ def format_of(path, fmt: str | None = None) -> FileFormat:
     suf = Path(path).suffix.lower()
     if suf not in FORMATS:
         raise SteradianError(f"{path}: cannot tell the weight-file format from the suffix "
-                             f"{suf!r}; use one of {', '.join(FORMATS)} or give the format")
+                             f"{shown(suf)}; use one of {', '.join(FORMATS)} or give the format")
     return WEIGHT_FORMATS[FORMATS[suf]]
 
 

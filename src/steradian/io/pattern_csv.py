@@ -26,7 +26,7 @@ from pathlib import Path
 import numpy as np
 
 from ..directions import unit_vectors_deg
-from ..errors import FileFormatError, SteradianError
+from ..errors import FileFormatError, SteradianError, shown
 from ..samples import Cut, UVMap
 from .atomic import write_text
 from .csv_table import check_columns, parse_float, read_table
@@ -46,7 +46,7 @@ def _meta_lines(title: str, meta: dict | None) -> list[str]:
     for k, v in (meta or {}).items():
         v = str(v)
         if "\n" in v or "\r" in v:
-            raise SteradianError(f"meta value of {k!r} must fit on one line")
+            raise SteradianError(f"meta value of {shown(k)} must fit on one line")
         lines.append(f"# {k} = {v}")
     return lines
 
@@ -66,7 +66,7 @@ def write_cuts(path, cuts, meta: dict | None = None) -> None:
     lines.append(",".join(_CUT_COLUMNS))
     for c in cuts:
         if "," in c.name or not c.name:
-            raise SteradianError(f"cut name {c.name!r} must be non-empty and without commas")
+            raise SteradianError(f"cut name {shown(c.name)} must be non-empty and without commas")
         for a, t, p, d in zip(c.angle_deg, c.theta_deg, c.phi_deg, c.directivity_dbi,
                               strict=True):
             lines.append(f"{c.name},{_fmt(a)},{_fmt(t)},{_fmt(p)},{_fmt(d)}")

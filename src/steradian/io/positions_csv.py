@@ -29,8 +29,8 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import FileFormatError, SteradianError
-from ..geometry import Geometry, coincident_pair, rotation_to
+from ..errors import FileFormatError, SteradianError, shown
+from ..geometry import MAX_COORDINATE_M, Geometry, coincident_pair, rotation_to
 from .atomic import write_text
 from .csv_table import check_columns, parse_float, read_table
 
@@ -69,7 +69,7 @@ def _coordinate_unit(path, header: list[str], header_line: int) -> str:
     for axis in "xyz":
         if axis in header:
             raise FileFormatError(
-                path, f"column {axis!r} has no unit: name it {axis}_m (metres), {axis}_mm "
+                path, f"column {shown(axis)} has no unit: name it {axis}_m (metres), {axis}_mm "
                 f"(millimetres) or {axis}_wl (wavelengths)", header_line)
         for u in LENGTH_UNITS:
             if f"{axis}_{u}" in header:
@@ -159,19 +159,26 @@ def _layout_rows(path, rows, col, unit: str, scale: float):
             idx = fields[col["element"]]
             if idx != str(r):
                 raise FileFormatError(path, f"column 'element': expected {r} (rows numbered "
-                                      f"0, 1, 2, ... in order), got {idx!r}", lineno)
+                                      f"0, 1, 2, ... in order), got {shown(idx)}", lineno)
         for a, c in enumerate(coords):
             if c in col:
                 pos[r, a] = parse_float(path, lineno, c, fields[col[c]]) * scale
+                if not abs(pos[r, a]) <= MAX_COORDINATE_M:
+                    raise FileFormatError(path, f"column {shown(c)}: {shown(fields[col[c]])} is "
+                                          f"{pos[r, a]:.6g} m from the origin, beyond "
+                                          f"+-{MAX_COORDINATE_M:g} m (not a physical "
+                                          "position)", lineno)
         if normals is not None:
             for a, c in enumerate(_NORMALS):
                 normals[r, a] = parse_float(path, lineno, c, fields[col[c]])
-            if np.linalg.norm(normals[r]) == 0:
+            big = float(np.abs(normals[r]).max())
+            if big == 0:
                 raise FileFormatError(path, "normal vector is zero", lineno)
+            normals[r] /= big  # any length: scaled first, so its norm cannot overflow
         if enabled is not None:
             v = fields[col["enabled"]].lower()
             if v not in _TRUE | _FALSE:
-                raise FileFormatError(path, f"column 'enabled': {fields[col['enabled']]!r} "
+                raise FileFormatError(path, f"column 'enabled': {shown(fields[col['enabled']])} "
                                       "is not 1/0, true/false or yes/no", lineno)
             enabled[r] = v in _TRUE
     return pos, normals, enabled
@@ -212,7 +219,7 @@ def write_positions(path, geometry: Geometry, *, unit: str = "m",
     """
     if unit not in LENGTH_UNITS:
         raise SteradianError(f"unit must be one of {', '.join(map(repr, LENGTH_UNITS))}, "
-                             f"got {unit!r}")
+                             f"got {shown(unit)}")
     scale = LENGTH_UNITS[unit]
     if scale is None:
         if wavelength is None or not wavelength > 0:

@@ -33,7 +33,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import FileFormatError, SteradianError
+from ..errors import FileFormatError, SteradianError, shown
 from ..units import db20, from_db20, wrap_deg
 from .atomic import write_text
 from .csv_table import check_columns, parse_float, parse_index, read_table
@@ -77,7 +77,7 @@ class WeightsTable:
             return None
         v = v.strip().lower()
         if v not in ("yes", "no"):
-            raise SteradianError(f"steering_included = {v!r}: expected yes or no")
+            raise SteradianError(f"steering_included = {shown(v)}: expected yes or no")
         return v == "yes"
 
 
@@ -116,7 +116,7 @@ def write_weights(path, weights, positions=None, meta: dict | None = None) -> No
         k = str(k)
         v = str(v)
         if not _META.match(f"{k} = x") or "\n" in v or "\r" in v:
-            raise SteradianError(f"meta key {k!r} or its value cannot be written on one line")
+            raise SteradianError(f"meta key {shown(k)} or its value cannot be written on one line")
         lines.append(f"# {k} = {v}")
     cols = ["element"] + (["x_m", "y_m", "z_m"] if pos is not None else [])
     cols += ["real", "imag", "amplitude", "amplitude_db", "phase_deg"]
@@ -149,7 +149,8 @@ def read_weights_table(path, n: int | None = None) -> WeightsTable:
         missing element index, or columns that disagree.
     """
     path = Path(path)
-    header, rows, hline, comments = read_table(path)
+    header, rows, hline, comments = read_table(
+        path, None if n is None else n, "" if n is None else f" (the array has {n} elements)")
     col = _weight_columns(path, header, hline)
     if not rows:
         raise FileFormatError(path, "no element rows after the header", hline)
@@ -239,7 +240,7 @@ def _check_agreement(path, w, amp, db, ph, line_of) -> None:
         if bad.any():
             i = int(np.flatnonzero(bad)[0])
             raise FileFormatError(
-                path, f"column {name!r} disagrees with the other weight columns for element "
+                path, f"column {shown(name)} disagrees with the other weight columns for element "
                 f"{i} (weight {w[i]:.6g})", int(line_of[i]))
 
 
