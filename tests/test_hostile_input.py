@@ -648,3 +648,30 @@ def test_c_header_layout_macro_of_5000_digits_or_arabic_indic(tmp_path, layout):
     p = _edit(_table(tmp_path, ".h"), "#define STRD_WEIGHTS_LAYOUT 2",
               f"#define STRD_WEIGHTS_LAYOUT {layout}")
     assert len(_refused(p)) < 600
+
+
+def test_taper_sll_beyond_double_precision_is_refused_in_one_line(tmp_path):
+    """Issue 10 (found by the input-hygiene mutation run): ``sll = 1e308`` overflowed in the
+    taper (an internal error, exit 3). A design sidelobe level beyond 300 dB, far below
+    double-precision rounding of the weights, is refused naming the taper (common
+    practice)."""
+    from steradian.tapers import taylor
+
+    with pytest.raises(SteradianError, match="sll must be at most 300 dB"):
+        taylor(16, sll=1e308)
+    with pytest.raises(SteradianError, match="nbar must be at most"):
+        taylor(16, nbar=1e308)
+
+
+@pytest.mark.parametrize("beams", [
+    {"grid": "theta_phi", "theta_deg": [10.0], "phi_deg": [-9.2e18]},
+    {"grid": "az_el", "az_deg": [1e9], "el_deg": [0.0]},
+])
+def test_beam_grid_angles_beyond_two_turns_are_refused(beams):
+    """Issue 10 item 4 for beam grids: an azimuth or phi of -9.2e18 degrees is a slip, not an
+    angle; the [beams] key is named (common practice: two turns either way is the most any
+    angle is written as)."""
+    from steradian.beamtable import beams_from_table
+
+    with pytest.raises(DesignError, match="within"):
+        beams_from_table(beams)

@@ -26,7 +26,8 @@ from .errors import SteradianError
 __all__ = ["Directions", "ThetaPhiGrid", "UVGrid", "as_directions", "unit_vectors",
            "unit_vectors_deg", "angles_of", "angles_deg", "spherical_basis",
            "az_el_to_theta_phi", "theta_phi_directions", "az_el_directions",
-           "tangent_frames", "angle_between_deg", "fibonacci_directions", "normalise"]
+           "tangent_frames", "angle_between_deg", "fibonacci_directions", "normalise",
+           "ANGLE_LIMIT_DEG"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -211,6 +212,7 @@ def theta_phi_directions(theta_deg, phi_deg) -> np.ndarray:
     ph = np.atleast_1d(np.asarray(phi_deg, float)).ravel()
     if not np.all((th >= 0) & (th <= 180)):
         raise SteradianError(f"theta_deg values must be in [0, 180], got {th.min()}..{th.max()}")
+    _check_turn("phi_deg", ph)
     _require_grid(len(th), len(ph), "a theta-phi")
     pole = (th == 0.0) | (th == 180.0)
     counts = np.where(pole, 1, len(ph))
@@ -219,6 +221,18 @@ def theta_phi_directions(theta_deg, phi_deg) -> np.ndarray:
     j = np.arange(len(t)) - np.repeat(first, counts)  # index of phi within its theta row
     p = np.where(np.repeat(pole, counts), 0.0, np.append(ph, 0.0)[j])
     return np.column_stack([t, p]).reshape(-1, 2)
+
+
+ANGLE_LIMIT_DEG = 720.0
+"""Largest |phi| or |azimuth| accepted (degrees): two turns either way covers every way of
+writing an angle; anything larger is a typing slip, not an angle (common practice)."""
+
+
+def _check_turn(name: str, a: np.ndarray) -> None:
+    if a.size and not np.all(np.abs(a) <= ANGLE_LIMIT_DEG):
+        bad = a[~(np.abs(a) <= ANGLE_LIMIT_DEG)][0]
+        raise SteradianError(f"{name} values must lie within +-{ANGLE_LIMIT_DEG:g} degrees, "
+                             f"got {float(bad):.6g}")
 
 
 def az_el_directions(az_deg, el_deg) -> np.ndarray:
@@ -230,6 +244,7 @@ def az_el_directions(az_deg, el_deg) -> np.ndarray:
     el = np.atleast_1d(np.asarray(el_deg, float))
     if np.any(np.abs(el) > 90):
         raise SteradianError(f"el_deg values must be in [-90, 90], got {el.min()}..{el.max()}")
+    _check_turn("az_deg", az)
     _require_grid(az.size, el.size, "an az-el")
     a, e = np.meshgrid(az, el, indexing="ij")
     t, p = az_el_to_theta_phi(a.ravel(), e.ravel())

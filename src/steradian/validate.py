@@ -33,8 +33,14 @@ def nonneg(name: str, value: Any, unit: str = "") -> float:
     return x
 
 
-def count(name: str, value: Any, minimum: int = 1) -> int:
-    """Return ``value`` as int, raising unless it is a whole number >= ``minimum``."""
+COUNT_LIMIT = 2**53
+"""Largest count accepted: every whole number up to it is exact in double precision, and no
+array, lattice or table of steradian comes near it (the memory budget refuses far less)."""
+
+
+def count(name: str, value: Any, minimum: int = 1, maximum: int = COUNT_LIMIT) -> int:
+    """Return ``value`` as int, raising unless it is a whole number in ``minimum`` ..
+    ``maximum``."""
     if isinstance(value, bool) or not isinstance(value, (int, np.integer)):
         if isinstance(value, float) and value.is_integer():
             value = int(value)
@@ -42,6 +48,8 @@ def count(name: str, value: Any, minimum: int = 1) -> int:
             raise SteradianError(f"{name} must be a whole number, got {shown(value)}")
     if value < minimum:
         raise SteradianError(f"{name} must be at least {minimum}, got {name}={value}")
+    if value > maximum:
+        raise SteradianError(f"{name} must be at most {maximum:,}, got {shown(value)}")
     return int(value)
 
 

@@ -31,6 +31,7 @@ from typing import Any
 import numpy as np
 
 from ..array import Array, Steering, check_frequency
+from ..directions import ANGLE_LIMIT_DEG
 from ..elements import ELEMENT_MODELS, Element
 from ..errors import DesignError, FileFormatError, SteradianError, shown, suggest
 from ..geometry import LATTICE_KINDS, Geometry, rotation_to
@@ -55,10 +56,9 @@ LENGTH_UNITS = {"m": 1.0, "mm": 1e-3, "wavelength": None}
 """Values of ``geometry.units`` and their size in metres (wavelength: at the design
 frequency)."""
 
-PHI_LIMIT_DEG = 720.0
-"""``steering.phi_deg`` must lie in -720..720: two turns either way covers every way of
-writing an azimuth; beyond that the number is a slip (and past ~1e16 degrees a double no
-longer holds the angle's fraction of a turn)."""
+PHI_LIMIT_DEG = ANGLE_LIMIT_DEG
+"""``steering.phi_deg`` must lie in -720..720 (:data:`steradian.directions.ANGLE_LIMIT_DEG`,
+the limit of every beam grid too)."""
 
 WAVELENGTH_RANGE_M = (1e-9, 1e9)
 """The design wavelength (``speed_m_s / frequency_hz``) must lie in 1 nm .. 1e6 km: every

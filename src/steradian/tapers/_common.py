@@ -18,8 +18,13 @@ import numpy as np
 from ..errors import SteradianError
 from ..validate import count
 
-__all__ = ["sidelobe_ratio", "cell_centres", "normalise_peak", "axis_coordinates",
+__all__ = ["MAX_SLL_DB", "sidelobe_ratio", "cell_centres", "normalise_peak", "axis_coordinates",
            "aperture_length", "aperture_positions"]
+
+
+MAX_SLL_DB = 300.0
+"""Largest design sidelobe level accepted (dB): far below double-precision rounding of the
+weights (about 313 dB in power), so nothing larger is meaningful (common practice)."""
 
 
 def sidelobe_ratio(sll) -> float:
@@ -33,6 +38,9 @@ def sidelobe_ratio(sll) -> float:
         raise SteradianError(
             "sll is the sidelobe level in dB below the peak and must be positive, "
             f"got sll={sll!r}{hint}")
+    if x > MAX_SLL_DB:
+        raise SteradianError(f"sll must be at most {MAX_SLL_DB:g} dB (a ratio of 1e15 in voltage "
+                             f"already lies below double-precision rounding), got sll={x:g}")
     return 10.0 ** (x / 20.0)
 
 
