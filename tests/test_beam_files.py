@@ -20,10 +20,10 @@ from steradian.beamtable import IQ_SCALE, BeamTable
 from steradian.errors import FileFormatError, SteradianError
 from steradian.io.beams_bin import HEADER_SIZE, MAGIC, read_beams_bin, write_beams_bin
 from steradian.io.beams_cheader import write_beams_cheader
-from steradian.io.formats import read_weight_file, write_weight_file
+from steradian.io.formats import WEIGHT_FORMATS, read_weight_file, write_weight_file
 from steradian.quantize import OFF_CODE, ChannelModel, StateMap
 
-SUFFIXES = (".csv", ".json", ".bin", ".h")
+SUFFIXES = tuple(f.suffix for f in WEIGHT_FORMATS.values())  # every registered format
 
 _text = hs.text(hs.characters(codec="utf-8"), max_size=12) | hs.sampled_from(
     ["*/ end of comment", "a/b//c", "line\nbreak", "tab\there", "quote\"s", ""])

@@ -39,6 +39,7 @@ from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
 
 from steradian.cli import main
+from steradian.io.formats import WEIGHT_FORMATS
 
 ROOT = Path(__file__).resolve().parent.parent
 CONFIGS = sorted((ROOT / "configs").glob("*.toml"))
@@ -240,7 +241,7 @@ theta_deg = [0, 30]
 phi_deg = [0, 90]
 """
 
-WEIGHT_SUFFIXES = (".csv", ".json", ".bin", ".h")
+WEIGHT_SUFFIXES = tuple(f.suffix for f in WEIGHT_FORMATS.values())  # every registered format
 
 
 @pytest.fixture(scope="module")

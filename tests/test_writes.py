@@ -26,6 +26,7 @@ from steradian.cli import main
 from steradian.errors import SteradianError
 from steradian.io.atomic import OutputError, remove_stale_temporaries, write_text
 from steradian.io.fileset import check_manifest, manifest_path
+from steradian.io.formats import WEIGHT_FORMATS
 from steradian.version import VERSION
 
 SRC = Path(__file__).resolve().parent.parent / "src"
@@ -55,7 +56,7 @@ theta_deg = [0, 20]
 phi_deg = [0, 90]
 """
 
-SUFFIXES = (".csv", ".json", ".bin", ".h")
+SUFFIXES = tuple(f.suffix for f in WEIGHT_FORMATS.values())  # every registered format
 
 
 def _run(*args, env=None):
