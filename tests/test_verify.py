@@ -339,3 +339,25 @@ def test_binary_with_an_element_switched_off_is_named(built, tmp_path):
     assert code == 1
     assert first == ("element 2: the file has it off, the design on (1 element(s) differ in "
                      "the enable mask)")
+
+
+def test_a_file_replaced_beside_its_manifest_is_a_difference(tmp_path):
+    """Issue 10's file sets meet issue 9's verify: ``beams`` writes a manifest with each
+    file's SHA-256; a weight file later replaced by another table (here the same design at
+    another phase resolution, a well-formed file of the same layout) is named as not the file
+    of its set and verify exits 1 (common practice: check a delivery against its manifest
+    before loading it)."""
+    design = _design(tmp_path)
+    assert _run("beams", design, "-o", tmp_path / "six").exit_code == 0
+    other = _design(tmp_path, "other.toml",
+                    extra=CHANNEL + BEAMS.replace("[30.0, 0.0]", "[20.0, 0.0]"))
+    assert _run("beams", other, "-o", tmp_path / "other", "-f", "json").exit_code == 0
+    (tmp_path / "six.json").write_bytes((tmp_path / "other.json").read_bytes())
+    code, out = _verify(design, tmp_path / "six.json")
+    assert code == 1
+    first = out["first_difference"]
+    assert first.startswith(f"file set six.manifest.json: {tmp_path / 'six.json'}: not the "
+                            "file of this set")
+    code, out = _verify(design, tmp_path / "six.bin")  # untouched file of the set
+    assert code == 0 and out["first_difference"] is None
+    assert any("six.json" in n for n in out["notes"])  # the replaced sibling is noted

@@ -47,6 +47,7 @@ from .errors import DesignError, SteradianError
 from .io.calibration_csv import read_calibration
 from .io.design import load_design, read_toml, weights_file_taper
 from .io.directions_csv import read_directions
+from .io.fileset import check_manifest, manifest_path
 from .io.formats import read_weight_file
 from .io.pattern_csv import write_cuts, write_uv
 from .io.weights_csv import write_weights
@@ -526,4 +527,21 @@ def verify_weight_file(design, path, fmt: str | None = None, *, weights=None,
                           element_power_w=design.options.element_power_w,
                           evaluator=evaluator, directions=d,
                           compare_states=own is not None)
-    return table, replace(v, notes=notes + list(v.notes))
+    mism, notes = _manifest_check(Path(path), v.mismatches, notes)
+    compared = dict(v.compared, total=v.compared.get("total", len(v.mismatches))
+                    + len(mism) - len(v.mismatches))
+    return table, replace(v, notes=notes + list(v.notes), mismatches=mism, compared=compared)
+
+
+def _manifest_check(path: Path, mismatches: tuple, notes: list) -> tuple[tuple, list]:
+    """The file's entry in the manifest written beside it (``<prefix>.manifest.json``), if
+    any: a file that is not the one its set recorded is a difference (put first); problems
+    of the other files of the set are notes."""
+    man = manifest_path(path.with_suffix(""))
+    if not man.is_file():
+        return mismatches, notes
+    problems = check_manifest(man)
+    mine = [p for p in problems if Path(p.split(": ", 1)[0]).name == path.name]
+    others = [p for p in problems if p not in mine]
+    notes = notes + [f"file set {man.name}: {p}" for p in others]
+    return tuple(f"file set {man.name}: {p}" for p in mine) + tuple(mismatches), notes
