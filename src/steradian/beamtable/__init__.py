@@ -46,7 +46,7 @@ from ..units import DB_FLOOR
 from ._build import BeamBuild, build_beam_table, steered_weights
 from ._evaluate import BeamEvaluator, BeamMetrics
 from ._grids import BEAMS_KEYS, beams_from_table, span
-from ._table import IQ_SCALE, BeamTable, Encoding, jsonable
+from ._table import BEAM_KINDS, IQ_SCALE, BeamTable, Encoding, jsonable
 from ._verify import Verification, verify_beam_table
 
 __all__ = [
@@ -57,6 +57,7 @@ __all__ = [
     "BeamEvaluator",
     "Encoding",
     "IQ_SCALE",
+    "BEAM_KINDS",
     "DB_FLOOR",
     "jsonable",
     "span",

@@ -15,6 +15,11 @@ from ..validate import choice
 
 Encoding = Literal["codes", "iq"]
 
+BEAM_KINDS = ("sum", "difference_az", "difference_el")
+"""Beam kinds a table holds, in the order of their file codes (0, 1, 2): a sum beam, and the
+comparator difference beams of a monopulse array in azimuth (sign flipped on the half
+x < centroid) and elevation (y < centroid)."""
+
 IQ_SCALE = 32768
 """Fixed-point I/Q is Q1.15: value = integer / 32768, integers in [-32768, 32767]."""
 
@@ -80,6 +85,8 @@ class BeamTable:
         Element enable mask (default all on). A disabled element is *off* in every beam:
         its codes are the off flag ``(OFF_CODE, OFF_CODE)`` = (65535, 65535), its I/Q
         exactly (0, 0), and its commanded state zero.
+    kinds : sequence of str, length B, optional
+        Kind of each beam, one of :data:`BEAM_KINDS` (default all ``"sum"``).
     """
 
     states: StateMap
@@ -91,6 +98,7 @@ class BeamTable:
     metadata: dict = field(default_factory=dict)
     metrics: tuple | None = None
     enabled: np.ndarray | None = None
+    kinds: tuple | None = None
 
     def __post_init__(self):
         if not isinstance(self.states, StateMap):
@@ -134,6 +142,7 @@ class BeamTable:
                 a = np.ascontiguousarray(a)
                 a.setflags(write=False)
             object.__setattr__(self, name, a)
+        object.__setattr__(self, "kinds", _kinds(self.kinds, len(d)))
         object.__setattr__(self, "metadata", jsonable(dict(self.metadata or {})))
         if self.metrics is not None:
             m = jsonable(list(self.metrics))
@@ -193,13 +202,33 @@ class BeamTable:
         return (self.states == other.states and self.encoding == other.encoding
                 and eq(self.directions, other.directions) and eq(self.codes, other.codes)
                 and eq(self.phase_offsets_deg, other.phase_offsets_deg)
-                and eq(self.positions, other.positions) and eq(self.enabled, other.enabled))
+                and eq(self.positions, other.positions) and eq(self.enabled, other.enabled)
+                and self.kinds == other.kinds)
+
+    @property
+    def has_difference(self) -> bool:
+        """True when any beam is not a sum beam."""
+        return any(k != "sum" for k in self.kinds)
 
     def units(self) -> np.ndarray:
         """Commanded directions as unit vectors, shape (B, 3)."""
         return np.array([direction(t, p) for t, p in self.directions])
 
 
+
+
+def _kinds(kinds, nb: int) -> tuple:
+    """The per-beam kinds as a tuple of str (all "sum" by default), checked."""
+    if kinds is None:
+        return ("sum",) * nb
+    k = tuple(str(x) for x in (kinds.tolist() if isinstance(kinds, np.ndarray) else kinds))
+    if len(k) != nb:
+        raise SteradianError(f"kinds must be one per beam: {nb} beams, got {len(k)}")
+    for b, x in enumerate(k):
+        if x not in BEAM_KINDS:
+            raise SteradianError(f"beam {b}: kind {x!r} is not one of "
+                                 f"{', '.join(BEAM_KINDS)}")
+    return k
 
 
 def _mask(enabled, n: int) -> np.ndarray:

@@ -7,7 +7,8 @@ Header (64 bytes)::
 
     offset size type      field
     0      8    bytes     magic: 53 52 42 57 0D 0A 1A 0A  ("SRBW\r\n\x1a\n")
-    8      2    uint16    layout version (2; version 1 files are still read)
+    8      2    uint16    layout version (3 for a table with difference beams, else 2;
+                                 versions 1 and 2 are read)
     10     2    uint16    header size in bytes (64): the payload starts here
     12     4    uint32    N, elements per beam
     16     4    uint32    B, beams
@@ -15,7 +16,8 @@ Header (64 bytes)::
     21     1    uint8     amplitude control: 0 = none, 1 = step attenuator, 2 = linear DAC
     22     1    uint8     flags: bit 0 = element positions block present,
                                  bit 1 = phase offsets block present,
-                                 bit 2 = enable mask block present (version 2); others 0
+                                 bit 2 = enable mask block present (version >= 2),
+                                 bit 3 = beam kind block present (version 3); others 0
     23     1    uint8     reserved (0)
     24     4    uint32    phase states (codes 0 .. phase states - 1)
     28     4    uint32    amplitude states (codes 0 .. amplitude states - 1)
@@ -38,6 +40,8 @@ Payload, in this order::
     phase offsets     N x float64 degrees                                if flag bit 1
     enable mask       N x uint8 (1 = on, 0 = off), then zero bytes up
                       to a multiple of 8 bytes: 8 ceil(N / 8) bytes      if flag bit 2
+    beam kinds        B x uint8 (0 = sum, 1 = difference_az, 2 = difference_el), then
+                      zero bytes up to a multiple of 8: 8 ceil(B / 8) bytes if flag bit 3
     states            B x N x 4 bytes, beam-major, elements in order:
                         codes: uint16 phase code, uint16 amplitude code;
                                an off element holds the off flag 0xFFFF, 0xFFFF
@@ -45,8 +49,10 @@ Payload, in this order::
                                (range -1 .. 1 - 2^-15); an off element holds 0, 0
 
 Element n of beam b is therefore at payload offset ``16 B + (24 N if positions) +
-(8 N if offsets) + (8 ceil(N / 8) if mask) + 4 (b N + n)``. Without a mask block every
-element is on (version 1 has none). Q1.15 values are value * 32768 rounded to the nearest
+(8 N if offsets) + (8 ceil(N / 8) if mask) + (8 ceil(B / 8) if kinds) + 4 (b N + n)``.
+Without a mask block every element is on (version 1 has none); without a kind block every
+beam is a sum beam (a table of sum beams only is written as version 2, byte for byte as
+before). Q1.15 values are value * 32768 rounded to the nearest
 integer (ties to even, the IEEE-754 default) and saturated to -32768 .. 32767: +1.0 becomes
 32767, -1.0 is -32768. A file
 is refused with a clear message when the magic, version, header CRC, sizes, reserved fields
@@ -62,7 +68,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..beamtable import BeamTable, Encoding
+from ..beamtable import BEAM_KINDS, BeamTable, Encoding
 from ..errors import FileFormatError, SteradianError, shown
 from ..quantize import StateMap
 from .atomic import write_bytes
@@ -73,8 +79,8 @@ __all__ = ["write_beams_bin", "read_beams_bin", "MAGIC", "LAYOUT_VERSION", "HEAD
            "MAX_BIN_BYTES"]
 
 MAGIC = BIN_MAGIC
-LAYOUT_VERSION = 2
-READS = (1, 2)
+LAYOUT_VERSION = 3
+READS = (1, 2, 3)
 HEADER_SIZE = 64
 
 MAX_BIN_BYTES = 2**30
@@ -92,7 +98,8 @@ def _mask_size(n):
 
 def _payload_size(n, nb, flags):
     return (16 * nb + (24 * n if flags & 1 else 0) + (8 * n if flags & 2 else 0)
-            + (_mask_size(n) if flags & 4 else 0) + 4 * nb * n)
+            + (_mask_size(n) if flags & 4 else 0) + (_mask_size(nb) if flags & 8 else 0)
+            + 4 * nb * n)
 
 
 def write_beams_bin(path, table: BeamTable, encoding: Encoding | None = None,
@@ -104,12 +111,19 @@ def write_beams_bin(path, table: BeamTable, encoding: Encoding | None = None,
     encoding : {"codes", "iq"}, optional
         State encoding; default the table's own. Converting codes to I/Q rounds each state
         to Q1.15.
-    layout_version : {2, 1}
-        2 (default) carries the enable mask; 1, for readers of the old layout, has none and
-        is refused for a table with disabled elements.
+    layout_version : {3, 2, 1}
+        3 (default) carries the beam kinds, but only when the table holds a difference beam:
+        a table of sum beams only is written as 2 (readable by version-2 readers). 2 carries
+        the enable mask; 1, for readers of the old layout, has none and is refused for a
+        table with disabled elements. 1 and 2 are refused for a table with difference beams.
     """
     t = table if encoding is None else table.as_encoding(encoding)
     st = t.states
+    if layout_version == 3 and not t.has_difference:
+        layout_version = 2
+    if layout_version in (1, 2) and t.has_difference:
+        raise SteradianError(f"binary layout version {layout_version} has no beam kinds; the "
+                             "table holds difference beams: write version 3")
     if layout_version not in READS:
         raise SteradianError(f"binary layout_version must be one of {READS}, got "
                              f"{shown(layout_version)}")
@@ -119,7 +133,7 @@ def write_beams_bin(path, table: BeamTable, encoding: Encoding | None = None,
     if st.phase_states > 65536 or st.amplitude_states > 65536:
         raise SteradianError("the binary layout stores codes as uint16 (at most 65536 states)")
     flags = ((1 if t.positions is not None else 0) | (2 if np.any(t.phase_offsets_deg) else 0)
-             | (4 if layout_version >= 2 else 0))
+             | (4 if layout_version >= 2 else 0) | (8 if layout_version >= 3 else 0))
     parts = [np.ascontiguousarray(t.directions, "<f8").tobytes()]
     if flags & 1:
         parts.append(np.ascontiguousarray(t.positions, "<f8").tobytes())
@@ -129,6 +143,10 @@ def write_beams_bin(path, table: BeamTable, encoding: Encoding | None = None,
         mask = np.zeros(_mask_size(t.n_elements), np.uint8)
         mask[:t.n_elements] = t.enabled
         parts.append(mask.tobytes())
+    if flags & 8:
+        kinds = np.zeros(_mask_size(t.n_beams), np.uint8)
+        kinds[:t.n_beams] = [BEAM_KINDS.index(k) for k in t.kinds]
+        parts.append(kinds.tobytes())
     dt = "<u2" if t.encoding == "codes" else "<i2"
     parts.append(np.ascontiguousarray(t.codes, dt).tobytes())
     payload = b"".join(parts)
@@ -170,7 +188,7 @@ def read_beams_bin(path) -> BeamTable:
                               f"0x{got:08x}; the header is corrupted")
     if hsize != HEADER_SIZE:
         raise FileFormatError(path, f"header size {hsize} is not {HEADER_SIZE}")
-    if enc not in (1, 2) or amp not in (0, 1, 2) or flags & ~(3 if ver == 1 else 7):
+    if enc not in (1, 2) or amp not in (0, 1, 2) or flags & ~{1: 3, 2: 7}.get(ver, 15):
         raise FileFormatError(path, f"unknown encoding {enc}, amplitude control {amp} or "
                               f"flags 0x{flags:02x}")
     if res or res2:
@@ -213,10 +231,18 @@ def read_beams_bin(path) -> BeamTable:
             raise FileFormatError(path, "enable mask bytes must be 0 or 1 and its padding 0")
         on = raw[:n].astype(bool)
         o += _mask_size(n)
+    kinds = None
+    if flags & 8:
+        raw = np.frombuffer(payload, np.uint8, _mask_size(nb), o)
+        if np.any(raw[:nb] >= len(BEAM_KINDS)) or np.any(raw[nb:]):
+            raise FileFormatError(path, f"beam kind bytes must be 0 .. {len(BEAM_KINDS) - 1} "
+                                  "and their padding 0")
+        kinds = tuple(BEAM_KINDS[int(k)] for k in raw[:nb])
+        o += _mask_size(nb)
     dt = "<u2" if enc == 1 else "<i2"
     codes = np.frombuffer(payload, dt, 2 * nb * n, o).reshape(nb, n, 2).astype(np.int64)
     try:
         return BeamTable(states, dirs, codes, "codes" if enc == 1 else "iq", off, pos,
-                         enabled=on)
+                         enabled=on, kinds=kinds)
     except SteradianError as exc:
         raise FileFormatError(path, str(exc)) from None

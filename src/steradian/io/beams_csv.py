@@ -11,6 +11,7 @@ Layout (``# key = value`` comment lines first, then a header and the rows)::
     # states = {"phase_step_deg": 5.625, "phase_states": 64, ...}
     # metadata = {...}
     # metrics = [{...}, ...]
+    # beam_kinds = ["sum", "difference_az", ...]     (layout 3 only)
     beam,theta_deg,phi_deg,element,x_m,y_m,z_m,phase_offset_deg,enabled,amplitude,amplitude_db,phase_deg,phase_code,amplitude_code
     0,0.0,0.0,0,-0.1125,-0.1125,0.0,0.0,1,1.0,0.0,0.0,0,0
 
@@ -35,7 +36,10 @@ Columns:
 
 Every (beam, element) pair appears exactly once, in any order. ``metrics`` (one JSON list of
 the predicted per-beam metrics) is optional. Floats are written in Python's shortest
-round-trip form, so a write-read cycle returns bit-identical tables.
+round-trip form, so a write-read cycle returns bit-identical tables. ``beam_kinds`` (one JSON
+list, the kind of each beam in beam order: "sum", "difference_az" or "difference_el") is
+written for a table that holds a difference beam, and then ``layout_version`` is 3; a table
+of sum beams only is written as layout 2 without it (every beam a sum beam).
 """
 
 from __future__ import annotations
@@ -46,7 +50,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..beamtable import IQ_SCALE, BeamTable
+from ..beamtable import BEAM_KINDS, IQ_SCALE, BeamTable
 from ..errors import FileFormatError, SteradianError, shown
 from ..quantize import StateMap
 from ..units import db20, from_db20, wrap_deg
@@ -57,8 +61,8 @@ from .formats import CODE_LIMIT, check_extras, json_value, not_a, weight_text
 __all__ = ["write_beams_csv", "read_beams_csv"]
 
 FORMAT_ID = "steradian-beam-weights"
-LAYOUT_VERSION = 2
-READS = (1, 2)
+LAYOUT_VERSION = 3
+READS = (1, 2, 3)
 _META = re.compile(r"^\s*([a-z_]+)\s*=\s*(.*)$")
 _NOT_NUMERIC = re.compile(r"[^0-9eE+\-.,inf]")
 """A character no field of a well-formed row holds (then the strict row-by-row parse runs)."""
@@ -91,13 +95,16 @@ def write_beams_csv(path, table: BeamTable, encoding=None) -> None:
 
     table = table if encoding is None else table.as_encoding(encoding)
     enc = table.encoding
-    head = [("format", FORMAT_ID), ("layout_version", str(LAYOUT_VERSION)),
+    version = LAYOUT_VERSION if table.has_difference else 2
+    head = [("format", FORMAT_ID), ("layout_version", str(version)),
             ("steradian_version", __version__), ("encoding", enc),
             ("n_elements", str(table.n_elements)), ("n_beams", str(table.n_beams)),
             ("states", json.dumps(table.states.to_dict())),
             ("metadata", json.dumps(table.metadata, allow_nan=False))]
     if table.metrics is not None:
         head.append(("metrics", json.dumps(list(table.metrics), allow_nan=False)))
+    if table.has_difference:
+        head.append(("beam_kinds", json.dumps(list(table.kinds))))
     lines = [f"# {k} = {v}" for k, v in head]
     with_pos = table.positions is not None
     lines.append(",".join(_columns(enc, with_pos)))
@@ -165,7 +172,7 @@ def read_beams_csv(path) -> BeamTable:
     try:
         table = BeamTable(states, dirs, codes, enc, off, pos, jsons.get("metadata") or {},
                           None if jsons.get("metrics") is None else tuple(jsons["metrics"]),
-                          on)
+                          on, jsons.get("beam_kinds"))
     except SteradianError as exc:
         m = re.search(r"beam (\d+), element (\d+)", str(exc))
         line = int(row_line[int(m.group(1)), int(m.group(2))]) if m else None
@@ -230,7 +237,7 @@ def _header_values(path, meta: dict):
         counts[key] = int(v)
     n, nb = counts["n_elements"], counts["n_beams"]
     jsons = {}
-    for key in ("states", "metadata", "metrics"):
+    for key in ("states", "metadata", "metrics", "beam_kinds"):
         if key in meta:
             v, ln = meta[key]
             jsons[key] = json_value(path, v, key, ln)
@@ -242,6 +249,11 @@ def _header_values(path, meta: dict):
         raise FileFormatError(path, f"states: {exc}", meta["states"][1]) from None
     check_extras(path, jsons.get("metadata"), jsons.get("metrics"), counts["n_beams"],
                  tuple(meta[k][1] if k in meta else None for k in ("metadata", "metrics")))
+    kinds = jsons.get("beam_kinds")
+    if kinds is not None and (int(ver) < 3 or not isinstance(kinds, list) or len(kinds) != nb
+                              or not all(k in BEAM_KINDS for k in kinds)):
+        raise FileFormatError(path, f"beam_kinds must list n_beams = {nb} kinds of "
+                              f"{', '.join(BEAM_KINDS)} (layout 3)", meta["beam_kinds"][1])
     return enc, n, nb, states, jsons, int(ver)
 
 

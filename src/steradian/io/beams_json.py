@@ -16,7 +16,7 @@ Layout (one JSON object; each beam on one line)::
      "elements": {"enabled": [1, 1, 0, ...], "phase_offset_deg": [...],
                   "positions_m": [[x, y, z], ...] or null},
      "beams": [
-      {"beam": 0, "theta_deg": 0.0, "phi_deg": 0.0, "phase_code": [...],
+      {"beam": 0, "theta_deg": 0.0, "phi_deg": 0.0, "kind": "sum", "phase_code": [...],
        "amplitude_code": [...], "metrics": {...}},
       ...
      ],
@@ -27,7 +27,10 @@ For ``"iq"`` each beam holds ``"i_q15"`` and ``"q_q15"`` (integers, value = inte
 instead of the two code lists. ``elements.enabled`` is the enable mask (1 on, 0 off); an off
 element holds the off flag 65535 in both code lists (0 in both I/Q lists) in every beam, and
 ``n_enabled`` counts the elements that are on. Layout 1 files (no mask) are still read, with
-every element on. ``metrics`` (the predicted metrics of the beam as built) is
+every element on. ``kind`` (layout 3) is the beam's kind: "sum", "difference_az" or
+"difference_el"; it is written on every beam of a table that holds a difference beam (then
+``layout_version`` is 3), and a table of sum beams only is written as layout 2, without it
+(a beam without ``kind`` is a sum beam). ``metrics`` (the predicted metrics of the beam as built) is
 present on every beam or on none. Floats are written in Python's shortest round-trip form, so
 a write-read cycle returns bit-identical tables.
 """
@@ -39,7 +42,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..beamtable import BeamTable
+from ..beamtable import BEAM_KINDS, BeamTable
 from ..errors import FileFormatError, shown
 from ..quantize import StateMap
 from .atomic import write_text
@@ -49,8 +52,8 @@ from .text import check_nesting
 __all__ = ["write_beams_json", "read_beams_json", "FORMAT_ID", "LAYOUT_VERSION"]
 
 FORMAT_ID = "steradian-beam-weights"
-LAYOUT_VERSION = 2
-READS = (1, 2)
+LAYOUT_VERSION = 3
+READS = (1, 2, 3)
 
 _TOP = ("format", "layout_version", "steradian_version", "encoding", "iq_format",
         "n_elements", "n_beams", "n_enabled", "states", "elements", "beams", "metadata")
@@ -72,6 +75,8 @@ def write_beams_json(path, table: BeamTable, encoding=None) -> None:
     for b in range(table.n_beams):
         d = {"beam": b, "theta_deg": float(table.directions[b, 0]),
              "phi_deg": float(table.directions[b, 1])}
+        if table.has_difference:
+            d["kind"] = table.kinds[b]
         if enc == "codes":
             d["phase_code"] = codes[b, :, 0].tolist()
             d["amplitude_code"] = codes[b, :, 1].tolist()
@@ -81,7 +86,7 @@ def write_beams_json(path, table: BeamTable, encoding=None) -> None:
         if table.metrics is not None:
             d["metrics"] = table.metrics[b]
         beams.append(d)
-    top = {"format": FORMAT_ID, "layout_version": LAYOUT_VERSION,
+    top = {"format": FORMAT_ID, "layout_version": LAYOUT_VERSION if table.has_difference else 2,
            "steradian_version": __version__, "encoding": enc}
     if enc == "iq":
         top["iq_format"] = "Q1.15"
@@ -137,9 +142,14 @@ def read_beams_json(path) -> BeamTable:
     if not isinstance(beams, list) or len(beams) != nb:
         got = len(beams) if isinstance(beams, list) else type(beams).__name__
         raise FileFormatError(path, f"'beams' must list n_beams = {nb} beams, got {got}")
-    dirs, codes, metrics = [], [], []
+    dirs, codes, metrics, kinds = [], [], [], []
     for b, d in enumerate(beams):
         direction, pair = _beam(path, b, d, enc, n)
+        kind = d.get("kind", "sum") if doc["layout_version"] >= 3 else "sum"
+        if kind not in BEAM_KINDS:
+            raise FileFormatError(path, f"beams[{b}].kind must be one of "
+                                  f"{', '.join(BEAM_KINDS)}, got {shown(kind)}")
+        kinds.append(kind)
         dirs.append(direction)
         codes.append(list(zip(*pair, strict=True)))
         metrics.append(d.get("metrics"))
@@ -152,7 +162,7 @@ def read_beams_json(path) -> BeamTable:
         return BeamTable(states, np.array(dirs, float), np.array(codes, np.int64), enc,
                          np.array(off, float), None if pos is None else np.array(pos, float),
                          doc.get("metadata") or {}, tuple(metrics) if all(has_m) else None,
-                         on)
+                         on, tuple(kinds))
     except (TypeError, ValueError, OverflowError) as exc:  # SteradianError is a ValueError
         raise FileFormatError(path, str(exc)) from None
 
@@ -209,7 +219,7 @@ def _elements(path, el, n: int, version: int):
 def _beam(path, b: int, d, enc: str, n: int):
     """((theta, phi), [state lists]) of beam ``b``."""
     keys = ("phase_code", "amplitude_code") if enc == "codes" else ("i_q15", "q_q15")
-    allowed = {"beam", "theta_deg", "phi_deg", "metrics", *keys}
+    allowed = {"beam", "theta_deg", "phi_deg", "metrics", "kind", *keys}
     if not isinstance(d, dict):
         raise FileFormatError(path, f"beams[{b}] must be an object")
     for k in d:
