@@ -40,7 +40,7 @@ def _table(n=7, nb=6, enc="codes", kinds=MIXED, off=(2,)):
 
 def test_default_kind_is_sum_and_bad_kinds_are_refused():
     t = _table(kinds=None)
-    assert t.kinds == ("sum",) * 6 and not t.has_difference
+    assert t.beam_kinds == ("sum",) * 6 and not t.has_difference
     assert BEAM_KINDS == ("sum", "difference_az", "difference_el")
     with pytest.raises(SteradianError, match="beam 1: kind 'delta'"):
         _table(kinds=("sum", "delta", "sum", "sum", "sum", "sum"))
@@ -57,7 +57,7 @@ def test_mixed_kinds_round_trip_in_every_format(tmp_path, suffix, enc):
     p = tmp_path / f"w{suffix}"
     write_weight_file(p, t)
     back = read_weight_file(p)
-    assert back.kinds == MIXED
+    assert back.beam_kinds == MIXED
     assert back.same_weights(t)
 
 
@@ -73,7 +73,7 @@ def test_sum_only_tables_keep_the_layout_2_files(tmp_path, suffix):
         text = p.read_text()
         assert "layout_version = 3" not in text and '"layout_version": 3' not in text
         assert "WEIGHTS_LAYOUT 3" not in text
-    assert read_weight_file(p).kinds == ("sum",) * 6
+    assert read_weight_file(p).beam_kinds == ("sum",) * 6
 
 
 def test_binary_kind_block_as_documented(tmp_path):
@@ -117,3 +117,119 @@ def test_c_header_has_the_beam_kind_array(tmp_path):
     body = text.split("strd_beam_kind[STRD_N_BEAMS] = {")[1].split("};")[0]
     vals = [int(v) for v in body.split("*/")[-1].replace(",", " ").split()]
     assert vals == [0, 1, 2, 0, 2, 1]
+
+
+DESIGN = """
+[design]
+name = "monopulse table"
+frequency_hz = 299792458.0
+
+[geometry]
+kind = "rectangular"
+units = "wavelength"
+count_x = 16
+count_y = 12
+spacing_x = 0.5
+spacing_y = 0.5
+
+[taper]
+kind = "separable"
+x = {{ kind = "taylor", sll = 30 }}
+y = {{ kind = "taylor", sll = 30 }}
+
+[channel]
+phase_bits = 6
+attenuator_step_db = 0.5
+attenuator_span_db = 31.5
+
+[beams]
+grid = "theta_phi"
+theta_deg = [0, 20]
+phi_deg = [0]
+{kinds}
+"""
+
+
+def _design(tmp_path, kinds='kinds = ["sum", "difference_az", "difference_el"]'):
+    from steradian.io.design import load_design
+
+    p = tmp_path / "d.toml"
+    p.write_text(DESIGN.format(kinds=kinds))
+    return load_design(p)
+
+
+def _difference_psl_reference(n=16, sll=30.0):
+    """Highest lobe outside the two main lobes of the split Taylor line (x-cut), by a dense
+    direct array-factor sum (numpy; 0.5 lambda spacing, isotropic elements)."""
+    from steradian.tapers import taylor
+
+    w = taylor(n, 4, sll)
+    x = (np.arange(n) - (n - 1) / 2) * 0.5
+    w = w * np.sign(x)
+    u = np.linspace(0, 1, 200001)
+    af = np.abs(np.exp(2j * np.pi * np.outer(u, x)) @ w) ** 2
+    pk = np.flatnonzero((af[1:-1] > af[:-2]) & (af[1:-1] >= af[2:])) + 1
+    lv = np.sort(af[pk])[::-1]
+    return 10 * np.log10(lv[1] / lv[0])  # lv[0]: the main lobe (u > 0 side)
+
+
+def test_design_table_holds_every_kind_per_direction(tmp_path):
+    """[beams] kinds: direction-major, kind-minor; the difference weights are the sum
+    weights with one half of the aperture negated (common practice; Sherman and Barton,
+    Monopulse Principles and Techniques, 2011, from memory)."""
+    from steradian.workflows import beam_table_from_design
+
+    d = _design(tmp_path)
+    b = beam_table_from_design(d)
+    t = b.table
+    assert t.beam_kinds == ("sum", "difference_az", "difference_el") * 2
+    assert np.allclose(t.directions, [[0, 0]] * 3 + [[20, 0]] * 3)
+    pos = d.array.positions
+    cx, cy = pos[:, 0].mean(), pos[:, 1].mean()
+    for i in (0, 3):
+        assert np.allclose(b.ideal[i + 1], b.ideal[i] * np.sign(pos[:, 0] - cx))
+        assert np.allclose(b.ideal[i + 2], b.ideal[i] * np.sign(pos[:, 1] - cy))
+    m = b.metrics
+    assert np.isnan(m.null_depth_db[[0, 3]]).all()
+    # ideal difference weights are odd: an exact boresight null (Bayliss 1968)
+    assert m.null_depth_db[1] < -60 and m.null_depth_db[2] < -60
+    assert np.isnan(m.pointing_error_deg[[1, 2, 4, 5]]).all()
+    assert m.pointing_error_deg[0] < 0.01
+    # difference sidelobe level: separable taper, so the x-cut of the split Taylor line
+    # (the y factor's sidelobes are 30 dB down) -- checked against a dense numpy sum
+    ref = _difference_psl_reference()
+    assert abs(m.ideal_psl_db[1] - ref) < 0.1
+    assert m.psl_db[0] < -28  # the sum beams keep their sum metrics
+
+
+def test_design_kinds_key_is_checked(tmp_path):
+    from steradian.errors import DesignError
+    from steradian.workflows import beam_table_from_design
+
+    with pytest.raises(DesignError, match="beams.kinds"):
+        beam_table_from_design(_design(tmp_path, 'kinds = ["sum", "delta"]'))
+    with pytest.raises(DesignError, match="beams.kinds"):
+        beam_table_from_design(_design(tmp_path, 'kinds = ["sum", "sum"]'))
+
+
+@pytest.mark.parametrize("suffix", SUFFIXES)
+def test_verify_compares_the_beam_kinds(tmp_path, suffix):
+    """A file whose beam has another kind than the design's is a difference line."""
+    from dataclasses import replace
+
+    from steradian.workflows import beam_table_from_design, verify_weight_file
+
+    d = _design(tmp_path)
+    t = beam_table_from_design(d).table
+    good = tmp_path / f"good{suffix}"
+    write_weight_file(good, t)
+    _, v = verify_weight_file(d, good)
+    assert v.matches_design, v.mismatches
+    assert np.isfinite(v.metrics.null_depth_db[1])
+    k = list(t.beam_kinds)
+    k[3], k[4] = "difference_az", "sum"  # swap the kinds of two beams of direction 20 deg
+    bad = tmp_path / f"bad{suffix}"
+    write_weight_file(bad, replace(t, kinds=tuple(k), metrics=None))
+    _, v = verify_weight_file(d, bad)
+    assert v.first_difference == ("beam 3 (theta 20.0, phi 0.0): file has kind "
+                                  "difference_az, design gives sum")

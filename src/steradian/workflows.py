@@ -39,6 +39,7 @@ from .beamtable import (
     BeamEvaluator,
     BeamTable,
     Verification,
+    beam_kinds_from_table,
     beams_from_table,
     build_beam_table,
     verify_beam_table,
@@ -417,7 +418,8 @@ def beam_table_from_design(design, *, weights=None,
     eff = design.options.radiation_efficiency
     build = build_beam_table(design.array, ch, d, weights=weights, efficiency=eff,
                              evaluator=evaluator, metadata=design_metadata(design),
-                             element_power_w=design.options.element_power_w)
+                             element_power_w=design.options.element_power_w,
+                             kinds=_design_kinds(design))
     return build if weights is not None else _against_synthesis_target(design, build)
 
 
@@ -489,6 +491,15 @@ def _design_directions(design) -> np.ndarray | None:
                             read_file=read_directions)
 
 
+def _design_kinds(design) -> tuple:
+    """The beam kinds per direction of the design's ``[beams]`` (``kinds``; default sum)."""
+    raw = design.sections.get("beams")
+    if raw is None:
+        return ("sum",)
+    return beam_kinds_from_table(raw, source=None if design.source is None
+                                 else str(design.source))
+
+
 def verify_weight_file(design, path, fmt: str | None = None, *, weights=None,
                        evaluator: BeamEvaluator | None = None) -> tuple[BeamTable, Verification]:
     """Read any weight file, compare it with the table ``design`` gives and re-evaluate it.
@@ -526,7 +537,7 @@ def verify_weight_file(design, path, fmt: str | None = None, *, weights=None,
     v = verify_beam_table(design.array, ch, table, weights=weights, efficiency=eff,
                           element_power_w=design.options.element_power_w,
                           evaluator=evaluator, directions=d,
-                          compare_states=own is not None)
+                          compare_states=own is not None, kinds=_design_kinds(design))
     mism, notes = _manifest_check(Path(path), v.mismatches, notes)
     compared = dict(v.compared, total=v.compared.get("total", len(v.mismatches))
                     + len(mism) - len(v.mismatches))

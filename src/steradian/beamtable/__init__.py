@@ -25,7 +25,15 @@ Per beam the evaluation reports (levels in dB, angles in degrees):
 - ``ideal_directivity_dbi``, ``ideal_psl_db``, ``ideal_pointing_error_deg`` and ``loss_db``:
   the ideal beam's peak directivity, sidelobe level and pointing error, and the directivity
   lost to quantization (ideal minus realised peak directivity);
-- ``rms_phase_error_deg``: RMS phase difference between realised and best-fit ideal weights.
+- ``rms_phase_error_deg``: RMS phase difference between realised and best-fit ideal weights;
+- ``null_depth_db``: for a difference beam (:attr:`BeamTable.kinds`), the level at the
+  commanded direction relative to its peak (NaN for sum beams). A difference beam's
+  ``psl_db`` is its difference sidelobe level and its pointing error is NaN (see
+  :class:`BeamMetrics`).
+
+A table may hold several beam kinds per direction (``kinds`` of :func:`build_beam_table`):
+one beam per direction and kind, direction-major, kind-minor; a difference beam's weights are
+the sum weights times :func:`difference_signs`.
 
 Speed: work that does not depend on the weights is done once per array by
 :class:`BeamEvaluator`: the radiated-power matrix :math:`Q` (so :math:`P = w^H Q w` per
@@ -43,9 +51,15 @@ from __future__ import annotations
 
 from ..directions import az_el_directions, az_el_to_theta_phi, theta_phi_directions
 from ..units import DB_FLOOR
-from ._build import BeamBuild, build_beam_table, steered_weights
+from ._build import (
+    BeamBuild,
+    build_beam_table,
+    difference_signs,
+    expand_kinds,
+    steered_weights,
+)
 from ._evaluate import BeamEvaluator, BeamMetrics
-from ._grids import BEAMS_KEYS, beams_from_table, span
+from ._grids import BEAMS_KEYS, beam_kinds_from_table, beams_from_table, span
 from ._table import BEAM_KINDS, IQ_SCALE, BeamTable, Encoding, jsonable
 from ._verify import Verification, verify_beam_table
 
@@ -65,6 +79,9 @@ __all__ = [
     "az_el_directions",
     "az_el_to_theta_phi",
     "beams_from_table",
+    "beam_kinds_from_table",
+    "difference_signs",
+    "expand_kinds",
     "BEAMS_KEYS",
     "steered_weights",
     "build_beam_table",

@@ -14,7 +14,7 @@ from ..quantize import ChannelModel
 from ..radiation import RF_EXPOSURE_CAUTION
 from ..units import db20
 from ._evaluate import BeamEvaluator, BeamMetrics
-from ._table import BeamTable
+from ._table import BEAM_KINDS, BeamTable
 
 # ---------------------------------------------------------------------------------------
 # Building (verifying a table read from a file is in _verify.py)
@@ -48,6 +48,50 @@ def steered_weights(array, directions, weights: WeightSource = None) -> np.ndarr
         else:
             out[i] = base.with_steering(Steering(float(t), float(p), mode)).weights()
     return out
+
+
+def difference_signs(positions, kind: str, enabled=None) -> np.ndarray:
+    """Per-element sign (N,) that turns sum weights into a ``kind`` beam.
+
+    ``"sum"``: all +1. ``"difference_az"``: -1 on the elements with x below the centroid of
+    the enabled elements, +1 above, 0 on the axis (within 1e-9 of the extent);
+    ``"difference_el"``: the same in y. Sum weights times these signs are the comparator
+    difference beam of a monopulse array (common practice; S. M. Sherman and D. K. Barton,
+    *Monopulse Principles and Techniques*, 2nd ed., Artech House, 2011 -- from memory).
+    """
+    pos = np.asarray(positions, float)
+    if kind == "sum":
+        return np.ones(len(pos))
+    if kind not in BEAM_KINDS:
+        raise SteradianError(f"beam kind {kind!r} is not one of {', '.join(BEAM_KINDS)}")
+    on = np.ones(len(pos), bool) if enabled is None else np.asarray(enabled, bool)
+    c = pos[:, 0 if kind == "difference_az" else 1]
+    u = c - c[on].mean()
+    tol = 1e-9 * max(float(np.ptp(pos[on], axis=0).max()), 1e-300)
+    return np.where(np.abs(u) <= tol, 0.0, np.sign(u))
+
+
+def expand_kinds(directions, kinds) -> tuple[np.ndarray, tuple]:
+    """Beams of a table with ``kinds`` per direction: (directions (B K, 2), kinds (B K,)),
+    direction-major, kind-minor (beam ``b K + k`` is kind ``k`` of direction ``b``)."""
+    d = np.atleast_2d(np.asarray(directions, float))
+    ks = ("sum",) if kinds is None else tuple(kinds)
+    if not ks or len(set(ks)) != len(ks) or any(k not in BEAM_KINDS for k in ks):
+        raise SteradianError(f"beam kinds must be distinct values of {', '.join(BEAM_KINDS)}, "
+                             f"got {list(ks)}")
+    return np.repeat(d, len(ks), axis=0), ks * len(d)
+
+
+def kind_weights(array, directions, kinds, weights: WeightSource = None) -> np.ndarray:
+    """Ideal weights (B, N) of beams of the given kinds (B,): :func:`steered_weights` times
+    :func:`difference_signs` of each beam's kind."""
+    w = steered_weights(array, directions, weights)
+    if len(kinds) != len(w):
+        raise SteradianError(f"kinds must be one per beam: {len(w)} beams, got {len(kinds)}")
+    for k in set(kinds) - {"sum"}:
+        rows = np.array([x == k for x in kinds])
+        w[rows] *= difference_signs(array.positions, k, array.enabled)
+    return w
 
 
 def _array_metadata(array, channel: ChannelModel, efficiency: float) -> dict:
@@ -134,7 +178,8 @@ def channel_ideal(channel: ChannelModel, w0: np.ndarray, enabled) -> tuple[np.nd
 def build_beam_table(array, channel: ChannelModel, directions, *,
                      weights: WeightSource = None, efficiency: float = 1.0,
                      evaluator: BeamEvaluator | None = None, metadata: dict | None = None,
-                     evaluate: bool = True, element_power_w: float | None = None) -> BeamBuild:
+                     evaluate: bool = True, element_power_w: float | None = None,
+                     kinds=None, beam_kinds=None) -> BeamBuild:
     """Quantized beam table of ``array`` over ``directions`` (B, 2) in degrees.
 
     Parameters
@@ -158,6 +203,14 @@ def build_beam_table(array, channel: ChannelModel, directions, *,
     element_power_w : float, optional
         Power of one channel at full drive (W), for each beam's EIRP; the table's metadata
         then carries the RF exposure caution.
+    kinds : sequence of str, optional
+        Beam kinds per direction, of ``"sum"``, ``"difference_az"``, ``"difference_el"``
+        (default sum only). The table then holds one beam per direction and kind, direction-
+        major, kind-minor (see :func:`expand_kinds`); a difference beam's ideal weights are
+        the sum weights times :func:`difference_signs`.
+    beam_kinds : sequence of str, optional
+        Instead of ``kinds``: the kind of each of the B beams of ``directions`` (to rebuild
+        a file's table beam by beam).
 
     Returns
     -------
@@ -174,8 +227,11 @@ def build_beam_table(array, channel: ChannelModel, directions, *,
     UserWarning
         Dead or clipped channels, naming the elements (from the quantizer).
     """
-    d = np.atleast_2d(np.asarray(directions, float))
-    w0, notes = channel_ideal(channel, steered_weights(array, d, weights), array.enabled)
+    if beam_kinds is None:
+        d, ks = expand_kinds(directions, kinds)
+    else:
+        d, ks = np.atleast_2d(np.asarray(directions, float)), tuple(beam_kinds)
+    w0, notes = channel_ideal(channel, kind_weights(array, d, ks, weights), array.enabled)
     q = channel.quantize(w0, mask=array.enabled)
     notes += list(q.notes)
     codes = np.stack([q.phase_codes, q.amplitude_codes], -1)
@@ -190,8 +246,8 @@ def build_beam_table(array, channel: ChannelModel, directions, *,
     if evaluate:
         ev = evaluator or BeamEvaluator(array, efficiency=efficiency)
         metrics = ev.evaluate(q.realised, d, ideal=w0, commanded=q.commanded,
-                              element_power_w=element_power_w)
+                              element_power_w=element_power_w, kinds=ks)
     table = BeamTable(channel.states, d, codes, "codes", q.phase_offsets_deg,
                       array.positions, meta, None if metrics is None else metrics.rows(),
-                      q.enabled)
+                      q.enabled, ks)
     return BeamBuild(table, metrics, q, w0, tuple(notes))

@@ -40,6 +40,14 @@ WINDOW_DB = 3.0
 samples per null width a sidelobe's peak can lie about 2 dB above its best sample."""
 
 
+MAIN_LOBES = 2.2
+"""A difference beam's two main lobes lie within this multiple of the offset of its peak
+from the commanded direction: for a uniform line of length D the difference peak is about
+0.7 lambda / D off the null and the next null about 1.43 lambda / D, the first difference
+sidelobe about 1.9 lambda / D (common practice, from memory), so 2.2 x 0.7 = 1.54 holds both
+main lobes and none of the sidelobes."""
+
+
 def _jsonable(x: float):
     return float(x) if math.isfinite(x) else None
 
@@ -50,7 +58,8 @@ def _jsonable(x: float):
 METRIC_FIELDS = ("theta_deg", "phi_deg", "peak_theta_deg", "peak_phi_deg", "directivity_dbi",
                   "gain_dbi", "pointing_error_deg", "psl_db", "qlobe_db",
                   "ideal_directivity_dbi", "ideal_psl_db", "ideal_pointing_error_deg", "loss_db",
-                  "rms_phase_error_deg", "drive_loss_db", "radiated_power_db", "eirp_dbw")
+                  "rms_phase_error_deg", "drive_loss_db", "radiated_power_db", "eirp_dbw",
+                  "null_depth_db")
 """Names of the per-beam metrics, in report order."""
 _METRIC_FIELDS = METRIC_FIELDS  # old private spelling, until its importer uses the public one
 
@@ -74,6 +83,14 @@ class BeamMetrics:
     - ``eirp_dbw``: :math:`10\log_{10}(P_{el} \sum_n |w_n|^2) + G` with ``element_power_w``
       P_el per channel at full drive and G the gain in dBi (EIRP = P_in G, as
       :func:`steradian.radiation.eirp`); NaN without ``element_power_w``.
+
+    Difference beams (kind ``difference_az``/``difference_el``) are scored as such:
+    ``null_depth_db`` is the level at the commanded direction relative to the beam's peak
+    (NaN for sum beams); ``psl_db`` (and ``ideal_psl_db``) is the difference sidelobe level,
+    the highest refined lobe farther than :data:`MAIN_LOBES` times the peak's offset from the
+    commanded direction, so the two main lobes are excluded; the peak and
+    directivity are those of the higher main lobe; ``pointing_error_deg`` (and its ideal) is
+    NaN: the offset of the null needs a null search the package's lobe search does not make.
     """
 
     theta_deg: np.ndarray
@@ -93,9 +110,10 @@ class BeamMetrics:
     drive_loss_db: np.ndarray | None = None
     radiated_power_db: np.ndarray | None = None
     eirp_dbw: np.ndarray | None = None
+    null_depth_db: np.ndarray | None = None
 
     def __post_init__(self):
-        for f in ("drive_loss_db", "radiated_power_db", "eirp_dbw"):
+        for f in ("drive_loss_db", "radiated_power_db", "eirp_dbw", "null_depth_db"):
             if getattr(self, f) is None:
                 object.__setattr__(self, f, np.full(len(self.theta_deg), np.nan))
 
@@ -139,7 +157,9 @@ class BeamMetrics:
                 "radiated_power_db_min": mn(self.radiated_power_db),
                 "radiated_power_db_min_beam": arg(-np.asarray(self.radiated_power_db, float)),
                 "eirp_dbw_min": mn(self.eirp_dbw),
-                "eirp_dbw_min_beam": arg(-np.asarray(self.eirp_dbw, float))}
+                "eirp_dbw_min_beam": arg(-np.asarray(self.eirp_dbw, float)),
+                "null_depth_db_max": mx(self.null_depth_db),
+                "null_depth_db_max_beam": arg(self.null_depth_db)}
 
 
 class BeamEvaluator:
@@ -343,18 +363,33 @@ class BeamEvaluator:
         v, _ = self._best_lobes(Ie, err)
         return np.maximum(v, Ie.max(axis=0)), s
 
-    def _ideal(self, W0, steer):
+    def _ideal(self, W0, steer, diff):
         """Peak directivity and sidelobe level (dB) of ideal beams, cached by content."""
-        key = (hash(W0.tobytes()), hash(steer.tobytes()), W0.shape)
+        key = (hash(W0.tobytes()), hash(steer.tobytes()), W0.shape, hash(diff.tobytes()))
         if key not in self._cache:
             I0, peak0, ipk0 = self._beam_peaks(W0, steer)
-            psl0 = db10(self._sidelobe(I0, W0, peak0) / ipk0)
+            psl0 = db10(self._lobes(I0, W0, peak0, steer, diff) / ipk0)
             d0 = db10(4 * np.pi * ipk0 / self.power(W0))
-            pe0 = self.pointing_error_deg(peak0, steer)
+            pe0 = np.where(diff, np.nan, self.pointing_error_deg(peak0, steer))
             if len(self._cache) > 8:
                 self._cache.clear()
             self._cache[key] = (d0, psl0, pe0)
         return self._cache[key]
+
+    def _lobes(self, I, W, peak, steer, diff):
+        """Sidelobe intensity per beam: :meth:`_sidelobe` for sum beams; for difference beams
+        (``diff``) the highest refined lobe of the same candidates farther than
+        :data:`MAIN_LOBES` times the main-lobe peak's offset from the commanded direction
+        (the two main lobes excluded; a lobe that refines back inside is not counted)."""
+        out = self._sidelobe(I, W, peak)
+        if diff.any():
+            s = self._steer_start(steer[diff])
+            off = np.clip(np.sum(peak[diff] * s, axis=1), -1, 1)
+            lim = np.cos(np.minimum(MAIN_LOBES * np.arccos(off), np.pi))
+            v, r = self._best_lobes(I[:, diff], W[diff], (self.dirs @ s.T) < lim)
+            inside = np.sum(np.nan_to_num(r) * s, axis=1) >= lim
+            out[diff] = np.where(inside & ~np.isnan(r[:, 0]), 0.0, v)
+        return out
 
     def _refuse_difference(self, W, d, steer, peak) -> None:
         """Refuse a beam whose weights form a difference beam (sum-beam metrics would score
@@ -369,9 +404,10 @@ class BeamEvaluator:
             b = int(bad[0])
             raise SteradianError(
                 f"the beam at theta {d[b, 0]:g}, phi {d[b, 1]:g} deg has a boresight null "
-                f"({lvl[b]:.1f} dB): its weights form a difference beam, and beam tables "
-                "score sum beams only (its twin lobe would be a 0 dB sidelobe); difference-"
-                "beam tables are not supported yet")
+                f"({lvl[b]:.1f} dB): its weights form a difference beam, but the beam is "
+                "a sum beam (its twin lobe would score as a 0 dB sidelobe); "
+                "use a sum taper and [beams] kinds = [\"sum\", \"difference_az\", ...] for "
+                "difference beams")
 
     def pointing_error_deg(self, peak, steer) -> np.ndarray:
         """Angle between refined peaks and commanded directions (cone angle if collinear)."""
@@ -382,13 +418,15 @@ class BeamEvaluator:
         return angle_between_deg(peak, s)
 
     def evaluate(self, W, directions, ideal=None, *, commanded=None,
-                 element_power_w: float | None = None) -> BeamMetrics:
+                 element_power_w: float | None = None, kinds=None) -> BeamMetrics:
         """Metrics of beams with weights W (B, N) commanded to directions (B, 2) in degrees.
 
         ``ideal`` (B, N): the unquantized weights of each beam, for the loss, the
         quantization-lobe level and the phase error. ``commanded`` (B, N): the nominal
         channel states, for the drive loss; ``element_power_w``: each channel's power at
-        full drive, for the EIRP (see :class:`BeamMetrics`).
+        full drive, for the EIRP (see :class:`BeamMetrics`). ``kinds`` (B,): each beam's
+        kind (default all "sum"); a difference beam gets difference metrics, a "sum" beam
+        whose weights form a difference beam is refused.
         """
         W = np.atleast_2d(np.asarray(W, complex))
         d = np.atleast_2d(np.asarray(directions, float))
@@ -398,6 +436,10 @@ class BeamEvaluator:
                                  f"{self.array.n}")
         if d.shape != (B, 2):
             raise SteradianError(f"directions must have shape ({B}, 2), got {d.shape}")
+        diff = (np.zeros(B, bool) if kinds is None
+                else np.array([k != "sum" for k in kinds], bool))
+        if diff.shape != (B,):
+            raise SteradianError(f"kinds must be one per beam: {B} beams, got {diff.size}")
         chunk = max(1, int(self.chunk_bytes // (24 * len(self.dirs))))
         if B > chunk:  # bound the (directions x beams) work arrays
             W0 = None if ideal is None else np.atleast_2d(np.asarray(ideal, complex))
@@ -405,7 +447,8 @@ class BeamEvaluator:
             parts = [self.evaluate(W[i:i + chunk], d[i:i + chunk],
                                    None if W0 is None else W0[i:i + chunk],
                                    commanded=None if C is None else C[i:i + chunk],
-                                   element_power_w=element_power_w)
+                                   element_power_w=element_power_w,
+                                   kinds=None if kinds is None else list(kinds)[i:i + chunk])
                      for i in range(0, B, chunk)]
             return BeamMetrics(**{f: np.concatenate([getattr(p, f) for p in parts])
                                   for f in METRIC_FIELDS})
@@ -414,8 +457,12 @@ class BeamEvaluator:
         if np.any(P <= 0):
             raise SteradianError(f"beam {int(np.flatnonzero(P <= 0)[0])} radiates no power")
         I, peak, ipk = self._beam_peaks(W, steer)
-        self._refuse_difference(W if ideal is None else ideal, d, steer, peak)
-        side = self._sidelobe(I, W, peak)
+        if not diff.all():
+            keep = ~diff
+            self._refuse_difference((W if ideal is None else np.atleast_2d(ideal))[keep],
+                                    d[keep], steer[keep], peak[keep])
+        side = self._lobes(I, W, peak, steer, diff)
+        null = np.where(diff, db10(self._at(self._steer_start(steer), W) / ipk), np.nan)
         D = 4 * np.pi * ipk / P
         nan = np.full(B, np.nan)
         qlobe, d0, psl0, pe0, rms = nan, nan, nan, nan, nan
@@ -423,7 +470,7 @@ class BeamEvaluator:
             W0 = np.atleast_2d(np.asarray(ideal, complex))
             if W0.shape != W.shape:
                 raise SteradianError(f"ideal weights have shape {W0.shape}, expected {W.shape}")
-            d0, psl0, pe0 = self._ideal(W0, steer)
+            d0, psl0, pe0 = self._ideal(W0, steer, diff)
             ve, s = self._qlobe(W0, W)
             qlobe = db10(ve / ipk)
             ok = (np.abs(W0) > 0) & (np.abs(W) > 0)
@@ -441,10 +488,11 @@ class BeamEvaluator:
             theta_deg=d[:, 0].copy(), phi_deg=d[:, 1].copy(), peak_theta_deg=th,
             peak_phi_deg=phi, directivity_dbi=dbi,
             gain_dbi=dbi + db10(self.efficiency),
-            pointing_error_deg=self.pointing_error_deg(peak, steer),
+            pointing_error_deg=np.where(diff, np.nan, self.pointing_error_deg(peak, steer)),
             psl_db=db10(side / ipk), qlobe_db=qlobe, ideal_directivity_dbi=d0,
             ideal_psl_db=psl0, ideal_pointing_error_deg=pe0, loss_db=d0 - dbi,
             rms_phase_error_deg=rms, drive_loss_db=drive,
-            radiated_power_db=db10(self.efficiency * p_in / N), eirp_dbw=eirp)
+            radiated_power_db=db10(self.efficiency * p_in / N), eirp_dbw=eirp,
+            null_depth_db=null)
 
 

@@ -33,7 +33,7 @@ def span(start: float, stop: float, step: float) -> np.ndarray:
 
 
 BEAMS_KEYS = ("grid", "theta_deg", "phi_deg", "az_deg", "el_deg", "file", "directions",
-              "max_scan_deg")
+              "max_scan_deg", "kinds")
 """Keys of a design file's ``[beams]`` table."""
 
 GridKind = Literal["theta_phi", "az_el", "list"]
@@ -80,6 +80,31 @@ def _listed(t: Section, base_dir, read_file) -> np.ndarray:
     return d
 
 
+def beam_kinds_from_table(table: dict, *, source=None, section: str = "beams") -> tuple:
+    """The ``kinds`` of a design's ``[beams]`` table: beam kinds per direction, distinct
+    values of "sum", "difference_az", "difference_el" in table order (default ("sum",)).
+
+    Raises
+    ------
+    DesignError
+        Naming ``beams.kinds`` for an unknown, repeated or empty list.
+    """
+    from ._table import BEAM_KINDS
+
+    t = Section(section, table, None if source is None else str(source))
+    if "kinds" not in t:
+        return ("sum",)
+    v = t.data["kinds"]
+    if (not isinstance(v, list) or not v or not all(isinstance(k, str) for k in v)
+            or len(set(v)) != len(v)):
+        raise t.error("kinds", f"must be a list of distinct beam kinds of "
+                      f"{', '.join(BEAM_KINDS)} (got {v!r})")
+    bad = [k for k in v if k not in BEAM_KINDS]
+    if bad:
+        raise t.error("kinds", f"{bad[0]!r} is not a beam kind ({', '.join(BEAM_KINDS)})")
+    return tuple(v)
+
+
 def beams_from_table(table: dict, *, source=None, base_dir=None, section: str = "beams",
                      read_file: Callable[[Path], np.ndarray] | None = None) -> np.ndarray:
     """Beam directions (theta_deg, phi_deg), shape (B, 2), from a design's ``[beams]`` table.
@@ -98,7 +123,7 @@ def beams_from_table(table: dict, *, source=None, base_dir=None, section: str = 
     t = Section(section, table, None if source is None else str(source))
     t.only(BEAMS_KEYS)
     grid = t.string("grid", choices=get_args(GridKind))
-    allowed = set(_NEEDS[grid]) | {"grid", "max_scan_deg"} | (
+    allowed = set(_NEEDS[grid]) | {"grid", "max_scan_deg", "kinds"} | (
         {"file", "directions"} if grid == "list" else set())
     for k in t.data:
         if k not in allowed:

@@ -86,7 +86,9 @@ class BeamTable:
         its codes are the off flag ``(OFF_CODE, OFF_CODE)`` = (65535, 65535), its I/Q
         exactly (0, 0), and its commanded state zero.
     kinds : sequence of str, length B, optional
-        Kind of each beam, one of :data:`BEAM_KINDS` (default all ``"sum"``).
+        Kind of each beam, one of :data:`BEAM_KINDS` (default all ``"sum"``). Stored as a
+        tuple, or None when every beam is a sum beam (so a table of sum beams is the same
+        whatever was given); :attr:`beam_kinds` always gives the B kinds.
     """
 
     states: StateMap
@@ -206,9 +208,14 @@ class BeamTable:
                 and self.kinds == other.kinds)
 
     @property
+    def beam_kinds(self) -> tuple:
+        """The kind of every beam (B,), "sum" unless :attr:`kinds` says otherwise."""
+        return ("sum",) * self.n_beams if self.kinds is None else self.kinds
+
+    @property
     def has_difference(self) -> bool:
         """True when any beam is not a sum beam."""
-        return any(k != "sum" for k in self.kinds)
+        return self.kinds is not None
 
     def units(self) -> np.ndarray:
         """Commanded directions as unit vectors, shape (B, 3)."""
@@ -218,9 +225,9 @@ class BeamTable:
 
 
 def _kinds(kinds, nb: int) -> tuple:
-    """The per-beam kinds as a tuple of str (all "sum" by default), checked."""
+    """The per-beam kinds as a tuple of str, checked (None when all are "sum")."""
     if kinds is None:
-        return ("sum",) * nb
+        return None
     k = tuple(str(x) for x in (kinds.tolist() if isinstance(kinds, np.ndarray) else kinds))
     if len(k) != nb:
         raise SteradianError(f"kinds must be one per beam: {nb} beams, got {len(k)}")
@@ -228,7 +235,7 @@ def _kinds(kinds, nb: int) -> tuple:
         if x not in BEAM_KINDS:
             raise SteradianError(f"beam {b}: kind {x!r} is not one of "
                                  f"{', '.join(BEAM_KINDS)}")
-    return k
+    return None if all(x == "sum" for x in k) else k
 
 
 def _mask(enabled, n: int) -> np.ndarray:

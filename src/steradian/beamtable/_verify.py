@@ -18,7 +18,7 @@ import numpy as np
 from ..errors import SteradianError
 from ..quantize import ChannelModel
 from ..units import wrap_deg
-from ._build import WeightSource, build_beam_table, channel_ideal, steered_weights
+from ._build import WeightSource, build_beam_table, channel_ideal, expand_kinds, kind_weights
 from ._evaluate import BeamEvaluator, BeamMetrics
 from ._table import BeamTable
 
@@ -86,7 +86,7 @@ def verify_beam_table(array, channel: ChannelModel, table: BeamTable, *,
                       weights: WeightSource = None, efficiency: float = 1.0,
                       evaluator: BeamEvaluator | None = None, directions=None,
                       compare_states: bool = True,
-                      element_power_w: float | None = None) -> Verification:
+                      element_power_w: float | None = None, kinds=None) -> Verification:
     """Compare the beams a weight file holds with the design's, and re-evaluate them.
 
     The design's table is rebuilt with :func:`build_beam_table` (``channel``, ``weights``,
@@ -108,6 +108,11 @@ def verify_beam_table(array, channel: ChannelModel, table: BeamTable, *,
         design's, e.g. the file's own states for a design without a channel).
     element_power_w : float, optional
         Power of one channel at full drive (W): each beam's EIRP is then evaluated.
+    kinds : sequence of str, optional
+        The design's beam kinds per direction (see :func:`build_beam_table`; default sum
+        only). With ``directions`` each beam's kind is compared with the design's; without,
+        the file's kinds are taken as commanded. Each beam is evaluated as the kind the
+        file says.
 
     Raises
     ------
@@ -125,18 +130,21 @@ def verify_beam_table(array, channel: ChannelModel, table: BeamTable, *,
     real = channel.realise(table.commanded(), table.phase_offsets_deg, array.enabled)
     # The ideal beams as the build made them (a phase-only channel with drop_taper drops the
     # taper there too), so loss figures compare like with like.
-    w0, _ = channel_ideal(channel, steered_weights(array, table.directions, weights),
+    w0, _ = channel_ideal(channel, kind_weights(array, table.directions, table.beam_kinds, weights),
                           array.enabled)
     ev = evaluator or BeamEvaluator(array, efficiency=efficiency)
     m = ev.evaluate(real, table.directions, ideal=w0, commanded=table.commanded(),
-                    element_power_w=element_power_w)
-    ref_dirs = None if directions is None else np.atleast_2d(np.asarray(directions, float))
+                    element_power_w=element_power_w, kinds=table.beam_kinds)
+    ref_dirs, ref_kinds = table.directions, table.beam_kinds
+    if directions is not None:
+        ref_dirs, ref_kinds = expand_kinds(directions, kinds)
     ref_codes = None
     if compare_states:
-        d = table.directions if ref_dirs is None else ref_dirs
-        ref = build_beam_table(array, channel, d, weights=weights, evaluate=False).table
+        ref = build_beam_table(array, channel, ref_dirs, weights=weights, evaluate=False,
+                               beam_kinds=ref_kinds).table
         ref_codes = ref.as_encoding(table.encoding).codes
-    mism, compared = _compare(table, ref_dirs, ref_codes)
+    mism, compared = _compare(table, None if directions is None else ref_dirs, ref_codes,
+                              ref_kinds)
     mism, compared = _compare_mask(table, array.enabled, mism, compared)
     if compared["beams_differing"]:
         notes += _taper_hint(table, ref)
@@ -283,7 +291,7 @@ def _compare_mask(table: BeamTable, enabled, mism: tuple, compared: dict):
     return (line, *mism)[:MAX_LISTED], compared
 
 
-def _compare(table: BeamTable, ref_dirs, ref_codes) -> tuple[tuple, dict]:
+def _compare(table: BeamTable, ref_dirs, ref_codes, ref_kinds=None) -> tuple[tuple, dict]:
     """Differences of ``table`` from the design's directions and states (either None: not
     compared). Returns (lines, compared)."""
     compared = {"directions": ref_dirs is not None, "states": ref_codes is not None,
@@ -294,12 +302,19 @@ def _compare(table: BeamTable, ref_dirs, ref_codes) -> tuple[tuple, dict]:
     if ref_dirs is not None:
         match, lines, counts = _match_beams(table.directions, ref_dirs)
         compared.update(counts)
-    if ref_codes is not None:
+    if ref_codes is not None or ref_kinds is not None:
         tol = IQ_TOLERANCE_LSB if table.encoding == "iq" else 0
         for j in range(table.n_beams):
             k = int(match[j])
             if k < 0:
                 continue  # already reported: not a beam of the design, or a repeat
+            if ref_kinds is not None and table.beam_kinds[j] != ref_kinds[k]:
+                lines.append(f"{_where(j, table.directions[j])}: file has kind "
+                             f"{table.beam_kinds[j]}, design gives {ref_kinds[k]}")
+                compared["beams_differing"] += 1
+                continue
+            if ref_codes is None:
+                continue
             bad = np.flatnonzero(np.any(np.abs(table.codes[j] - ref_codes[k]) > tol, axis=1))
             if bad.size:
                 n = int(bad[0])

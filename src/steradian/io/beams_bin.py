@@ -145,7 +145,7 @@ def write_beams_bin(path, table: BeamTable, encoding: Encoding | None = None,
         parts.append(mask.tobytes())
     if flags & 8:
         kinds = np.zeros(_mask_size(t.n_beams), np.uint8)
-        kinds[:t.n_beams] = [BEAM_KINDS.index(k) for k in t.kinds]
+        kinds[:t.n_beams] = [BEAM_KINDS.index(k) for k in t.beam_kinds]
         parts.append(kinds.tobytes())
     dt = "<u2" if t.encoding == "codes" else "<i2"
     parts.append(np.ascontiguousarray(t.codes, dt).tobytes())
@@ -165,10 +165,9 @@ def read_beams_bin(path) -> BeamTable:
     ------
     FileFormatError
         For a wrong magic or version, a header or payload CRC-32 mismatch (a corrupted
-        file), a size that does not match the counts, or codes out of range.
+        file), a size that does not match the counts, codes or beam kinds out of range.
     """
-    path = Path(path)
-    data = read_bytes(path, "bin weight file", MAX_BIN_BYTES)
+    data = read_bytes(path := Path(path), "bin weight file", MAX_BIN_BYTES)
     if not data.startswith(MAGIC):
         raise FileFormatError(path, not_a("bin", f"magic {shown(data[:8])}, expected "
                                           f"{shown(MAGIC)}"))
@@ -231,18 +230,20 @@ def read_beams_bin(path) -> BeamTable:
             raise FileFormatError(path, "enable mask bytes must be 0 or 1 and its padding 0")
         on = raw[:n].astype(bool)
         o += _mask_size(n)
-    kinds = None
-    if flags & 8:
-        raw = np.frombuffer(payload, np.uint8, _mask_size(nb), o)
-        if np.any(raw[:nb] >= len(BEAM_KINDS)) or np.any(raw[nb:]):
-            raise FileFormatError(path, f"beam kind bytes must be 0 .. {len(BEAM_KINDS) - 1} "
-                                  "and their padding 0")
-        kinds = tuple(BEAM_KINDS[int(k)] for k in raw[:nb])
-        o += _mask_size(nb)
-    dt = "<u2" if enc == 1 else "<i2"
-    codes = np.frombuffer(payload, dt, 2 * nb * n, o).reshape(nb, n, 2).astype(np.int64)
+    kinds = _kind_block(path, payload, nb, o) if flags & 8 else None
+    codes = np.frombuffer(payload, "<u2" if enc == 1 else "<i2", 2 * nb * n,
+                          psize - 4 * nb * n).reshape(nb, n, 2).astype(np.int64)  # the last block
     try:
         return BeamTable(states, dirs, codes, "codes" if enc == 1 else "iq", off, pos,
                          enabled=on, kinds=kinds)
     except SteradianError as exc:
         raise FileFormatError(path, str(exc)) from None
+
+
+def _kind_block(path, payload: bytes, nb: int, o: int) -> tuple:
+    """The beam kinds of the kind block at payload offset ``o``."""
+    raw = np.frombuffer(payload, np.uint8, _mask_size(nb), o)
+    if np.any(raw[:nb] >= len(BEAM_KINDS)) or np.any(raw[nb:]):
+        raise FileFormatError(path, f"beam kind bytes must be 0 .. {len(BEAM_KINDS) - 1} and "
+                              "their padding 0")
+    return tuple(BEAM_KINDS[int(k)] for k in raw[:nb])

@@ -193,7 +193,7 @@ def _array_lines(t: BeamTable, lo: str, up: str) -> list[str]:
     lines.append("};")
     lines.append(f"static const uint8_t {lo}_beam_kind[{up}_N_BEAMS] = {{"
                  "  /* 0 sum, 1 difference az, 2 difference el */")
-    lines += _rows([str(BEAM_KINDS.index(k)) for k in t.kinds], 16)
+    lines += _rows([str(BEAM_KINDS.index(k)) for k in t.beam_kinds], 16)
     lines.append("};")
     if t.positions is not None:
         lines.append(f"static const double {lo}_element_position_m[{up}_N_ELEMENTS][3] = {{")

@@ -104,7 +104,7 @@ def write_beams_csv(path, table: BeamTable, encoding=None) -> None:
     if table.metrics is not None:
         head.append(("metrics", json.dumps(list(table.metrics), allow_nan=False)))
     if table.has_difference:
-        head.append(("beam_kinds", json.dumps(list(table.kinds))))
+        head.append(("beam_kinds", json.dumps(list(table.beam_kinds))))
     lines = [f"# {k} = {v}" for k, v in head]
     with_pos = table.positions is not None
     lines.append(",".join(_columns(enc, with_pos)))

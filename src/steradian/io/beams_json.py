@@ -76,7 +76,7 @@ def write_beams_json(path, table: BeamTable, encoding=None) -> None:
         d = {"beam": b, "theta_deg": float(table.directions[b, 0]),
              "phi_deg": float(table.directions[b, 1])}
         if table.has_difference:
-            d["kind"] = table.kinds[b]
+            d["kind"] = table.beam_kinds[b]
         if enc == "codes":
             d["phase_code"] = codes[b, :, 0].tolist()
             d["amplitude_code"] = codes[b, :, 1].tolist()
