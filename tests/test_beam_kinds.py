@@ -233,3 +233,22 @@ def test_verify_compares_the_beam_kinds(tmp_path, suffix):
     _, v = verify_weight_file(d, bad)
     assert v.first_difference == ("beam 3 (theta 20.0, phi 0.0): file has kind "
                                   "difference_az, design gives sum")
+
+
+def test_cli_builds_and_verifies_a_mixed_table(tmp_path):
+    """`steradian beams` writes the mixed table (every format) and reports the shallowest
+    difference null; `steradian verify` accepts its files (exit 0)."""
+    from click.testing import CliRunner
+
+    from steradian.cli import main
+
+    p = tmp_path / "d.toml"
+    p.write_text(DESIGN.format(kinds='kinds = ["sum", "difference_el"]'))
+    r = CliRunner().invoke(main, ["beams", str(p), "-o", str(tmp_path / "t")])
+    assert r.exit_code == 0, r.output
+    assert "difference null" in r.output
+    for suffix in SUFFIXES:
+        assert read_weight_file(tmp_path / f"t{suffix}").beam_kinds == (
+            "sum", "difference_el") * 2
+        v = CliRunner().invoke(main, ["verify", str(p), str(tmp_path / f"t{suffix}")])
+        assert v.exit_code == 0, v.output

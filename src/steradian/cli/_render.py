@@ -222,6 +222,9 @@ def _power_rows(summary: dict, f, at) -> list[tuple[str, str]]:
     if summary.get("radiated_power_db_min") is not None:
         rows.append(("radiated power", f"lowest {f('radiated_power_db_min', 'z.3f')} dB"
                      f"{at('radiated_power_db_min')} re all channels at full drive"))
+    if summary.get("null_depth_db_max") is not None:
+        rows.append(("difference null", f"shallowest {f('null_depth_db_max', '.2f')} dB"
+                     f"{at('null_depth_db_max')} re its peak (difference beams)"))
     if summary.get("eirp_dbw_min") is not None:
         rows.append(("EIRP", f"lowest {f('eirp_dbw_min', '.2f')} dBW{at('eirp_dbw_min')}"))
         rows.append(("caution", RF_EXPOSURE_CAUTION))
