@@ -252,3 +252,15 @@ def test_cli_builds_and_verifies_a_mixed_table(tmp_path):
             "sum", "difference_el") * 2
         v = CliRunner().invoke(main, ["verify", str(p), str(tmp_path / f"t{suffix}")])
         assert v.exit_code == 0, v.output
+
+
+def test_difference_signs_on_axis_zero_and_no_extent_refused():
+    """Elements exactly on the axis get 0; a line with no extent in y has no elevation
+    difference beam (refused in one line, not a 'radiates no power')."""
+    from steradian.beamtable import difference_signs
+
+    pos = np.array([[-1.0, 0, 0], [0.0, 0, 0], [1.0, 0, 0]])
+    assert difference_signs(pos, "difference_az").tolist() == [-1.0, 0.0, 1.0]
+    assert difference_signs(pos, "sum").tolist() == [1.0, 1.0, 1.0]
+    with pytest.raises(SteradianError, match="no extent in y"):
+        difference_signs(pos, "difference_el")

@@ -68,7 +68,12 @@ def difference_signs(positions, kind: str, enabled=None) -> np.ndarray:
     c = pos[:, 0 if kind == "difference_az" else 1]
     u = c - c[on].mean()
     tol = 1e-9 * max(float(np.ptp(pos[on], axis=0).max()), 1e-300)
-    return np.where(np.abs(u) <= tol, 0.0, np.sign(u))
+    sign = np.where(np.abs(u) <= tol, 0.0, np.sign(u))
+    if not np.any(sign[on] > 0):
+        raise SteradianError(f"beam kind {kind!r}: the enabled elements have no extent in "
+                             f"{'x' if kind == 'difference_az' else 'y'}, so there is no such "
+                             "difference beam")
+    return sign
 
 
 def expand_kinds(directions, kinds) -> tuple[np.ndarray, tuple]:
