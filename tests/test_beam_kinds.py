@@ -264,3 +264,22 @@ def test_difference_signs_on_axis_zero_and_no_extent_refused():
     assert difference_signs(pos, "sum").tolist() == [1.0, 1.0, 1.0]
     with pytest.raises(SteradianError, match="no extent in y"):
         difference_signs(pos, "difference_el")
+
+
+def test_mixed_table_reports_sum_and_difference_sidelobes_apart(tmp_path):
+    """A mixed table's worst peak sidelobe and the [requirements] max_psl_db judge the sum
+    beams only; the difference beams' sidelobe level is reported on its own (common
+    practice: sum and difference patterns have separate sidelobe specifications)."""
+    from steradian.requirements import judge_beams, requirements_from_table
+    from steradian.workflows import beam_table_from_design
+
+    d = _design(tmp_path)
+    m = beam_table_from_design(d).metrics
+    s = m.summary()
+    psl = np.asarray(m.psl_db, float)
+    diff = np.isfinite(np.asarray(m.null_depth_db, float))
+    assert s["psl_db_max"] == pytest.approx(np.max(psl[~diff]))
+    assert s["difference_sll_db_max"] == pytest.approx(np.max(psl[diff]))
+    assert s["psl_db_max_beam"] in np.flatnonzero(~diff)
+    (v,) = judge_beams(requirements_from_table({"max_psl_db": -25.0}), m, d.array)
+    assert v.value == pytest.approx(np.max(psl[~diff])) and not v.failed

@@ -360,6 +360,9 @@ def judge_beams(reqs: dict, metrics, array) -> list[Verdict]:
             out.append(_skipped(r, limit, r.beam_field))
             continue
         vals = np.asarray(vals, float)
+        if key == "max_psl_db" and getattr(metrics, "null_depth_db", None) is not None:
+            # Sum beams only: a difference beam's psl_db is its difference sidelobe level.
+            vals = np.where(np.isfinite(np.asarray(metrics.null_depth_db, float)), np.nan, vals)
         if not np.any(np.isfinite(vals)):
             out.append(_skipped(r, limit, _no_values(key)) if key != "max_psl_db"
                        else _judge(r, None, limit))

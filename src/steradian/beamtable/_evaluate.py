@@ -126,6 +126,15 @@ class BeamMetrics:
         return [{"beam": i, **{f: _jsonable(float(cols[f][i])) for f in METRIC_FIELDS}}
                 for i in range(len(self))]
 
+    def _of_kind(self, values, kind: str) -> np.ndarray:
+        """``values`` of the sum beams (``kind="sum"``) or of the difference beams, NaN
+        elsewhere; a difference beam is one with a null depth."""
+        v = np.asarray(values, float)
+        nd = self.null_depth_db
+        diff = (np.zeros(v.shape, bool) if nd is None
+                else np.isfinite(np.asarray(nd, float)))
+        return np.where(diff == (kind != "sum"), v, np.nan)
+
     def summary(self) -> dict:
         """Worst cases over the table."""
         def mx(a):
@@ -147,7 +156,11 @@ class BeamMetrics:
                 "loss_db_max": mx(self.loss_db), "loss_db_max_beam": arg(self.loss_db),
                 "loss_db_mean": (None if np.all(np.isnan(self.loss_db))
                                  else float(np.nanmean(self.loss_db))),
-                "psl_db_max": mx(self.psl_db), "psl_db_max_beam": arg(self.psl_db),
+                # A difference beam's psl_db is its difference sidelobe level: reported
+                # apart, so the sum beams' worst sidelobe is not a difference figure.
+                "psl_db_max": mx(self._of_kind(self.psl_db, "sum")),
+                "psl_db_max_beam": arg(self._of_kind(self.psl_db, "sum")),
+                "difference_sll_db_max": mx(self._of_kind(self.psl_db, "difference")),
                 "qlobe_db_max": mx(self.qlobe_db), "qlobe_db_max_beam": arg(self.qlobe_db),
                 "pointing_error_deg_max": mx(self.pointing_error_deg),
                 "pointing_error_deg_max_beam": arg(self.pointing_error_deg),
