@@ -193,7 +193,12 @@ def test_design_table_holds_every_kind_per_direction(tmp_path):
     assert np.isnan(m.null_depth_db[[0, 3]]).all()
     # ideal difference weights are odd: an exact boresight null (Bayliss 1968)
     assert m.null_depth_db[1] < -60 and m.null_depth_db[2] < -60
-    assert np.isnan(m.pointing_error_deg[[1, 2, 4, 5]]).all()
+    # a difference beam's pointing error is its null's offset: none for the ideal odd
+    # weights (symmetry), a tenth of a degree at most after 6-bit quantization
+    assert np.all(m.ideal_pointing_error_deg[[1, 2, 4, 5]] < 1e-6)
+    assert np.all(m.pointing_error_deg[[1, 2, 4, 5]] < 0.2)
+    assert np.isnan(m.monopulse_slope_per_deg[[0, 3]]).all()
+    assert np.all(m.monopulse_slope_per_deg[[1, 2, 4, 5]] > 0)
     assert m.pointing_error_deg[0] < 0.01
     # difference sidelobe level: separable taper, so the x-cut of the split Taylor line
     # (the y factor's sidelobes are 30 dB down) -- checked against a dense numpy sum
@@ -283,3 +288,54 @@ def test_mixed_table_reports_sum_and_difference_sidelobes_apart(tmp_path):
     assert s["psl_db_max_beam"] in np.flatnonzero(~diff)
     (v,) = judge_beams(requirements_from_table({"max_psl_db": -25.0}), m, d.array)
     assert v.value == pytest.approx(np.max(psl[~diff])) and not v.failed
+
+
+@pytest.mark.parametrize("theta", [0.0, 30.0])
+def test_table_difference_null_and_monopulse_slope_match_the_first_moment(theta):
+    """A table's difference beam gets the analysis's null offset and monopulse slope (one
+    null search, steradian.metrics.difference_null): for isotropic elements on a half-wave
+    line the difference slope is k |sum w_n x_n| cos(theta0) / sqrt(sum |w_n|^2) per radian
+    (the aperture's first moment; derived in tests/test_difference_beams.py, common
+    practice), the monopulse slope that over sqrt(N) (Sherman and Barton, Monopulse
+    Principles and Techniques, 2011); the null sits on the commanded direction. Checked
+    against the formula to 1e-6 and against pattern_metrics of the same weights."""
+    import steradian as st
+    from steradian import tapers
+    from steradian.beamtable import BeamEvaluator
+    from steradian.metrics import pattern_metrics
+
+    n = 24
+    x = (np.arange(n) - (n - 1) / 2) * 0.5
+    w = tapers.bayliss(n, 5, 30.0).astype(complex)
+    arr = st.Array(st.linear(n, 0.5), st.C0)
+    a = st.Array(st.linear(n, 0.5), st.C0, taper=w,
+                 steering=st.Steering(theta, 0.0) if theta else None)
+    m = BeamEvaluator(arr).evaluate(a.weights()[None, :], [[theta, 0.0]],
+                                    kinds=["difference_az"])
+    k = 2 * np.pi
+    ref = (k * abs(np.sum(w.real * x)) * np.cos(np.radians(theta))
+           / np.sqrt(np.sum(np.abs(w) ** 2)) * np.pi / 180 / np.sqrt(n))
+    assert m.monopulse_slope_per_deg[0] == pytest.approx(ref, rel=1e-6)
+    assert m.pointing_error_deg[0] < 1e-6
+    pm = pattern_metrics(a, beam_kind="difference_az")
+    assert m.monopulse_slope_per_deg[0] == pytest.approx(pm.monopulse_slope_per_deg, rel=1e-6)
+
+
+def test_table_difference_null_offset_follows_a_tilted_difference():
+    """A difference beam whose two halves are driven 8.6 deg apart in phase has its null off the
+    commanded direction; the table reports the offset the analysis measures for the same
+    weights (pointing error of a difference beam = its null's angle from the steering
+    direction, steradian.metrics)."""
+    import steradian as st
+    from steradian.beamtable import BeamEvaluator
+    from steradian.metrics import pattern_metrics
+
+    n = 16
+    x = (np.arange(n) - (n - 1) / 2)
+    w = np.sign(x) * np.where(x > 0, np.exp(0.15j), 1.0)
+    arr = st.Array(st.linear(n, 0.5), st.C0)
+    m = BeamEvaluator(arr).evaluate(w[None, :], [[0.0, 0.0]], kinds=["difference_az"])
+    pm = pattern_metrics(st.Array(st.linear(n, 0.5), st.C0, taper=w,
+                                  steering=st.Steering(0.0, 0.0)), beam_kind="difference_az")
+    assert m.pointing_error_deg[0] > 0.1
+    assert m.pointing_error_deg[0] == pytest.approx(pm.pointing_error_deg, abs=1e-4)

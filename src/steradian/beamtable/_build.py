@@ -14,6 +14,7 @@ from ..quantize import ChannelModel
 from ..radiation import RF_EXPOSURE_CAUTION
 from ..units import db20
 from ._evaluate import BeamEvaluator, BeamMetrics
+from ._reference import sidelobe_offsets
 from ._table import BEAM_KINDS, BeamTable
 
 # ---------------------------------------------------------------------------------------
@@ -237,7 +238,16 @@ def build_beam_table(array, channel: ChannelModel, directions, *,
     else:
         d, ks = np.atleast_2d(np.asarray(directions, float)), tuple(beam_kinds)
     w0, notes = channel_ideal(channel, kind_weights(array, d, ks, weights), array.enabled)
-    q = channel.quantize(w0, mask=array.enabled)
+    made = []
+
+    def make_evaluator():
+        if not made:
+            made.append(evaluator or BeamEvaluator(array, efficiency=efficiency))
+        return made[0]
+
+    common, more = sidelobe_offsets(channel, w0, array.enabled, d, ks, make_evaluator)
+    notes += more
+    q = channel.quantize(w0, mask=array.enabled, common_offset_deg=common)
     notes += list(q.notes)
     codes = np.stack([q.phase_codes, q.amplitude_codes], -1)
     meta = _array_metadata(array, channel, efficiency)
@@ -249,8 +259,7 @@ def build_beam_table(array, channel: ChannelModel, directions, *,
     meta.update(metadata or {})
     metrics = None
     if evaluate:
-        ev = evaluator or BeamEvaluator(array, efficiency=efficiency)
-        metrics = ev.evaluate(q.realised, d, ideal=w0, commanded=q.commanded,
+        metrics = make_evaluator().evaluate(q.realised, d, ideal=w0, commanded=q.commanded,
                               element_power_w=element_power_w, kinds=ks)
     table = BeamTable(channel.states, d, codes, "codes", q.phase_offsets_deg,
                       array.positions, meta, None if metrics is None else metrics.rows(),

@@ -13,13 +13,13 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..array import direction
+from ..array import direction, steering_phases
 from ..directions import Directions, angle_between_deg, angles_deg
 from ..elements import Isotropic
 from ..engine import MEMORY_BUDGET, response_matrix
 from ..errors import SteradianError
 from ..geometry import principal_axes
-from ..metrics import SUM_NULL_DB, coherent_level_db
+from ..metrics import SUM_NULL_DB, coherent_level_db, difference_null
 from ..radiation import power_matrix
 from ..sphere import SearchSet, refine_best, refine_maxima
 from ..units import db10, wrap_deg
@@ -59,7 +59,7 @@ METRIC_FIELDS = ("theta_deg", "phi_deg", "peak_theta_deg", "peak_phi_deg", "dire
                   "gain_dbi", "pointing_error_deg", "psl_db", "qlobe_db",
                   "ideal_directivity_dbi", "ideal_psl_db", "ideal_pointing_error_deg", "loss_db",
                   "rms_phase_error_deg", "drive_loss_db", "radiated_power_db", "eirp_dbw",
-                  "null_depth_db")
+                  "null_depth_db", "monopulse_slope_per_deg")
 """Names of the per-beam metrics, in report order."""
 _METRIC_FIELDS = METRIC_FIELDS  # old private spelling, until its importer uses the public one
 
@@ -90,7 +90,12 @@ class BeamMetrics:
     the highest refined lobe farther than :data:`MAIN_LOBES` times the peak's offset from the
     commanded direction, so the two main lobes are excluded; the peak and
     directivity are those of the higher main lobe; ``pointing_error_deg`` (and its ideal) is
-    NaN: the offset of the null needs a null search the package's lobe search does not make.
+    the angle of the null from the commanded direction (the null between the two lobes
+    along the difference axis, by :func:`steradian.metrics.difference_null`, the search the
+    analysis uses); ``monopulse_slope_per_deg`` is the slope of Delta / Sigma at the null,
+    both normalised to directivity, Sigma the uniform-amplitude beam of the enabled elements
+    steered to the same direction (as :mod:`steradian.metrics` defines it; NaN for sum
+    beams).
     """
 
     theta_deg: np.ndarray
@@ -111,9 +116,11 @@ class BeamMetrics:
     radiated_power_db: np.ndarray | None = None
     eirp_dbw: np.ndarray | None = None
     null_depth_db: np.ndarray | None = None
+    monopulse_slope_per_deg: np.ndarray | None = None
 
     def __post_init__(self):
-        for f in ("drive_loss_db", "radiated_power_db", "eirp_dbw", "null_depth_db"):
+        for f in ("drive_loss_db", "radiated_power_db", "eirp_dbw", "null_depth_db",
+                  "monopulse_slope_per_deg"):
             if getattr(self, f) is None:
                 object.__setattr__(self, f, np.full(len(self.theta_deg), np.nan))
 
@@ -172,7 +179,10 @@ class BeamMetrics:
                 "eirp_dbw_min": mn(self.eirp_dbw),
                 "eirp_dbw_min_beam": arg(-np.asarray(self.eirp_dbw, float)),
                 "null_depth_db_max": mx(self.null_depth_db),
-                "null_depth_db_max_beam": arg(self.null_depth_db)}
+                "null_depth_db_max_beam": arg(self.null_depth_db),
+                "monopulse_slope_per_deg_min": mn(self.monopulse_slope_per_deg),
+                "monopulse_slope_per_deg_min_beam": arg(
+                    -np.asarray(self.monopulse_slope_per_deg, float))}
 
 
 class BeamEvaluator:
@@ -301,6 +311,27 @@ class BeamEvaluator:
         """Radiated power w^H Q w of each row of W (B, N)."""
         return np.einsum("bn,bn->b", W.conj(), W @ self.Q.T).real
 
+    def sample_sidelobes(self, W) -> np.ndarray:
+        """Peak sidelobe of each row of W (B, N) relative to its peak, from the search-set
+        samples alone (linear intensity ratio; 0 without a sidelobe).
+
+        A screen, not a measurement: a lobe's peak can lie up to about 2 dB above its best
+        sample (:data:`WINDOW_DB`). The main lobe is the highest sample and what lies within
+        1.5 spacings of it, as in the refined search.
+        """
+        W = np.atleast_2d(np.asarray(W, complex))
+        out = np.empty(len(W))
+        chunk = max(1, int(self.chunk_bytes // (24 * len(self.dirs))))
+        for i in range(0, len(W), chunk):
+            I = self._grid(W[i:i + chunk])
+            b = np.arange(I.shape[1])
+            g = I.argmax(axis=0)
+            allowed = (self.dirs @ self.dirs[g].T) < math.cos(1.5 * self.spacing)
+            idx = self.search.local_maxima(I, 1, allowed)[:, 0]
+            side = np.where(idx >= 0, I[np.maximum(idx, 0), b], 0.0)
+            out[i:i + chunk] = side / I[g, b]
+        return out
+
     def _refine(self, starts, W):
         """Refined maxima near ``starts`` (K, 3), start k on the pattern of weights W[k]."""
         def fun(points, rows):
@@ -376,14 +407,18 @@ class BeamEvaluator:
         v, _ = self._best_lobes(Ie, err)
         return np.maximum(v, Ie.max(axis=0)), s
 
-    def _ideal(self, W0, steer, diff):
-        """Peak directivity and sidelobe level (dB) of ideal beams, cached by content."""
-        key = (hash(W0.tobytes()), hash(steer.tobytes()), W0.shape, hash(diff.tobytes()))
+    def _ideal(self, W0, steer, kinds):
+        """Peak directivity, sidelobe level (dB) and pointing error (deg) of ideal beams,
+        cached by content."""
+        diff = kinds != "sum"
+        key = (hash(W0.tobytes()), hash(steer.tobytes()), W0.shape, hash(tuple(kinds)))
         if key not in self._cache:
             I0, peak0, ipk0 = self._beam_peaks(W0, steer)
             psl0 = db10(self._lobes(I0, W0, peak0, steer, diff) / ipk0)
             d0 = db10(4 * np.pi * ipk0 / self.power(W0))
-            pe0 = np.where(diff, np.nan, self.pointing_error_deg(peak0, steer))
+            pe0 = self.pointing_error_deg(peak0, steer)
+            if diff.any():
+                pe0[diff] = self.difference_nulls(W0[diff], steer[diff], kinds[diff])[0]
             if len(self._cache) > 8:
                 self._cache.clear()
             self._cache[key] = (d0, psl0, pe0)
@@ -422,6 +457,59 @@ class BeamEvaluator:
                 "use a sum taper and [beams] kinds = [\"sum\", \"difference_az\", ...] for "
                 "difference beams")
 
+    def difference_nulls(self, W, steer, kinds) -> tuple[np.ndarray, np.ndarray]:
+        """Null offset (deg) and monopulse slope (per deg) of difference beams.
+
+        ``W`` (K, N) weights, ``steer`` (K, 3) commanded unit vectors, ``kinds`` (K,) of
+        "difference_az" (difference along x) or "difference_el" (along y; a line: its axis
+        for both). The lobes and null come from :func:`steradian.metrics.difference_null`
+        along the great circle through the commanded direction, the slope from its
+        :meth:`~steradian.metrics.DifferenceNull.slope`, normalised by the uniform beam
+        steered to the same direction (the definitions of :mod:`steradian.metrics`).
+
+        Raises
+        ------
+        SteradianError
+            A beam without two lobes beside the commanded direction along its axis, or
+            commanded along its difference axis.
+        """
+        W = np.atleast_2d(W)
+        K, N = W.shape
+        arr = self.array
+        on = np.ones(N, bool) if arr.enabled is None else np.asarray(arr.enabled, bool)
+        pa = principal_axes(arr.positions[on])
+        span = min(4 * np.pi / max(arr.electrical_radius(), 1.0), 0.5 * np.pi)
+        P = self.power(W)
+        offset, mono = np.full(K, np.nan), np.full(K, np.nan)
+        for k in range(K):
+            r0 = steer[k] / np.linalg.norm(steer[k])
+            e = (pa.axes[0] if pa.dimension <= 1
+                 else np.eye(3)[0 if kinds[k] == "difference_az" else 1])
+            t = e - (e @ r0) * r0
+            th, ph = angles_deg(r0)
+            if np.linalg.norm(t) < 1e-6:
+                raise SteradianError(f"the {kinds[k]} beam at theta {th:.2f}, phi {ph:.2f} deg "
+                                     "points along its difference axis: no difference pattern")
+            t /= np.linalg.norm(t)
+
+            def g(v, w=W[k]):
+                v = np.asarray(v, float)
+                flat = v.reshape(-1, 3)
+                return self._at(flat, np.broadcast_to(w, (len(flat), N))).reshape(v.shape[:-1])
+
+            found = difference_null(g, r0, t, self.spacing, span, line=pa.dimension <= 1)
+            if found is None:
+                raise SteradianError(f"the {kinds[k]} beam at theta {th:.2f}, phi {ph:.2f} deg "
+                                     "has no two lobes beside its commanded direction along "
+                                     "its difference axis")
+            offset[k] = float(angle_between_deg(found.null[None, :], r0[None, :])[0])
+            slope = found.slope(lambda v, p=P[k]: 4 * np.pi * g(v) / p)
+            uni = np.where(on, steering_phases(arr.positions, r0, arr.k()), 0.0)
+            d_uni = 4 * np.pi * self._at(found.null[None, :], uni[None, :])[0] / self.power(
+                uni[None, :])[0]
+            mono[k] = slope * (np.pi / 180) / np.sqrt(d_uni)
+        return offset, mono
+
     def pointing_error_deg(self, peak, steer) -> np.ndarray:
         """Angle between refined peaks and commanded directions (cone angle if collinear)."""
         s = self._steer_start(steer) if self.mirror else np.asarray(steer, float)
@@ -449,10 +537,11 @@ class BeamEvaluator:
                                  f"{self.array.n}")
         if d.shape != (B, 2):
             raise SteradianError(f"directions must have shape ({B}, 2), got {d.shape}")
-        diff = (np.zeros(B, bool) if kinds is None
-                else np.array([k != "sum" for k in kinds], bool))
-        if diff.shape != (B,):
-            raise SteradianError(f"kinds must be one per beam: {B} beams, got {diff.size}")
+        kind = (np.full(B, "sum", dtype=object) if kinds is None
+                else np.array(list(kinds), dtype=object))
+        if kind.shape != (B,):
+            raise SteradianError(f"kinds must be one per beam: {B} beams, got {kind.size}")
+        diff = kind != "sum"
         chunk = max(1, int(self.chunk_bytes // (24 * len(self.dirs))))
         if B > chunk:  # bound the (directions x beams) work arrays
             W0 = None if ideal is None else np.atleast_2d(np.asarray(ideal, complex))
@@ -483,7 +572,7 @@ class BeamEvaluator:
             W0 = np.atleast_2d(np.asarray(ideal, complex))
             if W0.shape != W.shape:
                 raise SteradianError(f"ideal weights have shape {W0.shape}, expected {W.shape}")
-            d0, psl0, pe0 = self._ideal(W0, steer, diff)
+            d0, psl0, pe0 = self._ideal(W0, steer, kind)
             ve, s = self._qlobe(W0, W)
             qlobe = db10(ve / ipk)
             ok = (np.abs(W0) > 0) & (np.abs(W) > 0)
@@ -491,6 +580,9 @@ class BeamEvaluator:
             rms = np.sqrt(np.nanmean(np.where(ok, ph, np.nan) ** 2, axis=1))
         dbi = db10(D)
         th, phi = angles_deg(peak)
+        pe, mono = self.pointing_error_deg(peak, steer), np.full(B, np.nan)
+        if diff.any():
+            pe[diff], mono[diff] = self.difference_nulls(W[diff], steer[diff], kind[diff])
         p_in = np.sum(np.abs(W) ** 2, axis=1)
         drive = nan if commanded is None else -db10(
             np.sum(np.abs(np.atleast_2d(np.asarray(commanded, complex))) ** 2, axis=1) / N)
@@ -501,11 +593,11 @@ class BeamEvaluator:
             theta_deg=d[:, 0].copy(), phi_deg=d[:, 1].copy(), peak_theta_deg=th,
             peak_phi_deg=phi, directivity_dbi=dbi,
             gain_dbi=dbi + db10(self.efficiency),
-            pointing_error_deg=np.where(diff, np.nan, self.pointing_error_deg(peak, steer)),
+            pointing_error_deg=pe,
             psl_db=db10(side / ipk), qlobe_db=qlobe, ideal_directivity_dbi=d0,
             ideal_psl_db=psl0, ideal_pointing_error_deg=pe0, loss_db=d0 - dbi,
             rms_phase_error_deg=rms, drive_loss_db=drive,
             radiated_power_db=db10(self.efficiency * p_in / N), eirp_dbw=eirp,
-            null_depth_db=null)
+            null_depth_db=null, monopulse_slope_per_deg=mono)
 
 

@@ -228,6 +228,9 @@ def _power_rows(summary: dict, f, at) -> list[tuple[str, str]]:
     if summary.get("difference_sll_db_max") is not None:
         rows.append(("difference sidelobe", f"worst {f('difference_sll_db_max', '.2f')} dB "
                      "re its peak (difference beams; peak sidelobe above is the sum beams')"))
+    if summary.get("monopulse_slope_per_deg_min") is not None:
+        rows.append(("monopulse slope", f"lowest {f('monopulse_slope_per_deg_min', '.4f')} "
+                     f"/deg{at('monopulse_slope_per_deg_min')} (difference beams)"))
     if summary.get("eirp_dbw_min") is not None:
         rows.append(("EIRP", f"lowest {f('eirp_dbw_min', '.2f')} dBW{at('eirp_dbw_min')}"))
         rows.append(("caution", RF_EXPOSURE_CAUTION))

@@ -121,16 +121,19 @@ from ._context import Context, require_metrics_search
 from ._difference import (
     BEAM_KINDS,
     SUM_NULL_DB,
+    DifferenceNull,
     check_beam_kind,
     check_sum_beam,
     coherent_level_db,
+    difference_null,
 )
 from ._measures import METRICS, Metric, metric
 from ._results import GratingLobe, Lobe, PatternMetrics, PlaneWidths
 
 __all__ = ["Cut", "principal_cuts", "cut", "DB_FLOOR", "PatternMetrics", "PlaneWidths", "Lobe",
            "GratingLobe", "pattern_metrics", "METRICS", "Metric", "metric", "BEAM_KINDS",
-           "check_sum_beam", "coherent_level_db", "SUM_NULL_DB", "require_metrics_search"]
+           "check_sum_beam", "coherent_level_db", "SUM_NULL_DB", "require_metrics_search",
+           "DifferenceNull", "difference_null"]
 
 
 def pattern_metrics(array, *, frequency: float | None = None, peak: Peak | None = None,

@@ -35,7 +35,8 @@ from ._beam import KSECTION_MINIMUM, arc, ksection, rel_db
 
 __all__ = ["BEAM_KINDS", "SUM_NULL_DB", "LOBE_DB", "reference_direction",
            "coherent_level_db", "boresight_level_db", "check_sum_beam", "check_beam_kind",
-           "DifferenceBeam", "difference_beam"]
+           "DifferenceBeam", "difference_beam", "DifferenceNull", "difference_null",
+           "difference_axis"]
 
 SUM_NULL_DB = -20.0
 """A declared sum beam whose excitation puts the array factor at boresight this far below its
@@ -186,6 +187,58 @@ def _field_slope(g_abs, r0, t, delta):
     return float((4 * s1 - s2) / 3)
 
 
+@dataclass(frozen=True)
+class DifferenceNull:
+    """The two lobes of a difference pattern and the null between them, found along the
+    great circle through ``r0`` in the tangent direction ``t`` (:func:`difference_null`):
+    ``peaks`` and ``peak_g`` refined, ``start_g`` the pattern at the two samples on the
+    circle they were refined from."""
+
+    r0: np.ndarray
+    t: np.ndarray
+    peaks: np.ndarray
+    peak_g: np.ndarray
+    start_g: np.ndarray
+    null: np.ndarray
+    rho: float
+    lo: float
+    hi: float
+
+    def slope(self, g_abs) -> float:
+        """d|E|/d rho at the null (per radian) of the pattern ``g_abs`` (directivity: |E| is
+        its square root), by :func:`_field_slope` with delta a fiftieth of the way to the
+        nearer lobe."""
+        delta = 0.02 * min(self.hi - self.rho, self.rho - self.lo)
+        t_null = self.t * np.cos(self.rho) - self.r0 * np.sin(self.rho)  # the arc's tangent
+        return _field_slope(g_abs, self.null, t_null, delta)
+
+
+def difference_null(g, r0, t, h: float, span: float, *, line: bool = False):
+    """The difference lobes and null of pattern ``g`` (callable on unit vectors (m, 3)) along
+    the great circle through ``r0`` in direction ``t``.
+
+    The two highest local maxima within ``span`` (rad) either side, sampled every ``h``, are
+    refined by the shared lobe search (on the great circle for a ``line``, whose pattern is
+    a cone about its axis); the null is the k-section minimum of ``g`` between them. The one
+    null search of the package: analysis (:func:`difference_beam`) and beam tables use it.
+
+    Returns
+    -------
+    DifferenceNull or None
+        None when there are fewer than two local maxima within ``span``.
+    """
+    found = _lobe_starts(g, r0, t, h, span)
+    if found is None:
+        return None
+    peaks, peak_g = refine_maxima(pointwise(g), found[1], h,
+                                  normal=np.cross(r0, t) if line else None)
+    hi, lo = (np.sign(rho) * np.arccos(np.clip(p @ r0, -1, 1))
+              for rho, p in zip(found[0], peaks, strict=True))
+    s = ksection(lambda act, x: g(arc(r0, t[None, :], x)), [lo], [hi], [KSECTION_MINIMUM])[0]
+    null = arc(r0, t[None, :], np.array([s]))[0]
+    return DifferenceNull(r0, t, peaks, peak_g, found[2], null, float(s), float(lo), float(hi))
+
+
 def difference_beam(ctx) -> DifferenceBeam:
     """Measure the difference beam of ``ctx`` (a metrics Context with a difference kind)."""
     arr, f = ctx.array, ctx.frequency
@@ -204,23 +257,16 @@ def difference_beam(ctx) -> DifferenceBeam:
             "its co-phased sum (is it antisymmetric about the "
             f"{'y-z' if ctx.beam_kind == 'difference_az' else 'x-z'} plane?)")
     g = ctx.beam.g
-    found = _lobe_starts(g, r0, t, ctx.h, min(4 * np.pi / ctx.kr, 0.5 * np.pi))
-    if found is None or found[2].min() < 10 ** (LOBE_DB / 10):
+    line = _axes(arr).dimension == 1
+    found = difference_null(g, r0, t, ctx.h, min(4 * np.pi / ctx.kr, 0.5 * np.pi), line=line)
+    if found is None or found.start_g.min() < 10 ** (LOBE_DB / 10):
         raise SteradianError(
             f"beam_kind {ctx.beam_kind!r}, but the pattern has no difference lobe along "
             f"{'x' if ctx.beam_kind == 'difference_az' else 'y'}: the second maximum beside "
             "boresight is "
-            + ("missing" if found is None else f"{-rel_db(found[2].min()):.1f} dB below the "
-               "pattern's peak") + " (is the difference taken in the other plane?)")
-    # A line's pattern is a cone about its axis: refine on the great circle through boresight.
-    line = _axes(arr).dimension == 1
-    peaks, peak_g = refine_maxima(pointwise(g), found[1], ctx.h,
-                                  normal=np.cross(r0, t) if line else None)
-    # The null between the lobes: k-section minimisation along the great circle through them.
-    hi, lo = (np.sign(rho) * np.arccos(np.clip(p @ r0, -1, 1))
-              for rho, p in zip(found[0], peaks, strict=True))
-    s = ksection(lambda act, x: g(arc(r0, t[None, :], x)), [lo], [hi], [KSECTION_MINIMUM])[0]
-    null = arc(r0, t[None, :], np.array([s]))[0]
+            + ("missing" if found is None else f"{-rel_db(found.start_g.min()):.1f} dB below "
+               "the pattern's peak") + " (is the difference taken in the other plane?)")
+    peaks, peak_g, null = found.peaks, found.peak_g, found.null
     power = ctx.peak.power.value
     u0 = ctx.beam.u0
 
@@ -228,9 +274,7 @@ def difference_beam(ctx) -> DifferenceBeam:
         return 4 * np.pi * u0 * g(v) / power
 
     # Slopes at the null (boresight at the design frequency; squinted off it).
-    delta = 0.02 * min(hi - s, s - lo)
-    t_null = t * np.cos(s) - r0 * np.sin(s)  # the arc's tangent at the null
-    slope = _field_slope(g_abs, null, t_null, delta)
+    slope = found.slope(g_abs)
     uni = arr.with_taper(np.ones(arr.n))
     p_sum = radiated_power(uni, frequency=f).value
     d_sum = 4 * np.pi * float(intensity(uni, null, f)) / p_sum

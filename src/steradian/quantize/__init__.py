@@ -48,6 +48,15 @@ Ties within 1e-9 go to the interval containing (or the candidate nearest) zero o
 randomised path offsets (below) no offset is searched: the rounding is then already
 decorrelated from any reference, and the published loss statistics hold.
 
+Least error power is not least sidelobe: when the phase progression is close to a whole
+number of steps per element (3 bits, 32 elements at half-wave spacing, theta0 near 14 deg),
+the error is a slow ramp with one wrap, and the best-gain rounding puts the wrap mid-array:
+two half-apertures a step apart, a split beam with a -9.4 dB lobe. A beam table therefore
+screens every distinct rounding within 0.1 dB of the best gain on its pattern and keeps the
+one of lowest peak sidelobe (the channel's ``phase_reference``, default "auto";
+:func:`steradian.beamtable.sidelobe_offsets`); :meth:`ChannelModel.offset_candidates` lists
+the roundings.
+
 Dead and clipped channels
 -------------------------
 With a calibration, a channel whose measured gain lies more than ``dead_channel_db`` (20 dB)
@@ -92,6 +101,7 @@ from ._states import (
     OFF_CODE,
     AmplitudeControl,
     OffsetMode,
+    PhaseReference,
     StateMap,
 )
 
@@ -101,6 +111,7 @@ __all__ = [
     "QuantizedWeights",
     "AmplitudeControl",
     "OffsetMode",
+    "PhaseReference",
     "channel_from_table",
     "CHANNEL_KEYS",
     "OFF_CODE",

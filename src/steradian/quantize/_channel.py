@@ -21,6 +21,7 @@ from ._states import (
     DEAD_CHANNEL_DB,
     OFF_CODE,
     OffsetMode,
+    PhaseReference,
     StateMap,
     raise_key,
     state_map,
@@ -87,16 +88,13 @@ class QuantizedWeights:
         return np.sqrt(np.nanmean(e**2, axis=1))
 
 
-def best_common_offset(x, g, active, step_deg: float) -> np.ndarray:
-    """Common offset (in phase steps, per beam) maximising ``|sum_n g_n exp(j k_n step)|``
-    over every rounding ``k_n = round(x_n + c)``, ``c`` over one step.
+def offset_intervals(x, g, active, step_deg: float) -> tuple[np.ndarray, np.ndarray]:
+    """Every distinct rounding ``k_n = round(x_n + c)`` as ``c`` sweeps one step, with its
+    score ``|sum_n g_n exp(j k_n step)|``.
 
     As ``c`` sweeps one step each active element's rounded value rises by one exactly once,
     at ``c_n = floor(x_n + 1/2) + 1/2 - x_n``: sorting these crossings gives every distinct
-    rounding and, by a cumulative sum, its score, in O(N log N) per beam. Intervals narrower
-    than 1e-9 step (crossings equal up to rounding noise) are skipped; the result is the
-    middle of the first interval whose score is within 1e-9 of the best, so it lies well
-    inside its interval and does not depend on rounding noise.
+    rounding and, by a cumulative sum, its score, in O(N log N) per beam.
 
     Parameters
     ----------
@@ -108,6 +106,14 @@ def best_common_offset(x, g, active, step_deg: float) -> np.ndarray:
         Elements taking part (the others neither cross nor score).
     step_deg : float
         The phase step.
+
+    Returns
+    -------
+    middle : ndarray, shape (B, N)
+        The middle of each rounding's interval of ``c`` (steps), in crossing order.
+    score : ndarray, shape (B, N)
+        Its score; -1 for intervals narrower than 1e-9 step (crossings equal up to rounding
+        noise, which no offset can select reliably).
     """
     k0 = np.floor(x + 0.5)
     cn = np.where(active, np.clip(k0 + 0.5 - x, 0.0, 1.0), 1.0)
@@ -120,9 +126,20 @@ def best_common_offset(x, g, active, step_deg: float) -> np.ndarray:
         [np.zeros((len(x), 1)), np.cumsum(inc[:, :-1], axis=1)], axis=1)  # j crossings done
     lo = np.concatenate([cs[:, -1:] - 1.0, cs[:, :-1]], axis=1)
     score = np.where(cs - lo > 1e-9, np.abs(S), -1.0)
+    return 0.5 * (lo + cs), score
+
+
+def best_common_offset(x, g, active, step_deg: float) -> np.ndarray:
+    """Common offset (in phase steps, per beam) maximising ``|sum_n g_n exp(j k_n step)|``
+    over every rounding ``k_n = round(x_n + c)``, ``c`` over one step
+    (:func:`offset_intervals`).
+
+    The result is the middle of the first interval whose score is within 1e-9 of the best,
+    so it lies well inside its interval and does not depend on rounding noise.
+    """
+    mid, score = offset_intervals(x, g, active, step_deg)
     best = np.argmax(score >= score.max(axis=1, keepdims=True) * (1 - 1e-9), axis=1)
-    i = np.arange(len(x))
-    return 0.5 * (lo[i, best] + cs[i, best])
+    return mid[np.arange(len(x)), best]
 
 
 def _path_offsets(n: int, span: float, seed: int) -> np.ndarray:
@@ -159,6 +176,13 @@ class ChannelModel:
     drop_taper : bool
         The user accepts that a channel without amplitude control drops an amplitude taper
         (a beam table refuses a tapered design on a phase-only channel otherwise).
+    phase_reference : {"auto", "gain", "sidelobe"}
+        How a beam table picks each beam's common phase offset: ``"gain"`` the rounding of
+        least error power (:meth:`quantize`'s default); ``"sidelobe"`` the rounding of lowest
+        peak sidelobe among those within a tenth of a dB of it (a pattern screen, see
+        :func:`steradian.beamtable.sidelobe_offsets`); ``"auto"`` (default) the sidelobe
+        screen when its work is small, else the gain rule with a note. Quantizing weights
+        alone (:meth:`quantize`) always uses the gain rule unless given offsets.
     """
 
     states: StateMap
@@ -170,6 +194,7 @@ class ChannelModel:
     calibration_source: str | None = field(default=None)
     dead_channel_db: float = DEAD_CHANNEL_DB
     drop_taper: bool = False
+    phase_reference: PhaseReference = "auto"
 
     def __post_init__(self):
         if not isinstance(self.states, StateMap):
@@ -185,6 +210,7 @@ class ChannelModel:
                 f"gain_offset_db must be zero or negative (dB below full scale), got {g}")
         object.__setattr__(self, "gain_offset_db", g)
         choice("phase_offsets", self.phase_offsets, get_args(OffsetMode))
+        choice("phase_reference", self.phase_reference, get_args(PhaseReference))
         object.__setattr__(self, "offset_seed", count("offset_seed", self.offset_seed, 0))
         if self.offset_span_deg is not None:
             s = float(self.offset_span_deg)
@@ -253,7 +279,8 @@ class ChannelModel:
             out = np.where(np.asarray(mask, bool), out, 0.0)
         return out
 
-    def quantize(self, weights, *, mask=None, phase_offsets_deg=None) -> QuantizedWeights:
+    def quantize(self, weights, *, mask=None, phase_offsets_deg=None,
+                 common_offset_deg=None) -> QuantizedWeights:
         """Nearest realisable states for ideal weights of shape (N,) or (B, N).
 
         Parameters
@@ -265,6 +292,9 @@ class ChannelModel:
             (:data:`OFF_CODE`) as both codes.
         phase_offsets_deg : array_like, shape (N,), optional
             Channel path phases; default :meth:`offsets_deg`.
+        common_offset_deg : array_like, shape (B,), optional
+            The common phase offset of each beam (e.g. one of :meth:`offset_candidates`);
+            default: the offset of least quantization error power (see the module notes).
 
         Returns
         -------
@@ -280,7 +310,14 @@ class ChannelModel:
         t = np.where(m, t, 0.0)
         amp, s, notes = self._levels(w, t, m)
         ac = self.states.nearest_amplitude_code(amp)
-        pc, common = self._phase_codes(np.angle(t, deg=True) - off, ac, w, off, m)
+        if common_offset_deg is not None:
+            common_offset_deg = np.asarray(common_offset_deg, float).reshape(-1)
+            if common_offset_deg.shape != (len(w),) or not np.all(
+                    np.isfinite(common_offset_deg)):
+                raise SteradianError(f"common_offset_deg must be {len(w)} finite offsets "
+                                     f"(one per beam), got shape {common_offset_deg.shape}")
+        pc, common = self._phase_codes(np.angle(t, deg=True) - off, ac, w, off, m,
+                                       common_offset_deg)
         cmd = np.where(m, self.states.commanded(pc, ac), 0.0)
         real = self.realise(cmd, off, m)
         pc = np.where(m, pc, OFF_CODE)
@@ -352,8 +389,9 @@ class ChannelModel:
                 f"{i} (asked {x:+.2f} dB)" for i, x in zip(idx.tolist(), worst, strict=True)))
         return amp, s, notes
 
-    def _phase_codes(self, ph, ac, w, off, m):
-        """Phase codes (B, N) and the common offset (B,) of least quantization error power.
+    def _phase_codes(self, ph, ac, w, off, m, common=None):
+        """Phase codes (B, N) and the common offset (B,) of least quantization error power,
+        or the given ``common`` offsets (B,) in degrees.
 
         The score is ``|w0^H w_q|`` (the amplitudes do not depend on the offset, so this is
         the least error power). Full-turn shifters: every distinct rounding over one step is
@@ -362,22 +400,62 @@ class ChannelModel:
         first candidate. With randomised path offsets no offset is searched.
         """
         st = self.states
-        if self.phase_offsets != "none":
+        if common is None and self.phase_offsets != "none":
             return st.nearest_phase_code(ph), np.zeros(len(ph))
-        g = np.where(m, w, 0.0).conj() * st.amplitude_lin(ac) * np.exp(1j * np.deg2rad(off))
-        if self.calibration is not None:
-            g = g * self.calibration
+        if common is None:
+            cands, score = self._candidates(ph, self._score_weights(w, ac, off, m), m)
+            best = np.argmax(score >= score.max(axis=1, keepdims=True) * (1 - 1e-9), axis=1)
+            common = cands[np.arange(len(ph)), best]
+        return st.nearest_phase_code(ph + common[:, None]), common
+
+    def _score_weights(self, w, ac, off, m):
+        """``g`` of :func:`offset_intervals`: conj(w0) times amplitude, path and calibration."""
+        g = np.where(m, w, 0.0).conj() * self.states.amplitude_lin(ac) * np.exp(
+            1j * np.deg2rad(off))
+        return g if self.calibration is None else g * self.calibration
+
+    def _candidates(self, ph, g, m):
+        """Candidate common offsets (B, J) in degrees and their scores (B, J) (-1: none)."""
+        st = self.states
         if st.full_circle:
-            c = best_common_offset(ph / st.phase_step_deg, g, m, st.phase_step_deg)
-            c = c * st.phase_step_deg
-            return st.nearest_phase_code(ph + c[:, None]), c
+            mid, score = offset_intervals(ph / st.phase_step_deg, g, m, st.phase_step_deg)
+            return mid * st.phase_step_deg, score
         K = COMMON_OFFSET_CANDIDATES
         cands = (np.arange(K) + 0.5) * st.phase_step_deg / K
-        codes = [st.nearest_phase_code(ph + c) for c in cands]
-        score = np.stack([np.abs(np.sum(g * np.exp(1j * np.deg2rad(st.phase_deg(pc))), axis=1))
-                          for pc in codes])  # (K, B)
-        best = np.argmax(score >= score.max(axis=0) * (1 - 1e-9), axis=0)
-        return np.stack(codes)[best, np.arange(len(best))], cands[best]
+        score = np.stack([np.abs(np.sum(g * np.exp(1j * np.deg2rad(
+            st.phase_deg(st.nearest_phase_code(ph + c)))), axis=1)) for c in cands], axis=1)
+        return np.broadcast_to(cands, score.shape).copy(), score
+
+    def offset_candidates(self, weights, *, mask=None,
+                          phase_offsets_deg=None) -> tuple[np.ndarray, np.ndarray]:
+        """Every common phase offset worth trying per beam, with its main-beam loss.
+
+        Returns
+        -------
+        offsets_deg : ndarray, shape (B, J)
+            One offset inside each distinct rounding (full-turn shifters: every distinct
+            rounding over one phase step, J = N; limited spans: the
+            :data:`COMMON_OFFSET_CANDIDATES` fixed offsets). With randomised path offsets:
+            the single offset 0.
+        loss_db : ndarray, shape (B, J)
+            ``20 log10`` of the best score ``|w0^H w_q|`` over this one's: the field lost in
+            the commanded direction against the best-gain rounding (0 for that one; NaN for
+            an offset that cannot select its rounding reliably).
+        """
+        w, off, m = self._inputs(weights, mask, phase_offsets_deg)
+        t = w if self.calibration is None else w / self.calibration
+        t = np.where(m, t, 0.0)
+        amp, _, _ = self._levels(w, t, m)
+        ac = self.states.nearest_amplitude_code(amp)
+        if self.phase_offsets != "none":
+            return np.zeros((len(w), 1)), np.zeros((len(w), 1))
+        cands, score = self._candidates(np.angle(t, deg=True) - off,
+                                        self._score_weights(w, ac, off, m), m)
+        best = score.max(axis=1, keepdims=True)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            loss = np.where(score > 0, db20(best / np.where(score > 0, score, 1.0),
+                                            floor=None), np.nan)
+        return cands, loss
 
     # ---- description -----------------------------------------------------------------
     def describe(self) -> dict:
@@ -386,6 +464,7 @@ class ChannelModel:
              "gain_offset_db": self.gain_offset_db, "phase_offsets": self.phase_offsets}
         if self.drop_taper:
             d["drop_taper"] = True
+        d["phase_reference"] = self.phase_reference
         if self.phase_offsets != "none":
             d["offset_seed"] = self.offset_seed
             d["offset_span_deg"] = self.offset_span_deg or self.states.phase_step_deg
@@ -407,7 +486,7 @@ CHANNEL_KEYS = (
     "attenuator_step_db", "attenuator_span_db", "dac_bits",
     "calibration_file", "gain_offset_db",
     "phase_offsets", "offset_seed", "offset_span_deg",
-    "dead_channel_db", "drop_taper",
+    "dead_channel_db", "drop_taper", "phase_reference",
 )
 """Keys of a design file's ``[channel]`` table."""
 
@@ -423,7 +502,8 @@ def channel_from_table(table: dict, n_elements: int | None = None, *, source=Non
     :func:`steradian.io.calibration_csv.read_calibration`); ``gain_offset_db``;
     ``phase_offsets`` ("none" or "random"), ``offset_seed``, ``offset_span_deg``;
     ``dead_channel_db`` (default 20); ``drop_taper`` (true: accept that a channel without
-    amplitude control drops the design's amplitude taper).
+    amplitude control drops the design's amplitude taper); ``phase_reference`` ("auto",
+    "gain" or "sidelobe", see :class:`ChannelModel`).
 
     Raises
     ------
@@ -452,6 +532,8 @@ def channel_from_table(table: dict, n_elements: int | None = None, *, source=Non
         kw["drop_taper"] = t.boolean("drop_taper")
     if "phase_offsets" in t:
         kw["phase_offsets"] = t.string("phase_offsets", choices=get_args(OffsetMode))
+    if "phase_reference" in t:
+        kw["phase_reference"] = t.string("phase_reference", choices=get_args(PhaseReference))
     if "offset_seed" in t:
         kw["offset_seed"] = t.integer("offset_seed", minimum=0)
     try:

@@ -16,6 +16,7 @@ from ..validate import choice, count
 
 AmplitudeControl = Literal["none", "attenuator", "dac"]
 OffsetMode = Literal["none", "random"]
+PhaseReference = Literal["auto", "gain", "sidelobe"]
 
 TOL = 1e-9
 
