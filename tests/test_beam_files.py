@@ -122,7 +122,7 @@ def test_fixed_point_iq_inverts_for_the_demo_channel():
     assert iq.as_encoding("codes").same_weights(t)
 
 
-def _table(n=5, nb=3, enc="codes", off=()):
+def _table(n=5, nb=3, enc="codes", off=(), kinds=None):
     sm = ChannelModel.build(phase_bits=6, attenuator_step_db=0.5, attenuator_span_db=31.5,
                             ).states
     rng = np.random.default_rng(1)
@@ -132,7 +132,7 @@ def _table(n=5, nb=3, enc="codes", off=()):
     codes[:, ~on] = OFF_CODE
     t = BeamTable(sm, np.column_stack([np.arange(nb) * 10.0, np.zeros(nb)]), codes, "codes",
                   rng.uniform(0, 5.625, n), rng.normal(size=(n, 3)), {"design": "test"},
-                  enabled=on)
+                  enabled=on, kinds=kinds)
     return t.as_encoding(enc)
 
 
@@ -491,7 +491,7 @@ static uint32_t crc32(const unsigned char *p, size_t n) {
 }
 int main(int argc, char **argv) {
     FILE *f; long size; unsigned char *buf;
-    uint32_t n, nb, b, e, hsize, flags, psize; size_t o, mask_at, states_at;
+    uint32_t n, nb, b, e, hsize, flags, psize; size_t o, mask_at, kinds_at, states_at;
     if (argc != 2 || !(f = fopen(argv[1], "rb"))) return 2;
     fseek(f, 0, SEEK_END); size = ftell(f); fseek(f, 0, SEEK_SET);
     buf = malloc((size_t)size);
@@ -513,8 +513,11 @@ int main(int argc, char **argv) {
     }
     mask_at = o;
     if (flags & 4) o += 8 * (((size_t)n + 7) / 8);
+    kinds_at = o;
+    if (flags & 8) o += 8 * (((size_t)nb + 7) / 8);
     states_at = o;
     for (e = 0; e < n; e++) printf("on %d\n", (flags & 4) ? d[mask_at + e] : 1);
+    for (b = 0; b < nb; b++) printf("kind %d\n", (flags & 8) ? d[kinds_at + b] : 0);
     for (b = 0; b < nb; b++)
         for (e = 0; e < n; e++) {
             size_t at = states_at + 4 * ((size_t)b * n + e);
@@ -528,30 +531,38 @@ int main(int argc, char **argv) {
 
 
 @pytest.mark.skipif(shutil.which("cc") is None, reason="no C compiler")
-def test_c_reader_from_the_documentation_decodes_the_binary(tmp_path):
+@pytest.mark.parametrize("kinds", [None, ("sum", "difference_az", "difference_el")],
+                         ids=["sum-only", "sum-and-difference"])
+def test_c_reader_from_the_documentation_decodes_the_binary(tmp_path, kinds):
     """A C program written from the README's binary layout alone (offsets, IEEE-754 float64,
-    the documented CRC-32 parameters, the enable mask and its padding, the off flag) decodes
-    binaries in both encodings, with a disabled element, and agrees exactly with the JSON
-    file of the same table."""
+    the documented CRC-32 parameters, the enable mask and its padding, the beam-kind block
+    and its padding, the off flag) decodes binaries in both encodings, with disabled
+    elements, sum-only (layout 2) and with difference beams (layout 3), and agrees exactly
+    with the JSON file of the same table."""
     src = tmp_path / "reader.c"
     src.write_text(C_READER)
     exe = tmp_path / "reader"
     subprocess.run(["cc", "-std=c99", "-pedantic", "-Wall", "-o", str(exe), str(src)],
                    check=True, capture_output=True)
+    names = ("sum", "difference_az", "difference_el")  # the documented kind numbers 0, 1, 2
     for enc in ("codes", "iq"):
-        t = _table(n=11, nb=3, enc=enc, off=(0, 7))
+        t = _table(n=11, nb=3, enc=enc, off=(0, 7), kinds=kinds)
         write_weight_file(tmp_path / f"t_{enc}.bin", t)
         write_weight_file(tmp_path / f"t_{enc}.json", t)
         doc = json.loads((tmp_path / f"t_{enc}.json").read_text())
         out = subprocess.run([str(exe), str(tmp_path / f"t_{enc}.bin")], check=True,
                              capture_output=True, text=True).stdout.splitlines()
-        assert out[0] == f"version 2 encoding {1 if enc == 'codes' else 2} n 11 beams 3"
+        version = 2 if kinds is None else 3
+        assert out[0] == f"version {version} encoding {1 if enc == 'codes' else 2} n 11 beams 3"
         dirs = [tuple(map(float, ln.split()[1:])) for ln in out if ln.startswith("dir ")]
         assert dirs == [(bm["theta_deg"], bm["phi_deg"]) for bm in doc["beams"]]
         offs = [float(ln.split()[1]) for ln in out if ln.startswith("off ")]
         assert offs == doc["elements"]["phase_offset_deg"]
         assert [int(ln.split()[1]) for ln in out if ln.startswith("on ")] == \
             doc["elements"]["enabled"]
+        got = [names[int(ln.split()[1])] for ln in out if ln.startswith("kind ")]
+        assert got == [bm.get("kind", "sum") for bm in doc["beams"]]
+        assert got == list(kinds or ("sum",) * 3)
         keys = ("phase_code", "amplitude_code") if enc == "codes" else ("i_q15", "q_q15")
         states = [tuple(map(int, ln.split()[1:])) for ln in out if ln.startswith("s ")]
         assert states == [pair for bm in doc["beams"]
