@@ -159,3 +159,14 @@ def test_example_design(tmp_path):
     assert r.exit_code == 0, r.output
     out = json.loads(r.output)
     assert out["matches_design"] and out["compared"]["directions"] and out["compared"]["states"]
+
+
+def test_output_with_a_format_suffix_writes_that_file(tmp_path):
+    """`-o out/tile.bin` writes out/tile.bin (and its manifest), not tile.bin.csv and three
+    more; verify then matches it."""
+    r = _run("beams", CONFIGS / "balloon_downlink_tile.toml", "-o", tmp_path / "tile.bin", "--json")
+    assert r.exit_code == 0, r.output
+    assert json.loads(r.output)["files"] == {"bin": str(tmp_path / "tile.bin")}
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["tile.bin", "tile.manifest.json"]
+    r = _run("verify", CONFIGS / "balloon_downlink_tile.toml", tmp_path / "tile.bin")
+    assert r.exit_code == 0, r.output

@@ -326,28 +326,43 @@ def verification_lines(name, path, tab, ver, worst: dict, tolerance_db: float) -
     return out + [f"note: {n}" for n in ver.notes]
 
 
-_WORST = (("loss_db", "loss vs ideal", "dB", True), ("psl_db", "peak sidelobe", "dB", True),
-          ("qlobe_db", "quantization lobe", "dB", True),
-          ("pointing_error_deg", "pointing error", "deg", True),
-          ("gain_dbi", "peak gain", "dBi", False),
-          ("rms_phase_error_deg", "RMS phase error", "deg", True),
-          ("drive_loss_db", "drive loss", "dB", True),
-          ("radiated_power_db", "radiated power", "dB", False),
-          ("eirp_dbw", "EIRP", "dBW", False))
-"""Per-beam metrics ``beams --worst`` lists: (row key, label, unit, whether high is bad)."""
+_WORST = (("loss_db", "loss vs ideal", "dB", True, None),
+          ("psl_db", "peak sidelobe", "dB", True, "sum"),
+          ("psl_db", "difference sidelobe", "dB", True, "difference"),
+          ("qlobe_db", "quantization lobe", "dB", True, None),
+          ("pointing_error_deg", "pointing error", "deg", True, "sum"),
+          ("pointing_error_deg", "null offset", "deg", True, "difference"),
+          ("monopulse_slope_per_deg", "monopulse slope", "/deg", False, "difference"),
+          ("gain_dbi", "peak gain", "dBi", False, "sum"),
+          ("rms_phase_error_deg", "RMS phase error", "deg", True, None),
+          ("drive_loss_db", "drive loss", "dB", True, None),
+          ("radiated_power_db", "radiated power", "dB", False, None),
+          ("eirp_dbw", "EIRP", "dBW", False, "sum"))
+"""Per-beam metrics ``beams --worst`` lists: (row key, label, unit, whether high is bad,
+beams it applies to: "sum", "difference" or None for all). A difference beam is a row with
+a finite ``null_depth_db``."""
+
+
+def _is_difference(row: dict) -> bool:
+    v = row.get("null_depth_db")
+    return isinstance(v, (int, float)) and math.isfinite(v)
 
 
 def worst_beams(rows: list[dict], n: int) -> str:
     """The ``n`` worst beams of each metric in :data:`_WORST`, from
-    :meth:`BeamMetrics.rows` (beams without a value for a metric are skipped)."""
+    :meth:`BeamMetrics.rows` (beams without a value for a metric are skipped; sum and
+    difference beams are ranked apart where their figures mean different things)."""
     lines = []
-    for key, label, unit, high in _WORST:
+    for key, label, unit, high, kind in _WORST:
         vals = [(float(r[key]), r) for r in rows
-                if isinstance(r.get(key), (int, float)) and math.isfinite(r[key])]
+                if isinstance(r.get(key), (int, float)) and math.isfinite(r[key])
+                and (kind is None or _is_difference(r) == (kind == "difference"))]
         if not vals:
             continue
         vals.sort(key=lambda t: (-t[0] if high else t[0], t[1]["beam"]))
-        lines.append(f"worst {min(n, len(vals))} by {label}:")
+        what = " (difference beams)" if kind == "difference" else (
+            " (sum beams)" if kind == "sum" and any(map(_is_difference, rows)) else "")
+        lines.append(f"worst {min(n, len(vals))} by {label}{what}:")
         lines += [f"  beam {r['beam']:>4}  theta {r['theta_deg']:7.2f} deg  phi "
                   f"{r['phi_deg']:7.2f} deg  {v:z9.4f} {unit}" for v, r in vals[:n]]
     return "\n".join(lines)

@@ -15,7 +15,8 @@ FORMAT_NAMES = tuple(WEIGHT_FORMATS)
 @click.command("beams")
 @click.argument("design_file", metavar="DESIGN.toml", type=click.Path(path_type=Path))
 @click.option("-o", "--output", "prefix", metavar="PREFIX", type=click.Path(path_type=Path),
-              help="Output path without suffix (default: out/<design name>-beams).")
+              help="Output path without suffix (default: out/<design name>-beams); with a "
+                   "format's suffix (out/tile.bin), that one file.")
 @click.option("-f", "--format", "formats", multiple=True, type=click.Choice(FORMAT_NAMES),
               help="Format to write (repeatable; default all: csv, json, bin, h).")
 @click.option("--bin-encoding", type=click.Choice(("codes", "iq")), default="codes",
@@ -63,7 +64,7 @@ def beams(design_file, prefix, formats, bin_encoding, c_prefix, weights_file, wo
     build = beam_table_from_design(design)
     if prefix is None:
         prefix = Path("out") / f"{design.name}-beams"
-    files = write_beam_files(build.table, prefix, formats or FORMAT_NAMES,
+    files = write_beam_files(build.table, prefix, formats or None,
                              bin_encoding=bin_encoding, c_prefix=c_prefix)
     summary = build.metrics.summary()
     verdicts = verdicts_dict(beam_verdicts(design, build.metrics, reqs)) if reqs else None

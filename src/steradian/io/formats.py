@@ -144,9 +144,12 @@ def read_weight_file(path, fmt: str | None = None):
     return format_of(path, fmt).read(path)
 
 
-def write_beam_files(table, prefix, formats=tuple(WEIGHT_FORMATS), *, bin_encoding=None,
+def write_beam_files(table, prefix, formats=None, *, bin_encoding=None,
                      c_prefix: str = "strd", h_encoding=None) -> dict:
-    """Write ``table`` as ``<prefix>.csv``, ``.json``, ``.bin``, ``.h`` (those in ``formats``).
+    """Write ``table`` as ``<prefix>.csv``, ``.json``, ``.bin``, ``.h`` (those in ``formats``;
+    default all). A prefix ending in a format's suffix (``out/tile.bin``) names that file:
+    the suffix is dropped from the prefix and, without ``formats``, only that format is
+    written (not ``out/tile.bin.csv`` and three more).
 
     ``bin_encoding`` and ``h_encoding`` choose codes or Q1.15 I/Q for the binary file and the
     C header (default the table's); ``c_prefix`` names the C header's identifiers. The files
@@ -160,6 +163,12 @@ def write_beam_files(table, prefix, formats=tuple(WEIGHT_FORMATS), *, bin_encodi
     if text.endswith(("/", "\\")) or Path(text).name in ("", ".", "..") or Path(text).is_dir():
         raise SteradianError(f"output prefix {text!r} names no file (empty, or a folder): "
                              "give a path without suffix, e.g. out/panel-beams")
+    by_suffix = {f.suffix: name for name, f in WEIGHT_FORMATS.items()}
+    sfx = Path(text).suffix.lower()
+    if sfx in by_suffix:
+        prefix = text[: -len(sfx)]
+        formats = formats or (by_suffix[sfx],)
+    formats = formats or tuple(WEIGHT_FORMATS)
     options = {"bin": {"encoding": bin_encoding},
                "h": {"prefix": c_prefix, "encoding": h_encoding}}
     chosen = [WEIGHT_FORMATS[choice("format", name, tuple(WEIGHT_FORMATS))] for name in formats]
