@@ -53,7 +53,10 @@ def current_array(array, coupling, a):
 def scan_excitations(array, theta_deg, phi_deg, frequency=None) -> np.ndarray:
     """Incident waves (N, K) of the design's taper and mask steered to each of K directions
     (phase steering at the design frequency, or delay at ``frequency``)."""
-    u = np.atleast_2d(unit_vectors_deg(np.ravel(theta_deg), np.ravel(phi_deg)))
+    th, ph = np.ravel(theta_deg).astype(float), np.ravel(phi_deg).astype(float)
+    if not (np.all(np.isfinite(th)) and np.all(np.isfinite(ph))):
+        raise SteradianError("scan directions must be finite angles in degrees")
+    u = np.atleast_2d(unit_vectors_deg(th, ph))
     w = np.array(array.taper, complex)
     if array.enabled is not None:
         w = np.where(array.enabled, w, 0.0)
