@@ -9,8 +9,6 @@ of four pairs for N >= 3; scikit-rf's reader (``skrf.Network``) as a reference l
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import numpy as np
 import pytest
 from hypothesis import given, settings

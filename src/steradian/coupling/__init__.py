@@ -10,6 +10,8 @@ realized gain over scan.
   :func:`scattering_coupling`).
 - ``_figures``: scan maps (active VSWR, accepted power, realized gain, blindness), realized
   gain toward directions, maximum-realized-gain weights, the power balance.
+- ``_synthesis``: :func:`coupled_problem`, the current-space inputs (array + available-power
+  matrix) of :func:`steradian.optimize.max_directivity` maximising realized gain.
 - ``_table``: the ``[coupling]`` design table and the coupled block of ``analyze``.
 
 Layer: above ``analysis`` (uses the array, engine and radiation); files (Touchstone) are
@@ -41,6 +43,7 @@ from ._network import (
     vswr,
     z_to_s,
 )
+from ._synthesis import CoupledProblem, coupled_problem
 from ._table import (
     KEYS,
     CouplingSpec,
@@ -59,4 +62,5 @@ __all__ = [
     "realized_gain_toward", "max_realized_gain_weights", "uncoupled_optimum_weights",
     "power_balance", "current_array",
     "coupling_spec", "coupling_of", "coupled_summary", "interpolate_frequency",
+    "CoupledProblem", "coupled_problem",
 ]
