@@ -223,3 +223,12 @@ def test_dipole_model_needs_finite_parallel_dipoles():
     g = rectangular(2, 1, 0.5)
     with pytest.raises(SteradianError, match="model = 'dipole'"):
         dipole_coupling(Array(g, C0), radius=0.001)
+
+
+def test_dipole_model_refused_over_budget():
+    """The dense N x N model is refused before anything is built (steradian.budget)."""
+    from steradian.budget import limited
+
+    arr = Array(rectangular(64, 64, 0.5, 0.5), C0, Dipole(0.48, "x", C0))
+    with limited("64MiB"), pytest.raises(SteradianError, match="impedance matrix of 4,096"):
+        dipole_coupling(arr, radius=0.001)

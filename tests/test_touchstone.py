@@ -147,3 +147,19 @@ def test_design_from_touchstone_maps_ports(tmp_path):
     assert s["embedded_patterns"] is False and "max_realized_gain_dbi" not in s["scan"][0]
     with pytest.raises(SteradianError, match="outside"):
         coupling_of_design(d, frequency=2 * C0)
+
+
+def test_doubtful_file_warns(tmp_path):
+    """A file whose S is not passive or not reciprocal is read with a one-line warning
+    naming the key (a passive reciprocal array cannot produce it; Pozar sec. 4.3)."""
+    s = np.array([[0.9, 0.5], [0.1, 0.2]], complex)
+    write_touchstone(tmp_path / "b.s2p", Network(np.array([C0]), s[None], np.full(2, 50.0)))
+    d = design_from_dict({
+        "design": {"name": "t", "frequency_hz": C0},
+        "geometry": {"kind": "linear", "count": 2, "spacing": 0.5, "units": "wavelength"},
+        "coupling": {"model": "touchstone", "file": "b.s2p"}},
+        tmp_path / "t.toml", base_dir=tmp_path)
+    with pytest.warns(UserWarning, match="coupling.file") as rec:
+        coupling_of_design(d)
+    text = " ".join(str(w.message) for w in rec)
+    assert "not passive" in text and "not reciprocal" in text

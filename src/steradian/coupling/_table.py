@@ -22,6 +22,7 @@ Keys (all checked with :class:`steradian.schema.Section`):
 
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -86,7 +87,7 @@ def coupling_spec(table, *, wavelength: float, base_dir, source=None) -> Couplin
         raise t.error("z0_ohm", "comes from the Touchstone file with model = 'touchstone'")
     ports = t.integers("ports", None, minimum=1)
     tmax = t.number("scan_theta_max_deg", 60.0, minimum=0, maximum=90)
-    step = t.number("scan_theta_step_deg", 10.0, above=0, maximum=90)
+    step = t.number("scan_theta_step_deg", 10.0, minimum=0.1, maximum=90)
     phis = tuple(t.numbers("scan_phi_deg", [0.0, 90.0]))
     theta = np.arange(0.0, tmax + 1e-9, step)
     if theta[-1] < tmax - 1e-9:
@@ -111,6 +112,18 @@ def interpolate_frequency(freqs, S, frequency: float, name: str = "the file"):
     return (1 - t) * np.asarray(S[j - 1]) + t * np.asarray(S[j])
 
 
+def _doubtful(S, path, f) -> None:
+    """Warn (legal but doubtful) when a file's S is not passive or not reciprocal: a
+    measured passive array is both, to within its measurement noise."""
+    margin, recip = passivity_margin(S), reciprocity_error(S)
+    if margin < -1e-6:
+        warnings.warn(f"coupling.file {path}: S at {f:g} Hz is not passive (largest singular "
+                      f"value {1 - margin:.6g} > 1)", UserWarning, stacklevel=3)
+    if recip > 1e-6:
+        warnings.warn(f"coupling.file {path}: S at {f:g} Hz is not reciprocal (max |S - S^T| "
+                      f"/ max |S| = {recip:.3g})", UserWarning, stacklevel=3)
+
+
 def coupling_of(spec: CouplingSpec, array, *, frequency=None, network=None) -> Coupling:
     """The :class:`Coupling` a spec describes for ``array``.
 
@@ -132,8 +145,10 @@ def coupling_of(spec: CouplingSpec, array, *, frequency=None, network=None) -> C
     if max(ports) > nports or len(set(ports)) != len(ports):
         raise SteradianError(f"coupling.ports must name distinct ports 1..{nports}")
     idx = np.asarray(ports) - 1
-    S = interpolate_frequency(network.frequencies, network.s, f, str(spec.file))
-    return scattering_coupling(S[np.ix_(idx, idx)], np.asarray(network.z0, float)[idx],
+    S = interpolate_frequency(network.frequencies, network.s, f, str(spec.file))[
+        np.ix_(idx, idx)]
+    _doubtful(S, spec.file, f)
+    return scattering_coupling(S, np.asarray(network.z0, float)[idx],
                                frequency=f, source=str(spec.file))
 
 
