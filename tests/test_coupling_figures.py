@@ -21,6 +21,7 @@ from steradian.analysis import analyze
 from steradian.array import Array, Steering
 from steradian.cli import main
 from steradian.coupling import (
+    coupled_beam_weights,
     coupled_summary,
     coupling_spec,
     dipole_coupling,
@@ -170,3 +171,62 @@ def test_cli_analyze_json_has_coupling(tmp_path):
     assert c["self_impedance_ohm"][0] == pytest.approx(73.08, abs=0.01)
     r = CliRunner().invoke(main, ["analyze", str(DEMO)])
     assert r.exit_code == 0 and "scan 70/90 deg" in r.output and "active match" in r.output
+
+
+def test_max_realized_gain_respects_the_mask():
+    """A disabled element is a terminated port: zero incident wave, and the optimum over the
+    others still beats random excitations of the others (Cauchy-Schwarz)."""
+    arr = panel(4)
+    mask = np.ones(16, bool)
+    mask[[0, 5]] = False
+    arr_m = Array(arr.geometry, C0, arr.element, enabled=mask)
+    c = dipole_coupling(arr, radius=0.003, z0=73.0)
+    v = unit_vectors_deg(np.array([30.0]), np.array([90.0]))
+    w, g = max_realized_gain_weights(arr_m, c, v)
+    assert np.all(w[~mask] == 0)
+    a = np.random.default_rng(2).normal(size=(16, 100)) * mask[:, None] + 0j
+    assert realized_gain_toward(arr, c, a, np.repeat(v, 100, axis=0)).max() <= g[0]
+    f = coupled_beam_weights(arr_m, c)
+    assert np.allclose(f(30.0, 90.0), w[:, 0] / np.abs(w[:, 0]).max())
+
+
+BEAMS = """
+[channel]
+phase_bits = 6
+attenuator_step_db = 0.5
+attenuator_span_db = 31.5
+
+[beams]
+grid = "theta_phi"
+theta_deg = [0, 40]
+phi_deg = [0, 90]
+"""
+
+
+def test_beam_table_from_coupled_weights(tmp_path):
+    """``[coupling] beam_weights = "max_realized_gain"``: ``beams`` writes the coupling-aware
+    weights of every beam and ``verify`` rebuilds the same table (exit 0); the states differ
+    from the taper's table."""
+    text = DEMO.read_text().replace("count_x = 8", "count_x = 4").replace(
+        "count_y = 8", "count_y = 4") + BEAMS
+    (tmp_path / "taper.toml").write_text(text)
+    (tmp_path / "coupled.toml").write_text(text.replace(
+        "scan_phi_deg = [0, 90]", 'scan_phi_deg = [0, 90]\nbeam_weights = "max_realized_gain"'))
+    runner = CliRunner()
+    for name in ("taper", "coupled"):
+        r = runner.invoke(main, ["beams", str(tmp_path / f"{name}.toml"), "-o",
+                                 str(tmp_path / name), "--format", "json"])
+        assert r.exit_code == 0, r.output
+        r = runner.invoke(main, ["verify", str(tmp_path / f"{name}.toml"),
+                                 str(tmp_path / f"{name}.json")])
+        assert r.exit_code == 0, r.output
+    a = json.loads((tmp_path / "taper.json").read_text())
+    b = json.loads((tmp_path / "coupled.json").read_text())
+    assert a["beams"] != b["beams"]
+
+
+def test_beam_weights_need_embedded_patterns():
+    with pytest.raises(DesignError) as e:
+        analyze_design(design(model="touchstone", file=str(DEMO),
+                              beam_weights="max_realized_gain"))
+    assert e.value.key == "coupling.beam_weights"

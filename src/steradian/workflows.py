@@ -9,8 +9,10 @@ Each recipe takes a :class:`~steradian.io.design.Design` (read by
 - :func:`requirements_of_design`, :func:`analysis_verdicts` and :func:`beam_verdicts`: the
   ``[requirements]`` table judged against an analysis or a beam table
   (:mod:`steradian.requirements`; ``analyze``, ``beams``, ``verify``);
-- :func:`coupling_spec_of_design` and :func:`coupling_of_design`: the ``[coupling]`` table
-  and its :class:`~steradian.coupling.Coupling` (the ``coupling`` block of ``analyze``);
+- :func:`coupling_spec_of_design`, :func:`coupling_of_design` and
+  :func:`design_beam_weights`: the ``[coupling]`` table, its
+  :class:`~steradian.coupling.Coupling` (the ``coupling`` block of ``analyze``) and the
+  coupling-aware beam weights of ``beams`` and ``verify``;
 - :func:`export_patterns` and :func:`uv_map`: pattern cuts and u-v maps to CSV and PNG
   (``steradian pattern``, ``steradian demo``);
 - :func:`design_for_synthesis`, :func:`synthesize_design` and
@@ -46,7 +48,7 @@ from .beamtable import (
     build_beam_table,
     verify_beam_table,
 )
-from .coupling import coupled_summary, coupling_of, coupling_spec
+from .coupling import coupled_beam_weights, coupled_summary, coupling_of, coupling_spec
 from .errors import DesignError, SteradianError
 from .io.calibration_csv import read_calibration
 from .io.design import load_design, read_toml, weights_file_taper
@@ -65,7 +67,7 @@ __all__ = ["analyze_design", "design_block", "design_with_weights", "export_patt
            "tradeoff_of_design", "channel_of_design", "check_taper_steerable",
            "design_metadata", "beam_table_from_design", "verify_weight_file",
            "requirements_of_design", "analysis_verdicts", "beam_verdicts",
-           "coupling_spec_of_design", "coupling_of_design"]
+           "coupling_spec_of_design", "coupling_of_design", "design_beam_weights"]
 
 
 # --------------------------------------------------------------------------------------------
@@ -125,6 +127,16 @@ def coupling_of_design(design, frequency: float | None = None, spec=None):
                           None if design.source is None else str(design.source))
     network = None if spec.file is None else read_touchstone(spec.file)
     return coupling_of(spec, design.array, frequency=frequency, network=network)
+
+
+def design_beam_weights(design):
+    """The per-beam weight source ``[coupling] beam_weights`` asks for: None (the design's
+    taper steered) or the coupling-aware weights of maximum realized gain
+    (:func:`steradian.coupling.coupled_beam_weights`), for ``beams`` and ``verify`` alike."""
+    spec = coupling_spec_of_design(design)
+    if spec is None or spec.beam_weights == "taper":
+        return None
+    return coupled_beam_weights(design.array, coupling_of_design(design, spec=spec))
 
 
 def requirements_of_design(design) -> dict:
@@ -440,6 +452,7 @@ def beam_table_from_design(design, *, weights=None,
     """
     ch = channel_of_design(design)
     src = None if design.source is None else str(design.source)
+    weights = design_beam_weights(design) if weights is None else weights
     if weights is None:
         check_taper_steerable(design)
     if ch is None:
@@ -553,6 +566,7 @@ def verify_weight_file(design, path, fmt: str | None = None, *, weights=None,
     -------
     (BeamTable, Verification)
     """
+    weights = design_beam_weights(design) if weights is None else weights
     if weights is None:
         check_taper_steerable(design)
     table = read_weight_file(path, fmt)

@@ -22,6 +22,7 @@ from ._emf import FILAMENT_RHO, TOUCH, mutual_impedance, self_impedance
 from ._figures import (
     BLIND_GAMMA,
     ScanMap,
+    coupled_beam_weights,
     current_array,
     max_realized_gain_weights,
     power_balance,
@@ -60,7 +61,7 @@ __all__ = [
     "active_reflection", "vswr", "accepted_power", "accepted_power_matrix",
     "reciprocity_error", "passivity_margin", "scan_excitations", "scan_map",
     "realized_gain_toward", "max_realized_gain_weights", "uncoupled_optimum_weights",
-    "power_balance", "current_array",
+    "coupled_beam_weights", "power_balance", "current_array",
     "coupling_spec", "coupling_of", "coupled_summary", "interpolate_frequency",
     "CoupledProblem", "coupled_problem",
 ]

@@ -36,7 +36,8 @@ from ..units import db10
 from ._network import accepted_power, active_reflection, vswr
 
 __all__ = ["ScanMap", "scan_excitations", "scan_map", "realized_gain_toward",
-           "max_realized_gain_weights", "uncoupled_optimum_weights", "power_balance",
+           "max_realized_gain_weights", "uncoupled_optimum_weights", "coupled_beam_weights",
+    "power_balance",
            "current_array", "BLIND_GAMMA"]
 
 BLIND_GAMMA = 0.9
@@ -177,6 +178,7 @@ def max_realized_gain_weights(array, coupling, vectors, *, frequency=None):
     :math:`M = 4\\pi\\,\\mathrm{scale}\\,B^H B`, B (2 x N) the embedded responses of the ports
     in the two polarisation components; its maximum is the largest eigenvalue, reached by
     :math:`a = B^H x` with x the top eigenvector of the 2 x 2 matrix :math:`B B^H`.
+    Disabled elements (the array's mask) are terminated ports with no incident wave.
 
     Returns
     -------
@@ -190,8 +192,28 @@ def max_realized_gain_weights(array, coupling, vectors, *, frequency=None):
                              "coupling model with element currents, e.g. model = 'dipole')")
     v = np.atleast_2d(np.asarray(vectors, float))
     B = np.moveaxis(_responses(array, coupling, v, frequency), 1, 0)  # (K, 2, N)
-    a, lam = _best_weights(B)
+    if array.enabled is None:
+        a, lam = _best_weights(B)
+        return a, 4 * np.pi * coupling.scale * lam
+    on = np.flatnonzero(array.enabled)  # a disabled port is terminated: a_m = 0
+    a_on, lam = _best_weights(B[:, :, on])
+    a = np.zeros((array.n, len(v)), complex)
+    a[on] = a_on
     return a, 4 * np.pi * coupling.scale * lam
+
+
+def coupled_beam_weights(array, coupling, *, frequency=None):
+    """A per-beam weight source for beam tables
+    (:func:`steradian.beamtable.build_beam_table` ``weights=``): ``f(theta_deg, phi_deg)``
+    gives the incident waves of maximum realized gain toward that direction
+    (:func:`max_realized_gain_weights`), scaled to a largest magnitude of 1."""
+    def weights(theta_deg, phi_deg):
+        a, _ = max_realized_gain_weights(array, coupling, unit_vectors_deg(
+            np.array([theta_deg]), np.array([phi_deg])), frequency=frequency)
+        a = a[:, 0]
+        return a / np.abs(a).max()
+
+    return weights
 
 
 def uncoupled_optimum_weights(array, vectors, *, frequency=None, power_mat=None):

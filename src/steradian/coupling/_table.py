@@ -18,6 +18,10 @@ Keys (all checked with :class:`steradian.schema.Section`):
     and 90).
 ``blind_gamma``
     |Gamma_active| from which a scan is flagged blind (default :data:`BLIND_GAMMA`).
+``beam_weights``
+    ``"taper"`` (default: beam tables steer the design's taper) or ``"max_realized_gain"``
+    (beam tables hold the coupling-aware weights of maximum realized gain of every beam;
+    needs embedded patterns).
 """
 
 from __future__ import annotations
@@ -48,7 +52,8 @@ __all__ = ["CouplingSpec", "coupling_spec", "coupling_of", "coupled_summary", "K
            "interpolate_frequency"]
 
 KEYS = ("model", "radius_wl", "radius_m", "z0_ohm", "file", "ports", "scan_theta_max_deg",
-        "scan_theta_step_deg", "scan_phi_deg", "blind_gamma")
+        "scan_theta_step_deg", "scan_phi_deg", "blind_gamma", "beam_weights")
+BEAM_WEIGHTS = ("taper", "max_realized_gain")
 MODELS = ("dipole", "touchstone")
 
 
@@ -64,6 +69,7 @@ class CouplingSpec:
     theta_deg: np.ndarray
     phi_deg: tuple
     blind_gamma: float
+    beam_weights: str = "taper"
 
 
 def coupling_spec(table, *, wavelength: float, base_dir, source=None) -> CouplingSpec:
@@ -92,8 +98,12 @@ def coupling_spec(table, *, wavelength: float, base_dir, source=None) -> Couplin
     theta = np.arange(0.0, tmax + 1e-9, step)
     if theta[-1] < tmax - 1e-9:
         theta = np.append(theta, tmax)
+    bw = t.string("beam_weights", "taper", choices=BEAM_WEIGHTS)
+    if bw == "max_realized_gain" and model != "dipole":
+        raise t.error("beam_weights", "'max_realized_gain' needs embedded patterns (model = "
+                      "'dipole')")
     return CouplingSpec(model, radius, z0, f, ports, theta, phis,
-                        t.number("blind_gamma", BLIND_GAMMA, above=0, maximum=1))
+                        t.number("blind_gamma", BLIND_GAMMA, above=0, maximum=1), bw)
 
 
 def interpolate_frequency(freqs, S, frequency: float, name: str = "the file"):
