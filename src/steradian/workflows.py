@@ -53,6 +53,7 @@ from .errors import DesignError, SteradianError
 from .io.calibration_csv import read_calibration
 from .io.design import load_design, read_toml, weights_file_taper
 from .io.directions_csv import read_directions
+from .io.element_table import read_element_table
 from .io.fileset import check_manifest, manifest_path
 from .io.formats import read_weight_file
 from .io.pattern_csv import write_cuts, write_uv
@@ -126,7 +127,10 @@ def coupling_of_design(design, frequency: float | None = None, spec=None):
         raise DesignError("coupling", "the design has no [coupling] table",
                           None if design.source is None else str(design.source))
     network = None if spec.file is None else read_touchstone(spec.file)
-    return coupling_of(spec, design.array, frequency=frequency, network=network)
+    tables = None if spec.patterns is None else {
+        name: read_element_table(path) for name, path in spec.patterns.items()}
+    return coupling_of(spec, design.array, frequency=frequency, network=network,
+                       tables=tables)
 
 
 def design_beam_weights(design):

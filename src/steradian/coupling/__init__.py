@@ -8,6 +8,8 @@ realized gain over scan.
 - ``_model``: :class:`Coupling` (S at one frequency, optionally the wave-to-current matrix
   that gives the embedded patterns) and its builders (:func:`dipole_coupling`,
   :func:`scattering_coupling`).
+- ``_embedded``: tabulated embedded patterns per element or per class (centre, edge,
+  corner), levelled by each port's lossless balance (:func:`embedded_coupling`).
 - ``_figures``: scan maps (active VSWR, accepted power, realized gain, blindness), realized
   gain toward directions, maximum-realized-gain weights, the power balance.
 - ``_synthesis``: :func:`coupled_problem`, the current-space inputs (array + available-power
@@ -18,6 +20,14 @@ Layer: above ``analysis`` (uses the array, engine and radiation); files (Touchst
 read by :mod:`steradian.io.touchstone` and passed in.
 """
 
+from ._embedded import (
+    CLASS_NAMES,
+    EmbeddedPatterns,
+    element_classes,
+    embedded_coupling,
+    embedded_power_matrix,
+    embedded_responses,
+)
 from ._emf import FILAMENT_RHO, TOUCH, mutual_impedance, self_impedance
 from ._figures import (
     BLIND_GAMMA,
@@ -63,5 +73,6 @@ __all__ = [
     "realized_gain_toward", "max_realized_gain_weights", "uncoupled_optimum_weights",
     "coupled_beam_weights", "power_balance", "current_array",
     "coupling_spec", "coupling_of", "coupled_summary", "interpolate_frequency",
-    "CoupledProblem", "coupled_problem",
+    "CoupledProblem", "coupled_problem", "CLASS_NAMES", "EmbeddedPatterns",
+    "element_classes", "embedded_coupling", "embedded_power_matrix", "embedded_responses",
 ]

@@ -70,6 +70,10 @@ def scan_excitations(array, theta_deg, phi_deg, frequency=None) -> np.ndarray:
 
 def _responses(array, coupling, vectors, frequency):
     """(2, K, N) responses of the ports (embedded when the model has them)."""
+    if coupling.patterns is not None:
+        from ._embedded import embedded_responses
+
+        return embedded_responses(array, coupling.patterns, vectors, frequency)
     bare = replace(array, taper=None, steering=None, enabled=None)
     A = response_matrix(bare, Directions.from_vectors(vectors), frequency=frequency)
     if coupling.currents is not None:
@@ -239,8 +243,14 @@ def power_balance(array, coupling, a, *, frequency=None) -> dict:
     if coupling.scale is None:
         raise SteradianError("the power balance needs embedded element patterns")
     a = np.asarray(a, complex)
-    p = coupling.scale * radiated_power(current_array(array, coupling, a),
-                                        frequency=frequency).value
+    if coupling.patterns is not None:
+        from ._embedded import embedded_power_matrix
+
+        Q = embedded_power_matrix(array, coupling.patterns, frequency)
+        p = float(np.real(a.conj() @ Q @ a))
+    else:
+        p = coupling.scale * radiated_power(current_array(array, coupling, a),
+                                            frequency=frequency).value
     acc = float(accepted_power(coupling.S, a))
     return {"radiated_w": p, "accepted_w": acc,
             "relative_error": abs(p - acc) / acc if acc > 0 else float("inf")}

@@ -71,6 +71,8 @@ class Coupling:
         Radiation intensity (W/sr) per |engine field|^2 of the current-weighted array.
     Z : ndarray (N, N) complex or None
         Impedance matrix (ohm) when the model computes it.
+    patterns : EmbeddedPatterns or None
+        Tabulated embedded patterns (:mod:`steradian.coupling._embedded`), with scale 1.
     source : str
         What S comes from ("induced-EMF dipoles", a file name).
     """
@@ -82,6 +84,7 @@ class Coupling:
     scale: float | None = None
     Z: np.ndarray | None = None
     source: str = ""
+    patterns: object | None = None
 
     def __post_init__(self):
         S = np.asarray(self.S, complex)
@@ -102,8 +105,9 @@ class Coupling:
 
     @property
     def embedded(self) -> bool:
-        """True when the model gives embedded patterns (currents per incident wave)."""
-        return self.currents is not None
+        """True when the model gives embedded patterns (element currents per incident wave,
+        or tabulated patterns)."""
+        return self.currents is not None or self.patterns is not None
 
     def element_currents(self, a) -> np.ndarray:
         """Weights of the engine array for incident waves ``a``: T a, or a itself without

@@ -16,6 +16,14 @@ Keys (all checked with :class:`steradian.schema.Section`):
 ``scan_theta_max_deg``, ``scan_theta_step_deg``, ``scan_phi_deg``
     The scan cuts reported (default 0 to 60 degrees in steps of 10 in the planes phi = 0
     and 90).
+``patterns``
+    Sub-table of embedded pattern tables (element-table CSV files, peak-normalised, phase
+    referenced to their own element) by name: ``centre``, ``edge``, ``corner`` (assigned
+    from the lattice; corner falls back to edge, edge to centre), or any names with
+    ``classes``. Levels come from the lossless balance of each port alone
+    (:mod:`steradian.coupling._embedded`). With ``model = "touchstone"`` only.
+``classes``
+    Table name of every element, in element order (one table per element is allowed).
 ``blind_gamma``
     |Gamma_active| from which a scan is flagged blind (default :data:`BLIND_GAMMA`).
 ``beam_weights``
@@ -31,11 +39,13 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from ..directions import unit_vectors_deg
-from ..errors import SteradianError
-from ..radiation import peak_directivity, power_matrix, radiated_power
+from ..directions import angles_deg, unit_vectors_deg
+from ..errors import SteradianError, suggest
+from ..radiation import peak_directivity, power_matrix, radiated_power, search_spacing
 from ..schema import Section
+from ..sphere import SearchSet, find_maxima
 from ..units import db10
+from ._embedded import CLASS_NAMES, embedded_coupling
 from ._figures import (
     BLIND_GAMMA,
     current_array,
@@ -52,7 +62,8 @@ __all__ = ["CouplingSpec", "coupling_spec", "coupling_of", "coupled_summary", "K
            "interpolate_frequency"]
 
 KEYS = ("model", "radius_wl", "radius_m", "z0_ohm", "file", "ports", "scan_theta_max_deg",
-        "scan_theta_step_deg", "scan_phi_deg", "blind_gamma", "beam_weights")
+        "scan_theta_step_deg", "scan_phi_deg", "blind_gamma", "beam_weights", "patterns",
+        "classes")
 BEAM_WEIGHTS = ("taper", "max_realized_gain")
 MODELS = ("dipole", "touchstone")
 
@@ -70,6 +81,8 @@ class CouplingSpec:
     phi_deg: tuple
     blind_gamma: float
     beam_weights: str = "taper"
+    patterns: dict | None = None
+    classes: list | None = None
 
 
 def coupling_spec(table, *, wavelength: float, base_dir, source=None) -> CouplingSpec:
@@ -98,12 +111,47 @@ def coupling_spec(table, *, wavelength: float, base_dir, source=None) -> Couplin
     theta = np.arange(0.0, tmax + 1e-9, step)
     if theta[-1] < tmax - 1e-9:
         theta = np.append(theta, tmax)
+    patterns = classes = None
+    if "patterns" in t or "classes" in t:
+        if model != "touchstone":
+            raise t.error("patterns" if "patterns" in t else "classes",
+                          "tabulated embedded patterns go with model = 'touchstone' (the "
+                          "dipole model computes its own)")
+        pt = t.child("patterns")
+        if not pt.data:
+            raise pt.error(None, "name at least one table (centre = \"file.csv\")")
+        patterns = {k: pt.path(k, base_dir) for k in pt.data}
+        classes = _classes(t, patterns)
     bw = t.string("beam_weights", "taper", choices=BEAM_WEIGHTS)
-    if bw == "max_realized_gain" and model != "dipole":
+    if bw == "max_realized_gain" and model != "dipole" and patterns is None:
         raise t.error("beam_weights", "'max_realized_gain' needs embedded patterns (model = "
-                      "'dipole')")
+                      "'dipole', or [coupling.patterns] tables)")
     return CouplingSpec(model, radius, z0, f, ports, theta, phis,
-                        t.number("blind_gamma", BLIND_GAMMA, above=0, maximum=1), bw)
+                        t.number("blind_gamma", BLIND_GAMMA, above=0, maximum=1), bw,
+                        patterns, classes)
+
+
+def _classes(t: Section, patterns: dict):
+    """``classes``: one table name per element, or None for centre/edge/corner tables."""
+    if "classes" not in t:
+        if "centre" not in patterns:
+            raise t.error("patterns", "without coupling.classes the tables are centre, edge "
+                          "and corner (centre required); got "
+                          + ", ".join(sorted(patterns)))
+        unknown = sorted(set(patterns) - set(CLASS_NAMES))
+        if unknown:
+            raise t.error(f"patterns.{unknown[0]}", "is not centre, edge or corner"
+                          f"{suggest(unknown[0], CLASS_NAMES)}; name tables freely only with "
+                          "coupling.classes")
+        return None
+    v = t.data["classes"]
+    if not isinstance(v, list) or not all(isinstance(x, str) for x in v):
+        raise t.error("classes", "must be an array of table names, one per element")
+    for i, x in enumerate(v):
+        if x not in patterns:
+            raise t.error(f"classes[{i}]", f"names no table in coupling.patterns: {x!r}"
+                          f"{suggest(x, list(patterns))}")
+    return list(v)
 
 
 def interpolate_frequency(freqs, S, frequency: float, name: str = "the file"):
@@ -134,11 +182,13 @@ def _doubtful(S, path, f) -> None:
                       f"/ max |S| = {recip:.3g})", UserWarning, stacklevel=3)
 
 
-def coupling_of(spec: CouplingSpec, array, *, frequency=None, network=None) -> Coupling:
+def coupling_of(spec: CouplingSpec, array, *, frequency=None, network=None,
+                tables=None) -> Coupling:
     """The :class:`Coupling` a spec describes for ``array``.
 
     ``network`` is the Touchstone content for ``model = "touchstone"`` (an object with
-    ``frequencies``, ``s`` (F, P, P) and ``z0``), read by the caller (:mod:`steradian.io`).
+    ``frequencies``, ``s`` (F, P, P) and ``z0``), ``tables`` the embedded pattern tables by
+    name ({name: Element}); both read by the caller (:mod:`steradian.io`).
     """
     f = array.frequency if frequency is None else float(frequency)
     if spec.model == "dipole":
@@ -158,8 +208,28 @@ def coupling_of(spec: CouplingSpec, array, *, frequency=None, network=None) -> C
     S = interpolate_frequency(network.frequencies, network.s, f, str(spec.file))[
         np.ix_(idx, idx)]
     _doubtful(S, spec.file, f)
-    return scattering_coupling(S, np.asarray(network.z0, float)[idx],
-                               frequency=f, source=str(spec.file))
+    z0 = np.asarray(network.z0, float)[idx]
+    if spec.patterns is not None:
+        if tables is None:
+            raise SteradianError("coupling.patterns: the tables were not read")
+        return embedded_coupling(array, S, z0, tables, spec.classes, frequency=f,
+                                 source=str(spec.file))
+    return scattering_coupling(S, z0, frequency=f, source=str(spec.file))
+
+
+def _realized_peak(array, coupling, a, frequency):
+    """(theta, phi, realized gain) of the realized-gain peak of ``a`` (lobe search of
+    :mod:`steradian.sphere`)."""
+    search = SearchSet.fibonacci(search_spacing(array, frequency))
+
+    def g(v):
+        return realized_gain_toward(array, coupling, np.repeat(a[:, None], len(v), axis=1), v,
+                                    frequency=frequency)
+
+    starts = None if array.steering is None else array.steering.unit[None, :]
+    refined, values = find_maxima(g, search, 6, starts=starts)
+    t, p = angles_deg(refined[0], pole_tol=1e-11)
+    return float(t), float(p), float(values[0])
 
 
 def _design_point(array, coupling, frequency, efficiency, peak):
@@ -174,9 +244,15 @@ def _design_point(array, coupling, frequency, efficiency, peak):
            "mean_active_gamma": float(mag.mean()), "accepted_fraction": frac,
            "mismatch_loss_db": float(-db10(frac))}
     if coupling.embedded:
-        pk = peak_directivity(current_array(array, coupling, a), frequency=frequency)
         out["power_balance_relative_error"] = power_balance(
             array, coupling, a, frequency=frequency)["relative_error"]
+    if coupling.patterns is not None:  # realized gain peak: the one lobe search
+        t, p, g = _realized_peak(array, coupling, a, frequency)
+        out.update({"peak_theta_deg": t, "peak_phi_deg": p,
+                    "realized_gain_dbi": float(db10(efficiency * g))})
+        return out
+    if coupling.currents is not None:
+        pk = peak_directivity(current_array(array, coupling, a), frequency=frequency)
     else:
         pk = peak or peak_directivity(array, frequency=frequency,
                                       power=radiated_power(array, frequency=frequency))
