@@ -313,3 +313,65 @@ def test_oversized_mutant_under_a_memory_limit(fuzz_dir, table, key, value):
     r = subprocess.run([sys.executable, "-c", _LIMITED, str(3 << 30), str(p)],
                        capture_output=True, text=True, env=env, timeout=60)
     assert r.returncode == 0 and "!" not in r.stdout, (r.stdout, r.stderr[-1000:])
+
+
+# -- Touchstone mutations (the [coupling] S-parameter file) ---------------------------------
+
+TSDESIGN = """
+[design]
+name = "fuzz_coupled"
+frequency_hz = 299792458.0
+
+[geometry]
+kind = "rectangular"
+units = "wavelength"
+count_x = 2
+count_y = 2
+spacing_x = 0.5
+spacing_y = 0.5
+
+[element]
+model = "dipole"
+length_wl = 0.48
+axis = "x"
+
+[coupling]
+model = "touchstone"
+file = "p.s4p"
+ports = [2, 1, 4, 3]
+scan_theta_max_deg = 30
+"""
+
+
+@pytest.fixture(scope="module")
+def touchstone_files(tmp_path_factory):
+    from steradian.array import Array
+    from steradian.coupling import dipole_coupling
+    from steradian.elements import Dipole
+    from steradian.geometry import rectangular
+    from steradian.io.touchstone import Network, write_touchstone
+
+    d = tmp_path_factory.mktemp("tsfuzz")
+    c = 299792458.0
+    arr = Array(rectangular(2, 2, 0.5, 0.5), c, Dipole(0.48, "x", c))
+    s = dipole_coupling(arr, radius=0.004).S
+    write_touchstone(d / "p.s4p", Network([0.9 * c, 1.1 * c], [s, s], [50.0] * 4),
+                     number_format="MA", unit="MHz")
+    (d / "d.toml").write_text(TSDESIGN)
+    assert run_cli(["analyze", d / "d.toml"]).exit_code == 0
+    return d
+
+
+def test_touchstone_mutants(touchstone_files):
+    d = touchstone_files
+    original = (d / "p.s4p").read_bytes()
+
+    @_settings(60)
+    @given(kind=st.sampled_from(("flip", "truncate")), seed=st.integers(0, 2**32 - 1))
+    def case(kind, seed):
+        (d / "p.s4p").write_bytes(mutate_bytes(original, kind, random.Random(seed)))
+        r = run_cli(["analyze", d / "d.toml"])
+        problem = contract_problem(r)
+        assert problem is None, f"s4p {kind} seed {seed}: {problem}"
+
+    case()

@@ -40,6 +40,7 @@ LAYERS: list[tuple[str, tuple[str, ...]]] = [
     ("radiation", ("steradian.radiation",)),
     ("patterns and metrics", ("steradian.patterns", "steradian.metrics")),
     ("analysis", ("steradian.analysis", "steradian.requirements")),
+    ("coupling", ("steradian.coupling",)),
     ("synthesis", ("steradian.tapers", "steradian.optimize")),
     ("hardware", ("steradian.quantize", "steradian.beamtable")),
     ("files", ("steradian.io",)),

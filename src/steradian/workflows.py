@@ -9,6 +9,10 @@ Each recipe takes a :class:`~steradian.io.design.Design` (read by
 - :func:`requirements_of_design`, :func:`analysis_verdicts` and :func:`beam_verdicts`: the
   ``[requirements]`` table judged against an analysis or a beam table
   (:mod:`steradian.requirements`; ``analyze``, ``beams``, ``verify``);
+- :func:`coupling_spec_of_design`, :func:`coupling_of_design` and
+  :func:`design_beam_weights`: the ``[coupling]`` table, its
+  :class:`~steradian.coupling.Coupling` (the ``coupling`` block of ``analyze``) and the
+  coupling-aware beam weights of ``beams`` and ``verify``;
 - :func:`export_patterns` and :func:`uv_map`: pattern cuts and u-v maps to CSV and PNG
   (``steradian pattern``, ``steradian demo``);
 - :func:`design_for_synthesis`, :func:`synthesize_design` and
@@ -44,13 +48,16 @@ from .beamtable import (
     build_beam_table,
     verify_beam_table,
 )
+from .coupling import coupled_beam_weights, coupled_summary, coupling_of, coupling_spec
 from .errors import DesignError, SteradianError
 from .io.calibration_csv import read_calibration
 from .io.design import load_design, read_toml, weights_file_taper
 from .io.directions_csv import read_directions
+from .io.element_table import read_element_table
 from .io.fileset import check_manifest, manifest_path
 from .io.formats import read_weight_file
 from .io.pattern_csv import write_cuts, write_uv
+from .io.touchstone import read_touchstone
 from .io.weights_csv import write_weights
 from .patterns import uv_map
 from .quantize import ChannelModel, channel_from_table
@@ -60,7 +67,8 @@ __all__ = ["analyze_design", "design_block", "design_with_weights", "export_patt
            "design_for_synthesis", "synthesize_design", "write_synthesis_weights",
            "tradeoff_of_design", "channel_of_design", "check_taper_steerable",
            "design_metadata", "beam_table_from_design", "verify_weight_file",
-           "requirements_of_design", "analysis_verdicts", "beam_verdicts"]
+           "requirements_of_design", "analysis_verdicts", "beam_verdicts",
+           "coupling_spec_of_design", "coupling_of_design", "design_beam_weights"]
 
 
 # --------------------------------------------------------------------------------------------
@@ -81,16 +89,58 @@ def analyze_design(design, frequency: float | None = None) -> dict:
     ``design`` block (name, description, source) first and, when the design has
     ``[requirements]``, a ``requirements`` block last (:func:`analysis_verdicts`;
     ``met`` and one verdict per requirement). The table is read before the analysis runs,
-    so a bad key fails at once.
+    so a bad key fails at once. A ``[coupling]`` table adds the ``coupling`` block
+    (:func:`steradian.coupling.coupled_summary`: active reflection, accepted power, realized
+    gain over scan).
     """
     reqs = requirements_of_design(design)
+    spec = coupling_spec_of_design(design)
     opt = design.options
     if frequency is not None:
         opt = replace(opt, frequency=check_frequency(frequency, design.array.frequency))
-    out = {"design": design_block(design), **analyze(design.array, opt).to_dict()}
+    result = analyze(design.array, opt)
+    out = {"design": design_block(design), **result.to_dict()}
+    if spec is not None:
+        out["coupling"] = coupled_summary(
+            design.array, coupling_of_design(design, opt.frequency, spec), spec,
+            frequency=opt.frequency, efficiency=opt.radiation_efficiency, peak=result.peak)
     if reqs:
         out["requirements"] = verdicts_dict(judge_analysis(reqs, out, design.array))
     return out
+
+
+def coupling_spec_of_design(design):
+    """The design's ``[coupling]`` table checked (:func:`steradian.coupling.coupling_spec`),
+    or None without one."""
+    table = design.sections.get("coupling")
+    if table is None:
+        return None
+    return coupling_spec(table, wavelength=design.array.wavelength, base_dir=design.base_dir,
+                         source=None if design.source is None else str(design.source))
+
+
+def coupling_of_design(design, frequency: float | None = None, spec=None):
+    """The :class:`~steradian.coupling.Coupling` of the design's ``[coupling]`` table at
+    ``frequency`` (default the design frequency); a Touchstone file is read here."""
+    spec = coupling_spec_of_design(design) if spec is None else spec
+    if spec is None:
+        raise DesignError("coupling", "the design has no [coupling] table",
+                          None if design.source is None else str(design.source))
+    network = None if spec.file is None else read_touchstone(spec.file)
+    tables = None if spec.patterns is None else {
+        name: read_element_table(path) for name, path in spec.patterns.items()}
+    return coupling_of(spec, design.array, frequency=frequency, network=network,
+                       tables=tables)
+
+
+def design_beam_weights(design):
+    """The per-beam weight source ``[coupling] beam_weights`` asks for: None (the design's
+    taper steered) or the coupling-aware weights of maximum realized gain
+    (:func:`steradian.coupling.coupled_beam_weights`), for ``beams`` and ``verify`` alike."""
+    spec = coupling_spec_of_design(design)
+    if spec is None or spec.beam_weights == "taper":
+        return None
+    return coupled_beam_weights(design.array, coupling_of_design(design, spec=spec))
 
 
 def requirements_of_design(design) -> dict:
@@ -406,6 +456,7 @@ def beam_table_from_design(design, *, weights=None,
     """
     ch = channel_of_design(design)
     src = None if design.source is None else str(design.source)
+    weights = design_beam_weights(design) if weights is None else weights
     if weights is None:
         check_taper_steerable(design)
     if ch is None:
@@ -519,6 +570,7 @@ def verify_weight_file(design, path, fmt: str | None = None, *, weights=None,
     -------
     (BeamTable, Verification)
     """
+    weights = design_beam_weights(design) if weights is None else weights
     if weights is None:
         check_taper_steerable(design)
     table = read_weight_file(path, fmt)

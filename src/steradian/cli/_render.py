@@ -160,6 +160,37 @@ def _design_rows(s: dict) -> list[tuple[str, str]]:
     return rows
 
 
+def coupling_rows(c: dict) -> list[tuple[str, str]]:
+    """Rows of the ``coupling`` block of an analysis (:func:`steradian.coupling.coupled_summary`):
+    the model, the design excitation's active match and realized gain, one row per scan."""
+    z0 = c["z0_ohm"]
+    rows = [("coupling", f"{c['model']} ({c['source']}), z0 "
+             f"{num(z0) if not isinstance(z0, list) else 'per port'} ohm, reciprocity "
+             f"{c['reciprocity_error']:.1e}, passivity margin {c['passivity_margin']:.3g}")]
+    if "self_impedance_ohm" in c:
+        r, x = c["self_impedance_ohm"]
+        rows.append(("self impedance", f"{r:.2f} {'+' if x >= 0 else '-'} j{abs(x):.2f} ohm"))
+    d = c["design_excitation"]
+    rows.append(("active match", f"worst VSWR {d['worst_active_vswr']:.3g} (element "
+                 f"{d['worst_element']}), mean |gamma| {d['mean_active_gamma']:.3f}, "
+                 f"mismatch loss {d['mismatch_loss_db']:.3f} dB"))
+    rows.append(("coupled realized gain", f"{d['realized_gain_dbi']:.3f} dBi at theta "
+                 f"{d['peak_theta_deg']:.2f} deg, phi {d['peak_phi_deg']:.2f} deg"))
+    if "power_balance_relative_error" in d:
+        rows.append(("power balance", f"radiated vs accepted power, relative difference "
+                     f"{d['power_balance_relative_error']:.1e}"))
+    for r in c["scan"]:
+        best = r.get("max_realized_gain_dbi")
+        rows.append((f"scan {r['theta_deg']:g}/{r['phi_deg']:g} deg",
+                     f"worst active VSWR {r['worst_active_vswr']:.3g}, realized gain "
+                     f"{r['realized_gain_dbi']:.2f} dBi"
+                     + ("" if best is None else
+                        f" (uncoupled optimum {r['uncoupled_optimum_realized_gain_dbi']:.2f},"
+                        f" coupling-aware max {best:.2f} dBi)")
+                     + ("  BLIND" if r["blind"] else "")))
+    return rows
+
+
 def summary_rows(s: dict) -> list[tuple[str, str]]:
     """Rows of the human summary table for an analysis dictionary
     (:func:`steradian.workflows.analyze_design`)."""
@@ -176,6 +207,8 @@ def summary_rows(s: dict) -> list[tuple[str, str]]:
                  f"{rp['relative_error_estimate']:.2g}"))
     if "metrics" in s:
         rows += metric_rows(s["metrics"])
+    if "coupling" in s:
+        rows += coupling_rows(s["coupling"])
     if "eirp" in s:
         e = s["eirp"]
         rows.append(("EIRP", f"{e['eirp_dbw']:.2f} dBW ({num(e['eirp_w'])} W) from "

@@ -74,7 +74,8 @@ def max_directivity(array, *, psl_db: float | None = None, mainlobe=None,
                     dynamic_range_db: float | None = None, wng_min_db: float | None = None,
                     loading: float = DEFAULT_LOADING, tol_db: float = 0.01,
                     max_rounds: int = 30, oversample: float | None = None,
-                    dense_oversample: float | None = None) -> SynthesisResult:
+                    dense_oversample: float | None = None,
+                    power_matrix=None) -> SynthesisResult:
     r"""Weights of maximum directivity toward the beam, under pattern and hardware limits.
 
     The beam direction is ``array.steering`` (broadside +z without steering). Geometry,
@@ -118,6 +119,12 @@ def max_directivity(array, *, psl_db: float | None = None, mainlobe=None,
         Most adaptive rounds (solves).
     oversample, dense_oversample : float, optional
         Samples per :math:`\lambda/L` of the coarse constraint grid and of the dense check.
+    power_matrix : ndarray (N, N), optional
+        Hermitian matrix P replacing the radiated-power matrix in the objective, which
+        becomes :math:`4\pi|E_0|^2 / w^H P w` (its bound is the certificate's
+        ``directivity_bound_dbi``); the result's directivity figures stay the true
+        directivity of the weights. For coupled ports:
+        :class:`steradian.coupling.CoupledProblem` (realized gain).
 
     Returns
     -------
@@ -140,7 +147,7 @@ def max_directivity(array, *, psl_db: float | None = None, mainlobe=None,
     t_start = time.perf_counter()
     level_db = below_peak("psl_db", psl_db)
     hardware_limits(dynamic_range_db, wng_min_db, tol_db, max_rounds)
-    setup = make_setup(array, weights, symmetry, loading)
+    setup = make_setup(array, weights, symmetry, loading, power_matrix)
     return max_directivity_on(setup, t_start=t_start, psl_db=level_db, mainlobe=mainlobe,
                               mask=mask, nulls=nulls, notches=notches, nonnegative=nonnegative,
                               dynamic_range_db=dynamic_range_db, wng_min_db=wng_min_db,

@@ -19,7 +19,7 @@ from ..directions import (
 )
 from ..engine import response_matrix
 from ..errors import SteradianError
-from ..radiation import power_matrix
+from ..radiation import power_matrix as radiated_power_matrix
 from ..units import from_db20
 from ..validate import choice
 from ._domain import Domain, choose_domain
@@ -150,6 +150,18 @@ def rows_at(setup_like, dirs: np.ndarray, T: np.ndarray | None = None):
     return real, H, V
 
 
+def given_power(P, n: int) -> np.ndarray:
+    """A caller's power matrix checked: N x N, finite, Hermitian to 1e-9 (returned exactly
+    Hermitian)."""
+    P = np.asarray(P, complex)
+    if P.shape != (n, n) or not np.all(np.isfinite(P)):
+        raise SteradianError(f"power_matrix must be a finite {n} x {n} matrix, got shape "
+                             f"{P.shape}")
+    if np.abs(P - P.conj().T).max() > 1e-9 * np.abs(P).max():
+        raise SteradianError("power_matrix must be Hermitian")
+    return 0.5 * (P + P.conj().T)
+
+
 @dataclass(eq=False)
 class _Probe:
     array: object
@@ -158,8 +170,14 @@ class _Probe:
 
 
 def make_setup(array, weights: str = "complex", symmetry: str = "auto",
-               loading: float = 1e-5) -> Setup:
-    """Prepare the problem data for ``array`` (beam = its steering direction, else +z)."""
+               loading: float = 1e-5, power_matrix=None) -> Setup:
+    """Prepare the problem data for ``array`` (beam = its steering direction, else +z).
+
+    ``power_matrix`` (N x N Hermitian positive definite, engine units) replaces the
+    radiated-power matrix in the objective (e.g. the available power of coupled ports
+    expressed in element currents, :class:`steradian.coupling.CoupledProblem`); with it,
+    ``symmetry="auto"`` uses no symmetry (a complex Hermitian P breaks the conjugate
+    symmetry of the optimum)."""
     choice("weights", weights, get_args(WeightsKind))
     choice("symmetry", symmetry, get_args(SymmetryKind))
     if not (math.isfinite(float(loading)) and float(loading) >= 0):
@@ -177,7 +195,9 @@ def make_setup(array, weights: str = "complex", symmetry: str = "auto",
     if symmetry == "quadrant" and frame.rank != 2:
         raise SteradianError("symmetry='quadrant' needs a planar layout")
     resolved = symmetry
-    if symmetry == "auto":
+    if symmetry == "auto" and power_matrix is not None:
+        resolved = "none"  # the conjugate-symmetric optimum needs a real power matrix
+    elif symmetry == "auto":
         maps = symmetry_maps(pos[enabled], frame)
         resolved = "centro" if maps["centro"] is not None else "none"
     param = parametrise(pos, enabled, phases, frame, weights, resolved)
@@ -189,7 +209,7 @@ def make_setup(array, weights: str = "complex", symmetry: str = "auto",
         if not real.all():
             resolved = "none"
             param = parametrise(pos, enabled, phases, frame, weights, "none")
-    Q = power_matrix(array)
+    Q = radiated_power_matrix(array) if power_matrix is None else given_power(power_matrix, N)
     diag = np.real(np.diag(Q))[enabled]
     delta = float(loading) * float(np.mean(diag))
     QL = Q + delta * np.eye(N)
