@@ -112,3 +112,27 @@ def test_design_with_class_tables(model, tmp_path):
     with pytest.raises(DesignError) as e:
         analyze_design(design_from_dict(bad, tmp_path / "t.toml", base_dir=tmp_path))
     assert e.value.key == "coupling.patterns.egde" and "edge" in str(e.value)
+
+
+def test_beam_tables_refuse_tabulated_patterns(model, tmp_path):
+    """`beams` on a design whose [coupling] has tabulated embedded patterns refuses in one
+    line naming coupling.patterns (a table's figures would be the isolated element's)."""
+    from steradian.errors import DesignError
+    from steradian.workflows import beam_table_from_design
+
+    arr, c, tables = model
+    write_touchstone(tmp_path / "p.s9p", Network(np.array([C0]), c.S[None], c.z0))
+    write_element_table(tmp_path / "centre.csv", tables["e4"], theta_step_deg=2,
+                        phi_step_deg=2)
+    doc = {
+        "design": {"name": "t", "frequency_hz": C0},
+        "geometry": {"kind": "rectangular", "count_x": 3, "count_y": 3, "spacing_x": 0.5,
+                     "spacing_y": 0.5, "units": "wavelength"},
+        "element": {"model": "dipole", "length_wl": 0.48, "axis": "x"},
+        "coupling": {"model": "touchstone", "file": "p.s9p",
+                     "patterns": {"centre": "centre.csv"}},
+        "channel": {"phase_bits": 6},
+        "beams": {"grid": "theta_phi", "theta_deg": [0, 20], "phi_deg": [0]}}
+    with pytest.raises(DesignError, match="tabulated embedded patterns") as e:
+        beam_table_from_design(design_from_dict(doc, tmp_path / "t.toml", base_dir=tmp_path))
+    assert e.value.key == "coupling.patterns"

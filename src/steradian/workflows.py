@@ -68,7 +68,8 @@ __all__ = ["analyze_design", "design_block", "design_with_weights", "export_patt
            "tradeoff_of_design", "channel_of_design", "check_taper_steerable",
            "design_metadata", "beam_table_from_design", "verify_weight_file",
            "requirements_of_design", "analysis_verdicts", "beam_verdicts",
-           "coupling_spec_of_design", "coupling_of_design", "design_beam_weights"]
+           "coupling_spec_of_design", "coupling_of_design", "design_beam_weights",
+           "beam_evaluator_of_design"]
 
 
 # --------------------------------------------------------------------------------------------
@@ -141,6 +142,33 @@ def design_beam_weights(design):
     if spec is None or spec.beam_weights == "taper":
         return None
     return coupled_beam_weights(design.array, coupling_of_design(design, spec=spec))
+
+
+def beam_evaluator_of_design(design) -> BeamEvaluator:
+    """The :class:`~steradian.beamtable.BeamEvaluator` of the design's beam tables: with a
+    ``[coupling]`` table the weights are port waves, evaluated with the ports' S (realized
+    gain, accepted power) and, when the model gives it, the port-to-current map T (the
+    pattern of the coupled currents).
+
+    Raises
+    ------
+    DesignError
+        ``[coupling] patterns`` (tabulated embedded patterns): a beam table cannot yet
+        evaluate a pattern that differs from element to element, and would report the
+        isolated element's figures.
+    """
+    eff = design.options.radiation_efficiency
+    spec = coupling_spec_of_design(design)
+    if spec is None:
+        return BeamEvaluator(design.array, efficiency=eff)
+    c = coupling_of_design(design, spec=spec)
+    if c.patterns is not None:
+        raise DesignError("coupling.patterns", "beam tables do not evaluate tabulated "
+                          "embedded patterns (each element's own pattern) yet; their figures "
+                          "would be the isolated element's. Analyse those beams with "
+                          "`steradian analyze`, or build the table without [coupling]",
+                          None if design.source is None else str(design.source))
+    return BeamEvaluator(design.array, efficiency=eff, scattering=c.S, ports=c.currents)
 
 
 def requirements_of_design(design) -> dict:
@@ -411,14 +439,15 @@ def channel_of_design(design) -> ChannelModel | None:
 
 def design_metadata(design) -> dict:
     """What a beam table records of its design: the design block and the raw ``[taper]``,
-    ``[synthesis]`` and ``[beams]`` tables of the design file (when it can be read)."""
+    ``[synthesis]``, ``[beams]`` and ``[coupling]`` tables of the design file (when it can be
+    read)."""
     meta = {"design": design_block(design)}
     if design.source is not None:
         try:
             doc = read_toml(design.source)
         except (OSError, ValueError):
             doc = {}
-        for key in ("taper", "synthesis", "beams"):
+        for key in ("taper", "synthesis", "beams", "coupling"):
             if key in doc:
                 meta[f"{key}_spec"] = doc[key]
     return meta
@@ -467,6 +496,7 @@ def beam_table_from_design(design, *, weights=None,
         raise DesignError("beams", "the design has no [beams] table; give the steering grid "
                           "(grid = 'theta_phi', 'az_el' or 'list')", src)
     eff = design.options.radiation_efficiency
+    evaluator = evaluator or beam_evaluator_of_design(design)
     build = build_beam_table(design.array, ch, d, weights=weights, efficiency=eff,
                              evaluator=evaluator, metadata=design_metadata(design),
                              element_power_w=design.options.element_power_w,
@@ -586,6 +616,7 @@ def verify_weight_file(design, path, fmt: str | None = None, *, weights=None,
         notes.append("the design has no [beams] table: the number and directions of the "
                      "beams are NOT compared; the file's directions are taken as commanded")
     eff = design.options.radiation_efficiency
+    evaluator = evaluator or beam_evaluator_of_design(design)
     v = verify_beam_table(design.array, ch, table, weights=weights, efficiency=eff,
                           element_power_w=design.options.element_power_w,
                           evaluator=evaluator, directions=d,

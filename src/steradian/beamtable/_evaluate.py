@@ -14,7 +14,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..array import direction, steering_phases
-from ..directions import Directions, angle_between_deg, angles_deg
+from ..directions import Directions, angle_between_deg, angles_deg, fibonacci_directions
 from ..elements import Isotropic
 from ..engine import MEMORY_BUDGET, response_matrix
 from ..errors import SteradianError
@@ -59,7 +59,7 @@ METRIC_FIELDS = ("theta_deg", "phi_deg", "peak_theta_deg", "peak_phi_deg", "dire
                   "gain_dbi", "pointing_error_deg", "psl_db", "qlobe_db",
                   "ideal_directivity_dbi", "ideal_psl_db", "ideal_pointing_error_deg", "loss_db",
                   "rms_phase_error_deg", "drive_loss_db", "radiated_power_db", "eirp_dbw",
-                  "null_depth_db", "monopulse_slope_per_deg")
+                  "null_depth_db", "monopulse_slope_per_deg", "realized_gain_dbi")
 """Names of the per-beam metrics, in report order."""
 _METRIC_FIELDS = METRIC_FIELDS  # old private spelling, until its importer uses the public one
 
@@ -117,10 +117,11 @@ class BeamMetrics:
     eirp_dbw: np.ndarray | None = None
     null_depth_db: np.ndarray | None = None
     monopulse_slope_per_deg: np.ndarray | None = None
+    realized_gain_dbi: np.ndarray | None = None
 
     def __post_init__(self):
         for f in ("drive_loss_db", "radiated_power_db", "eirp_dbw", "null_depth_db",
-                  "monopulse_slope_per_deg"):
+                  "monopulse_slope_per_deg", "realized_gain_dbi"):
             if getattr(self, f) is None:
                 object.__setattr__(self, f, np.full(len(self.theta_deg), np.nan))
 
@@ -160,6 +161,8 @@ class BeamMetrics:
                 "directivity_dbi_min": mn(self.directivity_dbi),
                 "directivity_dbi_max": mx(self.directivity_dbi),
                 "gain_dbi_min": mn(self.gain_dbi),
+                "realized_gain_dbi_min": mn(self.realized_gain_dbi),
+                "realized_gain_dbi_min_beam": arg(-np.asarray(self.realized_gain_dbi, float)),
                 "loss_db_max": mx(self.loss_db), "loss_db_max_beam": arg(self.loss_db),
                 "loss_db_mean": (None if np.all(np.isnan(self.loss_db))
                                  else float(np.nanmean(self.loss_db))),
@@ -185,6 +188,40 @@ class BeamMetrics:
                     -np.asarray(self.monopulse_slope_per_deg, float))}
 
 
+def _mirror_element(array) -> bool:
+    """True when the element pattern of a planar array (z = 0) has the same magnitude at
+    every direction and its mirror image in the array plane (a horizontal dipole, an
+    isotropic element): the array's intensity is then mirror-symmetric too, and a beam's
+    twin behind the plane is the same beam, not a second peak. Checked on 64 directions."""
+    if array.element.front_only:
+        return False
+    r = fibonacci_directions(64)
+    m = r * np.array([1.0, 1.0, -1.0])
+    A, B = (response_matrix(array, Directions.from_vectors(v)) for v in (r, m))
+    ga = np.sum(np.abs(A[..., 0]) ** 2, axis=0)
+    gb = np.sum(np.abs(B[..., 0]) ** 2, axis=0)
+    return bool(np.allclose(ga, gb, rtol=1e-9, atol=1e-12 * max(float(ga.max()), 1e-300)))
+
+
+def _coupling_matrices(n: int, scattering, ports):
+    """Checked (S, T) of a coupled evaluator (None, None without coupling)."""
+    if scattering is None:
+        if ports is not None:
+            raise SteradianError("a port-to-current map needs the scattering matrix")
+        return None, None
+    out = []
+    for name, m in (("scattering matrix", scattering), ("port-to-current map", ports)):
+        if m is None:
+            out.append(None)
+            continue
+        m = np.asarray(m, complex)
+        if m.shape != (n, n) or not np.all(np.isfinite(m)):
+            raise SteradianError(f"the {name} must be a finite {n} x {n} matrix (one row and "
+                                 f"column per element), got shape {m.shape}")
+        out.append(m)
+    return out[0], out[1]
+
+
 class BeamEvaluator:
     """Re-evaluates many beams of one array, reusing the weight-independent work.
 
@@ -204,6 +241,14 @@ class BeamEvaluator:
     chunk_bytes : int
         Bytes of (directions x beams) work arrays one evaluation pass may use (default
         :data:`BEAM_CHUNK_BYTES`); more beams are evaluated in several passes.
+    scattering : ndarray (N, N) complex, optional
+        The ports' scattering matrix S (mutual coupling): weights are then incident port
+        waves and the realized gain, radiated power and EIRP follow from the accepted power
+        (see :class:`BeamMetrics`).
+    ports : ndarray (N, N) complex, optional
+        With ``scattering``: element currents = ``ports @ a`` (the coupling model's T), so
+        the pattern is that of the coupled currents. Without it the pattern is the weights'
+        own (the active-mismatch approximation of an S-only coupling).
 
     Notes
     -----
@@ -217,8 +262,10 @@ class BeamEvaluator:
     """
 
     def __init__(self, array, *, per_null: float = 6.0, efficiency: float = 1.0,
-                 response_budget: int = RESPONSE_BUDGET, chunk_bytes: int = BEAM_CHUNK_BYTES):
+                 response_budget: int = RESPONSE_BUDGET, chunk_bytes: int = BEAM_CHUNK_BYTES,
+                 scattering=None, ports=None):
         self.array = array
+        self.S, self.T = _coupling_matrices(array.n, scattering, ports)
         self.efficiency = positive("radiation_efficiency", efficiency)
         if self.efficiency > 1:
             raise SteradianError(f"radiation_efficiency must be at most 1, got {efficiency}")
@@ -240,7 +287,7 @@ class BeamEvaluator:
             self._cut_b = np.cross(self.search.normal, a)  # the circle's mid point
         else:
             front = array.element.front_only and array.geometry.orientations is None
-            self.mirror = bool(array.geometry.is_planar and iso)
+            self.mirror = bool(array.geometry.is_planar and (iso or _mirror_element(array)))
             # Every lobe spans about three spacings or more: eight neighbours.
             self.search = SearchSet.fibonacci(self.spacing, front_only=front or self.mirror, k=8)
         self.dirs = self.search.directions
@@ -311,6 +358,19 @@ class BeamEvaluator:
         """Radiated power w^H Q w of each row of W (B, N)."""
         return np.einsum("bn,bn->b", W.conj(), W @ self.Q.T).real
 
+    def radiating(self, W) -> np.ndarray:
+        """The element excitations that radiate for weights W (B, N): the coupled currents
+        ``W @ T.T`` with a port-to-current map, else W itself."""
+        return W if self.T is None else W @ self.T.T
+
+    def accepted_fraction(self, W) -> np.ndarray:
+        """``a^H (I - S^H S) a / a^H a`` per row of port waves W (B, N); NaN without S."""
+        if self.S is None:
+            return np.full(len(W), np.nan)
+        inc = np.sum(np.abs(W) ** 2, axis=1)
+        ref = np.sum(np.abs(W @ self.S.T) ** 2, axis=1)
+        return (inc - ref) / inc
+
     def sample_sidelobes(self, W) -> np.ndarray:
         """Peak sidelobe of each row of W (B, N) relative to its peak, from the search-set
         samples alone (linear intensity ratio; 0 without a sidelobe).
@@ -319,7 +379,7 @@ class BeamEvaluator:
         sample (:data:`WINDOW_DB`). The main lobe is the highest sample and what lies within
         1.5 spacings of it, as in the refined search.
         """
-        W = np.atleast_2d(np.asarray(W, complex))
+        W = self.radiating(np.atleast_2d(np.asarray(W, complex)))
         out = np.empty(len(W))
         chunk = max(1, int(self.chunk_bytes // (24 * len(self.dirs))))
         for i in range(0, len(W), chunk):
@@ -518,6 +578,36 @@ class BeamEvaluator:
             return np.abs(a - angle_between_deg(s, self.axis[None, :]))
         return angle_between_deg(peak, s)
 
+    def _versus_ideal(self, W, ports, ideal, steer, kind, ipk):
+        """Quantization lobe, ideal directivity, sidelobe and pointing, and the RMS phase
+        error of the port weights against the ideal ones (W: radiating excitations)."""
+        P0 = np.atleast_2d(np.asarray(ideal, complex))
+        if P0.shape != W.shape:
+            raise SteradianError(f"ideal weights have shape {P0.shape}, expected {W.shape}")
+        W0 = self.radiating(P0)
+        d0, psl0, pe0 = self._ideal(W0, steer, kind)
+        ve, _ = self._qlobe(W0, W)
+        s = (np.einsum("bn,bn->b", P0.conj(), ports) / np.einsum("bn,bn->b", P0.conj(), P0))
+        ok = (np.abs(P0) > 0) & (np.abs(ports) > 0)
+        ph = wrap_deg(np.angle(ports, deg=True) - np.angle(s[:, None] * P0, deg=True))
+        rms = np.sqrt(np.nanmean(np.where(ok, ph, np.nan) ** 2, axis=1))
+        return db10(ve / ipk), d0, psl0, pe0, rms
+
+    def _power_figures(self, ports, dbi, commanded, element_power_w):
+        """Drive loss, radiated power (dB), EIRP (dBW) and realized gain (dBi) per beam."""
+        B, N = ports.shape
+        p_in = np.sum(np.abs(ports) ** 2, axis=1)
+        drive = np.full(B, np.nan) if commanded is None else -db10(
+            np.sum(np.abs(np.atleast_2d(np.asarray(commanded, complex))) ** 2, axis=1) / N)
+        accepted = self.accepted_fraction(ports)
+        coupled = self.S is not None
+        realized = dbi + db10(self.efficiency) + db10(accepted)
+        radiated = db10(self.efficiency * (p_in * accepted if coupled else p_in) / N)
+        eirp = np.full(B, np.nan) if element_power_w is None else (
+            db10(positive("element_power_w", element_power_w) * p_in)
+            + (realized if coupled else dbi + db10(self.efficiency)))
+        return drive, radiated, eirp, realized
+
     def evaluate(self, W, directions, ideal=None, *, commanded=None,
                  element_power_w: float | None = None, kinds=None) -> BeamMetrics:
         """Metrics of beams with weights W (B, N) commanded to directions (B, 2) in degrees.
@@ -555,6 +645,7 @@ class BeamEvaluator:
             return BeamMetrics(**{f: np.concatenate([getattr(p, f) for p in parts])
                                   for f in METRIC_FIELDS})
         steer = np.array([direction(t, p) for t, p in d]).reshape(B, 3)
+        ports, W = W, self.radiating(W)
         P = self.power(W)
         if np.any(P <= 0):
             raise SteradianError(f"beam {int(np.flatnonzero(P <= 0)[0])} radiates no power")
@@ -567,28 +658,15 @@ class BeamEvaluator:
         null = np.where(diff, db10(self._at(self._steer_start(steer), W) / ipk), np.nan)
         D = 4 * np.pi * ipk / P
         nan = np.full(B, np.nan)
-        qlobe, d0, psl0, pe0, rms = nan, nan, nan, nan, nan
-        if ideal is not None:
-            W0 = np.atleast_2d(np.asarray(ideal, complex))
-            if W0.shape != W.shape:
-                raise SteradianError(f"ideal weights have shape {W0.shape}, expected {W.shape}")
-            d0, psl0, pe0 = self._ideal(W0, steer, kind)
-            ve, s = self._qlobe(W0, W)
-            qlobe = db10(ve / ipk)
-            ok = (np.abs(W0) > 0) & (np.abs(W) > 0)
-            ph = wrap_deg(np.angle(W, deg=True) - np.angle(s[:, None] * W0, deg=True))
-            rms = np.sqrt(np.nanmean(np.where(ok, ph, np.nan) ** 2, axis=1))
+        qlobe, d0, psl0, pe0, rms = (nan,) * 5 if ideal is None else self._versus_ideal(
+            W, ports, ideal, steer, kind, ipk)
         dbi = db10(D)
         th, phi = angles_deg(peak)
         pe, mono = self.pointing_error_deg(peak, steer), np.full(B, np.nan)
         if diff.any():
             pe[diff], mono[diff] = self.difference_nulls(W[diff], steer[diff], kind[diff])
-        p_in = np.sum(np.abs(W) ** 2, axis=1)
-        drive = nan if commanded is None else -db10(
-            np.sum(np.abs(np.atleast_2d(np.asarray(commanded, complex))) ** 2, axis=1) / N)
-        eirp = nan if element_power_w is None else (
-            db10(positive("element_power_w", element_power_w) * p_in) + dbi
-            + db10(self.efficiency))
+        drive, radiated, eirp, realized = self._power_figures(ports, dbi, commanded,
+                                                              element_power_w)
         return BeamMetrics(
             theta_deg=d[:, 0].copy(), phi_deg=d[:, 1].copy(), peak_theta_deg=th,
             peak_phi_deg=phi, directivity_dbi=dbi,
@@ -597,7 +675,7 @@ class BeamEvaluator:
             psl_db=db10(side / ipk), qlobe_db=qlobe, ideal_directivity_dbi=d0,
             ideal_psl_db=psl0, ideal_pointing_error_deg=pe0, loss_db=d0 - dbi,
             rms_phase_error_deg=rms, drive_loss_db=drive,
-            radiated_power_db=db10(self.efficiency * p_in / N), eirp_dbw=eirp,
-            null_depth_db=null, monopulse_slope_per_deg=mono)
+            radiated_power_db=radiated, eirp_dbw=eirp,
+            null_depth_db=null, monopulse_slope_per_deg=mono, realized_gain_dbi=realized)
 
 

@@ -141,7 +141,7 @@ def verify_beam_table(array, channel: ChannelModel, table: BeamTable, *,
     ref_codes = None
     if compare_states:
         ref = build_beam_table(array, channel, ref_dirs, weights=weights, evaluate=False,
-                               beam_kinds=ref_kinds).table
+                               beam_kinds=ref_kinds, evaluator=ev).table
         ref_codes = ref.as_encoding(table.encoding).codes
     mism, compared = _compare(table, None if directions is None else ref_dirs, ref_codes,
                               ref_kinds)

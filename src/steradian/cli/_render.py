@@ -271,10 +271,14 @@ def _power_rows(summary: dict, f, at) -> list[tuple[str, str]]:
 
 
 def _quality_rows(summary: dict, f, at) -> list[tuple[str, str]]:
+    realized = [] if summary.get("realized_gain_dbi_min") is None else [
+        ("realized gain", f"lowest {f('realized_gain_dbi_min', '.3f')} dBi"
+                          f"{at('realized_gain_dbi_min')} (mutual coupling: accepted power)")]
     return [
         ("beams", str(summary["beams"])),
         ("peak directivity", f"{f('directivity_dbi_min', '.3f')} .. "
                              f"{f('directivity_dbi_max', '.3f')} dBi"),
+        *realized,
         ("loss vs ideal", f"mean {f('loss_db_mean', '.4f')} dB, worst "
                           f"{f('loss_db_max', '.4f')} dB{at('loss_db_max')}"),
         ("peak sidelobe", f"worst {f('psl_db_max', '.2f')} dB{at('psl_db_max')}"),
