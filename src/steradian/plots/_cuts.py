@@ -168,9 +168,10 @@ def _main_beam(ax, cut, color, metrics, peak, requirements):
     """One cut's main beam: the curve, its half-power width and first nulls."""
     plane = (metrics.get("planes") or {}).get(cut.name) or {}
     hp = plane.get("half_power_deg")
-    fn = plane.get("first_null_deg")
-    half = 3.0 * (max(abs(fn[0]), abs(fn[1])) if fn else
-                  (max(abs(hp[0]), abs(hp[1])) * 2.0 if hp else 10.0))
+    hp = hp if hp and all(a is not None for a in hp) else None
+    fn = [a for a in (plane.get("first_null_deg") or []) if a is not None]
+    half = 3.0 * (max(abs(a) for a in fn) if fn else
+                  (max(abs(hp[0]), abs(hp[1])) * 2.0 if hp else 30.0))
     half = min(max(half, 2.0), 180.0)
     ax.plot(cut.angle_deg, cut.directivity_dbi, color=color)
     ax.set_xlim(-half, half)
@@ -180,9 +181,11 @@ def _main_beam(ax, cut, color, metrics, peak, requirements):
         ax.plot(hp, [peak - 3.0] * 2, color=INK, lw=2.4, solid_capstyle="butt")
         ax.plot(hp, [peak - 3.0] * 2, "|", color=INK, ms=10)
         text += f"\nhalf-power width {plane['hpbw_deg']:.2f} deg"
-    if fn:
-        for a in fn:
-            ax.axvline(a, color="#6b7780", lw=0.8, ls=":")
+    elif plane.get("hpbw_deg") is None:
+        text += "\nno half-power width in this plane"
+    for a in fn:
+        ax.axvline(a, color="#6b7780", lw=0.8, ls=":")
+    if plane.get("fnbw_deg") is not None:
         text += f", first nulls {plane['fnbw_deg']:.2f} deg apart"
     lim = (requirements or {}).get("max_hpbw_deg")
     if lim is not None:

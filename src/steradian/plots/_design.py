@@ -21,16 +21,16 @@ def taper_text(design) -> str:
     """The taper in a few words: the ``[taper]`` kind and its keys, or the weights file."""
     if design.taper_file is not None:
         return f"taper from {design.taper_file.name}"
-    raw = {}
-    if design.source is not None:
-        from ..io.design import read_toml
+    if design.source is None:
+        return "uniform taper" if design.array.taper is None else "taper given in Python"
+    from ..io.design import read_toml
 
-        try:
-            raw = read_toml(design.source).get("taper") or {}
-        except (OSError, ValueError):
-            raw = {}
+    try:
+        raw = read_toml(design.source).get("taper") or {}
+    except (OSError, ValueError):
+        return "taper of the design file"
     if not raw:
-        return "uniform taper" if design.array.taper is None else "custom taper"
+        return "uniform taper"
     kind = raw.get("kind", "uniform")
     keys = ", ".join(f"{k} {v:g}" if isinstance(v, float) else f"{k} {v}"
                      for k, v in raw.items() if k != "kind")

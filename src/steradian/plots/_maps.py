@@ -215,7 +215,8 @@ def angle_map_figure(a_deg, b_deg, directivity_dbi, *, kind: str = "theta_phi",
     d = np.asarray(directivity_dbi, float)
     top = _peak(peak_dbi, metrics, d)
     names = {"theta_phi": ("phi (deg)", "theta (deg)", "theta-phi"),
-             "az_el": ("azimuth (deg)", "elevation (deg)", "azimuth-elevation")}
+             "az_el": ("azimuth from +z toward +x (deg)", "elevation toward +y (deg)",
+                       "azimuth-elevation")}
     xl, yl, what = names[kind]
     with styled():
         fig = new_figure(8.2, 5.0)
