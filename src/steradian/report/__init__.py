@@ -12,7 +12,8 @@
 """
 
 from ._figures import FIGURE_KINDS, design_figure
-from ._report import REPORT_FIGURES, Report, design_report, print_pdf, write_report
+from ._report import BROWSER_FLAGS, REPORT_FIGURES, Report, design_report, print_pdf, write_report
 
 __all__ = ["FIGURE_KINDS", "design_figure", "REPORT_FIGURES", "Report", "design_report",
+           "BROWSER_FLAGS",
            "write_report", "print_pdf"]
