@@ -190,3 +190,70 @@ def test_report_pdf(tmp_path):
     pdf = print_pdf(html, tmp_path / "r.pdf")
     data = pdf.read_bytes()
     assert data.startswith(b"%PDF") and data.count(b"/Type /Page") >= 2
+
+
+# ---- numbers for people in the terminal and in CSV reading columns ----------------------
+def test_terminal_numbers_rounded_for_people():
+    """analyze's table: no negative zero, the caution once under an "RF exposure" label, scan
+    loss as a positive loss (Mailloux ch. 2: a scanned planar array loses directivity),
+    metre values to four significant digits (a 5.8 GHz half-wave dipole is 25.84 mm)."""
+    r = CliRunner()
+    out = r.invoke(main, ["analyze", str(ROOT / "configs" / "harbour_radar_panel.toml")]).output
+    assert "-0.0" not in out
+    assert "caution  Caution" not in out
+    assert re.search(r"^RF exposure\s+" + re.escape(RF_EXPOSURE_CAUTION), out, re.M)
+    ana = json.loads(r.invoke(main, ["analyze", str(ROOT / "configs" /
+                                                    "harbour_radar_panel.toml"),
+                                     "--json"]).output)
+    loss = -ana["metrics"]["scan_loss_db"]
+    assert loss > 0
+    assert re.search(rf"^scan loss\s+{loss:.3f} dB \(steered peak", out, re.M)
+    out = r.invoke(main, ["analyze", str(ROOT / "configs" / "link_line.toml")]).output
+    lam = 299792458.0 / 5.8e9
+    assert f"length_m={lam / 2:.4g}" in out
+
+
+def test_beams_csv_reading_columns_without_float_noise(tmp_path):
+    """The beams CSV's reading columns (amplitude, dB, phase) carry no float noise; the
+    codes are the exact states and the file still reads back to the same table."""
+    from steradian.io.beams_csv import read_beams_csv
+    from steradian.io.design import design_from_dict
+    from steradian.workflows import beam_table_from_design
+
+    des = design_from_dict({"design": {"name": "t", "frequency_hz": 3e9},
+                            "geometry": {"kind": "rectangular", "units": "wavelength",
+                                         "count_x": 4, "count_y": 4, "spacing_x": 0.5,
+                                         "spacing_y": 0.5},
+                            "element": {"model": "isotropic"},
+                            "channel": {"phase_bits": 6},
+                            "beams": {"grid": "list", "directions": [[0, 0], [37, 20]]}})
+    table = beam_table_from_design(des).table
+    p = tmp_path / "b.csv"
+    from steradian.io.beams_csv import write_beams_csv
+
+    write_beams_csv(p, table)
+    rows = [ln.split(",") for ln in p.read_text().splitlines() if not ln.startswith("#")]
+    col = rows[0].index("phase_deg")
+    for f in rows[1:]:
+        text = f[col]
+        assert len(text.split(".")[-1]) <= 8, text  # 5.625 deg steps: at most 3 decimals
+        assert float(text) % 5.625 == pytest.approx(0.0, abs=1e-9) or \
+            float(text) % 5.625 == pytest.approx(5.625, abs=1e-9)
+    back = read_beams_csv(p)
+    np.testing.assert_array_equal(back.codes, table.codes)
+
+
+def test_trade_curve_csv_limit_column_reads_as_asked():
+    """The trade-curve CSV writes the asked level as people typed it (-9.0, not
+    -9.000000000000002 from evenly spaced levels); measured columns keep full precision."""
+    from types import SimpleNamespace
+
+    from steradian.io.trade_curve import trade_curve_csv
+
+    levels = [-3 * 3.0000000000000004, -15.0, -16.57894736842105]  # 3 x 3-step noise
+    assert repr(levels[0]) == "-9.000000000000002"
+    rows = [{"limit_db": v, "psl_db": v - 1e-13 / 3} for v in levels]
+    text = trade_curve_csv(SimpleNamespace(columns=["limit_db", "psl_db"], rows=rows))
+    lines = text.splitlines()[1:]
+    assert [ln.split(",")[0] for ln in lines] == ["-9.0", "-15.0", "-16.578947368"]
+    assert [float(ln.split(",")[1]) for ln in lines] == [r["psl_db"] for r in rows]
