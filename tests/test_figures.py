@@ -287,7 +287,8 @@ def test_coverage_colours_are_the_beam_rows():
 
 
 def test_design_coverage_from_a_small_beam_table():
-    """design_figure('coverage') plots the beam table's metrics rows (build of the design)."""
+    """design_figure('coverage') plots the beam table's metrics rows (build of the design);
+    'layout' with a build adds the phase codes of one beam."""
     from steradian.workflows import beam_table_from_design
 
     des = _design(geometry={"kind": "rectangular", "units": "wavelength", "count_x": 4,
@@ -299,6 +300,11 @@ def test_design_coverage_from_a_small_beam_table():
     rows = build.metrics.rows()
     np.testing.assert_array_equal(fig.axes[0].collections[0].get_array(),
                                   [r["gain_dbi"] for r in rows])
+    fig = design_figure(des, "layout", analyze_design(des), build=build, beam=2)
+    np.testing.assert_array_equal(fig.axes[4].collections[0].get_array(),
+                                  build.table.codes[2][:, 0])
+    with pytest.raises(SteradianError, match="beam 3 is not in the table"):
+        design_figure(des, "layout", analyze_design(des), build=build, beam=3)
 
 
 def test_cuts_requirement_lines():

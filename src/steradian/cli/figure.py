@@ -19,8 +19,11 @@ _KINDS = ("cuts", "polar", "uv", "theta-phi", "az-el", "3d", "layout", "coverage
                                    "<design name>_<kind>.png in the current folder).")
 @click.option("--frequency", type=float, metavar="HZ",
               help="Evaluate at this frequency in Hz (default: the design's).")
+@click.option("--beam", type=click.IntRange(min=0), metavar="N",
+              help="layout: add a panel of beam N's phase codes (builds the beam table of "
+                   "[channel] and [beams]).")
 @json_option
-def figure(design_file, kind, output, frequency, as_json):
+def figure(design_file, kind, output, frequency, beam, as_json):
     """Draw one figure KIND of a TOML design.
 
     \b
@@ -45,7 +48,12 @@ def figure(design_file, kind, output, frequency, as_json):
     design = load_design(design_file, read_taper_file=kind != "trade")
     summary = None if kind == "trade" else analyze_design(design, frequency)
     path = output or Path(f"{design.name}_{kind.replace('-', '_')}.png")
-    save_figure(design_figure(design, kind, summary), path)
+    build = None
+    if beam is not None and kind == "layout":
+        from ..workflows import beam_table_from_design
+
+        build = beam_table_from_design(design)
+    save_figure(design_figure(design, kind, summary, build=build, beam=beam or 0), path)
     if as_json:
         emit_json({"design": design.name, "kind": kind, "file": str(path)})
     else:

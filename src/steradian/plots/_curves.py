@@ -45,6 +45,7 @@ def trade_curve_figure(curve, title: str | None = None, *, caption: str | None =
             ax.axvline(b, color="C6", alpha=0.25, lw=4)
         if bad:
             ax.plot([], [], color="C6", alpha=0.25, lw=4, label="infeasible limit")
+        ax.margins(y=0.12)
         ax.set_xlabel("peak sidelobe level (dB)")
         ax.set_ylabel("directivity (dBi)")
         ax.set_title(title or title_lines(
@@ -112,9 +113,9 @@ def histogram_figure(values, *, label: str, limit: float | None = None,
     return fig
 
 
-_COVERAGE = (("gain_dbi", "peak gain (dBi)", None),
-             ("psl_db", "peak sidelobe (dB)", "max_psl_db"),
-             ("qlobe_db", "quantization lobe (dB)", "max_qlobe_db"))
+_COVERAGE = (("gain_dbi", "peak gain (dBi)", None, "dBi"),
+             ("psl_db", "peak sidelobe (dB)", "max_psl_db", "dB"),
+             ("qlobe_db", "quantization lobe (dB)", "max_qlobe_db", "dB"))
 
 
 def coverage_figure(rows: Sequence[Mapping], *, requirements: Mapping | None = None,
@@ -132,12 +133,12 @@ def coverage_figure(rows: Sequence[Mapping], *, requirements: Mapping | None = N
     t = np.linspace(0, 2 * np.pi, 361)
     with styled():
         fig = new_figure(13.0, 5.0)
-        for k, (key, label, req) in enumerate(_COVERAGE):
+        for k, (key, label, req, unit) in enumerate(_COVERAGE):
             ax = fig.add_subplot(1, 3, k + 1)
             vals = np.asarray([np.nan if r.get(key) is None else r[key] for r in rows], float)
             ok = np.isfinite(vals)
-            sc = ax.scatter(u[ok], v[ok], c=vals[ok], s=28, edgecolors="none",
-                            cmap=None if key == "gain_dbi" else "cividis")
+            sc = ax.scatter(u[ok], v[ok], c=vals[ok], s=28, edgecolors="#22303c",
+                            linewidths=0.3, cmap=None if key == "gain_dbi" else "cividis")
             if req in reqs:
                 over = ok & (vals > reqs[req])
                 ax.scatter(u[over], v[over], s=90, facecolors="none", edgecolors="#b03a5b",
@@ -154,7 +155,7 @@ def coverage_figure(rows: Sequence[Mapping], *, requirements: Mapping | None = N
             worst = (np.nanmin(vals) if key == "gain_dbi" else np.nanmax(vals)) if ok.any() \
                 else float("nan")
             ax.set_title(f"{label}\n{'lowest' if key == 'gain_dbi' else 'worst'} "
-                         f"{worst:.2f}", fontsize=8.5)
+                         f"{worst:.2f} {unit}", fontsize=8.5)
             fig.colorbar(sc, ax=ax, label=label, shrink=0.8, location="bottom")
         fig.suptitle(title_lines(caption, f"beam-table coverage: {len(rows)} beams"),
                      fontsize=9)

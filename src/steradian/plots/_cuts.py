@@ -228,6 +228,9 @@ def polar_figure(cuts: Sequence, *, metrics: Mapping | None = None,
             ticks = np.arange(0, range_db + 0.1, 10.0)
             ax.set_yticks(ticks)
             ax.set_yticklabels([f"{t - range_db:.0f}" for t in ticks], fontsize=7)
+            for lab in ax.get_yticklabels():
+                lab.set_bbox({"facecolor": "white", "alpha": 0.8, "edgecolor": "none",
+                              "pad": 0.6})
             ax.set_rlabel_position(157.5)
             ax.set_title(cut_label(c, metrics).replace(" (", "\n("), fontsize=8, pad=14)
         fig.suptitle(title_lines(caption, f"polar cuts, dB relative to the peak "

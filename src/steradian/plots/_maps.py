@@ -248,7 +248,7 @@ def angle_map_figure(a_deg, b_deg, directivity_dbi, *, kind: str = "theta_phi",
 
 
 def pattern_3d_figure(theta_deg, phi_deg, directivity_dbi, *, peak_dbi: float | None = None,
-                      caption: str | None = None, range_db: float = 40.0):
+                      caption: str | None = None, range_db: float = 30.0):
     """A 3-D view of the pattern: radius = level above ``range_db`` below the analysis peak
     (dB) in each direction, coloured by directivity (dBi). ``directivity_dbi`` has shape
     (len(theta_deg), len(phi_deg))."""

@@ -44,13 +44,14 @@ def _uv_parts(design, summary, points):
 
 
 def design_figure(design, kind: str, summary: Mapping | None = None, *,
-                  uv_points: int = 301, build=None, curve=None):
+                  uv_points: int = 301, build=None, curve=None, beam: int = 0):
     """One figure of ``design`` (a kind of :data:`FIGURE_KINDS`) as a matplotlib Figure.
 
     ``summary``: the design's analysis (:func:`steradian.workflows.analyze_design`), computed
     when omitted; every printed number comes from it. ``build``: a
     :class:`~steradian.beamtable.BeamBuild` for ``coverage`` (built from the design's
-    ``[channel]`` and ``[beams]`` when omitted); ``curve``: a trade curve for ``trade``
+    ``[channel]`` and ``[beams]`` when omitted) and, for ``layout``, the source of a third
+    panel: the phase codes of beam ``beam``; ``curve``: a trade curve for ``trade``
     (computed from ``[synthesis]`` when omitted).
 
     Raises
@@ -76,10 +77,10 @@ def design_figure(design, kind: str, summary: Mapping | None = None, *,
     m = summary.get("metrics") or {}
     peak = summary["peak_directivity_dbi"]
     return _draw(design, kind, summary, cap, m, peak, uv_points, build,
-                 requirements_of_design(design))
+                 requirements_of_design(design), beam)
 
 
-def _draw(design, kind, summary, cap, m, peak, uv_points, build, reqs):
+def _draw(design, kind, summary, cap, m, peak, uv_points, build, reqs, beam=0):
     from .. import plots
 
     arr = design.array
@@ -101,8 +102,18 @@ def _draw(design, kind, summary, cap, m, peak, uv_points, build, reqs):
         a, b, d = sphere_map(arr, summary, "theta_phi", 2.0)
         return plots.pattern_3d_figure(b, a, d, peak_dbi=peak, caption=cap)
     if kind == "layout":
+        states, label = None, ""
+        if build is not None:
+            b = int(beam)
+            if not 0 <= b < build.table.n_beams:
+                raise SteradianError(f"beam {b} is not in the table (beams 0 to "
+                                     f"{build.table.n_beams - 1})")
+            states = np.asarray(build.table.codes[b][:, 0], float)
+            th, ph = build.table.directions[b]
+            label = f"phase code of beam {b} (theta {th:.1f}, phi {ph:.1f} deg)"
         return plots.layout_figure(arr.positions, arr.weights(summary["frequency_hz"]),
-                                     enabled=arr.enabled, caption=cap)
+                                   enabled=arr.enabled, states=states, state_label=label,
+                                   caption=cap)
     from ..workflows import beam_table_from_design  # coverage
 
     build = beam_table_from_design(design) if build is None else build
