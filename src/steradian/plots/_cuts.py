@@ -57,25 +57,20 @@ def locate_on_cut(cut, theta_deg: float, phi_deg: float):
 
 def _lobe_marks(cuts, metrics, peak):
     """[(cut index, angle, level dBi, label, kind)] of the worst sidelobe and grating lobes
-    found, placed on the cut that holds them."""
-    marks = []
+    found, placed on the cut that holds them (lobes on no cut are left out)."""
+    lobes = []
     if metrics.get("psl_db") is not None and metrics.get("psl_theta_deg") is not None:
-        where = [(locate_on_cut(c, metrics["psl_theta_deg"], metrics["psl_phi_deg"]), i)
-                 for i, c in enumerate(cuts)]
-        (ang, off), i = min(where, key=lambda w: w[0][1])
+        lobes.append(("worst sidelobe", metrics["psl_db"], metrics["psl_theta_deg"],
+                      metrics["psl_phi_deg"], "psl"))
+    lobes += [("grating lobe", g["level_db"], g["theta_deg"], g["phi_deg"], "grating")
+              for g in metrics.get("grating_lobes_found") or []]
+    marks = []
+    for what, level, th, ph, kind in lobes:
+        (ang, off), i = min(((locate_on_cut(c, th, ph), i) for i, c in enumerate(cuts)),
+                            key=lambda w: w[0][1])
         if off <= ON_CUT_DEG:
-            marks.append((i, ang, peak + metrics["psl_db"],
-                          f"worst sidelobe {metrics['psl_db']:.2f} dB at theta "
-                          f"{metrics['psl_theta_deg']:.1f}, phi "
-                          f"{metrics['psl_phi_deg'] + 0.0:z.1f} deg", "psl"))
-    for g in metrics.get("grating_lobes_found") or []:
-        where = [(locate_on_cut(c, g["theta_deg"], g["phi_deg"]), i)
-                 for i, c in enumerate(cuts)]
-        (ang, off), i = min(where, key=lambda w: w[0][1])
-        if off <= ON_CUT_DEG:
-            marks.append((i, ang, peak + g["level_db"],
-                          f"grating lobe {g['level_db']:.2f} dB at theta {g['theta_deg']:.1f}, "
-                          f"phi {g['phi_deg'] + 0.0:z.1f} deg", "grating"))
+            marks.append((i, ang, peak + level, f"{what} {level:.2f} dB at theta {th:.1f}, "
+                                                f"phi {ph + 0.0:z.1f} deg", kind))
     return marks
 
 

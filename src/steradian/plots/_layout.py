@@ -36,7 +36,7 @@ def layout_plane(positions):
 
 
 def layout_figure(positions, weights, *, enabled=None, states=None, state_label: str = "",
-                  caption: str | None = None):
+                  state_cyclic: bool = False, caption: str | None = None):
     """Element positions coloured by excitation amplitude (dB re the largest) and phase
     (deg), and optionally by a hardware state per element (a beam's phase codes).
 
@@ -52,6 +52,8 @@ def layout_figure(positions, weights, *, enabled=None, states=None, state_label:
         A third panel coloured by these values (e.g. phase codes of one beam).
     state_label : str
         Colour-bar label of ``states``.
+    state_cyclic : bool
+        The states wrap around (phase codes): a cyclic colour map.
     caption : str, optional
 
     Returns
@@ -73,7 +75,8 @@ def layout_figure(positions, weights, *, enabled=None, states=None, state_label:
               (phase, "phase (deg)", "twilight", (-180.0, 180.0))]
     if states is not None:
         s = np.asarray(states, float)
-        panels.append((s, state_label or "state", "cividis", (np.nanmin(s), np.nanmax(s))))
+        panels.append((s, state_label or "state", "twilight" if state_cyclic else "cividis",
+                       (np.nanmin(s), np.nanmax(s))))
     ext = np.ptp(xy, axis=0)
     aspect = float(ext[1] / ext[0]) if ext[0] > 0 else 1.0
     size = float(np.clip(9000.0 / max(len(w), 1), 8.0, 110.0))

@@ -113,7 +113,7 @@ def _draw(design, kind, summary, cap, m, peak, uv_points, build, reqs, beam=0):
             label = f"phase code of beam {b} (theta {th:.1f}, phi {ph:.1f} deg)"
         return plots.layout_figure(arr.positions, arr.weights(summary["frequency_hz"]),
                                    enabled=arr.enabled, states=states, state_label=label,
-                                   caption=cap)
+                                   state_cyclic=True, caption=cap)
     from ..workflows import beam_table_from_design  # coverage
 
     build = beam_table_from_design(design) if build is None else build
