@@ -362,8 +362,8 @@ def worst_beams(rows: list[dict], n: int) -> str:
             continue
         vals.sort(key=lambda t: (-t[0] if high else t[0], t[1]["beam"]))
         lines.append(f"worst {min(n, len(vals))} by {label}:")
-        lines += [f"  beam {r['beam']:>4}  theta {r['theta_deg']:7.2f} deg  phi "
-                  f"{r['phi_deg']:7.2f} deg  {v:z9.4f} {unit}" for v, r in vals[:n]]
+        lines += [f"  beam {r['beam']:>4}  theta {r['theta_deg']:z7.2f} deg  phi "
+                  f"{r['phi_deg']:z7.2f} deg  {v:z9.4f} {unit}" for v, r in vals[:n]]
     return "\n".join(lines)
 
 
@@ -395,7 +395,7 @@ def result_rows(res) -> list[tuple[str, str]]:
             ("taper efficiency", f"{res.taper_efficiency:.4f}"),
             ("peak sidelobe", _fmt_db(res.psl_db)
              + ("" if res.psl_direction is None else
-                f" at theta {res.psl_direction[0]:.2f}, phi {res.psl_direction[1]:.2f} deg")
+                f" at theta {res.psl_direction[0]:z.2f}, phi {res.psl_direction[1]:z.2f} deg")
              + " (dense re-check)")]
     if res.limit_db is not None:
         rows.append(("limit", f"{res.limit_db:.3f} dB; worst excess {res.margin_db:.4f} dB; "
