@@ -214,6 +214,8 @@ font-size:12px;overflow-x:auto}figure{margin:18px 0;text-align:center}
 figure svg{max-width:100%;height:auto}figcaption{font-size:12px;color:#55636e}
 .caution{border-left:5px solid #c99a2e;background:#fbf5e6;padding:8px 12px;font-size:13px}
 ol li,ul li{font-size:13px;margin:3px 0}
+@media print{body{background:#fff}main{padding:0}pre{white-space:pre-wrap}
+figure,tr{break-inside:avoid}}
 """
 
 
