@@ -257,3 +257,15 @@ def test_trade_curve_csv_limit_column_reads_as_asked():
     lines = text.splitlines()[1:]
     assert [ln.split(",")[0] for ln in lines] == ["-9.0", "-15.0", "-16.578947368"]
     assert [float(ln.split(",")[1]) for ln in lines] == [r["psl_db"] for r in rows]
+
+
+def test_pdf_without_chromium_is_one_clear_error(tmp_path, monkeypatch):
+    """Without chromium on the PATH, --pdf fails in one line (exit 2) after the HTML is
+    written; the HTML needs nothing."""
+    monkeypatch.setenv("PATH", str(tmp_path))
+    out = tmp_path / "r.html"
+    res = CliRunner().invoke(main, ["report", str(ROOT / "configs" / "link_line.toml"), "-o",
+                                    str(out), "--pdf", str(tmp_path / "r.pdf")])
+    assert res.exit_code == 2
+    assert "steradian: error: PDF output needs Debian's chromium" in res.output
+    assert out.exists() and not (tmp_path / "r.pdf").exists()
