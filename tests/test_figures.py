@@ -363,3 +363,14 @@ def test_figure_cli_every_kind(tmp_path):
     assert "steradian: error:" in res.output and "[channel]" in res.output
     res = r.invoke(main, ["figure", "--help"])
     assert res.exit_code == 0 and "theta-phi" in res.output
+
+
+def test_coverage_of_horizon_beams_is_drawn_over_theta_phi():
+    """Beams beyond 60 deg from +z (a conformal array's horizon beams) are drawn over
+    (phi, theta), so beams mirrored about the horizon stay apart."""
+    rows = [{"theta_deg": t, "phi_deg": 20.0, "gain_dbi": 15.0 + i, "psl_db": -10.0,
+             "qlobe_db": -30.0} for i, t in enumerate((75.0, 90.0, 105.0))]
+    fig = coverage_figure(rows)
+    np.testing.assert_allclose(fig.axes[0].collections[0].get_offsets(),
+                               [[20.0, 75.0], [20.0, 90.0], [20.0, 105.0]])
+    assert fig.axes[0].get_ylabel() == "theta (deg)"

@@ -118,44 +118,73 @@ _COVERAGE = (("gain_dbi", "peak gain (dBi)", None, "dBi"),
              ("qlobe_db", "quantization lobe (dB)", "max_qlobe_db", "dB"))
 
 
+HORIZON_DEG = 60.0
+"""A coverage with a beam farther than this from +z is drawn over theta and phi (sine space
+crowds beams near the horizon onto its rim and folds the two sides of it together)."""
+
+
+SPAN_DB = 40.0
+"""Colour span of the sidelobe and quantization-lobe panels below their worst beam."""
+
+
+def _coverage_axes(ax, rows, uv: bool):
+    """Beam coordinates and the frame of one coverage panel."""
+    th = np.asarray([r["theta_deg"] for r in rows], float)
+    ph = np.asarray([r["phi_deg"] for r in rows], float)
+    if not uv:
+        ax.set_xlabel("phi (deg)")
+        ax.set_ylabel("theta (deg)")
+        pad = 5.0
+        ax.set_xlim(ph.min() - pad, ph.max() + pad)
+        ax.set_ylim(th.max() + pad, th.min() - pad)
+        return ph, th
+    t = np.linspace(0, 2 * np.pi, 361)
+    ax.plot(np.cos(t), np.sin(t), color="#22303c", lw=1.0)
+    ax.set_aspect("equal")
+    ax.set_xlim(-1.05, 1.05)
+    ax.set_ylim(-1.05, 1.05)
+    ax.set_xlabel("u = sin(theta) cos(phi)")
+    ax.set_ylabel("v = sin(theta) sin(phi)")
+    a, b = np.deg2rad(th), np.deg2rad(ph)
+    return np.sin(a) * np.cos(b), np.sin(a) * np.sin(b)
+
+
 def coverage_figure(rows: Sequence[Mapping], *, requirements: Mapping | None = None,
-                    caption: str | None = None):
-    """A beam table's coverage in sine space: each beam's direction (u, v) coloured by its
-    peak gain, peak sidelobe and quantization-lobe level (the table's own metrics rows,
+                    caption: str | None = None, coords: str = "auto"):
+    """A beam table's coverage: each beam's direction coloured by its peak gain, peak
+    sidelobe and quantization-lobe level (the table's own metrics rows,
     :meth:`steradian.beamtable.BeamMetrics.rows`); beams over a requirement are ringed.
 
-    Panel k's scatter colours are the k-th quantity of the rows, in beam order.
+    ``coords``: ``"uv"`` (sine space), ``"theta_phi"``, or ``"auto"``: sine space unless a
+    beam lies more than :data:`HORIZON_DEG` from +z. Panel k's scatter colours are the k-th
+    quantity of the rows, in beam order.
     """
     reqs = dict(requirements or {})
-    th = np.deg2rad([r["theta_deg"] for r in rows])
-    ph = np.deg2rad([r["phi_deg"] for r in rows])
-    u, v = np.sin(th) * np.cos(ph), np.sin(th) * np.sin(ph)
-    t = np.linspace(0, 2 * np.pi, 361)
+    uv = coords == "uv" or (coords == "auto" and max(r["theta_deg"] for r in rows)
+                            <= HORIZON_DEG)
+    size = float(np.clip(4000.0 / max(len(rows), 1), 20.0, 110.0))
     with styled():
         fig = new_figure(13.0, 5.0)
         for k, (key, label, req, unit) in enumerate(_COVERAGE):
             ax = fig.add_subplot(1, 3, k + 1)
+            x, y = _coverage_axes(ax, rows, uv)
             vals = np.asarray([np.nan if r.get(key) is None else r[key] for r in rows], float)
             ok = np.isfinite(vals)
-            sc = ax.scatter(u[ok], v[ok], c=vals[ok], s=28, edgecolors="#22303c",
-                            linewidths=0.3, cmap=None if key == "gain_dbi" else "cividis")
-            if req in reqs:
-                over = ok & (vals > reqs[req])
-                ax.scatter(u[over], v[over], s=90, facecolors="none", edgecolors="#b03a5b",
-                           lw=1.4, label=f"over requirement {reqs[req]:g} dB "
-                                         f"({int(over.sum())} beams)")
-                ax.legend(loc="lower left", bbox_to_anchor=(0.0, 1.08), frameon=False,
-                          fontsize=7)
-            ax.plot(np.cos(t), np.sin(t), color="#22303c", lw=1.0)
-            ax.set_aspect("equal")
-            ax.set_xlim(-1.05, 1.05)
-            ax.set_ylim(-1.05, 1.05)
-            ax.set_xlabel("u = sin(theta) cos(phi)")
-            ax.set_ylabel("v = sin(theta) sin(phi)")
+            lo = None
+            if ok.any() and key != "gain_dbi":  # a beam without the lobe sits at the floor
+                lo = max(float(np.nanmin(vals)), float(np.nanmax(vals)) - SPAN_DB)
+            sc = ax.scatter(x[ok], y[ok], c=vals[ok], s=size, edgecolors="#22303c",
+                            linewidths=0.3, vmin=lo,
+                            cmap=None if key == "gain_dbi" else "cividis")
             worst = (np.nanmin(vals) if key == "gain_dbi" else np.nanmax(vals)) if ok.any() \
                 else float("nan")
-            ax.set_title(f"{label}\n{'lowest' if key == 'gain_dbi' else 'worst'} "
-                         f"{worst:.2f} {unit}", fontsize=8.5)
+            title = f"{label}\n{'lowest' if key == 'gain_dbi' else 'worst'} {worst:.2f} {unit}"
+            if req in reqs:
+                over = ok & (vals > reqs[req])
+                ax.scatter(x[over], y[over], s=size * 2.2, facecolors="none",
+                           edgecolors="#b03a5b", lw=1.4)
+                title += f"; ringed: {int(over.sum())} over {reqs[req]:g} {unit}"
+            ax.set_title(title, fontsize=8.5)
             fig.colorbar(sc, ax=ax, label=label, shrink=0.8, location="bottom")
         fig.suptitle(title_lines(caption, f"beam-table coverage: {len(rows)} beams"),
                      fontsize=9)
