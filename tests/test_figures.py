@@ -374,3 +374,41 @@ def test_coverage_of_horizon_beams_is_drawn_over_theta_phi():
     np.testing.assert_allclose(fig.axes[0].collections[0].get_offsets(),
                                [[20.0, 75.0], [20.0, 90.0], [20.0, 105.0]])
     assert fig.axes[0].get_ylabel() == "theta (deg)"
+
+
+def test_trade_curve_figure_plots_the_rows():
+    """The trade curve: feasible rows as (PSL, directivity), the knee and the unconstrained
+    level at the curve's numbers, infeasible limits as bands."""
+    from types import SimpleNamespace
+
+    from steradian.plots import trade_curve_figure
+
+    rows = [{"limit_db": -15.0, "psl_db": -15.0, "directivity_dbi": 20.0},
+            {"limit_db": -20.0, "psl_db": -20.01, "directivity_dbi": 19.5},
+            {"limit_db": -40.0, "psl_db": None, "directivity_dbi": None}]
+    curve = SimpleNamespace(rows=rows, knee=rows[1], max_directivity_dbi=20.4)
+    fig = trade_curve_figure(curve)
+    ax = fig.axes[0]
+    x, y = ax.lines[0].get_data()
+    np.testing.assert_array_equal(x, [-15.0, -20.01])
+    np.testing.assert_array_equal(y, [20.0, 19.5])
+    assert ax.lines[1].get_ydata()[0] == 20.4
+    assert list(ax.lines[2].get_data()[0]) == [-20.01]
+    labels = [t.get_text() for t in fig.legends[0].get_texts()]
+    assert "knee: limit -20.0 dB, 19.50 dBi" in labels and "infeasible limit" in labels
+
+
+def test_3d_view_radius_is_level_above_the_floor():
+    """3-D view: radius = level above the floor (peak - range, dB), so the peak sits at
+    radius range_db; the title carries the analysis peak and the floor."""
+    from steradian.plots import pattern_3d_figure
+
+    th = np.array([0.0, 45.0, 90.0])
+    ph = np.array([0.0, 90.0])
+    d = np.array([[10.0, 10.0], [5.0, 4.0], [-40.0, -40.0]])
+    fig = pattern_3d_figure(th, ph, d, peak_dbi=10.0, range_db=30.0)
+    ax = fig.axes[0]
+    assert "peak 10.00 dBi" in ax.get_title() and "-20.0 dBi" in ax.get_title()
+    # the peak at theta 0 has radius 30 dB: the cube holds it with 5 % room on every axis
+    for lim in (ax.get_xlim(), ax.get_ylim(), ax.get_zlim()):
+        assert lim == pytest.approx((-31.5, 31.5))
