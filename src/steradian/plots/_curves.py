@@ -170,11 +170,14 @@ def coverage_figure(rows: Sequence[Mapping], *, requirements: Mapping | None = N
             x, y = _coverage_axes(ax, rows, uv)
             vals = np.asarray([np.nan if r.get(key) is None else r[key] for r in rows], float)
             ok = np.isfinite(vals)
-            lo = None
+            lo = hi = None
             if ok.any() and key != "gain_dbi":  # a beam without the lobe sits at the floor
                 lo = max(float(np.nanmin(vals)), float(np.nanmax(vals)) - SPAN_DB)
+            if ok.any() and np.ptp(vals[ok]) < 1e-6:  # one level: a scale of rounding noise
+                mid = round(float(np.mean(vals[ok])), 6)
+                lo, hi = mid - 0.5, mid + 0.5
             sc = ax.scatter(x[ok], y[ok], c=vals[ok], s=size, edgecolors="#22303c",
-                            linewidths=0.3, vmin=lo,
+                            linewidths=0.3, vmin=lo, vmax=hi,
                             cmap=None if key == "gain_dbi" else "cividis")
             worst = (np.nanmin(vals) if key == "gain_dbi" else np.nanmax(vals)) if ok.any() \
                 else float("nan")
