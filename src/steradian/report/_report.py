@@ -50,6 +50,13 @@ def _svg(fig, salt: str) -> str:
     return text[start:]
 
 
+def _element_text(el: Mapping) -> str:
+    """``cosine_power (q 1.2, exponent_on power)``: the model and its parameters."""
+    el = dict(el)
+    model = str(el.pop("model", "?"))
+    return model + (" (" + ", ".join(f"{k} {v}" for k, v in el.items()) + ")" if el else "")
+
+
 def _job(design, s: Mapping) -> str:
     from ..plots import frequency_text, taper_text
 
@@ -62,7 +69,7 @@ def _job(design, s: Mapping) -> str:
                  f" (design {frequency_text(s['design_frequency_hz'])})")
               + f", wavelength {s['wavelength_m'] * 1e3:.4g} mm"),
              ("elements", f"{s['n_elements']} ({s['n_enabled']} enabled)"),
-             ("element model", ", ".join(f"{k} {v}" for k, v in s["element"].items())),
+             ("element model", _element_text(s["element"])),
              ("beam", scan), ("taper", taper_text(design))]
     rows = "".join(f"<tr><th>{html.escape(k)}</th><td>{html.escape(str(v))}</td></tr>"
                    for k, v in items)
