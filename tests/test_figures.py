@@ -10,6 +10,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 from click.testing import CliRunner
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from steradian.cli import main
 from steradian.directions import unit_vectors_deg
@@ -24,6 +26,7 @@ from steradian.plots import (
     histogram_figure,
     lattice_orders,
     layout_figure,
+    locate_on_cut,
     polar_figure,
     save_figure,
     sphere_map,
@@ -412,3 +415,31 @@ def test_3d_view_radius_is_level_above_the_floor():
     # the peak at theta 0 has radius 30 dB: the cube holds it with 5 % room on every axis
     for lim in (ax.get_xlim(), ax.get_ylim(), ax.get_zlim()):
         assert lim == pytest.approx((-31.5, 31.5))
+
+
+@settings(max_examples=60, deadline=None)
+@given(theta=st.floats(0.5, 179.5), phi=st.floats(-179.0, 179.0),
+       k=st.integers(0, 360))
+def test_locate_on_cut_inverts_the_cut(theta, phi, k):
+    """Invariant: a direction sampled on a great-circle cut is located on it (distance 0) at
+    its own signed angle; rotated off the circle by a known angle, the distance is that
+    angle (spherical geometry of a great circle)."""
+    from steradian.patterns import cut_frame
+    from steradian.samples import Cut
+
+    r0 = unit_vectors_deg(theta, phi)
+    t = cut_frame(r0)[0]
+    a = np.linspace(-180.0, 180.0, 361)
+    dirs = r0[None, :] * np.cos(np.deg2rad(a))[:, None] + t[None, :] * np.sin(
+        np.deg2rad(a))[:, None]
+    from steradian.directions import angles_deg
+
+    th, ph = angles_deg(dirs)
+    c = Cut("c", a, dirs, np.zeros(361), th, ph)
+    ang, off = locate_on_cut(c, th[k], ph[k])
+    assert off == pytest.approx(0.0, abs=1e-6)
+    assert ang == pytest.approx(a[k], abs=1e-6) or abs(abs(ang) - 180.0) < 1e-6
+    n = np.cross(r0, t)
+    d = np.cos(np.deg2rad(3.0)) * dirs[k] + np.sin(np.deg2rad(3.0)) * n
+    t2, p2 = angles_deg(d[None, :])
+    assert locate_on_cut(c, t2[0], p2[0])[1] == pytest.approx(3.0, abs=1e-6)
