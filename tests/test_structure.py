@@ -44,7 +44,7 @@ LAYERS: list[tuple[str, tuple[str, ...]]] = [
     ("synthesis", ("steradian.tapers", "steradian.optimize")),
     ("hardware", ("steradian.quantize", "steradian.beamtable")),
     ("files", ("steradian.io",)),
-    ("face", ("steradian.workflows", "steradian.plots")),
+    ("face", ("steradian.workflows", "steradian.plots", "steradian.report")),
     ("command line", ("steradian.cli",)),
     ("package root", ("steradian",)),
 ]

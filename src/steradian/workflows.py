@@ -69,7 +69,7 @@ __all__ = ["analyze_design", "design_block", "design_with_weights", "export_patt
            "design_metadata", "beam_table_from_design", "verify_weight_file",
            "requirements_of_design", "analysis_verdicts", "beam_verdicts",
            "coupling_spec_of_design", "coupling_of_design", "design_beam_weights",
-           "beam_evaluator_of_design"]
+           "beam_evaluator_of_design", "beam_directions_of_design"]
 
 
 # --------------------------------------------------------------------------------------------
@@ -241,8 +241,10 @@ def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_pn
     cuts_path, uv_path : path-like, optional
         CSV outputs (cuts of :func:`steradian.metrics.principal_cuts`; :func:`uv_map`).
     png_path, uv_png_path : path-like, optional
-        PNG outputs (:func:`steradian.plots.plot_cuts` annotated with both half-power
-        beamwidths and the peak sidelobe level; :func:`steradian.plots.plot_uv`).
+        Figure outputs (PNG, SVG or PDF by suffix): the cuts over the whole great circle
+        (:func:`steradian.plots.cuts_figure`: half-power edges, worst sidelobe wherever it
+        is) and the u-v map (:func:`steradian.plots.plot_uv`), both titled with the
+        analysis peak.
     uv_points : int
         u-v grid points per axis.
     span_deg : float
@@ -292,28 +294,26 @@ def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_pn
         if uv_png_path is not None:
             from .plots import plot_uv
 
-            top = float(np.nanmax(uvm.directivity_dbi))
-            plot_uv(uvm, uv_png_path, title=None if title is None else
-                    f"{title}: directivity over u-v, peak {top:.2f} dBi")
+            plot_uv(uvm, uv_png_path, title=title, peak_dbi=pk.directivity_dbi)
             written.append(str(uv_png_path))
     return {"peak_directivity_dbi": pk.directivity_dbi, "peak_theta_deg": pk.theta_deg,
             "peak_phi_deg": pk.phi_deg, "files": written}
 
 
 def _plot_cuts(array, cuts, path, frequency, pk, title, metrics, beam_kind="sum") -> None:
-    """The principal-cut PNG, annotated with both half-power beamwidths and the PSL."""
-    from .plots import plot_cuts
+    """The cut figure: the whole great circle whatever the CSV span (so the worst sidelobe
+    of a scanned beam is on it), the half-power edges and the worst sidelobe of the
+    metrics, levels relative to the analysis peak."""
+    from .plots import cuts_figure, full_cuts, save_figure
 
     if metrics is None:
         from .metrics import pattern_metrics
 
         metrics = pattern_metrics(array, frequency=frequency, peak=pk,
                                   beam_kind=beam_kind).to_dict()
-    hp = metrics.get("hpbw_deg") or {}
-    plot_cuts(cuts, path, hpbw_deg=[hp.get("phi_plane"), hp.get("cross_plane")],
-              psl_db=metrics.get("psl_db"),
-              title=None if title is None else f"{title}: principal cuts, peak "
-              f"{pk.directivity_dbi:.2f} dBi")
+    cuts = full_cuts(array, pk, metrics, frequency)
+    save_figure(cuts_figure(cuts, metrics=metrics, peak_dbi=pk.directivity_dbi,
+                            caption=title), path)
 
 
 # --------------------------------------------------------------------------------------------
@@ -560,6 +560,12 @@ def _against_synthesis_target(design, build: BeamBuild) -> BeamBuild:
     notes = tuple(build.notes) + (note,)
     build.table.metadata["notes"] = list(notes)
     return replace(build, notes=notes)
+
+
+def beam_directions_of_design(design) -> np.ndarray | None:
+    """The (theta, phi) beam directions in degrees, shape (B, 2), of the design's
+    ``[beams]`` (None when it has none)."""
+    return _design_directions(design)
 
 
 def _design_directions(design) -> np.ndarray | None:

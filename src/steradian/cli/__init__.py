@@ -43,6 +43,8 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "verify": ("steradian.cli.verify", "verify"),
     "synth": ("steradian.cli.synth", "synth"),
     "tradeoff": ("steradian.cli.tradeoff", "tradeoff"),
+    "figure": ("steradian.cli.figure", "figure"),
+    "report": ("steradian.cli.report", "report"),
 }
 
 # One-line help shown by ``steradian --help`` without importing the command modules.
@@ -54,6 +56,8 @@ SHORT_HELP: dict[str, str] = {
     "verify": "Compare a weight file with its design's table; re-evaluate its beams.",
     "synth": "Synthesise optimal weights for a design and write a weights CSV.",
     "tradeoff": "Trade curve: maximum directivity against peak sidelobe level.",
+    "figure": "Draw one figure of a design (cuts, u-v, maps, layout ...) as PNG/SVG/PDF.",
+    "report": "Write a self-contained HTML design report with requirement verdicts.",
 }
 
 

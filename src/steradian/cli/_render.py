@@ -67,7 +67,8 @@ def hz(f: float) -> str:
 
 
 def num(v) -> str:
-    """A number for a table cell (fixed point, or exponent form for very small or large)."""
+    """A number for a table cell: four significant digits in fixed point (a 5.357 mm dipole
+    reads 0.005357, not 0.005), exponent form below 1e-3 and from 1e5; never "-0"."""
     if isinstance(v, bool) or v is None:
         return str(v)
     if isinstance(v, int):
@@ -78,11 +79,14 @@ def num(v) -> str:
         return str(v)
     if not math.isfinite(x):
         return str(x)
-    return f"{x:.4g}" if (x != 0 and (abs(x) < 1e-3 or abs(x) >= 1e5)) else f"{x:.3f}"
+    if x != 0 and (abs(x) < 1e-3 or abs(x) >= 1e5):
+        return f"{x:.4g}"
+    digits = 3 if x == 0 else max(0, 3 - math.floor(math.log10(abs(x))))
+    return f"{x:z.{digits}f}"
 
 
 def _deg(v) -> str:
-    return "n/a" if v is None else f"{v:.3f} deg"
+    return "n/a" if v is None else f"{v:z.3f} deg"
 
 
 # --------------------------------------------------------------------------------------------
@@ -99,8 +103,8 @@ def metric_rows(m: dict) -> list[tuple[str, str]]:
     if m.get("psl_db") is None:
         rows.append(("peak sidelobe", "none found"))
     else:
-        rows.append(("peak sidelobe", f"{m['psl_db']:.2f} dB at theta {m['psl_theta_deg']:.2f}"
-                     f" deg, phi {m['psl_phi_deg']:.2f} deg"))
+        rows.append(("peak sidelobe", f"{m['psl_db']:.2f} dB at theta {m['psl_theta_deg']:z.2f}"
+                     f" deg, phi {m['psl_phi_deg']:z.2f} deg"))
     if m.get("islr_db") is not None:
         rows.append(("integrated SLR", f"{m['islr_db']:.2f} dB (main lobe holds "
                      f"{100 * m['main_lobe_power_fraction']:.1f} % of the power)"))
@@ -112,17 +116,29 @@ def metric_rows(m: dict) -> list[tuple[str, str]]:
     found = m.get("grating_lobes_found") or []
     if found:
         rows.append(("grating lobes found", ", ".join(
-            f"{g['level_db']:.2f} dB at ({g['theta_deg']:.1f}, {g['phi_deg']:.1f}) deg"
+            f"{g['level_db']:.2f} dB at ({g['theta_deg']:z.1f}, {g['phi_deg']:z.1f}) deg"
             for g in found)))
     if m.get("pointing_error_deg") is not None:
         rows.append(("pointing error", f"{m['pointing_error_deg']:.4f} deg"))
     fb = m["front_to_back_db"]
     rows.append(("front-to-back", f"{fb:.2f} dB" if fb < 299.99 else "no radiation behind"))
-    rows.append(("scan loss", f"{m['scan_loss_db']:.3f} dB"))
+    rows.append(("scan loss", _scan_loss(m)))
     rows += difference_rows(m)
     for note in m.get("notes") or []:
         rows.append(("note", str(note)))
     return rows
+
+
+def _scan_loss(m: dict) -> str:
+    """Scan loss as a loss (positive when the steered peak is lower), with the unsteered
+    peak it is measured against; the summary's ``scan_loss_db`` is the change in peak
+    directivity (negative for a loss)."""
+    loss = -m["scan_loss_db"]
+    ref = m.get("unsteered_peak_directivity_dbi")
+    side = "below" if loss >= 0 else "above"
+    tail = "" if ref is None else f" (steered peak {abs(loss):.3f} dB {side} the unsteered " \
+                                  f"{ref:.3f} dBi)"
+    return f"{loss:z.3f} dB{tail}"
 
 
 def difference_rows(m: dict) -> list[tuple[str, str]]:
@@ -156,7 +172,8 @@ def _design_rows(s: dict) -> list[tuple[str, str]]:
                                      if el else "")))
     st = s.get("steering")
     rows.append(("steering", "none (unsteered)" if not st else
-                 f"theta {st['theta_deg']:g} deg, phi {st['phi_deg']:g} deg ({st['mode']})"))
+                 f"theta {st['theta_deg'] + 0.0:g} deg, phi {st['phi_deg'] + 0.0:g} deg "
+                 f"({st['mode']})"))
     return rows
 
 
@@ -196,7 +213,7 @@ def summary_rows(s: dict) -> list[tuple[str, str]]:
     (:func:`steradian.workflows.analyze_design`)."""
     rows = _design_rows(s)
     rows.append(("peak directivity", f"{s['peak_directivity_dbi']:.3f} dBi at theta "
-                 f"{s['peak_theta_deg']:.3f} deg, phi {s['peak_phi_deg']:.3f} deg"))
+                 f"{s['peak_theta_deg']:z.3f} deg, phi {s['peak_phi_deg']:z.3f} deg"))
     rows.append(("gain", f"{s['gain_dbi']:.3f} dBi (radiation efficiency "
                  f"{s['radiation_efficiency']:.3g})"))
     rows.append(("realized gain", f"{s['realized_gain_dbi']:.3f} dBi (mismatch factor "
@@ -213,7 +230,7 @@ def summary_rows(s: dict) -> list[tuple[str, str]]:
         e = s["eirp"]
         rows.append(("EIRP", f"{e['eirp_dbw']:.2f} dBW ({num(e['eirp_w'])} W) from "
                      f"{num(e['total_power_w'])} W input"))
-        rows.append(("caution", s.get("rf_exposure_caution", e.get("caution", ""))))
+        rows.append(("RF exposure", s.get("rf_exposure_caution", e.get("caution", ""))))
     return rows
 
 
@@ -266,7 +283,7 @@ def _power_rows(summary: dict, f, at) -> list[tuple[str, str]]:
                      f"/deg{at('monopulse_slope_per_deg_min')} (difference beams)"))
     if summary.get("eirp_dbw_min") is not None:
         rows.append(("EIRP", f"lowest {f('eirp_dbw_min', '.2f')} dBW{at('eirp_dbw_min')}"))
-        rows.append(("caution", RF_EXPOSURE_CAUTION))
+        rows.append(("RF exposure", RF_EXPOSURE_CAUTION))
     return rows
 
 
@@ -400,8 +417,8 @@ def worst_beams(rows: list[dict], n: int) -> str:
         what = " (difference beams)" if kind == "difference" else (
             " (sum beams)" if kind == "sum" and any(map(_is_difference, rows)) else "")
         lines.append(f"worst {min(n, len(vals))} by {label}{what}:")
-        lines += [f"  beam {r['beam']:>4}  theta {r['theta_deg']:7.2f} deg  phi "
-                  f"{r['phi_deg']:7.2f} deg  {v:z9.4f} {unit}" for v, r in vals[:n]]
+        lines += [f"  beam {r['beam']:>4}  theta {r['theta_deg']:z7.2f} deg  phi "
+                  f"{r['phi_deg']:z7.2f} deg  {v:z9.4f} {unit}" for v, r in vals[:n]]
     return "\n".join(lines)
 
 
@@ -433,7 +450,7 @@ def result_rows(res) -> list[tuple[str, str]]:
             ("taper efficiency", f"{res.taper_efficiency:.4f}"),
             ("peak sidelobe", _fmt_db(res.psl_db)
              + ("" if res.psl_direction is None else
-                f" at theta {res.psl_direction[0]:.2f}, phi {res.psl_direction[1]:.2f} deg")
+                f" at theta {res.psl_direction[0]:z.2f}, phi {res.psl_direction[1]:z.2f} deg")
              + " (dense re-check)")]
     if res.limit_db is not None:
         rows.append(("limit", f"{res.limit_db:.3f} dB; worst excess {res.margin_db:.4f} dB; "

@@ -20,7 +20,8 @@ _file = click.Path(dir_okay=False, path_type=Path)
 @click.option("--uv-points", type=click.IntRange(3, 2001), default=201, show_default=True,
               help="u-v grid points per axis.")
 @click.option("--png", "png_path", type=_file, metavar="FILE.png",
-              help="Plot the principal cuts (HPBW and peak sidelobe annotated).")
+              help="Plot the principal cuts over the whole circle, whatever --span (HPBW and "
+                   "the worst sidelobe annotated; PNG, SVG or PDF by suffix).")
 @click.option("--uv-png", "uv_png_path", type=_file, metavar="FILE.png",
               help="Plot the u-v directivity map.")
 @click.option("--span", "span_deg", type=click.FloatRange(0, 180, min_open=True), default=90.0,
@@ -50,5 +51,5 @@ def pattern(design_file, cuts_path, uv_path, uv_points, png_path, uv_png_path, s
         emit_json(res)
     else:
         click.echo(f"peak {res['peak_directivity_dbi']:.3f} dBi at theta "
-                   f"{res['peak_theta_deg']:.3f} deg, phi {res['peak_phi_deg']:.3f} deg")
+                   f"{res['peak_theta_deg']:z.3f} deg, phi {res['peak_phi_deg']:z.3f} deg")
         echo_written(res["files"])

@@ -29,8 +29,9 @@ Columns:
     amplitude 0, amplitude_db -inf, phase 0. Layout 1 files (no such column) are still read,
     with every element on.
 ``amplitude``, ``amplitude_db``, ``phase_deg``
-    The commanded channel state in the form people read (linear, 20 log10, degrees). They
-    must agree with the state columns: edit the codes, these are for reading.
+    The commanded channel state in the form people read (linear, 20 log10, degrees), rounded
+    to 10, 8 and 8 decimals (no float noise). They must agree with the state columns: edit
+    the codes, these are for reading.
 ``phase_code``, ``amplitude_code`` (encoding ``codes``) or ``i_q15``, ``q_q15`` (``iq``)
     The hardware states: codes, or I/Q integers in Q1.15 (value = integer / 32768).
 
@@ -88,6 +89,13 @@ def _reading(c):
     return amp, db20(amp, floor=None), np.angle(c, deg=True)
 
 
+def _shown(x, decimals: int) -> str:
+    """A reading column's value for people: rounded to ``decimals`` places (1e3 times finer
+    than the reader's agreement check), so float noise such as -157.50000000000003 reads
+    -157.5; the state columns hold the exact values."""
+    return repr(round(float(x), decimals) + 0.0)
+
+
 def write_beams_csv(path, table: BeamTable, encoding=None) -> None:
     """Write ``table`` as CSV (atomically), in ``encoding`` ("codes" or "iq"; default the
     table's own)."""
@@ -120,7 +128,7 @@ def write_beams_csv(path, table: BeamTable, encoding=None) -> None:
             f = [head_b, str(n)]
             if with_pos:
                 f += pos[n]
-            f += [off[n], r(float(amp[b, n])), r(float(db[b, n])), r(float(ph[b, n])),
+            f += [off[n], _shown(amp[b, n], 10), _shown(db[b, n], 8), _shown(ph[b, n], 8),
                   str(int(cb[n, 0])), str(int(cb[n, 1]))]
             lines.append(",".join(f))
     write_text(path, "\n".join(lines) + "\n")

@@ -22,10 +22,16 @@ def _cell(v) -> str:
 
 def trade_curve_csv(curve) -> str:
     """The CSV text: a header of ``curve.columns``, then one line per level (empty cells for
-    the values of infeasible levels; commas inside a status become semicolons)."""
+    the values of infeasible levels; commas inside a status become semicolons).
+
+    ``limit_db``, the level asked for, is written rounded to 9 decimals (a person reads
+    -9.0, not the -9.000000000000002 of evenly spaced levels); measured columns keep full
+    precision (shortest round-trip form)."""
     out = [",".join(curve.columns)]
     for r in curve.rows:
-        out.append(",".join(_cell(r[c]) for c in curve.columns))
+        out.append(",".join(_cell(round(r[c], 9) + 0.0 if c == "limit_db"
+                                  and isinstance(r[c], float) else r[c])
+                            for c in curve.columns))
     return "\n".join(out) + "\n"
 
 

@@ -1,0 +1,116 @@
+"""Pattern samples of a design's figures, taken with the analysis's own peak and radiated
+power (so every number a figure prints is the analysis's number), and the design caption.
+:func:`steradian.report.design_figure` draws them."""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+
+import numpy as np
+
+from ..samples import Cut
+
+__all__ = ["design_caption", "taper_text", "summary_peak",
+           "full_cuts", "sphere_map", "MAP_STEP_DEG"]
+
+MAP_STEP_DEG = 1.0
+"""Grid step of the theta-phi, az-el and 3-D maps (degrees)."""
+
+
+def taper_text(design) -> str:
+    """The taper in a few words: the ``[taper]`` kind and its keys, or the weights file."""
+    if design.taper_file is not None:
+        return f"taper from {design.taper_file.name}"
+    if design.source is None:
+        return "uniform taper" if design.array.taper is None else "taper given in Python"
+    from ..io.design import read_toml
+
+    try:
+        raw = read_toml(design.source).get("taper") or {}
+    except (OSError, ValueError):
+        return "taper of the design file"
+    if not raw:
+        return "uniform taper"
+    kind = raw.get("kind", "uniform")
+    keys = ", ".join(f"{k} {v:g}" if isinstance(v, float) else f"{k} {v}"
+                     for k, v in raw.items() if k != "kind")
+    return f"{kind} taper" + (f" ({keys})" if keys else "")
+
+
+def design_caption(design, summary: Mapping) -> str:
+    """The first title line of every figure of a design: name, frequency, scan, taper."""
+    from ._style import frequency_text
+
+    st = summary.get("steering")
+    scan = ("unsteered" if not st else
+            f"scan theta {st['theta_deg']:g}, phi {st['phi_deg']:g} deg ({st['mode']})")
+    return (f"{design.name}: {frequency_text(summary['frequency_hz'])}, {scan}, "
+            f"{taper_text(design)}")
+
+
+def summary_peak(summary: Mapping):
+    """The analysis's :class:`~steradian.radiation.Peak` (directivity, direction, radiated
+    power) rebuilt from its summary, to normalise pattern samples exactly as it did."""
+    from ..radiation import Peak, RadiatedPower
+
+    rp = summary["radiated_power"]
+    power = RadiatedPower(float(rp["value"]), float(rp["relative_error_estimate"]),
+                          rp["method"], int(rp.get("n_theta") or 0), int(rp.get("n_phi") or 0))
+    return Peak(float(summary["peak_directivity"]), float(summary["peak_theta_deg"]),
+                float(summary["peak_phi_deg"]), power)
+
+
+def full_cuts(array, peak, metrics: Mapping | None = None, frequency: float | None = None,
+              n: int = 1441) -> list[Cut]:
+    """The two principal cuts over the whole great circle (span 180 deg) and, when the
+    worst sidelobe of ``metrics`` (the analysis ``metrics`` block) lies on neither, the cut
+    through the beam axis and it (``"sidelobe_plane"``). ``peak``: the analysis's
+    :class:`~steradian.radiation.Peak` (:func:`summary_peak`), whose radiated power
+    normalises every sample."""
+    from ..directions import angles_deg, unit_vectors_deg
+    from ..metrics import principal_cuts
+    from ..patterns import directivity_dbi, intensity
+    from ._cuts import ON_CUT_DEG, locate_on_cut
+
+    f = frequency
+    pk = peak
+    cuts = principal_cuts(array, frequency=f, peak=pk, n=n, span_deg=180.0)
+    m = metrics or {}
+    if m.get("psl_theta_deg") is None:
+        return cuts
+    if min(locate_on_cut(c, m["psl_theta_deg"], m["psl_phi_deg"])[1] for c in cuts) \
+            <= ON_CUT_DEG:
+        return cuts
+    r0 = cuts[0].directions[int(np.argmin(np.abs(cuts[0].angle_deg)))]
+    d = unit_vectors_deg(m["psl_theta_deg"], m["psl_phi_deg"])
+    t = d - (d @ r0) * r0
+    t /= np.linalg.norm(t)
+    a = np.deg2rad(cuts[0].angle_deg)[:, None]
+    dirs = r0[None, :] * np.cos(a) + t[None, :] * np.sin(a)
+    dirs /= np.linalg.norm(dirs, axis=1, keepdims=True)
+    th, ph = angles_deg(dirs)
+    db = directivity_dbi(intensity(array, dirs, f), pk.power.value)
+    return [*cuts, Cut("sidelobe_plane", cuts[0].angle_deg.copy(), dirs, db, th, ph)]
+
+
+def sphere_map(array, summary: Mapping, kind: str = "theta_phi",
+               step_deg: float = MAP_STEP_DEG):
+    """(columns, rows, directivity dBi) over the whole sphere: phi x theta, or azimuth x
+    elevation, at ``step_deg``, normalised by the analysis's radiated power."""
+    from ..directions import az_el_to_theta_phi, unit_vectors_deg
+    from ..patterns import directivity_dbi, intensity
+
+    f = summary["frequency_hz"]
+    pk = summary_peak(summary)
+    if kind == "theta_phi":
+        a = np.arange(-180.0, 180.0 + step_deg / 2, step_deg)
+        b = np.arange(0.0, 180.0 + step_deg / 2, step_deg)
+        bb, aa = np.meshgrid(b, a, indexing="ij")
+        vec = unit_vectors_deg(bb, aa)
+    else:
+        a = np.arange(-180.0, 180.0 + step_deg / 2, step_deg)
+        b = np.arange(-90.0, 90.0 + step_deg / 2, step_deg)
+        bb, aa = np.meshgrid(b, a, indexing="ij")
+        th, ph = az_el_to_theta_phi(aa, bb)
+        vec = unit_vectors_deg(th, ph)
+    return a, b, directivity_dbi(intensity(array, vec, f), pk.power.value)
