@@ -419,3 +419,16 @@ def test_sidelobe_phase_reference_removes_the_split_beam():
     assert np.all(loss[np.arange(4), used.argmin(axis=1)] <= 0.1)
     again = build_beam_table(arr, ch, d, evaluator=ev, evaluate=False)
     assert np.array_equal(again.quantized.phase_codes, res.quantized.phase_codes)
+
+
+def test_beam_grid_values_are_the_grid_decimals():
+    """{start, stop, step} beam axes give the decimals the designer wrote (0 + 3 x 5 is
+    15.0, not 15.000000000000002), so weight files carry clean commanded directions; the
+    count still includes the stop to 1e-9 of a step."""
+    from steradian.beamtable import span
+
+    assert span(0, 60, 5).tolist() == [5.0 * k for k in range(13)]
+    v = span(-30, 30, 0.1)
+    assert len(v) == 601 and v[1] == -29.9 and v[-1] == 30.0
+    assert all(len(repr(float(x)).split(".")[1]) == 1 for x in v)  # one decimal each
+    assert span(0, 2, 0.25).tolist() == [0.25 * k for k in range(9)]

@@ -19,7 +19,10 @@ from ..validate import positive
 def span(start: float, stop: float, step: float) -> np.ndarray:
     """Values start, start + step, ... up to stop inclusive (to 1e-9 of a step).
 
-    A span over the memory budget (16 bytes per value) is refused before it is built.
+    Each value is rounded to 1e-9 of the step from the start (so 0 + 3 x 3 is 9.0, not
+    9.000000000000002: the commanded directions in the weight files are the grid's own
+    decimals). A span over the memory budget (16 bytes per value) is refused before it is
+    built.
     """
     step = positive("step", step)
     if stop < start:
@@ -29,7 +32,12 @@ def span(start: float, stop: float, step: float) -> np.ndarray:
     many = f"{n:,}" if n < 2**62 else f"more than {2**62:.1e}"
     require(16 * n, f"a span of {many} values ({start:g} to {stop:g} in steps of {step:g})",
             "use a larger step")
-    return start + step * np.arange(n)
+    v = start + step * np.arange(n)
+    d = int(min(max(9 - math.floor(math.log10(step)), 0), 15))  # a billionth of the step
+    scale = 10.0**d
+    if np.max(np.abs(v)) * scale >= 2**52:  # too many digits to round exactly: keep
+        return v
+    return np.rint(v * scale) / scale
 
 
 BEAMS_KEYS = ("grid", "theta_deg", "phi_deg", "az_deg", "el_deg", "file", "directions",
