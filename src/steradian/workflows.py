@@ -69,7 +69,7 @@ __all__ = ["analyze_design", "design_block", "design_with_weights", "export_patt
            "design_metadata", "beam_table_from_design", "verify_weight_file",
            "requirements_of_design", "analysis_verdicts", "beam_verdicts",
            "coupling_spec_of_design", "coupling_of_design", "design_beam_weights",
-           "beam_evaluator_of_design", "beam_directions_of_design"]
+           "beam_evaluator_of_design", "beam_directions_of_design", "figure_title"]
 
 
 # --------------------------------------------------------------------------------------------
@@ -228,6 +228,18 @@ def design_with_weights(design, path):
 # --------------------------------------------------------------------------------------------
 # Pattern export
 # --------------------------------------------------------------------------------------------
+def figure_title(design, frequency: float | None = None) -> str:
+    """The first title line of a design's figures (name, frequency, scan, taper; as
+    :func:`steradian.plots.design_caption`), from the design alone."""
+    from .plots import design_caption
+
+    st = design.array.steering
+    return design_caption(design, {
+        "frequency_hz": design.array.frequency if frequency is None else frequency,
+        "steering": None if st is None else {"theta_deg": st.theta_deg,
+                                             "phi_deg": st.phi_deg, "mode": st.mode}})
+
+
 def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_png_path=None,
                     uv_points: int = 201, span_deg: float = 90.0,
                     frequency: float | None = None, meta: dict | None = None,
@@ -292,9 +304,15 @@ def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_pn
             write_uv(uv_path, uvm, m)
             written.append(str(uv_path))
         if uv_png_path is not None:
-            from .plots import plot_uv
+            from .plots import save_figure, uv_figure
 
-            plot_uv(uvm, uv_png_path, title=title, peak_dbi=pk.directivity_dbi)
+            if metrics is None:
+                from .metrics import pattern_metrics
+
+                metrics = pattern_metrics(array, frequency=frequency, peak=pk,
+                                          beam_kind=beam_kind).to_dict()
+            save_figure(uv_figure(uvm, peak_dbi=pk.directivity_dbi, metrics=metrics,
+                                  caption=title), uv_png_path)
             written.append(str(uv_png_path))
     return {"peak_directivity_dbi": pk.directivity_dbi, "peak_theta_deg": pk.theta_deg,
             "peak_phi_deg": pk.phi_deg, "files": written}

@@ -17,7 +17,7 @@ def demo(out_dir):
     OUT/<name>_summary.json.
     """
     from ..io.design import demo_design
-    from ..workflows import analyze_design, export_patterns
+    from ..workflows import analyze_design, export_patterns, figure_title
     from ._render import echo_written, format_summary, write_json
 
     out_dir.mkdir(parents=True, exist_ok=True)  # --out names a folder: created (README)
@@ -26,7 +26,7 @@ def demo(out_dir):
     click.echo(format_summary(summary))
     files = export_patterns(design.array, png_path=out_dir / f"{design.name}_cuts.png",
                             uv_png_path=out_dir / f"{design.name}_uv.png",
-                            title=design.name, metrics=summary.get("metrics"))["files"]
+                            title=figure_title(design), metrics=summary.get("metrics"))["files"]
     summary_path = out_dir / f"{design.name}_summary.json"
     write_json(summary_path, summary)
     echo_written([*files, str(summary_path)])

@@ -38,7 +38,7 @@ def pattern(design_file, cuts_path, uv_path, uv_points, png_path, uv_png_path, s
     if not any((cuts_path, uv_path, png_path, uv_png_path)):
         raise click.UsageError("give at least one output: --cuts, --uv, --png or --uv-png")
     from ..io.design import load_design
-    from ..workflows import export_patterns
+    from ..workflows import export_patterns, figure_title
     from ._render import echo_written, emit_json
 
     design = load_design(design_file)
@@ -46,7 +46,7 @@ def pattern(design_file, cuts_path, uv_path, uv_points, png_path, uv_png_path, s
     res = export_patterns(design.array, cuts_path=cuts_path, uv_path=uv_path,
                           png_path=png_path, uv_png_path=uv_png_path, uv_points=uv_points,
                           span_deg=span_deg, frequency=f, meta={"design": design.name},
-                          title=design.name, beam_kind=design.options.beam_kind)
+                          title=figure_title(design, f), beam_kind=design.options.beam_kind)
     if as_json:
         emit_json(res)
     else:

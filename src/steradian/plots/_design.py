@@ -17,6 +17,15 @@ MAP_STEP_DEG = 1.0
 """Grid step of the theta-phi, az-el and 3-D maps (degrees)."""
 
 
+def _spec_text(spec) -> str:
+    """A taper table in words: ``taylor (nbar 5, sll 30)``; nested tables the same way."""
+    if not isinstance(spec, Mapping):
+        return f"{spec:g}" if isinstance(spec, float) else str(spec)
+    kind = spec.get("kind", "uniform")
+    keys = ", ".join(f"{k} {_spec_text(v)}" for k, v in spec.items() if k != "kind")
+    return f"{kind}" + (f" ({keys})" if keys else "")
+
+
 def taper_text(design) -> str:
     """The taper in a few words: the ``[taper]`` kind and its keys, or the weights file."""
     if design.taper_file is not None:
@@ -31,10 +40,9 @@ def taper_text(design) -> str:
         return "taper of the design file"
     if not raw:
         return "uniform taper"
-    kind = raw.get("kind", "uniform")
-    keys = ", ".join(f"{k} {v:g}" if isinstance(v, float) else f"{k} {v}"
-                     for k, v in raw.items() if k != "kind")
-    return f"{kind} taper" + (f" ({keys})" if keys else "")
+    text = _spec_text(raw)
+    head, _, rest = text.partition(" ")
+    return f"{head} taper" + (f" {rest}" if rest else "")
 
 
 def design_caption(design, summary: Mapping) -> str:

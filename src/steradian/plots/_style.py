@@ -110,9 +110,23 @@ def frequency_text(f: float) -> str:
     return f"{f:.4g} Hz"
 
 
-def title_lines(caption: str | None, what: str) -> str:
-    """A two-line title: the design caption (name, frequency, scan, taper), then ``what``."""
-    return what if not caption else f"{caption}\n{what}"
+TITLE_WIDTH = 78
+"""Characters per title line: a longer design caption wraps at a comma."""
+
+
+def title_lines(caption: str | None, what: str, width: int = TITLE_WIDTH) -> str:
+    """The title: the design caption (name, frequency, scan, taper; wrapped after a comma
+    when longer than ``width`` characters), then ``what``."""
+    if not caption:
+        return what
+    lines, line = [], ""
+    for part in caption.split(", "):
+        if line and len(line) + 2 + len(part) > width:
+            lines.append(line + ",")
+            line = part
+        else:
+            line = f"{line}, {part}" if line else part
+    return "\n".join([*lines, line, what])
 
 
 def place_legend(ax, **kw):
