@@ -42,8 +42,9 @@ LAYERS: list[tuple[str, tuple[str, ...]]] = [
     ("analysis", ("steradian.analysis", "steradian.requirements")),
     ("synthesis", ("steradian.tapers", "steradian.optimize")),
     ("hardware", ("steradian.quantize", "steradian.beamtable")),
+    ("studies", ("steradian.studies",)),
     ("files", ("steradian.io",)),
-    ("face", ("steradian.workflows", "steradian.plots")),
+    ("face", ("steradian.workflows", "steradian.plots", "steradian.studyrun")),
     ("command line", ("steradian.cli",)),
     ("package root", ("steradian",)),
 ]
