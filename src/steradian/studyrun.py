@@ -48,6 +48,7 @@ from .studies import (
 )
 
 __all__ = ["BACKENDS", "StudyRun", "run_tolerance", "run_sweep", "load_design_dict",
+           "tolerance_of_file", "sweep_of_file", "sweep_summary",
            "point_design", "replay_trial", "tolerance_study_of", "study_of_design_dict"]
 
 BACKENDS = ("local", "dask")
@@ -374,3 +375,47 @@ def sweep_summary(rows, spec: SweepSpec) -> dict:
     out["first_grating_lobe"] = None if first is None else {
         a.label: first[a.label] for a in spec.axes} | {"point": first["point"]}
     return out
+
+
+# ---------------------------------------------------------------------------------------
+# From a design file (the command line's recipes)
+# ---------------------------------------------------------------------------------------
+def _output(given, from_table, path: Path, what: str) -> Path:
+    if given is not None:
+        return Path(given)
+    if from_table is not None:
+        p = Path(from_table).expanduser()
+        return p if p.is_absolute() else path.resolve().parent / p
+    return Path(f"{path.stem}_{what}.csv")
+
+
+def tolerance_of_file(path, *, output=None, resume: bool = True, overrides=None,
+                      **opts) -> tuple[StudyRun, ToleranceSpec]:
+    """Tolerance run of a design file: ``[tolerance]`` with ``overrides`` (keys of
+    :data:`~steradian.studies.TOLERANCE_KEYS`); rows to ``output`` (default: the table's
+    ``output`` beside the design, else ``<design>_tolerance.csv`` here)."""
+    from .studies import tolerance_from_table
+
+    doc, path = load_design_dict(path)
+    design = design_from_dict(doc, path)
+    spec = tolerance_from_table(design.sections.get("tolerance"), str(path),
+                                **(overrides or {}))
+    out = _output(output, spec.output, path, "tolerance")
+    return run_tolerance(doc, spec, out, source=path, resume=resume, **opts), spec
+
+
+def sweep_of_file(path, *, axes=None, metrics=None, output=None, resume: bool = True,
+                  **opts) -> tuple[StudyRun, SweepSpec]:
+    """Sweep of a design file: ``[sweep]``, its axes replaced by ``axes`` (from
+    :func:`~steradian.studies.parse_axis`) and its metric set by ``metrics`` when given."""
+    from dataclasses import replace
+
+    from .studies import sweep_from_table
+
+    doc, path = load_design_dict(path)
+    design = design_from_dict(doc, path)
+    spec = sweep_from_table(design.sections.get("sweep"), str(path), axes=axes or None)
+    if metrics is not None:
+        spec = replace(spec, metrics=metrics)
+    out = _output(output, spec.output, path, "sweep")
+    return run_sweep(doc, spec, out, source=path, resume=resume, **opts), spec

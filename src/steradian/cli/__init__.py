@@ -43,6 +43,8 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "verify": ("steradian.cli.verify", "verify"),
     "synth": ("steradian.cli.synth", "synth"),
     "tradeoff": ("steradian.cli.tradeoff", "tradeoff"),
+    "sweep": ("steradian.cli.sweep", "sweep"),
+    "tolerance": ("steradian.cli.tolerance", "tolerance"),
 }
 
 # One-line help shown by ``steradian --help`` without importing the command modules.
@@ -54,6 +56,8 @@ SHORT_HELP: dict[str, str] = {
     "verify": "Compare a weight file with its design's table; re-evaluate its beams.",
     "synth": "Synthesise optimal weights for a design and write a weights CSV.",
     "tradeoff": "Trade curve: maximum directivity against peak sidelobe level.",
+    "sweep": "Sweep a design over one or two parameters and tabulate its metrics.",
+    "tolerance": "Monte Carlo tolerance run: random errors, failures, quantization.",
 }
 
 

@@ -148,8 +148,10 @@ def evaluate_points(arrays, frequencies, mode: str = "full", *,
     """Metric rows (:func:`sweep_fields`) of sweep points ``arrays`` evaluated at
     ``frequencies`` (None: the design frequency), in the given order.
 
-    In ``"beam"`` mode the points must share one :func:`evaluation_key` (a batch from
-    :func:`group_points`); ``"full"`` evaluates each point alone.
+    In ``"beam"`` mode points with the same :func:`evaluation_key` are evaluated together
+    (the results of a point depend on the batch it is in, in the last bits: callers that
+    need reproducible rows pass fixed batches, as :func:`group_points` makes them);
+    ``"full"`` evaluates each point alone.
     """
     fields = sweep_fields(mode)
     arrays, frequencies = list(arrays), list(frequencies)
@@ -158,11 +160,13 @@ def evaluate_points(arrays, frequencies, mode: str = "full", *,
     if mode == "full":
         rows = [_full_row(a, f, efficiency) for a, f in zip(arrays, frequencies, strict=True)]
     else:
-        keys = {evaluation_key(a, f) for a, f in zip(arrays, frequencies, strict=True)}
-        if len(keys) > 1:
-            raise SteradianError("points of one beam-mode batch must share positions, "
-                                 "element, enable mask and frequency")
-        rows = _beam_rows(arrays, frequencies, efficiency)
+        keys = [evaluation_key(a, f) for a, f in zip(arrays, frequencies, strict=True)]
+        rows = [None] * len(arrays)
+        for group in group_points(keys, len(arrays)):
+            for i, r in zip(group, _beam_rows([arrays[i] for i in group],
+                                              [frequencies[i] for i in group], efficiency),
+                            strict=True):
+                rows[i] = r
     return [{k: _plain(r[k]) for k in fields} for r in rows]
 
 

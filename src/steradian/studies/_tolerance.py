@@ -26,7 +26,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..analysis import AnalysisOptions, analyze
-from ..array import Array
+from ..array import Array, direction, steering_phases
 from ..beamtable import BeamEvaluator
 from ..directions import Directions, angle_between_deg, fibonacci_directions
 from ..elements import Isotropic
@@ -214,8 +214,7 @@ class ToleranceStudy:
 
     # ---- set-up ------------------------------------------------------------------------
     def _reference_nominal(self) -> _Nominal:
-        a = self.bare.with_taper(self.ideal)
-        res = analyze(a, AnalysisOptions(metrics=True))
+        res = analyze(self.array, AnalysisOptions(metrics=True))
         m = res.metrics
         fn = [p.fnbw_deg for p in m.planes if p.fnbw_deg is not None]
         excl = math.radians(max(fn) / 2) if fn else 2 * math.pi / max(
@@ -305,8 +304,6 @@ class ToleranceStudy:
 
     def _pointing(self, th, ph, ev=None) -> np.ndarray:
         """Angle (deg) of peaks from the commanded direction (cone angle for a line)."""
-        from ..array import direction
-
         peaks = np.array([direction(t, p) for t, p in zip(th, ph, strict=True)]).reshape(-1, 3)
         s = direction(*self.direction)
         if self._axis is not None:
@@ -319,14 +316,18 @@ class ToleranceStudy:
         return angle_between_deg(peaks, s[None, :])
 
     def trial_array(self, index: int) -> Array:
-        """Trial ``index`` as an unsteered :class:`Array` carrying its realised weights (and
-        its displaced positions when the model has position errors)."""
+        """Trial ``index`` as an :class:`Array` whose weights are the trial's realised weights
+        (steered as the design, the phase shifters set for the nominal positions; displaced
+        positions when the model has position errors)."""
         e = self.errors(index)
         w = apply_errors(self.nominal, e, self.model.failure_mode)
-        a = self.bare
+        a = self.array
         if self.model.position_mm > 0:
             g = a.geometry
             a = replace(a, geometry=Geometry(g.positions + e.offsets, g.orientations))
+        st = a.steering
+        if st is not None:  # the taper that, steered, gives w (sum-beam checks need it)
+            w = w / steering_phases(a.positions, st.unit, a.k())
         return a.with_taper(w)
 
     def evaluate_reference(self, indices) -> list[dict]:
