@@ -174,6 +174,12 @@ def test_tolerance_and_sweep_commands(design, tmp_path):
                              "--workers", "1", "-o", str(out)])
     assert r.exit_code == 0 and "0 trials computed now" in r.output
     assert "peak sidelobe (dB)" in r.output
+    assert "trial/s" not in r.output and "%|" not in r.output  # no progress bar off a tty
+    worst = s["psl_db"]["worst"]
+    r = runner.invoke(main, ["tolerance", str(design), "--replay", str(worst["trial"]),
+                             "--json"])
+    assert r.exit_code == 0, r.output
+    assert json.loads(r.output)["psl_db"] == pytest.approx(worst["value"], abs=0.02)
     r = runner.invoke(main, ["sweep", str(design), "--workers", "1", "-o",
                              str(tmp_path / "s.csv"), "--json"])
     assert r.exit_code == 0, r.output

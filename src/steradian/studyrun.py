@@ -31,6 +31,7 @@ from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from dataclasses import dataclass
 from pathlib import Path
 
+from .budget import require
 from .errors import DesignError, SteradianError
 from .io.design import design_from_dict, read_toml
 from .io.study_files import open_results, read_results
@@ -48,10 +49,18 @@ from .studies import (
 )
 
 __all__ = ["BACKENDS", "StudyRun", "run_tolerance", "run_sweep", "load_design_dict",
-           "tolerance_of_file", "sweep_of_file", "sweep_summary",
+           "tolerance_of_file", "sweep_of_file", "sweep_summary", "replay_of_file",
            "point_design", "replay_trial", "tolerance_study_of", "study_of_design_dict"]
 
 BACKENDS = ("local", "dask")
+
+ROW_BYTES = 1100
+"""Memory per result row held by a run: a row of ten numbers is about 520 bytes as a Python
+dict (measured with tracemalloc), kept twice (written rows and the file read back)."""
+
+POINT_BYTES = 4096
+"""Memory per sweep point's array besides 64 bytes per element (positions, taper, weights
+and the Array object; estimated from their sizes)."""
 
 
 @dataclass(frozen=True)
@@ -172,8 +181,11 @@ def _workers(workers) -> int:
 
 def _local(job, tasks, workers: int) -> Iterator[list]:
     if workers == 1 or len(tasks) <= 1:
-        for t in tasks:
-            yield _execute(job, t)
+        try:
+            for t in tasks:
+                yield _execute(job, t)
+        finally:
+            _BUILT.clear()  # the evaluator of a large array is not kept past the run
         return
     import multiprocessing as mp
 
@@ -288,6 +300,8 @@ def run_tolerance(doc: dict, spec: ToleranceSpec, output, *, source=None, resume
     ``opts``: ``backend`` ("local" or "dask"), ``workers``, ``scheduler`` (Dask address),
     ``progress`` (None: when standard error is a terminal).
     """
+    require(ROW_BYTES * spec.trials, f"a tolerance run of {spec.trials:,} trials",
+            "run fewer trials")
     design = design_from_dict(doc, source)
     channel = _channel(design) if spec.quantize else None
     describe = {"kind": "tolerance", "design": _digest(doc), **spec.describe()}
@@ -318,6 +332,10 @@ def replay_trial(doc: dict, spec: ToleranceSpec, index: int, *, source=None) -> 
 # ---------------------------------------------------------------------------------------
 def study_of_design_dict(doc: dict, spec: SweepSpec, source=None):
     """Every sweep point's array and evaluation frequency, and the task batches."""
+    n = design_from_dict(doc, source).array.n
+    require((POINT_BYTES + 64 * n + 2 * ROW_BYTES) * spec.n_points,
+            f"a sweep of {spec.n_points:,} points of {n:,} elements",
+            "sweep fewer points (or split the sweep)")
     arrays, freqs = [], []
     eff = None
     for i in range(spec.n_points):
@@ -419,3 +437,17 @@ def sweep_of_file(path, *, axes=None, metrics=None, output=None, resume: bool = 
         spec = replace(spec, metrics=metrics)
     out = _output(output, spec.output, path, "sweep")
     return run_sweep(doc, spec, out, source=path, resume=resume, **opts), spec
+
+
+def replay_of_file(path, index: int, *, overrides=None) -> dict:
+    """Trial ``index`` of a design file's tolerance run (``[tolerance]`` with
+    ``overrides``), recomputed alone on the plain path: replays a worst trial."""
+    from .studies import tolerance_from_table
+
+    doc, path = load_design_dict(path)
+    design = design_from_dict(doc, path)
+    spec = tolerance_from_table(design.sections.get("tolerance"), str(path),
+                                **(overrides or {}))
+    if not 0 <= index < spec.trials:
+        raise SteradianError(f"--replay {index}: the run has trials 0 .. {spec.trials - 1}")
+    return replay_trial(doc, spec, index, source=path) | {"seed": spec.seed}

@@ -28,7 +28,7 @@ import numpy as np
 from ..analysis import AnalysisOptions, analyze
 from ..array import Array, direction, steering_phases
 from ..beamtable import BeamEvaluator
-from ..directions import Directions, angle_between_deg, fibonacci_directions
+from ..directions import Directions, fibonacci_directions
 from ..elements import Isotropic
 from ..engine import response_matrix
 from ..errors import SteradianError
@@ -297,23 +297,10 @@ class ToleranceStudy:
         if self._avg_A is None:
             self._avg_A = response_matrix(self.bare, Directions.from_vectors(self._avg_dirs))
         avg = self._avg_sll(self._avg_A, W, ipk)
-        pe = self._pointing(m.peak_theta_deg, m.peak_phi_deg, ev)
+        pe = m.pointing_error_deg
         return [self._row(i, e, m.directivity_dbi[b], m.psl_db[b], avg[b], pe[b],
                           m.peak_theta_deg[b], m.peak_phi_deg[b])
                 for b, (i, e) in enumerate(zip(idx, errs, strict=True))]
-
-    def _pointing(self, th, ph, ev=None) -> np.ndarray:
-        """Angle (deg) of peaks from the commanded direction (cone angle for a line)."""
-        peaks = np.array([direction(t, p) for t, p in zip(th, ph, strict=True)]).reshape(-1, 3)
-        s = direction(*self.direction)
-        if self._axis is not None:
-            a = self._axis[None, :]
-            return np.abs(angle_between_deg(peaks, a) - angle_between_deg(s[None, :], a))
-        if self.bare.geometry.is_planar and isinstance(self.bare.element, Isotropic):
-            peaks[:, 2] = np.abs(peaks[:, 2])
-            s = s.copy()
-            s[2] = abs(s[2])
-        return angle_between_deg(peaks, s[None, :])
 
     def trial_array(self, index: int) -> Array:
         """Trial ``index`` as an :class:`Array` whose weights are the trial's realised weights
@@ -345,7 +332,8 @@ class ToleranceStudy:
             ipk = pk.directivity * pk.power.value / (4 * np.pi)
             A = response_matrix(a, Directions.from_vectors(self._avg_dirs))
             avg = self._avg_sll(A, a.weights()[None, :], np.array([ipk]))[0]
-            pe = self._pointing([pk.theta_deg], [pk.phi_deg])[0]
+            pe = self.evaluator.pointing_error_deg(pk.unit[None, :],
+                                                   direction(*self.direction)[None, :])[0]
             rows.append(self._row(i, e, pk.directivity_dbi, res.metrics.psl_db, avg, pe,
                                   pk.theta_deg, pk.phi_deg))
         return rows
