@@ -212,3 +212,18 @@ def test_interrupted_process_pool_leaves_a_prefix(design, tmp_path):
     proc.wait()
     _, _, got = read_results(out)
     assert 0 < len(got) < 400 and got == rows[:len(got)]
+
+
+def test_dask_scheduler_address(design, tmp_path):
+    """A user-given Dask scheduler address (here a cluster started by the test) gives the
+    same file as local processes."""
+    distributed = pytest.importorskip("distributed", reason="dask[distributed] (the optional "
+                                      "extra 'distributed') is not installed")
+    doc, path = load_design_dict(design)
+    spec = tolerance_from_table(doc["tolerance"], trials=60, chunk=20)
+    local = run_tolerance(doc, spec, tmp_path / "local.csv", workers=1, progress=False)
+    with distributed.LocalCluster(n_workers=1, threads_per_worker=2, processes=False,
+                                  dashboard_address=None) as cluster:
+        run_tolerance(doc, spec, tmp_path / "addr.csv", backend="dask",
+                      scheduler=cluster.scheduler_address, progress=False)
+    assert (tmp_path / "addr.csv").read_bytes() == local.output.read_bytes()

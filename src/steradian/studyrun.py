@@ -95,6 +95,9 @@ def _set_key(doc: dict, key: str, value: float, source) -> None:
         if not isinstance(t, dict):
             raise DesignError(key, "is not inside a table", source)
     old = t.get(parts[-1])
+    if isinstance(value, str):
+        t[parts[-1]] = value
+        return
     if isinstance(old, int) and not isinstance(old, bool) and float(value).is_integer():
         value = int(value)
     elif "count" in parts[-1] and float(value).is_integer():
@@ -113,7 +116,8 @@ def point_design(doc: dict, spec: SweepSpec, index: int, source=None):  # noqa: 
         return design_from_dict(d, source, base_dir=None if source is None
                                 else Path(source).resolve().parent)
     except DesignError as exc:
-        where = ", ".join(f"{a.label} = {v:g}" for a, v in zip(spec.axes, values, strict=True))
+        where = ", ".join(f"{a.label} = {v if isinstance(v, str) else format(v, 'g')}"
+                          for a, v in zip(spec.axes, values, strict=True))
         text = str(exc)
         lead = f"{exc.source}: " if exc.source else ""
         lead += f"{exc.key}: " if exc.key else ""
@@ -359,7 +363,8 @@ def run_sweep(doc: dict, spec: SweepSpec, output, *, source=None, resume=True,
     labels = [a.label for a in spec.axes]
     columns = ["point", *labels, *sweep_fields(spec.metrics)]
     describe = {"kind": "sweep", "design": _digest(doc), **spec.describe()}
-    file = open_results(output, describe, columns, resume=resume)
+    file = open_results(output, describe, columns, resume=resume,
+                        text=[a.label for a in spec.axes if a.is_text])
     _check_prefix(file, "point")
     have = len(file.rows)
     job = _SweepJob(_digest(describe), spec.metrics, eff)
@@ -384,14 +389,16 @@ def run_sweep(doc: dict, spec: SweepSpec, output, *, source=None, resume=True,
 
 def sweep_summary(rows, spec: SweepSpec) -> dict:
     """Range of each metric over the sweep, and the first point where a grating lobe is
-    found in the pattern (if any)."""
+    found in the pattern and where one is predicted from the lattice (full metrics)."""
     out = {"points": len(rows), "axes": [a.label for a in spec.axes]}
     for f in sweep_fields(spec.metrics):
         v = [r[f] for r in rows if r.get(f) is not None and math.isfinite(float(r[f]))]
         out[f] = None if not v else {"min": min(v), "max": max(v)}
-    first = next((r for r in rows if (r.get("grating_lobe_found") or 0) > 0), None)
-    out["first_grating_lobe"] = None if first is None else {
-        a.label: first[a.label] for a in spec.axes} | {"point": first["point"]}
+    for name, key in (("first_grating_lobe", "grating_lobe_found"),
+                      ("first_grating_lobe_predicted", "grating_lobes_predicted")):
+        first = next((r for r in rows if (r.get(key) or 0) > 0), None)
+        out[name] = None if first is None else {
+            a.label: first[a.label] for a in spec.axes} | {"point": first["point"]}
     return out
 
 

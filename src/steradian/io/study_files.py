@@ -55,6 +55,11 @@ def _cell(v) -> str:
         return str(int(v))
     if isinstance(v, int):
         return str(v)
+    if isinstance(v, str):
+        if any(ch in v for ch in ',"\r\n') or not v.strip():
+            raise SteradianError(f"a text cell must be one word without commas or quotes, "
+                                 f"got {v!r}")
+        return v
     v = float(v)
     return repr(v) if math.isfinite(v) else ""
 
@@ -65,12 +70,15 @@ def _line(kind: str, columns, row: dict) -> str:
     return json.dumps({c: row.get(c) for c in columns}, allow_nan=False) + "\n"
 
 
-def _header(kind: str, study: dict, columns) -> str:
+def _header(kind: str, study: dict, columns, text=()) -> str:
     info = json.dumps(study, sort_keys=True, allow_nan=False)
     if kind == "csv":
-        return f"# {MAGIC}\n# study: {info}\n" + ",".join(columns) + "\n"
-    return json.dumps({"magic": MAGIC, "study": study, "columns": list(columns)},
-                      sort_keys=True, allow_nan=False) + "\n"
+        words = f"# text: {','.join(text)}\n" if text else ""
+        return f"# {MAGIC}\n# study: {info}\n{words}" + ",".join(columns) + "\n"
+    head = {"magic": MAGIC, "study": study, "columns": list(columns)}
+    if text:
+        head["text"] = list(text)
+    return json.dumps(head, sort_keys=True, allow_nan=False) + "\n"
 
 
 def _parse_csv(path, lines) -> tuple[dict, list, list, int]:
@@ -82,9 +90,14 @@ def _parse_csv(path, lines) -> tuple[dict, list, list, int]:
         study = json.loads(lines[1][len("# study: "):])
     except ValueError:
         raise FileFormatError(path, "the study description is not JSON", 2) from None
-    columns = split_fields(lines[2])
-    rows, size = [], sum(len(x.encode()) for x in lines[:3])
-    for i, text in enumerate(lines[3:], start=4):
+    top, text_cols = 2, []
+    if lines[2].startswith("# text: "):
+        text_cols, top = split_fields(lines[2][len("# text: "):]), 3
+    if len(lines) <= top:
+        raise FileFormatError(path, "no header row", top + 1)
+    columns = split_fields(lines[top])
+    rows, size = [], sum(len(x.encode()) for x in lines[:top + 1])
+    for i, text in enumerate(lines[top + 1:], start=top + 2):
         if not text.endswith("\n"):
             break  # torn last line of an interrupted run
         f = split_fields(text)
@@ -94,13 +107,15 @@ def _parse_csv(path, lines) -> tuple[dict, list, list, int]:
         for c, x in zip(columns, f, strict=True):
             if x == "":
                 row[c] = None
+            elif c in text_cols:
+                row[c] = x
             elif c in INT_COLUMNS:
                 row[c] = int(parse_float(path, i, c, x))
             else:
                 row[c] = parse_float(path, i, c, x)
         rows.append(row)
         size += len(text.encode())
-    return study, columns, rows, size
+    return study, columns, rows, size, text_cols
 
 
 def _parse_jsonl(path, lines) -> tuple[dict, list, list, int]:
@@ -122,7 +137,7 @@ def _parse_jsonl(path, lines) -> tuple[dict, list, list, int]:
             raise FileFormatError(path, f"expected the columns {', '.join(columns)}", i)
         rows.append(row)
         size += len(text.encode())
-    return head["study"], columns, rows, size
+    return head["study"], columns, rows, size, list(head.get("text", []))
 
 
 def _read(path: Path):
@@ -134,7 +149,7 @@ def _read(path: Path):
 
 def read_results(path) -> tuple[dict, list[str], list[dict]]:
     """``(study, columns, rows)`` of a result file (a torn last line is left out)."""
-    study, columns, rows, _ = _read(Path(path))
+    study, columns, rows, _, _ = _read(Path(path))
     return study, columns, rows
 
 
@@ -160,12 +175,14 @@ class ResultFile:
         self.rows += rows
 
 
-def open_results(path, study: dict, columns, *, resume: bool = True) -> ResultFile:
+def open_results(path, study: dict, columns, *, resume: bool = True,
+                 text=()) -> ResultFile:
     """Open ``path`` for the rows of ``study`` (a JSON-able description).
 
     With ``resume`` and an existing file, its rows are kept when its study description and
     columns equal these (a torn last line is cut off); otherwise, or without ``resume``, a
-    new file with only the header replaces it.
+    new file with only the header replaces it. ``text`` names the columns that hold words
+    (read back as strings); every other column holds numbers.
 
     Raises
     ------
@@ -176,8 +193,8 @@ def open_results(path, study: dict, columns, *, resume: bool = True) -> ResultFi
     kind = _kind(path)
     study = json.loads(json.dumps(study, sort_keys=True, allow_nan=False))
     if resume and path.exists():
-        old, cols, rows, size = _read(path)
-        if old != study or cols != list(columns):
+        old, cols, rows, size, words = _read(path)
+        if old != study or cols != list(columns) or words != list(text):
             raise FileFormatError(path, "holds the results of another study (its study "
                                   "description differs); write elsewhere or start afresh "
                                   "(--fresh)")
@@ -188,5 +205,5 @@ def open_results(path, study: dict, columns, *, resume: bool = True) -> ResultFi
                 raise _write_error(path, exc) from None
         return ResultFile(path, kind, columns, rows)
     with atomic_open(path, "w", encoding="utf-8", newline="") as fh:
-        fh.write(_header(kind, study, columns))
+        fh.write(_header(kind, study, columns, tuple(text)))
     return ResultFile(path, kind, columns, [])

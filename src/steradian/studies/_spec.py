@@ -23,7 +23,7 @@ TOLERANCE_KEYS = ("trials", "seed", "amplitude_db", "phase_deg", "position_mm",
 MAX_AXES = 2
 """A sweep varies one parameter or a grid of two."""
 
-DEFAULT_CHUNK = 50
+DEFAULT_CHUNK = 100
 """Trials per task (the unit of work, of progress and of resuming)."""
 
 DEFAULT_BATCH = 16
@@ -90,6 +90,12 @@ def _axis(t: Section) -> SweepAxis:
     if "values" in t:
         if any(k in t for k in ("start", "stop", "count")):
             raise t.error("values", "give values or start/stop/count, not both")
+        v = t.data["values"]
+        if isinstance(v, list) and v and all(isinstance(x, str) for x in v):
+            try:
+                return SweepAxis(tuple(keys), tuple(v), label)
+            except SteradianError as exc:
+                raise t.error("values", str(exc)) from None
         return SweepAxis(tuple(keys), tuple(t.numbers("values")), label)
     try:
         return SweepAxis.linspace(keys, t.number("start"), t.number("stop"),
@@ -151,21 +157,26 @@ _AXIS = re.compile(r"^\s*([A-Za-z0-9_.+\s]+?)\s*=\s*(.+?)\s*$")
 
 
 def parse_axis(text: str) -> SweepAxis:
-    """A sweep axis from ``KEY[+KEY...]=START:STOP:COUNT`` or ``KEY[+KEY...]=V1,V2,...``."""
+    """A sweep axis from ``KEY[+KEY...]=START:STOP:COUNT`` or ``KEY[+KEY...]=V1,V2,...``
+    (numbers, or words such as ``steering.mode=phase,delay``)."""
     m = _AXIS.match(text)
     if not m:
         raise SteradianError(f"--vary {text!r}: expected KEY=START:STOP:COUNT or "
                              "KEY=V1,V2,... (several keys joined by +)")
     keys = tuple(k.strip() for k in m.group(1).split("+") if k.strip())
     body = m.group(2)
-    try:
-        if ":" in body:
-            a, b, c = body.split(":")
-            n = float(c)
-            if n != int(n):
+    if ":" in body:
+        try:
+            a, b, c = (float(x) for x in body.split(":"))
+            if c != int(c):
                 raise ValueError
-            return SweepAxis.linspace(keys, float(a), float(b), int(n))
-        return SweepAxis(keys, tuple(float(v) for v in body.split(",")))
+        except (ValueError, OverflowError):
+            raise SteradianError(f"--vary {text!r}: START:STOP:COUNT must be numbers with a "
+                                 "whole COUNT") from None
+        return SweepAxis.linspace(keys, a, b, int(c))
+    parts = [v.strip() for v in body.split(",")]
+    try:
+        numbers = tuple(float(v) for v in parts)
     except ValueError:
-        raise SteradianError(f"--vary {text!r}: values must be numbers (START:STOP:COUNT "
-                             "with a whole COUNT, or a comma list)") from None
+        return SweepAxis(keys, tuple(parts))  # words (checked there)
+    return SweepAxis(keys, numbers)

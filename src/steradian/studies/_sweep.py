@@ -18,6 +18,7 @@ from __future__ import annotations
 import hashlib
 import json
 import math
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -29,6 +30,8 @@ from ..errors import SteradianError
 
 __all__ = ["SweepAxis", "SWEEP_MODES", "sweep_fields", "evaluation_key", "group_points",
            "evaluate_points", "GRATING_LOBE_DB"]
+
+_WORD = re.compile(r"^[A-Za-z0-9_.-]+$")
 
 SWEEP_MODES = ("full", "beam")
 """Metric sets of a sweep (see the module notes)."""
@@ -54,25 +57,45 @@ def sweep_fields(mode: str) -> tuple[str, ...]:
 
 @dataclass(frozen=True)
 class SweepAxis:
-    """One swept parameter: the design keys it sets (all to the same value) and its values.
+    """One swept parameter: the design keys it sets (all to the same value) and its values:
+    numbers, or words for a text key (``steering.mode`` = phase, delay: a frequency sweep
+    comparing phase shifters with true-time delay).
 
     ``label`` names the column (default: the first key).
     """
 
     keys: tuple[str, ...]
-    values: tuple[float, ...]
+    values: tuple[float, ...] | tuple[str, ...]
     label: str = ""
 
     def __post_init__(self):
         keys = tuple(str(k) for k in self.keys)
         if not keys or any(not k for k in keys):
             raise SteradianError("a sweep axis needs at least one design key")
-        vals = tuple(float(v) for v in self.values)
-        if not vals or not all(math.isfinite(v) for v in vals):
-            raise SteradianError(f"sweep axis {keys[0]}: values must be finite and non-empty")
+        raw = tuple(self.values)
+        if raw and all(isinstance(v, str) for v in raw):
+            bad = [v for v in raw if not _WORD.match(v)]
+            if bad:
+                raise SteradianError(f"sweep axis {keys[0]}: text values are single words "
+                                     f"(letters, digits, _ . -), got {bad[0]!r}")
+            vals = raw
+        else:
+            try:
+                vals = tuple(float(v) for v in raw)
+            except (TypeError, ValueError):
+                raise SteradianError(f"sweep axis {keys[0]}: values must be all numbers or "
+                                     "all words") from None
+            if not vals or not all(math.isfinite(v) for v in vals):
+                raise SteradianError(f"sweep axis {keys[0]}: values must be finite and "
+                                     "non-empty")
         object.__setattr__(self, "keys", keys)
         object.__setattr__(self, "values", vals)
         object.__setattr__(self, "label", self.label or keys[0])
+
+    @property
+    def is_text(self) -> bool:
+        """True for an axis of words (such as ``steering.mode``: phase, delay)."""
+        return isinstance(self.values[0], str)
 
     @classmethod
     def linspace(cls, keys, start: float, stop: float, count: int, label: str = ""):
