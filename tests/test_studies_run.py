@@ -12,6 +12,8 @@ import time
 
 import pytest
 from click.testing import CliRunner
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from steradian.cli import main
 from steradian.errors import FileFormatError
@@ -227,3 +229,39 @@ def test_dask_scheduler_address(design, tmp_path):
         run_tolerance(doc, spec, tmp_path / "addr.csv", backend="dask",
                       scheduler=cluster.scheduler_address, progress=False)
     assert (tmp_path / "addr.csv").read_bytes() == local.output.read_bytes()
+
+
+@settings(max_examples=60, deadline=None, derandomize=True, database=None,
+          suppress_health_check=list(HealthCheck))
+@given(data=st.data())
+def test_mutated_result_files_resume_or_fail_in_one_line(tmp_path_factory, data):
+    """Fuzz (byte flips, insertions, truncations, as tests/test_fuzz.py does for other
+    formats): resuming a damaged result file either keeps the rows it can read or raises one
+    FileFormatError naming the file; nothing else escapes."""
+    d = tmp_path_factory.mktemp("fuzz")
+    cols = ["trial", "psl_db", "avg_sll_db"]
+    rows = [{"trial": i, "psl_db": -20.0 - i / 7, "avg_sll_db": -41.5 + i} for i in range(4)]
+    name = data.draw(st.sampled_from(["r.csv", "r.jsonl"]))
+    p = d / name
+    open_results(p, {"kind": "fuzz"}, cols).append(rows)
+    raw = bytearray(p.read_bytes())
+    for _ in range(data.draw(st.integers(1, 4))):
+        i = data.draw(st.integers(0, len(raw) - 1))
+        op = data.draw(st.sampled_from(["flip", "insert", "cut"]))
+        if op == "flip":
+            raw[i] ^= 1 << data.draw(st.integers(0, 7))
+        elif op == "insert":
+            raw[i:i] = data.draw(st.sampled_from([b",", b"\n", b"\xff", b"#", b"nan", b'"']))
+        else:
+            del raw[i:]
+            if not raw:
+                raw = bytearray(b"x")
+    p.write_bytes(bytes(raw))
+    try:
+        f = open_results(p, {"kind": "fuzz"}, cols)
+    except FileFormatError as exc:
+        assert str(p) in str(exc)
+        return
+    assert len(f.rows) <= 4
+    for r in f.rows:
+        assert list(r) == cols

@@ -92,9 +92,12 @@ def _parse_csv(path, lines) -> tuple[dict, list, list, int]:
         raise FileFormatError(path, "the study description is not JSON", 2) from None
     top, text_cols = 2, []
     if lines[2].startswith("# text: "):
-        text_cols, top = split_fields(lines[2][len("# text: "):]), 3
-    if len(lines) <= top:
-        raise FileFormatError(path, "no header row", top + 1)
+        top = 3
+    if len(lines) <= top or not all(x.endswith("\n") for x in lines[:top + 1]):
+        raise FileFormatError(path, "the header is incomplete (cut while being written)",
+                              top + 1)
+    if top == 3:
+        text_cols = split_fields(lines[2][len("# text: "):])
     columns = split_fields(lines[top])
     rows, size = [], sum(len(x.encode()) for x in lines[:top + 1])
     for i, text in enumerate(lines[top + 1:], start=top + 2):
@@ -125,19 +128,29 @@ def _parse_jsonl(path, lines) -> tuple[dict, list, list, int]:
         head = None
     if not isinstance(head, dict) or head.get("magic") != MAGIC or not lines[0].endswith("\n"):
         raise FileFormatError(path, "not a study result file (no study header line)", 1)
-    columns, rows, size = list(head.get("columns", [])), [], len(lines[0].encode())
-    for i, text in enumerate(lines[1:], start=2):
-        if not text.endswith("\n"):
-            break
+    columns, text = head.get("columns"), head.get("text", [])
+    if not all(isinstance(x, list) and all(isinstance(c, str) for c in x)
+               for x in (columns, text)) or "study" not in head:
+        raise FileFormatError(path, "the header line has no study and columns", 1)
+    rows, size = [], len(lines[0].encode())
+    for i, line in enumerate(lines[1:], start=2):
+        if not line.endswith("\n"):
+            break  # torn last line of an interrupted run
         try:
-            row = json.loads(text)
+            row = json.loads(line)
         except ValueError:
             raise FileFormatError(path, "not a JSON object", i) from None
         if not isinstance(row, dict) or list(row) != columns:
             raise FileFormatError(path, f"expected the columns {', '.join(columns)}", i)
+        for c, v in row.items():
+            word = c in text and isinstance(v, str)
+            num = isinstance(v, (int, float)) and not isinstance(v, bool)
+            if not (word or num or v is None) or (c in INT_COLUMNS and isinstance(v, float)):
+                what = "whole number" if c in INT_COLUMNS else "number"
+                raise FileFormatError(path, f"column {c}: not a {what}: {str(v)[:40]!r}", i)
         rows.append(row)
-        size += len(text.encode())
-    return head["study"], columns, rows, size, list(head.get("text", []))
+        size += len(line.encode())
+    return head["study"], columns, rows, size, text
 
 
 def _read(path: Path):
