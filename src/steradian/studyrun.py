@@ -105,7 +105,7 @@ def _set_key(doc: dict, key: str, value: float, source) -> None:
     t[parts[-1]] = value
 
 
-def point_design(doc: dict, spec: SweepSpec, index: int, source=None):  # noqa: D401
+def point_design(doc: dict, spec: SweepSpec, index: int, source=None):
     """The :class:`~steradian.io.design.Design` of sweep point ``index``."""
     d = copy.deepcopy(doc)
     values = spec.point_values(index)
