@@ -265,3 +265,31 @@ def test_mutated_result_files_resume_or_fail_in_one_line(tmp_path_factory, data)
     assert len(f.rows) <= 4
     for r in f.rows:
         assert list(r) == cols
+
+
+@pytest.mark.skipif(sys.platform == "win32", reason="pseudo-terminals are POSIX")
+def test_progress_bar_on_a_terminal_only(design, tmp_path):
+    """On a terminal (a pseudo-terminal here, which reports no size) the tqdm progress bar is
+    drawn on stderr; off a terminal nothing is (the CliRunner test above)."""
+    import pty
+
+    out = tmp_path / "tty.csv"
+    main_fd, sub_fd = pty.openpty()
+    cmd = [sys.executable, "-c", "from steradian.cli import main; main()", "tolerance",
+           str(design), "--trials", "40", "--chunk", "20", "--workers", "1", "-o", str(out)]
+    proc = subprocess.Popen(cmd, stdin=sub_fd, stdout=sub_fd, stderr=sub_fd, close_fds=True)
+    os.close(sub_fd)
+    text = b""
+    while True:
+        try:
+            chunk = os.read(main_fd, 4096)
+        except OSError:  # the child closed the terminal
+            break
+        if not chunk:
+            break
+        text += chunk
+    proc.wait()
+    os.close(main_fd)
+    shown = text.decode(errors="replace")
+    assert proc.returncode == 0, shown
+    assert "40/40" in shown and "trial/s" in shown

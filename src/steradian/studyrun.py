@@ -241,9 +241,15 @@ def _results(job, tasks, backend: str, workers, scheduler) -> Iterator[list]:
 
 
 def _bar(total: int, initial: int, unit: str, progress):
+    import shutil
+
     from tqdm import tqdm
 
-    return tqdm(total=total, initial=initial, unit=unit, file=sys.stderr, dynamic_ncols=True,
+    # A terminal that reports no size (0 x 0, as some pseudo-terminals do) would hide the
+    # bar: take the size with the usual 80 x 24 fallback instead.
+    size = shutil.get_terminal_size()
+    return tqdm(total=total, initial=initial, unit=unit, file=sys.stderr,
+                ncols=min(size.columns, 100), nrows=max(size.lines, 2),
                 disable=None if progress is None else not progress)
 
 
