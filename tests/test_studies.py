@@ -143,6 +143,18 @@ def test_quantization_loss_matches_the_beam_table_evaluator():
     assert row["directivity_loss_db"] > 0.05
 
 
+def test_phase_only_channel_refuses_a_taper():
+    """Quantization goes through the beam-table path: a tapered design on a phase-only
+    channel is refused (common practice: a phase-only beamformer cannot realise an amplitude
+    taper) unless the channel accepts dropping it."""
+    with pytest.raises(SteradianError, match="phase only"):
+        ToleranceStudy(_panel(8), ErrorModel(), channel=ChannelModel.build(phase_bits=4))
+    s = ToleranceStudy(_panel(8), ErrorModel(),
+                       channel=ChannelModel.build(phase_bits=4, drop_taper=True))
+    w = s.trial_weights(0)
+    np.testing.assert_allclose(np.abs(w), np.abs(w).max(), rtol=1e-9)
+
+
 def test_position_errors_take_the_plain_path():
     """Position errors displace the elements: the row equals an analysis of the displaced
     array built by hand (positions + the trial's offsets, phases set for the nominal

@@ -27,7 +27,7 @@ import numpy as np
 
 from ..analysis import AnalysisOptions, analyze
 from ..array import Array, direction, steering_phases
-from ..beamtable import BeamEvaluator
+from ..beamtable import BeamEvaluator, build_beam_table
 from ..directions import Directions, fibonacci_directions
 from ..elements import Isotropic
 from ..engine import response_matrix
@@ -182,8 +182,10 @@ class ToleranceStudy:
     seed : int
         Run seed; trial i draws from :func:`trial_rng` ``(seed, i)``.
     channel : ChannelModel, optional
-        Quantize the nominal weights to this beamformer channel's states first (once: the
-        errors then act on the realised states).
+        Quantize the nominal weights to this beamformer channel's states first, as
+        :func:`steradian.beamtable.build_beam_table` does for the commanded direction (a
+        tapered design on a phase-only channel is refused unless the channel says
+        ``drop_taper``); the errors then act on the realised states.
     efficiency : float
         Radiation efficiency for the gain.
 
@@ -204,9 +206,9 @@ class ToleranceStudy:
         self.direction = np.array([0.0, 0.0] if st is None else [st.theta_deg, st.phi_deg])
         self.ideal = array.weights()
         self.nominal = self.ideal
-        if channel is not None:
-            q = channel.quantize(self.ideal, mask=array.enabled)
-            self.nominal = np.asarray(q.realised, complex).reshape(-1)
+        if channel is not None:  # exactly what a beam table of this direction loads
+            b = build_beam_table(array, channel, [self.direction], evaluate=False)
+            self.nominal = np.asarray(b.quantized.realised, complex).reshape(-1)
         self.bare = replace(array, steering=None, taper=np.ones(array.n))
         self.ref = self._reference_nominal()
         self._avg_setup()
