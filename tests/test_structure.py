@@ -43,8 +43,10 @@ LAYERS: list[tuple[str, tuple[str, ...]]] = [
     ("coupling", ("steradian.coupling",)),
     ("synthesis", ("steradian.tapers", "steradian.optimize")),
     ("hardware", ("steradian.quantize", "steradian.beamtable")),
+    ("studies", ("steradian.studies",)),
     ("files", ("steradian.io",)),
-    ("face", ("steradian.workflows", "steradian.plots", "steradian.report")),
+    ("face", ("steradian.workflows", "steradian.plots", "steradian.report",
+              "steradian.studyrun")),
     ("command line", ("steradian.cli",)),
     ("package root", ("steradian",)),
 ]

@@ -45,6 +45,8 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "tradeoff": ("steradian.cli.tradeoff", "tradeoff"),
     "figure": ("steradian.cli.figure", "figure"),
     "report": ("steradian.cli.report", "report"),
+    "sweep": ("steradian.cli.sweep", "sweep"),
+    "tolerance": ("steradian.cli.tolerance", "tolerance"),
 }
 
 # One-line help shown by ``steradian --help`` without importing the command modules.
@@ -58,6 +60,8 @@ SHORT_HELP: dict[str, str] = {
     "tradeoff": "Trade curve: maximum directivity against peak sidelobe level.",
     "figure": "Draw one figure of a design (cuts, u-v, maps, layout ...) as PNG/SVG/PDF.",
     "report": "Write a self-contained HTML design report with requirement verdicts.",
+    "sweep": "Sweep a design over one or two parameters and tabulate its metrics.",
+    "tolerance": "Monte Carlo tolerance run: random errors, failures, quantization.",
 }
 
 

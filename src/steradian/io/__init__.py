@@ -12,5 +12,7 @@ recipes that do both are in :mod:`steradian.workflows`).
   :mod:`~steradian.io.directions_csv`: the CSV inputs of a design;
 - :mod:`~steradian.io.pattern_csv`: pattern cuts and u-v maps;
 - :mod:`~steradian.io.beams_csv`, :mod:`~steradian.io.beams_json`,
-  :mod:`~steradian.io.beams_bin`, :mod:`~steradian.io.beams_cheader`: beam tables.
+  :mod:`~steradian.io.beams_bin`, :mod:`~steradian.io.beams_cheader`: beam tables;
+- :mod:`~steradian.io.study_files`: sweep and tolerance result rows (CSV or JSON lines),
+  appended as they finish and resumed.
 """

@@ -49,7 +49,8 @@ __all__ = ["Design", "load_design", "design_from_dict", "demo_design", "weights_
 SECTIONS = ("design", "geometry", "element", "taper", "steering", "analysis")
 """Sections this module validates."""
 
-PASS_THROUGH_SECTIONS = ("synthesis", "channel", "beams", "requirements", "coupling")
+PASS_THROUGH_SECTIONS = ("synthesis", "channel", "beams", "requirements", "coupling", "sweep",
+                         "tolerance")
 """Sections owned (and validated) by other features; kept raw in :attr:`Design.sections`."""
 
 LENGTH_UNITS = {"m": 1.0, "mm": 1e-3, "wavelength": None}
@@ -100,7 +101,8 @@ class Design:
         From ``[analysis]``.
     sections : Mapping[str, Any]
         Raw tables of the pass-through sections present (``synthesis``, ``channel``,
-        ``beams``, ``requirements``, ``coupling``); their owners validate them.
+        ``beams``, ``requirements``, ``coupling``, ``sweep``,
+        ``tolerance``); their owners validate them.
     source : Path or None
         The design file.
     base_dir : Path

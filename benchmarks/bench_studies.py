@@ -1,0 +1,258 @@
+"""Studies benchmark: tolerance trials, a spacing x scan sweep, and the acceptance run.
+
+Writes benchmarks/results/studies.md. Run: ``.venv/bin/python benchmarks/bench_studies.py``.
+
+1. Tolerance: 2,000 trials of a 32 x 32 half-wave panel of cos^1.2 elements (Taylor 30 dB,
+   steered to theta 30 deg), amplitude 0.5 dB, phase 4 deg, 1 % failures, weights quantized
+   to a 6-bit phase, 0.5 dB-step channel; directivity, PSL (refined off the search set),
+   pointing and average sidelobe level per trial, on two local worker processes.
+2. Sweep: 30 spacings x 13 scan angles of a 16 x 16 panel (the demo design), ``beam``
+   metrics (points of one spacing share an evaluator) and ``full`` metrics (every analysis
+   metric, point by point), two local worker processes.
+3. Acceptance: 2,000 trials of a 16 x 16 panel with 1 and 2 local workers, a local Dask
+   cluster, and a run killed halfway and resumed: the result files compared byte for byte.
+
+Baselines in the same run, per point, scaled from a few points: (a) the naive numpy
+expression ``np.exp(1j*k*(dirs @ pos.T)) @ w`` for the pattern on the same search set and
+for the radiated power on a Gauss-Legendre x uniform rule, recomputed per point (the
+work the study reuses), with the peak and PSL read off the samples; (b) the library per
+point with nothing reused: a fresh BeamEvaluator per trial or point (element responses and
+power matrix recomputed) for the same metrics; (c) for the sweep, steradian.analyze per
+point (what ``full`` runs, serially).
+"""
+
+from __future__ import annotations
+
+import copy
+import os
+import signal
+import subprocess
+import sys
+import tempfile
+import time
+import tomllib
+from importlib import resources
+from pathlib import Path
+
+import numpy as np
+
+from steradian.beamtable import BeamEvaluator
+from steradian.io.design import design_from_dict
+from steradian.studies import parse_axis, sweep_from_table, tolerance_from_table
+from steradian.studyrun import run_sweep, run_tolerance, tolerance_study_of
+
+HERE = Path(__file__).resolve().parent
+DEMO = tomllib.loads(resources.files("steradian").joinpath("data", "demo.toml").read_text())
+CHANNEL = {"phase_bits": 6, "attenuator_step_db": 0.5, "attenuator_span_db": 31.5}
+TOL = {"trials": 2000, "seed": 2026, "amplitude_db": 0.5, "phase_deg": 4.0,
+       "failure_rate": 0.01, "chunk": 200}
+
+
+def panel(n: int, channel: bool = False) -> dict:
+    d = copy.deepcopy(DEMO)
+    d["geometry"]["count_x"] = d["geometry"]["count_y"] = n
+    if channel:
+        d["channel"] = dict(CHANNEL)
+    return d
+
+
+def naive_point(array, w, dirs, main_cos):
+    """Naive numpy: pattern on the search set and power on a product rule, phase terms
+    recomputed; peak and PSL read off the samples."""
+    pos, k = array.positions, array.k()
+    kr = array.electrical_radius()
+    nt = int(np.ceil(kr)) + 12
+    x, wt = np.polynomial.legendre.leggauss(nt)
+    th = np.arccos(x)
+    ph = np.arange(2 * nt) * np.pi / nt
+    T, P = np.meshgrid(th, ph, indexing="ij")
+    q = np.stack([np.sin(T) * np.cos(P), np.sin(T) * np.sin(P), np.cos(T)], -1).reshape(-1, 3)
+    el_q = array.element.pattern(T.ravel(), P.ravel())[0]
+    u_q = np.abs(el_q * (np.exp(1j * k * (q @ pos.T)) @ w)) ** 2
+    power = float(np.sum(u_q.reshape(nt, 2 * nt) * wt[:, None]) * np.pi / nt)
+    el = array.element.pattern(np.arccos(np.clip(dirs[:, 2], -1, 1)),
+                               np.arctan2(dirs[:, 1], dirs[:, 0]))[0]
+    u = np.abs(el * (np.exp(1j * k * (dirs @ pos.T)) @ w)) ** 2
+    i = int(np.argmax(u))
+    side = u[dirs @ dirs[i] < main_cos].max()
+    return 4 * np.pi * u[i] / power, 10 * np.log10(side / u[i])
+
+
+def search_dirs(array):
+    """The evaluator's search set (same density: six samples per null width)."""
+    from steradian.sphere import SearchSet
+
+    spacing = min(2 * np.pi / max(array.electrical_radius(), 1.0) / 6, 0.05)
+    return SearchSet.fibonacci(spacing, front_only=array.element.front_only, k=8).directions
+
+
+def timed(fn):
+    t = time.perf_counter()
+    out = fn()
+    return out, time.perf_counter() - t
+
+
+def bench_tolerance(tmp: Path) -> list[str]:
+    doc = panel(32, channel=True)
+    spec = tolerance_from_table(TOL | {"quantize": True})
+    run, t_run = timed(lambda: run_tolerance(doc, spec, tmp / "tol32.csv", workers=2,
+                                             progress=False, resume=False))
+    design = design_from_dict(doc)
+    study = tolerance_study_of(design, spec)
+    ev = study.evaluator
+    W = [study.trial_weights(i) for i in range(3)]
+    cone = np.cos(2.5 * 2 * np.pi / study.array.electrical_radius())
+    _, t_naive = timed(lambda: [naive_point(study.bare, w, ev.dirs, cone) for w in W[:2]])
+    t_naive /= 2
+    _, t_fresh = timed(lambda: [BeamEvaluator(study.bare).evaluate(w[None], [[30.0, 0.0]])
+                                for w in W[:2]])
+    t_fresh /= 2
+    _, t_ref = timed(lambda: study.evaluate_reference([0, 1]))
+    t_ref /= 2
+    n = spec.trials
+    s = run.summary
+    lines = [
+        "### Tolerance: 2,000 trials of a 32 x 32 panel", "",
+        f"1,024 elements, search set {len(ev.dirs)} directions; errors amplitude 0.5 dB, "
+        "phase 4 deg, 1 % failed (off), weights quantized to 6-bit phase / 0.5 dB steps; "
+        "per trial directivity, gain, PSL (refined), average sidelobe, pointing; tasks of "
+        "200 trials (a batch's fixed costs are shared by more trials than the default 100).",
+        "",
+        "| path | time for 2,000 trials (s) | per trial (ms) | ratio |", "|---|---:|---:|---:|",
+        f"| naive numpy per trial (pattern + power recomputed), scaled from 2 | "
+        f"{t_naive * n:.0f} | {t_naive * 1e3:.0f} | 1x |",
+        f"| fresh evaluator per trial (nothing reused), scaled from 2 | {t_fresh * n:.0f} | "
+        f"{t_fresh * 1e3:.0f} | {t_naive / t_fresh:.1f}x |",
+        f"| analyze() per trial (the plain reference path), scaled from 2 | {t_ref * n:.0f} "
+        f"| {t_ref * 1e3:.0f} | {t_naive / t_ref:.1f}x |",
+        f"| **study, 2 local workers (set-up included)** | **{t_run:.1f}** | "
+        f"{t_run / n * 1e3:.1f} | **{t_naive * n / t_run:.0f}x** |", "",
+        f"Target: under 30 s and at least 50x the naive path: {t_run:.1f} s "
+        f"({'met' if t_run < 30 else 'NOT met'}), {t_naive * n / t_run:.0f}x naive numpy "
+        f"({'met' if t_naive * n / t_run >= 50 else 'NOT met'}), {t_fresh * n / t_run:.0f}x "
+        "a fresh evaluator per trial.", "",
+        f"Statistics: directivity loss mean {s['directivity_loss_db']['mean']:.3f} dB "
+        f"(p95 {s['directivity_loss_db']['p95']:.3f}, worst "
+        f"{s['directivity_loss_db']['worst']['value']:.3f} dB at trial "
+        f"{s['directivity_loss_db']['worst']['trial']}); PSL mean "
+        f"{s['psl_db']['mean']:.2f} dB, worst {s['psl_db']['worst']['value']:.2f} dB; "
+        f"pointing error p95 {s['pointing_error_deg']['p95']:.3f} deg.", ""]
+    return lines
+
+
+def bench_sweep(tmp: Path) -> list[str]:
+    doc = panel(16)
+    axes = [parse_axis("geometry.spacing_x+geometry.spacing_y=0.4:0.9:30"),
+            parse_axis("steering.theta_deg=0:60:13")]
+    out = {}
+    for mode in ("beam", "full"):
+        spec = sweep_from_table({"metrics": mode}, axes=axes)
+        out[mode] = timed(lambda spec=spec, mode=mode: run_sweep(
+            doc, spec, tmp / f"sweep_{mode}.csv", workers=2, progress=False, resume=False))
+    npts = 390
+    spec = sweep_from_table({"metrics": "beam"}, axes=axes)
+    from steradian.studyrun import point_design
+
+    pts = [point_design(doc, spec, i) for i in (5, 200, 389)]
+    from steradian.analysis import analyze
+
+    def naive():
+        for d in pts:
+            a = d.array.with_steering(None)
+            naive_point(a, d.array.weights(), search_dirs(a),
+                        np.cos(2.5 * 2 * np.pi / a.electrical_radius()))
+
+    _, t_naive = timed(naive)
+    t_naive /= 3
+    _, t_fresh = timed(lambda: [BeamEvaluator(d.array.with_steering(None)).evaluate(
+        d.array.weights()[None], [[d.array.steering.theta_deg, 0.0]]) for d in pts])
+    t_fresh /= 3
+    _, t_an = timed(lambda: [analyze(d.array, d.options) for d in pts])
+    t_an /= 3
+    (rb, tb), (rf, tf) = out["beam"], out["full"]
+    lines = [
+        "### Sweep: 30 spacings x 13 scan angles of a 16 x 16 panel", "",
+        "The demo design (cos^1.2 elements, Taylor 30 dB); spacing 0.4 .. 0.9 wavelength, "
+        "scan 0 .. 60 deg; 390 points.", "",
+        "| path | time for 390 points (s) | per point (ms) | ratio |", "|---|---:|---:|---:|",
+        f"| naive numpy per point (pattern + power recomputed), scaled from 3 | "
+        f"{t_naive * npts:.0f} | {t_naive * 1e3:.0f} | 1x |",
+        f"| fresh evaluator per point, scaled from 3 | {t_fresh * npts:.0f} | "
+        f"{t_fresh * 1e3:.0f} | {t_naive / t_fresh:.1f}x |",
+        f"| analyze() per point, serial, scaled from 3 | {t_an * npts:.0f} | "
+        f"{t_an * 1e3:.0f} | {t_naive / t_an:.1f}x |",
+        f"| **sweep, beam metrics, 2 workers** | **{tb:.1f}** | {tb / npts * 1e3:.0f} | "
+        f"**{t_naive * npts / tb:.1f}x** |",
+        f"| **sweep, full metrics, 2 workers** | **{tf:.1f}** | {tf / npts * 1e3:.0f} | "
+        f"**{t_naive * npts / tf:.1f}x** |", "",
+        f"Target: full metrics under 20 s and at least 50x the naive path: {tf:.1f} s "
+        f"({'met' if tf < 20 else 'NOT met'}), {t_naive * npts / tf:.1f}x "
+        f"({'met' if t_naive * npts / tf >= 50 else 'NOT met'}); beam metrics {tb:.1f} s, "
+        f"{t_naive * npts / tb:.1f}x.", "",
+        f"First grating lobe found: {rb.summary['first_grating_lobe']} (beam), "
+        f"{rf.summary['first_grating_lobe']} (full); first predicted from the lattice: "
+        f"{rf.summary['first_grating_lobe_predicted']}.", ""]
+    return lines
+
+
+def bench_acceptance(tmp: Path) -> list[str]:
+    src = (HERE.parent / "tests" / "test_studies_run.py").read_text()
+    text = src.split('DESIGN = """')[1].split('"""')[0].replace("trials = 400",
+                                                                 "trials = 2000")
+    design = tmp / "tile16.toml"
+    design.write_text(text)
+    doc = tomllib.loads(text)
+    spec = tolerance_from_table(doc["tolerance"])
+    runs = {}
+    for name, opts in (("1 local worker", {"workers": 1}), ("2 local workers", {"workers": 2}),
+                       ("Dask local cluster, 2 workers", {"workers": 2, "backend": "dask"})):
+        p = tmp / f"acc_{len(runs)}.csv"
+        _, t = timed(lambda p=p, opts=opts: run_tolerance(doc, spec, p, source=design,
+                                                          progress=False, **opts))
+        runs[name] = (p, t)
+    killed = tmp / "acc_killed.csv"
+    cmd = [sys.executable, "-c", "from steradian.cli import main; main()", "tolerance",
+           str(design), "-o", str(killed), "--workers", "1", "--json"]
+    proc = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    at = 0
+    while proc.poll() is None:
+        if killed.exists():
+            at = killed.read_text().count("\n") - 3
+            if at >= 1000:
+                break
+        time.sleep(0.01)
+    proc.send_signal(signal.SIGKILL)
+    proc.wait()
+    _, t = timed(lambda: subprocess.run(cmd, capture_output=True, check=True))
+    runs[f"killed at {at} rows, then resumed (second start)"] = (killed, t)
+    ref = runs["1 local worker"][0].read_bytes()
+    lines = ["### Acceptance: 2,000 trials of a 16 x 16 panel", "",
+             "Design: the one in tests/test_studies_run.py at 2,000 trials (Taylor 30 dB, "
+             "steered to (25, 10) deg; 0.5 dB, 4 deg, 1 % failed).", "",
+             "| run | time (s) | file identical to the 1-worker file |", "|---|---:|---|"]
+    lines += [f"| {k} | {t:.1f} | {'yes' if p.read_bytes() == ref else 'NO'} |"
+              for k, (p, t) in runs.items()]
+    return lines + [""]
+
+
+def main():
+    load0 = os.getloadavg()
+    t0 = time.perf_counter()
+    with tempfile.TemporaryDirectory(prefix="bench-studies-") as d:
+        tmp = Path(d)
+        lines = bench_tolerance(tmp) + bench_sweep(tmp) + bench_acceptance(tmp)
+    load1 = os.getloadavg()
+    head = ["## Studies: tolerance trials and sweeps\n",
+            f"Command: `.venv/bin/python benchmarks/bench_studies.py` (whole run "
+            f"{time.perf_counter() - t0:.0f} s, {os.cpu_count()} CPUs). Load average (1 min) "
+            f"{load0[0]:.2f} at start, {load1[0]:.2f} at end: the machine is shared with "
+            "other work, so times are provisional (above 2 on 2 cores the runs competed for "
+            "the cores).\n"]
+    out = "\n".join(head + lines)
+    (HERE / "results").mkdir(exist_ok=True)
+    (HERE / "results" / "studies.md").write_text(out)
+    print(out)
+
+
+if __name__ == "__main__":
+    main()
