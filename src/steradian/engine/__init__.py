@@ -38,9 +38,17 @@ from __future__ import annotations
 from ._direct import MEMORY_BUDGET
 from ._evaluate import DEFAULT_TOL, PathChoice, array_factor, choose_path
 from ._field import Field, field, response_blocks, response_matrix
-from ._power import field_seconds, gram_matrix, sinc_power_seconds, sinc_power_sum
+from ._power import (
+    dense_gram_matrix,
+    field_seconds,
+    gram_matrix,
+    lattice_gram_matrix,
+    sinc_power_seconds,
+    sinc_power_sum,
+)
 
 __all__ = ["Field", "field", "array_factor", "response_matrix", "response_blocks",
+           "dense_gram_matrix", "lattice_gram_matrix",
            "MEMORY_BUDGET", "DEFAULT_TOL", "PathChoice", "choose_path",
            "clear_plan_cache", "plan_cache_info", "sinc_power_sum", "gram_matrix",
            "sinc_power_seconds", "field_seconds", "czt", "detect_rows", "Rows", "KERNELS"]

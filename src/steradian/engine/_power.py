@@ -12,17 +12,87 @@ from . import _cost
 from ._direct import budget_rows, kernels, re_im_columns, xyz_columns
 from ._evaluate import DEFAULT_TOL, choose_path
 
-__all__ = ["gram_matrix", "sinc_power_sum", "sinc_power_seconds", "field_seconds"]
+__all__ = ["gram_matrix", "lattice_gram_matrix", "dense_gram_matrix", "sinc_power_sum",
+           "sinc_power_seconds", "field_seconds"]
+
+LATTICE_OFFSETS = 16
+"""Most distinct row-offset differences the lattice form of the Gram matrix takes (one
+table each: 1 for a rectangular lattice, 3 for a triangular one)."""
 
 
 def gram_matrix(positions, k: float, dirs: np.ndarray, weights: np.ndarray) -> np.ndarray:
     r"""Hermitian :math:`G_{mn} = \sum_i \omega_i e^{-jk\hat r_i\cdot r_m}
     e^{+jk\hat r_i\cdot r_n}`.
 
-    For non-negative ``weights`` (M,) at directions ``dirs`` (M, 3). The phase block of each
-    chunk of directions (within :data:`MEMORY_BUDGET`) comes from the numba kernel and is
-    accumulated by a rank-k Hermitian update (BLAS zherk: half the work of a general product).
+    For non-negative ``weights`` (M,) at directions ``dirs`` (M, 3). On a planar row lattice
+    (rectangular, triangular) :func:`lattice_gram_matrix` (one value per distinct
+    separation), else :func:`dense_gram_matrix` (its plain reference, tested equal).
     """
+    n = len(positions)
+    # G, its upper triangle, the conjugate part and the sum: 64 bytes per entry at the peak.
+    require(64 * n * n, f"a Gram matrix of {n:,} x {n:,} elements",
+            "it is dense in the element count")
+    G = lattice_gram_matrix(positions, k, dirs, weights)
+    return dense_gram_matrix(positions, k, dirs, weights) if G is None else G
+
+
+def lattice_gram_matrix(positions, k: float, dirs: np.ndarray,
+                        weights: np.ndarray) -> np.ndarray | None:
+    r""":func:`gram_matrix` of a planar row lattice, or None for other layouts.
+
+    :math:`G_{mn} = q(r_n - r_m)` depends on the separation alone (translation
+    invariance), and on a lattice of rows (element n at :math:`(x_{0,j_n} + i_n d_x,
+    y_0 + j_n d_y, z_0)`) the :math:`N^2` separations take only
+    :math:`(2n_x - 1)(2n_y - 1)` values per distinct row-offset difference :math:`\delta`:
+
+    .. math::
+        q = \sum_r \omega_r e^{jku_r\delta}\, e^{jku_r d_x\Delta i}\,
+        e^{jkv_r d_y\Delta j},
+
+    one matrix product over the directions per :math:`\delta` (separable exponentials),
+    then one gather. Work O(M (n_x + n_y) + M n_x n_y) instead of O(M N^2).
+
+    References
+    ----------
+    R. M. Gray, "Toeplitz and circulant matrices: a review," *Foundations and Trends in
+    Communications and Information Theory* 2 (2006) 155-239 (Toeplitz structure of
+    translation-invariant kernels on a lattice).
+    """
+    from ._fft import detect_rows
+
+    pos = np.asarray(positions, float)
+    n = len(pos)
+    rows = detect_rows(pos, float(k), 1e-10) if n > 1 else None
+    if rows is None:
+        return None
+    off = rows.x0[rows.j]
+    delta = (off[None, :] - off[:, None]).ravel()
+    unit = max(rows.dx, 1e-300) * 1e-7  # offsets equal within this are one (exact value kept)
+    dkeys, first, dinv = np.unique(np.round(delta / unit).astype(np.int64),
+                                   return_index=True, return_inverse=True)
+    if len(dkeys) > LATTICE_OFFSETS:
+        return None
+    require(40 * n * n, f"a Gram matrix of {n:,} x {n:,} elements",
+            "it is dense in the element count")  # index, gather and Hermitian part
+    wts = np.asarray(weights, float)
+    keep = wts > 0
+    d, wts = np.asarray(dirs, float)[keep], wts[keep]
+    u, v = d[:, 0], d[:, 1]
+    mi, mj = 2 * rows.nx - 1, 2 * rows.ny - 1
+    Ei = np.exp(1j * k * rows.dx * np.outer(np.arange(-(rows.nx - 1), rows.nx), u))
+    Ej = np.exp(1j * k * rows.dy * np.outer(np.arange(-(rows.ny - 1), rows.ny), v))
+    tables = [((Ei * (wts * np.exp(1j * k * u * dv))) @ Ej.T).ravel() for dv in delta[first]]
+    di = rows.i[None, :] - rows.i[:, None] + rows.nx - 1
+    dj = rows.j[None, :] - rows.j[:, None] + rows.ny - 1
+    index = dinv.reshape(n, n) * (mi * mj) + di * mj + dj
+    G = np.concatenate(tables)[index]
+    return 0.5 * (G + G.conj().T)  # Hermitian to rounding, as the dense form
+
+
+def dense_gram_matrix(positions, k: float, dirs: np.ndarray, weights: np.ndarray) -> np.ndarray:
+    """:func:`gram_matrix` for any layout: the phase block of each chunk of directions
+    (within :data:`MEMORY_BUDGET`) from the numba kernel, accumulated by a rank-k Hermitian
+    update (BLAS zherk: half the work of a general product)."""
     from scipy.linalg.blas import zherk
 
     pos = np.asarray(positions, float)
