@@ -12,7 +12,8 @@ from . import _cost
 from ._direct import budget_rows, kernels, re_im_columns, xyz_columns
 from ._evaluate import DEFAULT_TOL, choose_path
 
-__all__ = ["gram_matrix", "lattice_gram_matrix", "dense_gram_matrix", "sinc_power_sum",
+__all__ = ["gram_matrix", "lattice_gram_matrix", "lattice_gram_table", "dense_gram_matrix",
+           "sinc_power_sum",
            "sinc_power_seconds", "field_seconds"]
 
 LATTICE_OFFSETS = 16
@@ -38,19 +39,37 @@ def gram_matrix(positions, k: float, dirs: np.ndarray, weights: np.ndarray) -> n
 
 def lattice_gram_matrix(positions, k: float, dirs: np.ndarray,
                         weights: np.ndarray) -> np.ndarray | None:
-    r""":func:`gram_matrix` of a planar row lattice, or None for other layouts.
+    """:func:`gram_matrix` of a planar row lattice (:func:`lattice_gram_table` gathered into
+    the N x N matrix), or None for other layouts."""
+    n = len(positions)
+    if n > 1:
+        require(40 * n * n, f"a Gram matrix of {n:,} x {n:,} elements",
+                "it is dense in the element count")  # index, gather and Hermitian part
+    table = lattice_gram_table(positions, k, dirs, weights)
+    if table is None:
+        return None
+    values, index = table
+    G = values[index]
+    return 0.5 * (G + G.conj().T)  # Hermitian to rounding, as the dense form
+
+
+def lattice_gram_table(positions, k: float, dirs: np.ndarray, weights: np.ndarray):
+    r"""The Gram matrix of a planar row lattice as a table of its distinct values:
+    ``(values, index)`` with :math:`G_{mn}` = ``values[index[m, n]]``, or None for other
+    layouts (callers that never hold the N x N matrix gather rows of it).
 
     :math:`G_{mn} = q(r_n - r_m)` depends on the separation alone (translation
     invariance), and on a lattice of rows (element n at :math:`(x_{0,j_n} + i_n d_x,
     y_0 + j_n d_y, z_0)`) the :math:`N^2` separations take only
-    :math:`(2n_x - 1)(2n_y - 1)` values per distinct row-offset difference :math:`\delta`:
+    :math:`(2n_x - 1)(2n_y - 1)` values per distinct row-offset difference :math:`\delta`
+    (1 for a rectangular lattice, 3 for a triangular one; at most :data:`LATTICE_OFFSETS`):
 
     .. math::
         q = \sum_r \omega_r e^{jku_r\delta}\, e^{jku_r d_x\Delta i}\,
         e^{jkv_r d_y\Delta j},
 
-    one matrix product over the directions per :math:`\delta` (separable exponentials),
-    then one gather. Work O(M (n_x + n_y) + M n_x n_y) instead of O(M N^2).
+    one matrix product over the directions per :math:`\delta` (separable exponentials).
+    Work O(M n_x n_y) instead of O(M N^2).
 
     References
     ----------
@@ -72,8 +91,8 @@ def lattice_gram_matrix(positions, k: float, dirs: np.ndarray,
                                    return_index=True, return_inverse=True)
     if len(dkeys) > LATTICE_OFFSETS:
         return None
-    require(40 * n * n, f"a Gram matrix of {n:,} x {n:,} elements",
-            "it is dense in the element count")  # index, gather and Hermitian part
+    require(24 * n * n, f"the separation index of {n:,} x {n:,} elements",
+            "it is dense in the element count")
     wts = np.asarray(weights, float)
     keep = wts > 0
     d, wts = np.asarray(dirs, float)[keep], wts[keep]
@@ -85,8 +104,7 @@ def lattice_gram_matrix(positions, k: float, dirs: np.ndarray,
     di = rows.i[None, :] - rows.i[:, None] + rows.nx - 1
     dj = rows.j[None, :] - rows.j[:, None] + rows.ny - 1
     index = dinv.reshape(n, n) * (mi * mj) + di * mj + dj
-    G = np.concatenate(tables)[index]
-    return 0.5 * (G + G.conj().T)  # Hermitian to rounding, as the dense form
+    return np.concatenate(tables), index
 
 
 def dense_gram_matrix(positions, k: float, dirs: np.ndarray, weights: np.ndarray) -> np.ndarray:
