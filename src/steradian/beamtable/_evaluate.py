@@ -278,6 +278,9 @@ class BeamEvaluator:
         pa = principal_axes(array.positions)
         self.axis = None
         self.mirror = False
+        # A collinear array's beam is a cone about its axis: its main lobe is the band of
+        # cone angles about the peak's (as the analysis measures it), whatever the element.
+        self.cone = pa.axes[0] if pa.dimension <= 1 and array.n > 1 else None
         if pa.dimension <= 1 and iso and array.n > 1:
             a = pa.axes[0]
             self.search = SearchSet.great_circle(
@@ -442,20 +445,41 @@ class BeamEvaluator:
             s = c[:, None] * self.axis + np.sqrt(1 - c**2)[:, None] * self._cut_b
         return s
 
+    def _off_peak(self, peak, angle: float) -> np.ndarray:
+        """(M, B): search-set samples farther than ``angle`` (rad) from each beam's peak; for
+        a collinear array, farther than ``angle`` in cone angle about its axis (the cone
+        through the peak is the main lobe, as the analysis has it)."""
+        if self.cone is None:
+            return (self.dirs @ peak.T) < math.cos(angle)
+        c = np.arccos(np.clip(self.dirs @ self.cone, -1, 1))
+        c0 = np.arccos(np.clip(np.asarray(peak) @ self.cone, -1, 1))
+        return np.abs(c[:, None] - c0[None, :]) > angle
+
+    def _near(self, r, peak, angle: float) -> np.ndarray:
+        """(B,): refined maxima ``r`` within ``angle`` of their beam's peak (in cone angle
+        for a collinear array); a zero vector (no maximum) is never near."""
+        if self.cone is None:
+            return np.sum(r * peak, axis=1) > math.cos(angle)
+        ok = np.linalg.norm(r, axis=1) > 0.5
+        c = np.arccos(np.clip(r @ self.cone, -1, 1))
+        c0 = np.arccos(np.clip(peak @ self.cone, -1, 1))
+        return ok & (np.abs(c - c0) < angle)
+
     def _sidelobe(self, I, W, peak):
         """Highest refined local maximum outside the main lobe, per beam (0 if none).
 
         Candidates lie farther than 1.5 spacings from the peak; a refined maximum that
-        climbed back to within half a spacing of the peak is the main lobe, not a sidelobe.
+        climbed back to within half a spacing of the peak is the main lobe, not a sidelobe
+        (for a collinear array, in cone angle: the cone through the peak is the main lobe).
         """
         sp = self.spacing
-        v, r = self._best_lobes(I, W, (self.dirs @ peak.T) < math.cos(1.5 * sp))
-        back = np.sum(np.nan_to_num(r) * peak, axis=1) > math.cos(0.5 * sp)
+        v, r = self._best_lobes(I, W, self._off_peak(peak, 1.5 * sp))
+        back = self._near(np.nan_to_num(r), peak, 0.5 * sp)
         if back.any():  # rare: search again without the lobe that led back to the peak
-            allowed = (self.dirs @ peak[back].T) < math.cos(1.5 * sp)
-            allowed &= (self.dirs @ np.nan_to_num(r[back]).T) < math.cos(1.5 * sp)
+            allowed = self._off_peak(peak[back], 1.5 * sp)
+            allowed &= self._off_peak(np.nan_to_num(r[back]), 1.5 * sp)
             v2, r2 = self._best_lobes(I[:, back], W[back], allowed)
-            far = np.sum(np.nan_to_num(r2) * peak[back], axis=1) <= math.cos(0.5 * sp)
+            far = ~self._near(np.nan_to_num(r2), peak[back], 0.5 * sp)
             v[back] = np.where(far, v2, 0.0)
         return v
 

@@ -18,10 +18,13 @@ from ._studies import run_options
 @click.option("--metrics", type=click.Choice(["full", "beam"]), default=None,
               help="full: every analysis metric per point; beam: directivity, PSL and "
                    "pointing, points sharing an array evaluated together.")
+@click.option("--figure", "figure_path", type=click.Path(path_type=Path), metavar="FILE",
+              help="Also draw the sweep curves (directivity, PSL, pointing against the "
+                   "first axis; one line per value of a second) as PNG, SVG or PDF.")
 @run_options
 @json_option
-def sweep(design_file, vary, metrics, output, summary_path, workers, backend, scheduler,
-          fresh, progress, as_json):
+def sweep(design_file, vary, metrics, figure_path, output, summary_path, workers, backend,
+          scheduler, fresh, progress, as_json):
     """Sweep a TOML design over one numeric design key or a grid of two (spacing, count,
     scan angle, analysis frequency, taper level, element exponent...) and tabulate the
     analysis metrics of each point.
@@ -41,9 +44,20 @@ def sweep(design_file, vary, metrics, output, summary_path, workers, backend, sc
     summary = run.summary | {"output": str(run.output), "computed": run.computed}
     if summary_path is not None:
         write_json(summary_path, summary)
+    if figure_path is not None:
+        from ..io.design import load_design
+        from ..plots import save_figure
+        from ..report import sweep_result_figure
+        from ..workflows import figure_title
+
+        save_figure(sweep_result_figure(run.rows, [a.label for a in spec.axes],
+                                        caption=figure_title(load_design(design_file))),
+                    figure_path)
+        summary["figure"] = str(figure_path)
     if as_json:
         emit_json(summary | {"rows": run.rows})
         return
     click.echo(sweep_lines(run.rows, run.summary, [a.label for a in spec.axes]))
-    echo_written([run.output] + ([summary_path] if summary_path else []),
+    echo_written([run.output] + ([summary_path] if summary_path else [])
+                 + ([figure_path] if figure_path else []),
                  f"{run.computed} points computed now; wrote")

@@ -25,11 +25,14 @@ from ._studies import run_options
 @click.option("--chunk", type=click.IntRange(min=1), help="Trials per task.")
 @click.option("--replay", type=click.IntRange(min=0), metavar="TRIAL",
               help="Recompute one trial alone (e.g. the worst one) and show its metrics.")
+@click.option("--figure", "figure_prefix", type=click.Path(path_type=Path), metavar="PREFIX",
+              help="Also draw histograms: PREFIX_<metric>.png (or the suffix given: "
+                   "out/tol.svg gives out/tol_<metric>.svg).")
 @run_options
 @json_option
 def tolerance(design_file, trials, seed, amplitude_db, phase_deg, position_mm, failure_rate,
-              failure_count, failure_mode, quantize, chunk, replay, output, summary_path,
-              workers, backend, scheduler, fresh, progress, as_json):
+              failure_count, failure_mode, quantize, chunk, replay, figure_prefix, output,
+              summary_path, workers, backend, scheduler, fresh, progress, as_json):
     """Monte Carlo tolerance run of a TOML design: random amplitude, phase and position
     errors, element failures and quantization; statistics of directivity loss, gain, peak
     and average sidelobe level and pointing error, with the worst trial and its seed.
@@ -59,9 +62,26 @@ def tolerance(design_file, trials, seed, amplitude_db, phase_deg, position_mm, f
     summary = run.summary | {"output": str(run.output), "computed": run.computed}
     if summary_path is not None:
         write_json(summary_path, summary)
+    figures = []
+    if figure_prefix is not None:
+        from ..io.design import load_design
+        from ..plots import save_figure
+        from ..report import TOLERANCE_COLUMNS, tolerance_result_figure
+        from ..workflows import figure_title
+
+        rows = run.rows
+        cols = [c for c, _ in TOLERANCE_COLUMNS if any(r.get(c) is not None for r in rows)]
+        suffix = figure_prefix.suffix or ".png"
+        stem = figure_prefix.with_suffix("") if figure_prefix.suffix else figure_prefix
+        for col, fig in zip(cols, tolerance_result_figure(
+                rows, caption=figure_title(load_design(design_file))), strict=True):
+            path = Path(f"{stem}_{col}{suffix}")
+            save_figure(fig, path)
+            figures.append(path)
+        summary["figures"] = [str(p) for p in figures]
     if as_json:
         emit_json(summary)
         return
     click.echo(table(tolerance_rows(summary), f"Tolerance: {Path(design_file).name}"))
-    echo_written([run.output] + ([summary_path] if summary_path else []),
+    echo_written([run.output] + ([summary_path] if summary_path else []) + figures,
                  f"{run.computed} trials computed now; wrote")

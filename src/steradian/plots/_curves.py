@@ -56,13 +56,18 @@ def trade_curve_figure(curve, title: str | None = None, *, caption: str | None =
 
 def sweep_figure(rows: Sequence[Mapping], x: str, y: Sequence[str] | str, *,
                  labels: Mapping[str, str] | None = None, limits: Mapping[str, float] |
-                 None = None, caption: str | None = None, what: str = "sweep"):
+                 None = None, caption: str | None = None, what: str = "sweep",
+                 group: str | None = None):
     """Sweep curves: each column ``y`` of ``rows`` against column ``x``, one panel per
     column (rows with a missing value are skipped).
 
     ``labels``: axis text per column (with units); ``limits``: a requirement level per
-    column, drawn as a dashed line. Panel k's line 0 is column y[k] against x.
+    column, drawn as a dashed line; ``group``: a second sweep column, one line per value
+    (a grid of two axes). Panel k's line g is column y[k] against x for the g-th value of
+    ``group`` (line 0 without one).
     """
+    if group is not None:
+        return _grouped_sweep(rows, x, y, group, labels, limits, caption, what)
     ys = [y] if isinstance(y, str) else list(y)
     labels = dict(labels or {})
     limits = dict(limits or {})
@@ -82,6 +87,35 @@ def sweep_figure(rows: Sequence[Mapping], x: str, y: Sequence[str] | str, *,
             ax.set_ylabel(labels.get(col, col))
             ax.set_xlabel(labels.get(x, x))
         axes[0].set_title(title_lines(caption, what))
+    return fig
+
+
+def _grouped_sweep(rows, x, y, group, labels, limits, caption, what):
+    """:func:`sweep_figure` with one line per value of the column ``group``."""
+    ys = [y] if isinstance(y, str) else list(y)
+    labels = dict(labels or {})
+    limits = dict(limits or {})
+    values = sorted({r[group] for r in rows if r.get(group) is not None},
+                    key=lambda v: (isinstance(v, str), v))
+    with styled():
+        fig = new_figure(6.6, 2.6 + 2.0 * len(ys))
+        axes = [fig.add_subplot(len(ys), 1, k + 1) for k in range(len(ys))]
+        for ax, col in zip(axes, ys, strict=True):
+            for g, val in enumerate(values):
+                pts = [(r[x], r[col]) for r in rows if r.get(group) == val
+                       and r.get(x) is not None and r.get(col) is not None]
+                if pts:
+                    a = np.asarray(pts, float)
+                    ax.plot(a[:, 0], a[:, 1], "o-", ms=3, color=f"C{g % 10}",
+                            label=f"{labels.get(group, group)} = {val:g}"
+                            if isinstance(val, float) else f"{labels.get(group, group)} = {val}")
+            if col in limits:
+                ax.axhline(limits[col], color="#b03a5b", ls=(0, (6, 3)), lw=1.1,
+                           label=f"requirement {limits[col]:g}")
+            ax.set_ylabel(labels.get(col, col))
+            ax.set_xlabel(labels.get(x, x))
+        axes[0].set_title(title_lines(caption, what))
+        _legend_below(fig, axes[-1], ncol=min(4, max(1, len(values))))
     return fig
 
 
