@@ -19,12 +19,12 @@ from ..directions import (
 )
 from ..engine import response_matrix
 from ..errors import SteradianError
-from ..radiation import power_matrix
 from ..units import from_db20
 from ..validate import choice
 from ._domain import Domain, choose_domain
 from ._frame import Frame, Param, chebyshev_null, frame_of, parametrise, symmetry_maps
 from ._masks import Mask, Notch
+from ._power import reduced_power
 
 __all__ = ["Setup", "make_setup", "Rows", "rows_at", "SidelobeFamily", "NotchFamily",
            "WeightsKind", "SymmetryKind", "cholesky"]
@@ -56,13 +56,14 @@ class Setup:
     frame: Frame
     domain: Domain
     param: Param
-    Q: np.ndarray
+    Q: np.ndarray | None  # not kept (the reduced Qs is built without it)
     Qs: np.ndarray
     loading: float
     c0: np.ndarray
     g_wng: np.ndarray
     vector: bool
     _whiten: np.ndarray | None = None
+    _unloaded: np.ndarray | None = None
 
     @property
     def n(self) -> int:
@@ -85,6 +86,15 @@ class Setup:
         A = response_matrix(self.array, Directions.from_vectors(self.r0[None, :]))
         e = A[:, 0, :] @ w
         return float(np.sqrt(np.sum(np.abs(e) ** 2)))
+
+    def unloaded_power(self) -> np.ndarray:
+        """:math:`\\Re\\,T^HQT` without the diagonal loading (for certificates)."""
+        import scipy.sparse as sp
+
+        if self._unloaded is None:
+            Ts = sp.csr_matrix(self.param.T)
+            self._unloaded = self.Qs - self.loading * np.real((Ts.conj().T @ Ts).toarray())
+        return self._unloaded
 
     def whitener(self) -> np.ndarray:
         """L^{-T} with L L^T = Q_s (computed once)."""
@@ -131,7 +141,7 @@ def rows_at(setup_like, dirs: np.ndarray, T: np.ndarray | None = None):
     for s in range(0, M, _CHUNK):
         d = dirs[s:s + _CHUNK]
         A = response_matrix(array, Directions.from_vectors(d))
-        B = A @ T  # (2, m, n)
+        B = _times(A, T)  # (2, m, n)
         nrm2 = np.abs(B[0]) ** 2 + np.abs(B[1]) ** 2
         j = np.argmax(nrm2, axis=1)
         m = len(d)
@@ -148,6 +158,20 @@ def rows_at(setup_like, dirs: np.ndarray, T: np.ndarray | None = None):
             V[s:s + m, 2] = B[1].real
             V[s:s + m, 3] = B[1].imag
     return real, H, V
+
+
+def _times(A: np.ndarray, T) -> np.ndarray:
+    """A @ T for responses A (2, m, N) and the parametrisation T (N, n), using T's sparsity
+    (a few non-zeros per column: symmetry orbits) when that is cheaper."""
+    import scipy.sparse as sp
+
+    if not sp.issparse(T):
+        nnz = np.count_nonzero(T)
+        if nnz > 0.05 * T.size:
+            return A @ T
+        T = sp.csr_matrix(T)
+    Tt = T.T.tocsr()
+    return np.stack([(Tt @ A[c].T).T for c in range(A.shape[0])])
 
 
 @dataclass(eq=False)
@@ -189,13 +213,7 @@ def make_setup(array, weights: str = "complex", symmetry: str = "auto",
         if not real.all():
             resolved = "none"
             param = parametrise(pos, enabled, phases, frame, weights, "none")
-    Q = power_matrix(array)
-    diag = np.real(np.diag(Q))[enabled]
-    delta = float(loading) * float(np.mean(diag))
-    QL = Q + delta * np.eye(N)
-    T = param.T
-    Qs = np.real(T.conj().T @ QL @ T)
-    Qs = 0.5 * (Qs + Qs.T)
+    Qs, delta = reduced_power(array, param.T, enabled, loading)
     A0 = response_matrix(array, Directions.from_vectors(r0[None, :]))
     g = np.abs(A0[0, 0]) ** 2 + np.abs(A0[1, 0]) ** 2
     g = np.where(np.isin(np.arange(N), enabled), g, 0.0)
@@ -204,7 +222,8 @@ def make_setup(array, weights: str = "complex", symmetry: str = "auto",
     _, H0, V0 = rows_at(_Probe(array, param, vector), r0[None, :])
     c0 = H0[0]
     domain = choose_domain(array, frame, r0)
-    return Setup(array, enabled, r0, phases, frame, domain, param, Q, Qs, delta, c0, g, vector)
+    return Setup(array, enabled, r0, phases, frame, domain, param, None, Qs, delta, c0, g,
+                 vector)
 
 
 # ---- constraint families ---------------------------------------------------------------------

@@ -69,6 +69,18 @@ class SynthesisResult:
         Warnings and remarks (superdirectivity, tolerance not met, stopping rule...).
     seconds : float
         Wall time.
+    path : str
+        The solve path of the final round: "interior" (dense interior point on the
+        real-field program), "conic" (clarabel) or "" (closed form, non-convex methods).
+    bound_dbi : float or None
+        Certified upper bound on the directivity of any weights meeting the constraints at
+        every direction (from a dual-feasible point of the final round; loaded objective).
+    gap_db : float or None
+        ``bound_dbi`` less :attr:`directivity_dbi` (the dense-checked directivity reached).
+    stages : dict
+        Wall time per stage in seconds: ``setup`` (power matrix, parametrisation),
+        ``samples`` (initial constraint rows), ``solve``, ``check`` (dense re-check of each
+        round and new rows), ``finish`` (the independent final evaluation).
     beams : list of dict
         Scan-volume synthesis only (:func:`~steradian.optimize.max_worst_directivity`): per
         scan direction ``theta_deg``, ``phi_deg``, ``directivity_dbi``, ``psl_db``,
@@ -99,6 +111,10 @@ class SynthesisResult:
     notes: list = field(default_factory=list)
     seconds: float = 0.0
     beams: list = field(default_factory=list)
+    path: str = ""
+    bound_dbi: float | None = None
+    gap_db: float | None = None
+    stages: dict = field(default_factory=dict)
 
     def summary(self) -> dict:
         """JSON-friendly summary (no weights)."""
@@ -123,6 +139,10 @@ class SynthesisResult:
             "symmetry": self.symmetry,
             "notes": list(self.notes),
             "seconds": self.seconds,
+            "path": self.path,
+            "bound_dbi": self.bound_dbi,
+            "gap_db": self.gap_db,
+            "stages": dict(self.stages),
             "elements": int(self.array.n),
         } | ({"beams": [dict(b) for b in self.beams]} if self.beams else {})
 

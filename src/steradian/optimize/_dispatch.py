@@ -1,0 +1,88 @@
+"""One solve of an adaptive round on the path that fits it: the dense real-field interior
+point (:mod:`._qp`) when every constraint is a linear inequality, else the general conic
+program (:mod:`._conic`, clarabel).
+
+Paths (``solver``): "auto" (the dense interior point where it applies, else conic),
+"interior" (the dense interior point; an error where it does not apply), "conic" (clarabel
+for everything: the reference the faster path is tested against).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..errors import SteradianError
+from ._assemble import assemble
+from ._conic import SolverFailure
+from ._qp import RealQP, solve_real_qp
+
+__all__ = ["SOLVERS", "solve_round", "real_rows"]
+
+SOLVERS = ("auto", "interior", "conic")
+
+PATH_NAMES = {"interior": "dense interior point (real-field QP)",
+              "conic": "conic interior point (clarabel)"}
+
+
+def real_rows(setup, rowsets, nrows, *, mode, tau, dr_lin, wng_min):
+    """``(H, b)`` of the real-field program (``|H x| <= b``), or None when the problem has a
+    limit the dense path does not take (cones, exact nulls, the dual problem, hardware
+    limits)."""
+    if mode != "max" or dr_lin is not None or wng_min is not None:
+        return None
+    Hs, bs = [], []
+    for real, H, _, depth in nrows:
+        if depth is None or not bool(np.all(real)):
+            return None
+        Hs.append(H)
+        bs.append(np.full(len(H), depth))
+    for rs in rowsets:
+        if len(rs) == 0:
+            continue
+        bound = rs.fixed.copy()
+        if tau is not None:
+            ps = rs.coef > 0
+            bound[ps] = np.minimum(bound[ps], rs.coef[ps] * tau)
+        ok = np.isfinite(bound)
+        if not np.all(rs.real[ok]):
+            return None
+        Hs.append(rs.H[ok])
+        bs.append(bound[ok])
+    if not Hs:
+        return np.zeros((0, setup.n)), np.zeros(0)
+    return np.vstack(Hs), np.concatenate(bs)
+
+
+def solve_round(setup, rowsets, nrows, *, mode, tau, nonneg, dr_lin, w_prev, wng_min, p_max,
+                solver: str, relax: float = 1.0):
+    """Solve the current round's program. Returns ``(z, info, path)``; ``z`` starts with the
+    weight parameters x (then the program's extra variables, conic path only).
+
+    On the interior path ``info["certified_power"]`` is the dual bound on the unloaded
+    radiated power of any weights meeting the sampled limits within the factor ``relax``
+    (the dense check's tolerance)."""
+    rows = None
+    if solver in ("auto", "interior"):
+        rows = real_rows(setup, rowsets, nrows, mode=mode, tau=tau, dr_lin=dr_lin,
+                         wng_min=wng_min)
+        if rows is None and solver == "interior":
+            raise SteradianError("solver='interior' needs a real-field problem (centro-"
+                                 "symmetric or amplitude weights, no dynamic-range or white-"
+                                 "noise-gain limit, no exact nulls); use solver='auto'")
+    if rows is not None:
+        H, b = rows
+        qp = RealQP(setup.Qs, setup.c0, H, b,
+                    nonneg and setup.param.weights == "amplitude")
+        x, info = solve_real_qp(qp)
+        if info["status"] != "Solved" and solver == "interior":
+            raise SolverFailure(info["status"], "the dense interior-point path stopped "
+                                f"without an optimum ({info['status']} after "
+                                f"{info['iterations']} iterations); use solver='auto'")
+        if info["status"] == "Solved":
+            info["certified_power"] = qp.bound(info.pop("multipliers"),
+                                               Q=setup.unloaded_power(), relax=relax)
+            return x, info, "interior"
+    prog, P, q = assemble(setup, rowsets, nrows, mode=mode, tau=tau, nonneg=nonneg,
+                          dr_lin=dr_lin, w_prev=w_prev, wng_min=wng_min, p_max=p_max)
+    z, info = prog.solve(P, q, whiten=setup.whitener())
+    return z, info, "conic"
