@@ -15,6 +15,7 @@ from ._diagnose import SynthesisInfeasible
 from ._frame import chebyshev_null
 from ._masks import Mask, Notch, Null, itu_s465
 from ._nonconvex import phase_only, thin
+from ._problem import reduced_power_matrix
 from ._report import peak_sidelobe
 from ._result import SynthesisResult
 from ._scan import max_worst_directivity, scan_directions
@@ -45,4 +46,5 @@ __all__ = [
     "itu_s465",
     "DEFAULT_LOADING",
     "chebyshev_null",
+    "reduced_power_matrix",
 ]

@@ -58,7 +58,7 @@ def solve_round(setup, rowsets, nrows, *, mode, tau, nonneg, dr_lin, w_prev, wng
     """Solve the current round's program. Returns ``(z, info, path)``; ``z`` starts with the
     weight parameters x (then the program's extra variables, conic path only).
 
-    On the interior path ``info["certified_power"]`` is the dual bound on the unloaded
+    On the interior path ``info["certified_power"]`` is the dual bound on the (loaded)
     radiated power of any weights meeting the sampled limits within the factor ``relax``
     (the dense check's tolerance)."""
     rows = None
@@ -79,8 +79,7 @@ def solve_round(setup, rowsets, nrows, *, mode, tau, nonneg, dr_lin, w_prev, wng
                                 f"without an optimum ({info['status']} after "
                                 f"{info['iterations']} iterations); use solver='auto'")
         if info["status"] == "Solved":
-            info["certified_power"] = qp.bound(info.pop("multipliers"),
-                                               Q=setup.unloaded_power(), relax=relax)
+            info["certified_power"] = qp.bound(info.pop("multipliers"), relax=relax)
             return x, info, "interior"
     prog, P, q = assemble(setup, rowsets, nrows, mode=mode, tau=tau, nonneg=nonneg,
                           dr_lin=dr_lin, w_prev=w_prev, wng_min=wng_min, p_max=p_max)

@@ -26,8 +26,8 @@ from ._frame import Frame, Param, chebyshev_null, frame_of, parametrise, symmetr
 from ._masks import Mask, Notch
 from ._power import reduced_power
 
-__all__ = ["Setup", "make_setup", "Rows", "rows_at", "SidelobeFamily", "NotchFamily",
-           "WeightsKind", "SymmetryKind", "cholesky"]
+__all__ = ["Setup", "make_setup", "reduced_power_matrix", "Rows", "rows_at", "SidelobeFamily",
+           "NotchFamily", "WeightsKind", "SymmetryKind", "cholesky"]
 
 WeightsKind = Literal["complex", "amplitude"]
 SymmetryKind = Literal["auto", "none", "centro", "quadrant"]
@@ -63,7 +63,6 @@ class Setup:
     g_wng: np.ndarray
     vector: bool
     _whiten: np.ndarray | None = None
-    _unloaded: np.ndarray | None = None
 
     @property
     def n(self) -> int:
@@ -86,15 +85,6 @@ class Setup:
         A = response_matrix(self.array, Directions.from_vectors(self.r0[None, :]))
         e = A[:, 0, :] @ w
         return float(np.sqrt(np.sum(np.abs(e) ** 2)))
-
-    def unloaded_power(self) -> np.ndarray:
-        """:math:`\\Re\\,T^HQT` without the diagonal loading (for certificates)."""
-        import scipy.sparse as sp
-
-        if self._unloaded is None:
-            Ts = sp.csr_matrix(self.param.T)
-            self._unloaded = self.Qs - self.loading * np.real((Ts.conj().T @ Ts).toarray())
-        return self._unloaded
 
     def whitener(self) -> np.ndarray:
         """L^{-T} with L L^T = Q_s (computed once)."""
@@ -150,7 +140,9 @@ def rows_at(setup_like, dirs: np.ndarray, T: np.ndarray | None = None):
         u = B[:, ii, j] / np.where(big > 0, big, 1.0)  # (2, m)
         h = (np.conj(u[0])[:, None] * B[0] + np.conj(u[1])[:, None] * B[1]).real
         resid = np.abs(B - u[:, :, None] * h[None]).max(axis=(0, 2))
-        real[s:s + m] = resid <= _REAL_TOL * np.maximum(big, 1e-300)
+        # A sample where every column's field vanishes (an exact null of the layout) is
+        # real too: its constraint holds for any x.
+        real[s:s + m] = resid <= _REAL_TOL * np.maximum(big, 1e-3 * float(big.max(initial=0)))
         H[s:s + m] = h
         V[s:s + m, 0] = B[0].real
         V[s:s + m, 1] = B[0].imag
@@ -184,6 +176,10 @@ class _Probe:
 def make_setup(array, weights: str = "complex", symmetry: str = "auto",
                loading: float = 1e-5) -> Setup:
     """Prepare the problem data for ``array`` (beam = its steering direction, else +z)."""
+    return _prepare(array, weights, symmetry, loading, "auto")
+
+
+def _prepare(array, weights, symmetry, loading, power_form) -> Setup:
     choice("weights", weights, get_args(WeightsKind))
     choice("symmetry", symmetry, get_args(SymmetryKind))
     if not (math.isfinite(float(loading)) and float(loading) >= 0):
@@ -213,7 +209,7 @@ def make_setup(array, weights: str = "complex", symmetry: str = "auto",
         if not real.all():
             resolved = "none"
             param = parametrise(pos, enabled, phases, frame, weights, "none")
-    Qs, delta = reduced_power(array, param.T, enabled, loading)
+    Qs, delta = reduced_power(array, param.T, enabled, loading, power_form)
     A0 = response_matrix(array, Directions.from_vectors(r0[None, :]))
     g = np.abs(A0[0, 0]) ** 2 + np.abs(A0[1, 0]) ** 2
     g = np.where(np.isin(np.arange(N), enabled), g, 0.0)
@@ -224,6 +220,15 @@ def make_setup(array, weights: str = "complex", symmetry: str = "auto",
     domain = choose_domain(array, frame, r0)
     return Setup(array, enabled, r0, phases, frame, domain, param, None, Qs, delta, c0, g,
                  vector)
+
+
+def reduced_power_matrix(array, weights: str = "complex", symmetry: str = "auto",
+                         loading: float = 1e-5, form: str = "auto") -> np.ndarray:
+    """The loaded radiated-power matrix in the synthesis unknowns, :math:`\\Re\\,T^H(Q +
+    \\delta I)T`, by ``form`` "structured" (one kernel value per distinct element
+    separation, never the N x N matrix), "dense" (the plain product with
+    :func:`steradian.radiation.power_matrix`) or "auto" (the one synthesis uses)."""
+    return _prepare(array, weights, symmetry, loading, form).Qs
 
 
 # ---- constraint families ---------------------------------------------------------------------
@@ -290,7 +295,28 @@ class SidelobeFamily:
     def coarse(self) -> np.ndarray:
         d = np.vstack([self.domain.grid(self.coarse_spacing),
                        self.domain.zone_ring(self.h * (1 + 1e-9), self.coarse_spacing)])
-        return d
+        return self.fold(d)
+
+    def fold(self, dirs) -> np.ndarray:
+        """Constraint samples less those the weights' symmetry makes repeat.
+
+        A quadrant-symmetric amplitude taper of isotropic elements radiates a field that
+        depends on :math:`|u - u_0|` and :math:`|v - v_0|` alone (a sum of
+        :math:`\\cos k(u-u_0)x_a \\cos k(v-v_0)y_a` terms), so a sample whose mirror image
+        about :math:`u = u_0` (or :math:`v = v_0`) is visible carries the same constraint as
+        that image: only one is kept (about a quarter of the samples at broadside). The
+        dense check still covers every direction. Sidelobe limits only (a mask depends on
+        the angle from the beam, which the mirror changes)."""
+        st = self.setup
+        dom = self.domain
+        if (st.param.symmetry != "quadrant" or dom.kind != "plane"
+                or dom.symmetric != "mirror" or self.mask is not None or len(dirs) == 0):
+            return dirs
+        u, v = dirs @ dom.e1, dirs @ dom.e2
+        u0, v0 = st.r0 @ dom.e1, st.r0 @ dom.e2
+        drop_u = (u < u0) & ((2 * u0 - u) ** 2 + v**2 <= 1.0)
+        drop_v = (v < v0) & (u**2 + (2 * v0 - v) ** 2 <= 1.0)
+        return dirs[~(drop_u | drop_v)]
 
     def dense(self) -> np.ndarray:
         return np.vstack([self.domain.grid(self.dense_spacing, shifted=True),

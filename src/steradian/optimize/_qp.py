@@ -107,16 +107,15 @@ class RealQP:
                 Pf = cho_factor(2.0 * np.asarray(Q, float) * self.beta**2 / self.kappa)
             except LinAlgError:
                 return -np.inf
-        if relax != 1.0:
-            z = z.copy()
-            z[: 2 * self.m] *= relax
+        h = self.h
+        h[: 2 * self.m] *= relax
         w = self.Gt(z)
         Pc = cho_solve(Pf, self.c)
         Pw = cho_solve(Pf, w)
         cpc = float(self.c @ Pc)
         y = -(1.0 + float(self.c @ Pw)) / cpc
         v = self.c * y + w
-        g = -y - float(z @ self.h) - 0.5 * float(v @ cho_solve(Pf, v))
+        g = -y - float(z @ h) - 0.5 * float(v @ cho_solve(Pf, v))
         return g * self.kappa
 
 

@@ -195,5 +195,16 @@ def with_path(res: SynthesisResult, info: dict, stages: dict, finish_s: float):
     if cp is not None:
         bound = db10(4 * math.pi / cp) if cp > 0 else math.inf
     st = dict(stages) | {"finish": finish_s}
-    return replace(res, path=info.get("path", ""), bound_dbi=bound,
-                   gap_db=None if bound is None else bound - res.directivity_dbi, stages=st)
+    gap = None
+    cert = dict(res.certificate)
+    ap = info.get("achieved_power")
+    if bound is not None and ap:
+        # Bound and reached value on one objective (the loaded power matrix); the loading's
+        # own effect on the reached directivity is reported beside it.
+        reached = db10(4 * math.pi / ap)
+        gap = bound - reached
+        cert["loading_effect_db"] = res.directivity_dbi - reached
+    if cp is not None:
+        cert["certified_bound_dbi"] = bound
+    return replace(res, path=info.get("path", ""), bound_dbi=bound, gap_db=gap, stages=st,
+                   certificate=cert)
