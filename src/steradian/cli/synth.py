@@ -10,6 +10,7 @@ import click
 from ._render import json_option
 
 _PATHS = {"interior": "dense interior point (real-field program)",
+          "first_order": "first-order ADMM (real-field program)",
           "conic": "conic interior point (clarabel)"}
 
 

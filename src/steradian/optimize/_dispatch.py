@@ -1,10 +1,11 @@
 """One solve of an adaptive round on the path that fits it: the dense real-field interior
-point (:mod:`._qp`) when every constraint is a linear inequality, else the general conic
-program (:mod:`._conic`, clarabel).
+point (:mod:`._qp`) or the first-order method (:mod:`._admm`) when every constraint is a
+linear inequality, else the general conic program (:mod:`._conic`, clarabel).
 
-Paths (``solver``): "auto" (the dense interior point where it applies, else conic),
-"interior" (the dense interior point; an error where it does not apply), "conic" (clarabel
-for everything: the reference the faster path is tested against).
+Paths (``solver``): "auto" (on real-field problems the interior point below about 1,500
+unknowns and the first-order method above, else conic), "interior" and "first_order" (an
+error where they do not apply), "conic" (clarabel for everything: the reference the faster
+paths are tested against).
 """
 
 from __future__ import annotations
@@ -12,17 +13,16 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import SteradianError
+from ._admm import solve_admm
 from ._assemble import assemble
 from ._conic import SolverFailure
 from ._qp import RealQP, solve_real_qp
 
 __all__ = ["SOLVERS", "solve_round", "real_rows"]
 
-SOLVERS = ("auto", "interior", "conic")
+SOLVERS = ("auto", "interior", "first_order", "conic")
 
-PATH_NAMES = {"interior": "dense interior point (real-field QP)",
-              "conic": "conic interior point (clarabel)"}
-
+_FIRST_ORDER_FROM = 1500  # unknowns (see _first_order_pays)
 
 def real_rows(setup, rowsets, nrows, *, mode, tau, dr_lin, wng_min):
     """``(H, b)`` of the real-field program (``|H x| <= b``), or None when the problem has a
@@ -53,26 +53,42 @@ def real_rows(setup, rowsets, nrows, *, mode, tau, dr_lin, wng_min):
     return np.vstack(Hs), np.concatenate(bs)
 
 
+def _first_order_pays(qp) -> bool:
+    """The first-order path where the interior point's normal matrix is the larger work: an
+    interior-point iteration costs m n^2 (about 25 of them per round) against m n per
+    first-order iteration (a few thousand) plus one m n^2 Gram product per round; the
+    crossover, measured here, lies near n = 1500 unknowns."""
+    return qp.n >= _FIRST_ORDER_FROM
+
+
 def solve_round(setup, rowsets, nrows, *, mode, tau, nonneg, dr_lin, w_prev, wng_min, p_max,
-                solver: str, relax: float = 1.0):
+                solver: str, relax: float = 1.0, warm: dict | None = None):
     """Solve the current round's program. Returns ``(z, info, path)``; ``z`` starts with the
     weight parameters x (then the program's extra variables, conic path only).
 
     On the interior path ``info["certified_power"]`` is the dual bound on the (loaded)
     radiated power of any weights meeting the sampled limits within the factor ``relax``
-    (the dense check's tolerance)."""
+    (the dense check's tolerance). ``warm`` (a dict kept across rounds) carries the
+    first-order path's iterates to the next round."""
+    warm = {} if warm is None else warm
     rows = None
-    if solver in ("auto", "interior"):
+    if solver in ("auto", "interior", "first_order"):
         rows = real_rows(setup, rowsets, nrows, mode=mode, tau=tau, dr_lin=dr_lin,
                          wng_min=wng_min)
-        if rows is None and solver == "interior":
-            raise SteradianError("solver='interior' needs a real-field problem (centro-"
+        if rows is None and solver != "auto":
+            raise SteradianError(f"solver={solver!r} needs a real-field problem (centro-"
                                  "symmetric or amplitude weights, no dynamic-range or white-"
                                  "noise-gain limit, no exact nulls); use solver='auto'")
     if rows is not None:
         H, b = rows
         qp = RealQP(setup.Qs, setup.c0, H, b,
                     nonneg and setup.param.weights == "amplitude")
+        if solver == "first_order" or (solver == "auto" and _first_order_pays(qp)):
+            prefix = len(rowsets) == 1 and not nrows
+            x, info, state = solve_admm(qp, warm=warm.get("admm") if prefix else None)
+            warm["admm"] = state
+            info["certified_power"] = qp.bound(info.pop("multipliers"), relax=relax)
+            return x, info, "first_order"
         x, info = solve_real_qp(qp)
         if info["status"] != "Solved" and solver == "interior":
             raise SolverFailure(info["status"], "the dense interior-point path stopped "

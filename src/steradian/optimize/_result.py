@@ -71,7 +71,8 @@ class SynthesisResult:
         Wall time.
     path : str
         The solve path of the final round: "interior" (dense interior point on the
-        real-field program), "conic" (clarabel) or "" (closed form, non-convex methods).
+        real-field program), "first_order" (ADMM on it), "conic" (clarabel) or "" (closed
+        form, non-convex methods).
     bound_dbi : float or None
         Certified upper bound on the directivity of any weights meeting the constraints at
         every direction (from a dual-feasible point of the final round; loaded objective).
