@@ -41,7 +41,7 @@ import time
 import numpy as np
 from scipy.linalg import LinAlgError, cho_factor, cho_solve
 
-__all__ = ["RealQP", "solve_real_qp", "dual_bound"]
+__all__ = ["RealQP", "solve_real_qp", "dual_bound", "blas_threads"]
 
 _DIVERGED = 1e12  # multipliers beyond this (scaled problem): stop, the problem is infeasible
 
@@ -159,11 +159,12 @@ def solve_real_qp(qp: RealQP, *, tol: float = 1e-9, max_iter: int = 80, x0=None)
     """See :func:`_solve` (BLAS held to one thread below 700 unknowns: on a shared machine
     the other numerical thread pools make threaded small factorizations several times
     slower, measured 40 ms against 2 ms for a 400 x 400 Cholesky)."""
-    with _blas_threads(1 if qp.n < 700 else None), np.errstate(all="ignore"):
+    with blas_threads(1 if qp.n < 700 else None), np.errstate(all="ignore"):
         return _solve(qp, tol=tol, max_iter=max_iter, x0=x0)
 
 
-def _blas_threads(n):
+def blas_threads(n):
+    """Context limiting the BLAS thread pool to ``n`` threads (None: no limit)."""
     import contextlib
 
     if n is None:
