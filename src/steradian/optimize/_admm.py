@@ -15,8 +15,9 @@ iterate is a multiplier vector for the same dual function the interior path cert
 so every stop carries a certified bound, whatever the accuracy reached.
 
 Why not only this method: to a tight tolerance its iteration count grows (the equiripple
-optimum has many active samples), so below a size where the normal matrix is cheap the
-interior point is faster; ``solver="auto"`` picks by the work estimate.
+optimum has many active samples): measured here, the interior point was faster at every
+size tried (up to 1,024 unknowns), so ``solver="auto"`` uses this path only past 3,000
+unknowns, where the interior point's m n^2 normal matrix per iteration dominates.
 
 References
 ----------

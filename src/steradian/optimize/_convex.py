@@ -126,8 +126,8 @@ def max_directivity(array, *, psl_db: float | None = None, mainlobe=None,
         (centro-symmetric or amplitude weights, sidelobe/mask/notch/depth-null limits) with
         its own dual certificate; "first_order", ADMM on the same problems (warm-started
         across rounds, same certificate); "conic", the general conic solver (any limit);
-        "auto" picks interior below about 1,500 unknowns and first-order above on real-
-        field problems, conic otherwise. The result reports the path, the certified bound,
+        "auto" picks interior below 3,000 unknowns and first-order above on real-field
+        problems, conic otherwise. The result reports the path, the certified bound,
         the gap and the time per stage.
 
     Returns
