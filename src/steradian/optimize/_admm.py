@@ -96,7 +96,7 @@ def _multipliers(qp, y):
     return np.concatenate(parts)
 
 
-def solve_admm(qp: RealQP, *, warm=None, eps: float = 2e-4, gap: float = 2e-3,
+def solve_admm(qp: RealQP, *, warm=None, eps: float = 5e-4, gap: float = 5e-3,
                max_iter: int = 20000, rho: float = 0.1):
     """ADMM on ``qp``. Returns (x unscaled, info, state for a warm start).
 
