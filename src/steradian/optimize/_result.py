@@ -74,10 +74,16 @@ class SynthesisResult:
         real-field program), "first_order" (ADMM on it), "conic" (clarabel) or "" (closed
         form, non-convex methods).
     bound_dbi : float or None
-        Certified upper bound on the directivity of any weights meeting the constraints at
-        every direction (from a dual-feasible point of the final round; loaded objective).
+        Upper bound on the directivity of any weights meeting the constraints at every
+        direction, from a dual-feasible point of the final round (loaded objective). On the
+        "interior" and "first_order" paths it is computed independently of the solver and
+        holds for weights meeting the limits within ``tol_db`` (as the reached weights do);
+        on the "conic" path it is the solver's dual objective at the exact limits.
     gap_db : float or None
-        ``bound_dbi`` less :attr:`directivity_dbi` (the dense-checked directivity reached).
+        ``bound_dbi`` less the directivity the weights reach on the same (loaded) objective
+        (``certificate["loading_effect_db"]`` is the loading's own share, typically under
+        1e-4 dB). Non-negative on the interior and first-order paths; on the conic path it
+        can be a few 1e-5 dB negative (weights within the tolerance, bound at the limit).
     stages : dict
         Wall time per stage in seconds: ``setup`` (power matrix, parametrisation),
         ``samples`` (initial constraint rows), ``solve``, ``check`` (dense re-check of each
