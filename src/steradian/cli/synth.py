@@ -9,6 +9,25 @@ import click
 
 from ._render import json_option
 
+_PATHS = {"interior": "dense interior point (real-field program)",
+          "first_order": "first-order ADMM (real-field program)",
+          "conic": "conic interior point (clarabel)"}
+
+
+def path_lines(res) -> list[str]:
+    """The solve path, the certified bound and gap, and the time per stage."""
+    if not res.path:
+        return []
+    out = [f"path              {_PATHS.get(res.path, res.path)}"]
+    if res.bound_dbi is not None:
+        gap = "" if res.gap_db is None else f"; gap {res.gap_db:.4f} dB to the weights found"
+        out.append(f"certified bound   {res.bound_dbi:.4f} dBi for weights meeting the limits "
+                   f"within the tolerance{gap}")
+    if res.stages:
+        out.append("time per stage    " + ", ".join(f"{k} {v:.2f} s"
+                                                   for k, v in res.stages.items()))
+    return out
+
 
 def _nulls(ctx, param, values):
     out = []
@@ -72,6 +91,8 @@ def synth(design_file, output, method, psl_db, loss_db, mainlobe, weights_kind, 
                                    "steering_included": out})
     else:
         click.echo(table(result_rows(res), title=f"steradian synthesis: {design.name}"))
+        for line in path_lines(res):
+            click.echo(line)
         for i, b in enumerate(res.beams):
             click.echo(f"  beam {i} (theta {b['theta_deg']:g}, phi {b['phi_deg']:g} deg): "
                        f"directivity {b['directivity_dbi']:.2f} dBi, PSL {b['psl_db']:.2f} dB"

@@ -186,7 +186,7 @@ def parametrise(positions, enabled_idx, phases, frame, weights: str, symmetry: s
             perms += [maps["mirror1"], maps["mirror2"]] if frame.rank >= 2 else []
         if any(p is None for p in perms):
             raise SteradianError(f"the enabled elements lack {symmetry} symmetry about their "
-                                 "centroid")
+                                 "centroid" + _which_fail(maps, symmetry))
         groups = orbits(ne, perms)
     cols, mag, members = [], [], []
     if weights == "amplitude":
@@ -230,6 +230,17 @@ def parametrise(positions, enabled_idx, phases, frame, weights: str, symmetry: s
             mag.append(np.array([len(cols) - 2, len(cols) - 1]))
             members.append(np.array([gi, gj]))
     return Param(np.column_stack(cols), weights, symmetry, mag, members)
+
+
+def _which_fail(maps, symmetry: str) -> str:
+    """Which mirror images are missing, for the quadrant refusal (offset rows of equal
+    length, as on a triangular lattice, are point symmetric but mirror symmetric about
+    neither axis)."""
+    if symmetry != "quadrant":
+        return ""
+    bad = [f"axis {i}" for i, k in ((1, "mirror1"), (2, "mirror2")) if maps[k] is None]
+    hint = "; symmetry='centro' applies" if maps["centro"] is not None else ""
+    return f" (no mirror image about principal {' and '.join(bad)}{hint})" if bad else ""
 
 
 def _x0(R: float, n: int) -> float:

@@ -19,15 +19,15 @@ from ..directions import (
 )
 from ..engine import response_matrix
 from ..errors import SteradianError
-from ..radiation import power_matrix as radiated_power_matrix
 from ..units import from_db20
 from ..validate import choice
 from ._domain import Domain, choose_domain
 from ._frame import Frame, Param, chebyshev_null, frame_of, parametrise, symmetry_maps
 from ._masks import Mask, Notch
+from ._power import reduced_power
 
-__all__ = ["Setup", "make_setup", "Rows", "rows_at", "SidelobeFamily", "NotchFamily",
-           "WeightsKind", "SymmetryKind", "cholesky"]
+__all__ = ["Setup", "make_setup", "reduced_power_matrix", "Rows", "rows_at", "SidelobeFamily",
+           "NotchFamily", "WeightsKind", "SymmetryKind", "cholesky"]
 
 WeightsKind = Literal["complex", "amplitude"]
 SymmetryKind = Literal["auto", "none", "centro", "quadrant"]
@@ -56,7 +56,7 @@ class Setup:
     frame: Frame
     domain: Domain
     param: Param
-    Q: np.ndarray
+    Q: np.ndarray | None  # not kept (the reduced Qs is built without it)
     Qs: np.ndarray
     loading: float
     c0: np.ndarray
@@ -131,7 +131,7 @@ def rows_at(setup_like, dirs: np.ndarray, T: np.ndarray | None = None):
     for s in range(0, M, _CHUNK):
         d = dirs[s:s + _CHUNK]
         A = response_matrix(array, Directions.from_vectors(d))
-        B = A @ T  # (2, m, n)
+        B = _times(A, T)  # (2, m, n)
         nrm2 = np.abs(B[0]) ** 2 + np.abs(B[1]) ** 2
         j = np.argmax(nrm2, axis=1)
         m = len(d)
@@ -140,7 +140,9 @@ def rows_at(setup_like, dirs: np.ndarray, T: np.ndarray | None = None):
         u = B[:, ii, j] / np.where(big > 0, big, 1.0)  # (2, m)
         h = (np.conj(u[0])[:, None] * B[0] + np.conj(u[1])[:, None] * B[1]).real
         resid = np.abs(B - u[:, :, None] * h[None]).max(axis=(0, 2))
-        real[s:s + m] = resid <= _REAL_TOL * np.maximum(big, 1e-300)
+        # A sample where every column's field vanishes (an exact null of the layout) is
+        # real too: its constraint holds for any x.
+        real[s:s + m] = resid <= _REAL_TOL * np.maximum(big, 1e-3 * float(big.max(initial=0)))
         H[s:s + m] = h
         V[s:s + m, 0] = B[0].real
         V[s:s + m, 1] = B[0].imag
@@ -162,6 +164,20 @@ def given_power(P, n: int) -> np.ndarray:
     return 0.5 * (P + P.conj().T)
 
 
+def _times(A: np.ndarray, T) -> np.ndarray:
+    """A @ T for responses A (2, m, N) and the parametrisation T (N, n), using T's sparsity
+    (a few non-zeros per column: symmetry orbits) when that is cheaper."""
+    import scipy.sparse as sp
+
+    if not sp.issparse(T):
+        nnz = np.count_nonzero(T)
+        if nnz > 0.05 * T.size:
+            return A @ T
+        T = sp.csr_matrix(T)
+    Tt = T.T.tocsr()
+    return np.stack([(Tt @ A[c].T).T for c in range(A.shape[0])])
+
+
 @dataclass(eq=False)
 class _Probe:
     array: object
@@ -178,6 +194,10 @@ def make_setup(array, weights: str = "complex", symmetry: str = "auto",
     expressed in element currents, :class:`steradian.coupling.CoupledProblem`); with it,
     ``symmetry="auto"`` uses no symmetry (a complex Hermitian P breaks the conjugate
     symmetry of the optimum)."""
+    return _prepare(array, weights, symmetry, loading, "auto", power_matrix)
+
+
+def _prepare(array, weights, symmetry, loading, power_form, power_matrix=None) -> Setup:
     choice("weights", weights, get_args(WeightsKind))
     choice("symmetry", symmetry, get_args(SymmetryKind))
     if not (math.isfinite(float(loading)) and float(loading) >= 0):
@@ -209,13 +229,14 @@ def make_setup(array, weights: str = "complex", symmetry: str = "auto",
         if not real.all():
             resolved = "none"
             param = parametrise(pos, enabled, phases, frame, weights, "none")
-    Q = radiated_power_matrix(array) if power_matrix is None else given_power(power_matrix, N)
-    diag = np.real(np.diag(Q))[enabled]
-    delta = float(loading) * float(np.mean(diag))
-    QL = Q + delta * np.eye(N)
-    T = param.T
-    Qs = np.real(T.conj().T @ QL @ T)
-    Qs = 0.5 * (Qs + Qs.T)
+    if power_matrix is not None:
+        Q = given_power(power_matrix, N)
+        delta = float(loading) * float(np.mean(np.real(np.diag(Q))[enabled]))
+        T = param.T
+        Qs = np.real(T.conj().T @ (Q + delta * np.eye(N)) @ T)
+        Qs = 0.5 * (Qs + Qs.T)
+    else:
+        Qs, delta = reduced_power(array, param.T, enabled, loading, power_form)
     A0 = response_matrix(array, Directions.from_vectors(r0[None, :]))
     g = np.abs(A0[0, 0]) ** 2 + np.abs(A0[1, 0]) ** 2
     g = np.where(np.isin(np.arange(N), enabled), g, 0.0)
@@ -224,7 +245,17 @@ def make_setup(array, weights: str = "complex", symmetry: str = "auto",
     _, H0, V0 = rows_at(_Probe(array, param, vector), r0[None, :])
     c0 = H0[0]
     domain = choose_domain(array, frame, r0)
-    return Setup(array, enabled, r0, phases, frame, domain, param, Q, Qs, delta, c0, g, vector)
+    return Setup(array, enabled, r0, phases, frame, domain, param, None, Qs, delta, c0, g,
+                 vector)
+
+
+def reduced_power_matrix(array, weights: str = "complex", symmetry: str = "auto",
+                         loading: float = 1e-5, form: str = "auto") -> np.ndarray:
+    """The loaded radiated-power matrix in the synthesis unknowns, :math:`\\Re\\,T^H(Q +
+    \\delta I)T`, by ``form`` "structured" (one kernel value per distinct element
+    separation, never the N x N matrix), "dense" (the plain product with
+    :func:`steradian.radiation.power_matrix`) or "auto" (the one synthesis uses)."""
+    return _prepare(array, weights, symmetry, loading, form).Qs
 
 
 # ---- constraint families ---------------------------------------------------------------------
@@ -291,7 +322,28 @@ class SidelobeFamily:
     def coarse(self) -> np.ndarray:
         d = np.vstack([self.domain.grid(self.coarse_spacing),
                        self.domain.zone_ring(self.h * (1 + 1e-9), self.coarse_spacing)])
-        return d
+        return self.fold(d)
+
+    def fold(self, dirs) -> np.ndarray:
+        """Constraint samples less those the weights' symmetry makes repeat.
+
+        A quadrant-symmetric amplitude taper of isotropic elements radiates a field that
+        depends on :math:`|u - u_0|` and :math:`|v - v_0|` alone (a sum of
+        :math:`\\cos k(u-u_0)x_a \\cos k(v-v_0)y_a` terms), so a sample whose mirror image
+        about :math:`u = u_0` (or :math:`v = v_0`) is visible carries the same constraint as
+        that image: only one is kept (about a quarter of the samples at broadside). The
+        dense check still covers every direction. Sidelobe limits only (a mask depends on
+        the angle from the beam, which the mirror changes)."""
+        st = self.setup
+        dom = self.domain
+        if (st.param.symmetry != "quadrant" or dom.kind != "plane"
+                or dom.symmetric != "mirror" or self.mask is not None or len(dirs) == 0):
+            return dirs
+        u, v = dirs @ dom.e1, dirs @ dom.e2
+        u0, v0 = st.r0 @ dom.e1, st.r0 @ dom.e2
+        drop_u = (u < u0) & ((2 * u0 - u) ** 2 + v**2 <= 1.0)
+        drop_v = (v < v0) & (u**2 + (2 * v0 - v) ** 2 <= 1.0)
+        return dirs[~(drop_u | drop_v)]
 
     def dense(self) -> np.ndarray:
         return np.vstack([self.domain.grid(self.dense_spacing, shifted=True),

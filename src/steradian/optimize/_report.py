@@ -20,7 +20,7 @@ from ._levels import halfwidths, spacings
 from ._problem import Setup, SidelobeFamily, make_setup
 from ._result import SynthesisResult
 
-__all__ = ["finish", "array_with", "direction_of", "peak_sidelobe"]
+__all__ = ["finish", "array_with", "direction_of", "peak_sidelobe", "with_path"]
 
 _SUPERDIRECTIVE_DB = 6.0  # warn when the white-noise gain is this far below N
 _OFF = 1e-4  # weights this far below the largest (-80 dB) count as switched off
@@ -186,3 +186,25 @@ def finish(setup: Setup, w, *, method, families, nulls, h, dense_spacing, tol_db
         dynamic_range_db=dr_db, null_depths_db=depths, mainlobe=[float(x) for x in hw],
         certificate=certificate, rounds=rounds, samples=samples, unknowns=setup.n,
         symmetry=setup.param.symmetry, notes=notes, seconds=time.perf_counter() - t_start)
+
+
+def with_path(res: SynthesisResult, info: dict, stages: dict, finish_s: float):
+    """``res`` with the solve path, the certified bound, the gap and the stage times."""
+    bound = res.certificate.get("directivity_bound_dbi")
+    cp = info.get("certified_power")
+    if cp is not None:
+        bound = db10(4 * math.pi / cp) if cp > 0 else math.inf
+    st = dict(stages) | {"finish": finish_s}
+    gap = None
+    cert = dict(res.certificate)
+    ap = info.get("achieved_power")
+    if bound is not None and ap:
+        # Bound and reached value on one objective (the loaded power matrix); the loading's
+        # own effect on the reached directivity is reported beside it.
+        reached = db10(4 * math.pi / ap)
+        gap = bound - reached
+        cert["loading_effect_db"] = res.directivity_dbi - reached
+    if cp is not None:
+        cert["certified_bound_dbi"] = bound
+    return replace(res, path=info.get("path", ""), bound_dbi=bound, gap_db=gap, stages=st,
+                   certificate=cert)

@@ -69,6 +69,25 @@ class SynthesisResult:
         Warnings and remarks (superdirectivity, tolerance not met, stopping rule...).
     seconds : float
         Wall time.
+    path : str
+        The solve path of the final round: "interior" (dense interior point on the
+        real-field program), "first_order" (ADMM on it), "conic" (clarabel) or "" (closed
+        form, non-convex methods).
+    bound_dbi : float or None
+        Upper bound on the directivity of any weights meeting the constraints at every
+        direction, from a dual-feasible point of the final round (loaded objective). On the
+        "interior" and "first_order" paths it is computed independently of the solver and
+        holds for weights meeting the limits within ``tol_db`` (as the reached weights do);
+        on the "conic" path it is the solver's dual objective at the exact limits.
+    gap_db : float or None
+        ``bound_dbi`` less the directivity the weights reach on the same (loaded) objective
+        (``certificate["loading_effect_db"]`` is the loading's own share, typically under
+        1e-4 dB). Non-negative on the interior and first-order paths; on the conic path it
+        can be a few 1e-5 dB negative (weights within the tolerance, bound at the limit).
+    stages : dict
+        Wall time per stage in seconds: ``setup`` (power matrix, parametrisation),
+        ``samples`` (initial constraint rows), ``solve``, ``check`` (dense re-check of each
+        round and new rows), ``finish`` (the independent final evaluation).
     beams : list of dict
         Scan-volume synthesis only (:func:`~steradian.optimize.max_worst_directivity`): per
         scan direction ``theta_deg``, ``phi_deg``, ``directivity_dbi``, ``psl_db``,
@@ -99,6 +118,10 @@ class SynthesisResult:
     notes: list = field(default_factory=list)
     seconds: float = 0.0
     beams: list = field(default_factory=list)
+    path: str = ""
+    bound_dbi: float | None = None
+    gap_db: float | None = None
+    stages: dict = field(default_factory=dict)
 
     def summary(self) -> dict:
         """JSON-friendly summary (no weights)."""
@@ -123,6 +146,10 @@ class SynthesisResult:
             "symmetry": self.symmetry,
             "notes": list(self.notes),
             "seconds": self.seconds,
+            "path": self.path,
+            "bound_dbi": self.bound_dbi,
+            "gap_db": self.gap_db,
+            "stages": dict(self.stages),
             "elements": int(self.array.n),
         } | ({"beams": [dict(b) for b in self.beams]} if self.beams else {})
 

@@ -222,10 +222,13 @@ def _combine(array, per, dirs, t_start) -> SynthesisResult:
     for i, r in enumerate(per):
         notes += [f"beam {i} (theta {dirs[i, 0]:g}, phi {dirs[i, 1]:g} deg): {n}"
                   for n in r.notes]
+    bound = per[worst].certificate.get("worst_directivity_bound_dbi")
     return replace(per[worst], array=arr, weights=arr.weights(), psl_db=per[spsl].psl_db,
                    psl_direction=per[spsl].psl_direction,
                    margin_db=max(r.margin_db for r in per), met=all(r.met for r in per),
-                   notes=notes, beams=beams, seconds=time.perf_counter() - t_start)
+                   notes=notes, beams=beams, seconds=time.perf_counter() - t_start,
+                   path="conic", bound_dbi=bound,
+                   gap_db=None if bound is None else bound - per[worst].directivity_dbi)
 
 
 def _infeasible(exc, setups, families, dirs, tau, hs, dr_db, nonneg):

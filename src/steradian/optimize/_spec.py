@@ -11,6 +11,7 @@
     notches = [{ theta_deg = [60.0, 70.0], phi_deg = [-10.0, 10.0], depth_db = -50.0 }]
     mask = { angles_deg = [5.0, 20.0, 90.0], levels_db = [-25.0, -35.0, -45.0] }
     scan = [[0.0, 0.0], [45.0, 0.0]]  # max_directivity over a scan set (or "beams")
+    solver = "auto"                 # max_directivity: "interior", "conic" or "auto"
 
     [synthesis.tradeoff]
     start_db = -15.0
@@ -37,6 +38,7 @@ from typing import get_args
 from ..errors import DesignError, SteradianError
 from ..schema import Section
 from ._convex import max_directivity, min_sidelobe
+from ._dispatch import SOLVERS
 from ._levels import null_list, nulls_in_front
 from ._masks import Mask, Notch, itu_s465
 from ._nonconvex import phase_only, thin
@@ -50,7 +52,7 @@ _COMMON = {"mainlobe", "nulls", "oversample", "dense_oversample"}
 _CONVEX = _COMMON | {"notches", "mask", "weights", "symmetry", "nonnegative",
                      "dynamic_range_db", "wng_min_db", "loading", "tol_db", "max_rounds"}
 METHODS: dict[str, set] = {
-    "max_directivity": _CONVEX | {"psl_db", "scan"},
+    "max_directivity": _CONVEX | {"psl_db", "scan", "solver"},
     "min_sidelobe": _CONVEX | {"loss_db", "min_directivity_dbi"},
     "phase_only": _COMMON | {"psl_db", "hops", "seed", "tol_db", "max_rounds"},
     "thin": {"mainlobe", "fill", "generations", "seed", "symmetric", "oversample",
@@ -140,6 +142,7 @@ _GET = {
     "notches": _notches,
     "mask": lambda s, k: spec_mask(s.child(k)),
     "scan": _scan,
+    "solver": lambda s, k: s.string(k, choices=SOLVERS),
 }
 """Key -> reader of its value from a :class:`Section`."""
 
