@@ -11,7 +11,7 @@ from ..budget import require
 from ..directions import Directions, ThetaPhiGrid, UVGrid, angles_of, as_directions, spherical_basis
 from ..elements import Isotropic
 from ._cache import LRU
-from ._direct import budget_rows, kernels, xyz_columns
+from ._direct import budget_rows
 from ._evaluate import DEFAULT_TOL, Method, check_method, check_tol, evaluate
 from ._layout import lattice_hint
 
@@ -185,15 +185,8 @@ def _responses_into(out, el, k, pos, groups, dirs):
     bt = bp = None
     if el.vector:
         bt, bp = spherical_basis(*angles_of(dirs))
-    d = np.ascontiguousarray(np.asarray(dirs, float).T)
-    km = kernels()
     for R, idx in groups:
-        # exp(+j k r_hat . r_n) from the serial phase kernel (KERNELS; checked against
-        # numpy's exp with and without the JIT): several times faster than np.exp, and no
-        # threading layer is started (a later fork stays safe).
-        p = pos[idx]
-        ph_m = np.empty((d.shape[1], len(p)), complex)
-        km.phase_matrix_serial(*xyz_columns(p), float(k), d[0], d[1], d[2], ph_m)
+        ph_m = np.exp(1j * k * (dirs @ pos[idx].T))
         s, v = _element_global(el, dirs, R)
         if v is None:
             out[0][:, idx] = s[:, None] * ph_m

@@ -21,8 +21,7 @@ from dataclasses import dataclass
 import numpy as np
 from numba import njit, prange
 
-__all__ = ["Kernel", "KERNELS", "af_direct", "af_direct_serial", "phase_matrix",
-           "phase_matrix_serial", "sinc_power",
+__all__ = ["Kernel", "KERNELS", "af_direct", "af_direct_serial", "phase_matrix", "sinc_power",
            "sinc_power_serial", "sincos"]
 
 _TWO_PI = 2.0 * np.pi
@@ -88,20 +87,6 @@ def phase_matrix(px, py, pz, k, ux, uy, uz, out):  # pragma: no cover - jitted
         b = k * uy[m]
         c = k * uz[m]
         for n in range(n_count):
-            sn, cs = _sincos(a * px[n] + b * py[n] + c * pz[n])
-            out[m, n] = complex(cs, sn)
-
-
-@njit(fastmath=True, cache=True)
-def phase_matrix_serial(px, py, pz, k, ux, uy, uz, out):  # pragma: no cover - jitted
-    """:func:`phase_matrix` on one thread: no threading layer is started, so a process
-    that forks afterwards (multiprocessing with fork, a crash-test child) stays safe; used
-    for element responses, which follow every pattern evaluation."""
-    for m in range(ux.shape[0]):
-        a = k * ux[m]
-        b = k * uy[m]
-        c = k * uz[m]
-        for n in range(px.shape[0]):
             sn, cs = _sincos(a * px[n] + b * py[n] + c * pz[n])
             out[m, n] = complex(cs, sn)
 
@@ -258,8 +243,6 @@ KERNELS: dict[str, Kernel] = dict([
     _entry("af_direct", af_direct, _case, _af_run, _af_meaning, _w_scale),
     _entry("af_direct_serial", af_direct_serial, _case, _af_run, _af_meaning, _w_scale),
     _entry("phase_matrix", phase_matrix, lambda rng: (c := _case(rng))[:3] + c[5:],
-           _phase_run, _phase_meaning, lambda a: 1e-14),
-    _entry("phase_matrix_serial", phase_matrix_serial, lambda rng: (c := _case(rng))[:3] + c[5:],
            _phase_run, _phase_meaning, lambda a: 1e-14),
     _entry("sinc_row", _sinc_row, lambda rng: (int(rng.integers(0, 22)), *_case(rng)[:6]),
            lambda f, a: f(*a), _sinc_row_meaning, lambda a: 1e-12 * len(a[1])),

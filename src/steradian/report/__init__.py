@@ -12,13 +12,13 @@
 """
 
 from ._figures import FIGURE_KINDS, design_figure
+from ._report import BROWSER_FLAGS, REPORT_FIGURES, Report, design_report, print_pdf, write_report
 from ._studies import (
     SWEEP_COLUMNS,
     TOLERANCE_COLUMNS,
     sweep_result_figure,
     tolerance_result_figure,
 )
-from ._report import BROWSER_FLAGS, REPORT_FIGURES, Report, design_report, print_pdf, write_report
 
 __all__ = ["FIGURE_KINDS", "design_figure", "REPORT_FIGURES", "Report", "design_report",
            "BROWSER_FLAGS",
