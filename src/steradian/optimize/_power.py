@@ -94,37 +94,12 @@ def _kernel(array):
 
 
 def _lattice_separations(pos, k, q):
-    """q at every pair separation of a row lattice (rows of constant y, one spacing along
-    x, per-row offsets: rectangular and triangular lattices), or None for other layouts.
+    """q at every pair separation of a row lattice, as ``(values, index)``
+    (:func:`steradian.engine.lattice_gram_table` on q's sphere rule), or None."""
+    from ..engine import lattice_gram_table
 
-    With :math:`d = (\\delta + \\Delta i\\,d_x, \\Delta j\\,d_y, 0)`,
-    :math:`q = \\sum_r W_r e^{jku_r\\delta} e^{jk u_r d_x\\Delta i} e^{jk v_r d_y\\Delta j}`:
-    one matrix product over the rule per distinct row-offset difference :math:`\\delta`
-    gives the whole table (a few for a triangular lattice). Returns ``(values, index)``."""
-    from ..engine import detect_rows
-
-    rows = detect_rows(pos, k, 1e-10)
-    if rows is None or np.ptp(pos[:, 2]) > 0:
-        return None
     dirs, wts = q.rule
-    n = len(pos)
-    off = rows.x0[rows.j]
-    delta = off[None, :] - off[:, None]
-    unit = max(rows.dx, 1e-300) * _ROUND
-    dkeys, dinv = np.unique(np.round(delta / unit).astype(np.int64), return_inverse=True)
-    if len(dkeys) > 16:
-        return None
-    mi, mj = 2 * rows.nx - 1, 2 * rows.ny - 1
-    u, v = dirs[:, 0], dirs[:, 1]
-    Ei = np.exp(1j * k * rows.dx * np.outer(np.arange(-(rows.nx - 1), rows.nx), u))
-    Ej = np.exp(1j * k * rows.dy * np.outer(np.arange(-(rows.ny - 1), rows.ny), v))
-    tables = []
-    for dk in dkeys:
-        tables.append(((Ei * (wts * np.exp(1j * k * u * dk * unit))) @ Ej.T).ravel())
-    di = rows.i[None, :] - rows.i[:, None] + rows.nx - 1
-    dj = rows.j[None, :] - rows.j[:, None] + rows.ny - 1
-    index = dinv.reshape(n, n) * (mi * mj) + di * mj + dj
-    return np.concatenate(tables), index
+    return lattice_gram_table(pos, k, dirs, wts)
 
 
 def reduced_power(array, T, enabled, loading: float, form: str = "auto"):
