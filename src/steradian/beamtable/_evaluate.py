@@ -468,20 +468,39 @@ class BeamEvaluator:
     def _sidelobe(self, I, W, peak):
         """Highest refined local maximum outside the main lobe, per beam (0 if none).
 
-        Candidates lie farther than 1.5 spacings from the peak; a refined maximum that
+        Candidates lie farther than 1.5 spacings from the peak. A refined maximum that
         climbed back to within half a spacing of the peak is the main lobe, not a sidelobe
-        (for a collinear array, in cone angle: the cone through the peak is the main lobe).
+        (for a collinear array, in cone angle: the cone through the peak is the main lobe):
+        for those beams every candidate is refined on its own and the ones that climbed
+        back are dropped (a ring-shaped lobe's ascent can jump the null into the main lobe).
         """
         sp = self.spacing
-        v, r = self._best_lobes(I, W, self._off_peak(peak, 1.5 * sp))
-        back = self._near(np.nan_to_num(r), peak, 0.5 * sp)
-        if back.any():  # rare: search again without the lobe that led back to the peak
-            allowed = self._off_peak(peak[back], 1.5 * sp)
-            allowed &= self._off_peak(np.nan_to_num(r[back]), 1.5 * sp)
-            v2, r2 = self._best_lobes(I[:, back], W[back], allowed)
-            far = ~self._near(np.nan_to_num(r2), peak[back], 0.5 * sp)
-            v[back] = np.where(far, v2, 0.0)
+        allowed = self._off_peak(peak, 1.5 * sp)
+        v, r = self._best_lobes(I, W, allowed)
+        back = np.flatnonzero(self._near(np.nan_to_num(r), peak, 0.5 * sp))
+        if len(back):
+            v[back] = self._lobes_off_peak(I[:, back], W[back], allowed[:, back], peak[back])
         return v
+
+    def _lobes_off_peak(self, I, W, allowed, peak):
+        """Highest refined maximum per beam among those that did not climb back to the
+        peak: every candidate of :meth:`_best_lobes` refined separately (0 if none)."""
+        B = len(W)
+        cand = self.search.local_maxima(I, N_CANDIDATES, allowed)
+        bi, ki = np.nonzero(cand >= 0)
+        out = np.zeros(B)
+        if not len(bi):
+            return out
+
+        def fun(points, rows):
+            return self._at_groups(points, W[bi[rows]])
+
+        r, val = refine_maxima(fun, self.dirs[cand[bi, ki]], self.spacing,
+                               normal=self.search.normal)
+        val = np.ravel(val)
+        ok = ~self._near(np.nan_to_num(r), peak[bi], 0.5 * self.spacing)
+        np.maximum.at(out, bi[ok], val[ok])
+        return out
 
     def _qlobe(self, W0, W):
         """Peak intensity of the quantization-error pattern of each beam."""
