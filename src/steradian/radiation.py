@@ -34,6 +34,7 @@ from .units import db10
 from .validate import nonneg, positive
 
 __all__ = [
+    "power_rule",
     "RadiatedPower",
     "Peak",
     "radiated_power",
@@ -297,17 +298,18 @@ def eirp(realized_gain_linear: float, element_power_w: float, weights) -> dict:
             "caution": RF_EXPOSURE_CAUTION}
 
 
-def _power_matrix_common(array, frequency, rule) -> np.ndarray:
-    """Q for elements sharing one orientation: Q = sum_i omega_i |e(r_i)|^2 p_i^H p_i.
+def power_rule(array, frequency=None, rule=None) -> tuple[np.ndarray, np.ndarray]:
+    """The directions (M, 3) and weights (M,) of the power matrix of elements sharing one
+    orientation: Q = sum_i omega_i |e(r_i)|^2 p_i^H p_i (:func:`power_matrix`).
 
     The element field factors out of the response (a_i = e(r_i) p_i), so both polarisation
     components fold into one intensity weight. For planar arrays (constant z) on a rule that
     is symmetric about the horizon, the phase rows of mirror directions differ by a factor
     common to every element, which cancels in p_i^H p_i: their weights are added and half
-    the rows are used.
+    the rows are used. ``rule`` defaults to :func:`steradian.sphere.rule_for` of the array.
     """
-    from .engine import gram_matrix
-
+    if rule is None:
+        rule = rule_for(array, frequency=frequency)
     el = array.element_at(frequency)
     th, ph = np.meshgrid(rule.theta, rule.phi, indexing="ij")
     e_t, e_p = el.pattern(th.ravel(), ph.ravel())
@@ -321,9 +323,16 @@ def _power_matrix_common(array, frequency, rule) -> np.ndarray:
         h = (nt + 1) // 2
         folded = wts[:h].copy()
         folded[: nt - h] += wts[h:][::-1]
-        dirs = ThetaPhiGrid(rule.theta[:h], rule.phi).vectors
-        return gram_matrix(pos, array.k(frequency), dirs, folded.ravel())
-    return gram_matrix(pos, array.k(frequency), rule.grid.vectors, wts.ravel())
+        return ThetaPhiGrid(rule.theta[:h], rule.phi).vectors, folded.ravel()
+    return rule.grid.vectors, wts.ravel()
+
+
+def _power_matrix_common(array, frequency, rule) -> np.ndarray:
+    """Q for elements sharing one orientation (:func:`power_rule`, then the Gram matrix)."""
+    from .engine import gram_matrix
+
+    dirs, wts = power_rule(array, frequency, rule)
+    return gram_matrix(array.positions, array.k(frequency), dirs, wts)
 
 
 def power_matrix(array, *, frequency: float | None = None,

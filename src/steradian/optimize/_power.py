@@ -29,8 +29,7 @@ import numpy as np
 
 from ..budget import require
 from ..elements import Isotropic
-from ..radiation import power_matrix
-from ..sphere import rule_for
+from ..radiation import power_matrix, power_rule
 from ..validate import choice
 from ._qp import blas_threads
 
@@ -58,27 +57,7 @@ def _kernel(array):
     k = array.k()
     if isinstance(array.element, Isotropic):
         return lambda d: 4 * np.pi * np.sinc(k * np.linalg.norm(d, axis=-1) / np.pi)
-    rule = rule_for(array)
-    th, ph = np.meshgrid(rule.theta, rule.phi, indexing="ij")
-    e_t, e_p = array.element_at(None).pattern(th.ravel(), ph.ravel())
-    g = (np.abs(e_t) ** 2 + np.abs(e_p) ** 2).reshape(rule.n_theta, rule.n_phi)
-    wts = rule.w_theta[:, None] * rule.w_phi * g
-    nt = rule.n_theta
-    planar = np.ptp(array.positions[:, 2]) == 0.0
-    if (planar and not rule.front_only and nt > 1
-            and np.abs(rule.theta + rule.theta[::-1] - np.pi).max() < 1e-14):
-        # Separations in the plane see a direction and its mirror about it alike: fold the
-        # rule onto the upper half (as radiation.power_matrix does).
-        h = (nt + 1) // 2
-        folded = wts[:h].copy()
-        folded[: nt - h] += wts[h:][::-1]
-        wts = folded
-        th, ph = np.meshgrid(rule.theta[:h], rule.phi, indexing="ij")
-    else:
-        th, ph = np.meshgrid(rule.theta, rule.phi, indexing="ij")
-    wts = wts.ravel()
-    th, ph = th.ravel(), ph.ravel()
-    dirs = np.column_stack([np.sin(th) * np.cos(ph), np.sin(th) * np.sin(ph), np.cos(th)])
+    dirs, wts = power_rule(array)  # the sphere rule and fold of radiation.power_matrix
     keep = wts > 0
     dirs, wts = dirs[keep], wts[keep]
 
