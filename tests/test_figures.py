@@ -443,3 +443,25 @@ def test_locate_on_cut_inverts_the_cut(theta, phi, k):
     d = np.cos(np.deg2rad(3.0)) * dirs[k] + np.sin(np.deg2rad(3.0)) * n
     t2, p2 = angles_deg(d[None, :])
     assert locate_on_cut(c, t2[0], p2[0])[1] == pytest.approx(3.0, abs=1e-6)
+
+
+def test_study_figures_from_rows():
+    """Sweep curves and tolerance histograms drawn from a study's rows: one line per value
+    of the second axis with the rows' values in order, the dB floor (no sidelobe found) not
+    drawn; one histogram per metric holding every trial."""
+    from steradian.report import sweep_result_figure, tolerance_result_figure
+
+    rows = [{"s": s, "phi": p, "directivity_dbi": 10 + s + p / 100, "psl_db": -13.0 if s < 0.7
+             else -300.0, "pointing_error_deg": 0.01 * s}
+            for p in (45.0, 60.0) for s in (0.5, 0.6, 0.7)]
+    fig = sweep_result_figure(rows, ["s", "phi"])
+    d_ax, psl_ax = fig.axes[0], fig.axes[1]
+    assert len(d_ax.lines) == 2
+    assert list(d_ax.lines[1].get_ydata()) == [10 + s + 0.6 for s in (0.5, 0.6, 0.7)]
+    assert list(psl_ax.lines[0].get_ydata()) == [-13.0, -13.0]  # the floor is left out
+    trials = [{"directivity_loss_db": 0.01 * i, "psl_db": -30 + 0.01 * i,
+               "pointing_error_deg": 0.001 * i} for i in range(50)]
+    figs = tolerance_result_figure(trials)
+    assert len(figs) == 3
+    counts = sum(p.get_height() for p in figs[0].axes[0].patches)
+    assert counts == 50

@@ -182,11 +182,18 @@ def test_tolerance_and_sweep_commands(design, tmp_path):
                              "--json"])
     assert r.exit_code == 0, r.output
     assert json.loads(r.output)["psl_db"] == pytest.approx(worst["value"], abs=0.02)
+    r = runner.invoke(main, ["tolerance", str(design), "--trials", "40", "--chunk", "20",
+                             "--workers", "1", "-o", str(out), "--figure",
+                             str(tmp_path / "tol.svg")])
+    assert r.exit_code == 0, r.output
+    assert (tmp_path / "tol_psl_db.svg").stat().st_size > 0
     r = runner.invoke(main, ["sweep", str(design), "--workers", "1", "-o",
-                             str(tmp_path / "s.csv"), "--json"])
+                             str(tmp_path / "s.csv"), "--json", "--figure",
+                             str(tmp_path / "s.png")])
     assert r.exit_code == 0, r.output
     s = json.loads(r.output)
     assert [row["steering.theta_deg"] for row in s["rows"]] == [0.0, 20.0, 40.0]
+    assert s["figure"] == str(tmp_path / "s.png") and (tmp_path / "s.png").stat().st_size
     r = runner.invoke(main, ["sweep", str(design), "--vary", "steering.theta_dg=0:10:2",
                              "-o", str(tmp_path / "bad.csv")])
     assert r.exit_code == 2

@@ -8,9 +8,16 @@ from collections.abc import Mapping, Sequence
 
 import numpy as np
 
+from ..units import DB_FLOOR
 from ._style import new_figure, styled, title_lines
 
 __all__ = ["trade_curve_figure", "sweep_figure", "histogram_figure", "coverage_figure"]
+
+
+def _plottable(v) -> bool:
+    """A value to draw: present, finite and above the dB floor (the floor means "none",
+    e.g. no sidelobe found, and would stretch the axis by 300 dB)."""
+    return v is not None and bool(np.isfinite(v)) and v > DB_FLOOR + 1
 
 
 def _legend_below(fig, ax, ncol: int = 2):
@@ -76,7 +83,7 @@ def sweep_figure(rows: Sequence[Mapping], x: str, y: Sequence[str] | str, *,
         axes = [fig.add_subplot(len(ys), 1, k + 1) for k in range(len(ys))]
         for k, (ax, col) in enumerate(zip(axes, ys, strict=True)):
             pts = [(r[x], r[col]) for r in rows if r.get(x) is not None
-                   and r.get(col) is not None]
+                   and _plottable(r.get(col))]
             if pts:
                 a = np.asarray(pts, float)
                 ax.plot(a[:, 0], a[:, 1], "o-", ms=3.5, color=f"C{k}")
@@ -103,7 +110,7 @@ def _grouped_sweep(rows, x, y, group, labels, limits, caption, what):
         for ax, col in zip(axes, ys, strict=True):
             for g, val in enumerate(values):
                 pts = [(r[x], r[col]) for r in rows if r.get(group) == val
-                       and r.get(x) is not None and r.get(col) is not None]
+                       and r.get(x) is not None and _plottable(r.get(col))]
                 if pts:
                     a = np.asarray(pts, float)
                     ax.plot(a[:, 0], a[:, 1], "o-", ms=3, color=f"C{g % 10}",
