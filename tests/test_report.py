@@ -269,3 +269,24 @@ def test_pdf_without_chromium_is_one_clear_error(tmp_path, monkeypatch):
     assert res.exit_code == 2
     assert "steradian: error: PDF output needs Debian's chromium" in res.output
     assert out.exists() and not (tmp_path / "r.pdf").exists()
+
+
+def test_coupled_design_report_shows_active_match_over_scan(tmp_path):
+    """Issue 13: the report of a coupled design has the coupling section -- active VSWR,
+    accepted fraction and realized gain per scan direction, the design excitation's match
+    and the power balance -- every number equal to `analyze --json` of the same design."""
+    design = load_design(ROOT / "configs" / "relay_mast_coupled_dipoles.toml")
+    ana = json.loads(json.dumps(analyze_design(design)))
+    rep = write_report(design, tmp_path / "r.html", figures=("cuts",))
+    page = (tmp_path / "r.html").read_text()
+    p = _Cells()
+    p.feed(page)
+    keys = [k for k, _ in p.cells if k.startswith("coupling.")]
+    n = len(ana["coupling"]["scan"])
+    assert {f"coupling.scan.{i}.worst_active_vswr" for i in range(n)} <= set(keys)
+    assert "coupling.design_excitation.power_balance_relative_error" in keys
+    for key, value in p.cells:
+        if key.startswith("coupling."):
+            assert float(value) == _path(ana, key), key
+    assert "Mutual coupling" in page and rep.summary["coupling"]
+    assert "e-1" in page  # the power balance in scientific notation (about 1e-12)

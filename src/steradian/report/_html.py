@@ -15,6 +15,8 @@ import html
 import math
 from collections.abc import Mapping
 
+import numpy as np
+
 __all__ = ["metric_table", "verdict_table", "page", "REFERENCES", "CONVENTIONS", "fmt"]
 
 REFERENCES = (
@@ -66,8 +68,23 @@ def cell(value, key: str | None = None, digits: int = 2, unit: str = "") -> str:
     """A table cell: the rounded number, with its summary path and full value as data."""
     attrs = ""
     if key is not None and value is not None and not isinstance(value, (dict, list)):
-        attrs = f' data-key="{html.escape(key)}" data-value="{html.escape(repr(value))}"'
+        attrs = f' data-key="{html.escape(key)}" data-value="{html.escape(_full(value))}"'
     return f"<td{attrs}>{html.escape(fmt(value, digits, unit))}</td>"
+
+
+def _full(value) -> str:
+    """The full value of a number cell: Python's repr of the float (numpy scalars too)."""
+    if isinstance(value, bool) or not isinstance(value, (int, float, np.number)):
+        return repr(value)
+    return repr(float(value)) if isinstance(value, (float, np.floating)) else repr(int(value))
+
+
+def _sci_cell(value, key: str) -> str:
+    """:func:`cell` for a small number, in scientific notation (1.4e-12, not 0.00)."""
+    if value is None:
+        return cell(None, key)
+    return (f'<td data-key="{html.escape(key)}" data-value="{html.escape(_full(value))}">'
+            f"{value:.1e}</td>")
 
 
 def _row(label: str, *cells: str) -> str:
@@ -165,6 +182,61 @@ def metric_table(summary: Mapping, taper_eff: float | None = None) -> str:
         rows += _lobe_rows(m) + _scan_rows(m)
     return ('<table class="metrics"><thead><tr><th>figure</th><th>value</th><th>detail</th>'
             "</tr></thead><tbody>" + "".join(rows) + "</tbody></table>")
+
+
+def coupling_table(c: Mapping) -> str:
+    """The mutual-coupling section as HTML: the design excitation's match and realized gain,
+    the power balance, and active VSWR and realized gain over the scan cuts (the
+    ``coupling`` block of the analysis; every number a cell keyed to it)."""
+    d = c.get("design_excitation") or {}
+    z = c.get("self_impedance_ohm")
+    rows = [_row("coupling", _text(f"{c.get('model')}: {c.get('source')}"),
+                 _text(f"reference {fmt(c.get('z0_ohm'), 1)} ohm"
+                       if not isinstance(c.get("z0_ohm"), list) else "reference per port"))]
+    if z:
+        rows.append(_row("self impedance", cell(z[0], "coupling.self_impedance_ohm.0", 2,
+                                                "ohm (resistance)"),
+                         cell(z[1], "coupling.self_impedance_ohm.1", 2, "ohm (reactance)")))
+    if d:
+        rows += [
+            _row("worst active VSWR", cell(d.get("worst_active_vswr"),
+                                           "coupling.design_excitation.worst_active_vswr", 2),
+                 _text(f"element {d.get('worst_element')}, design excitation")),
+            _row("mismatch loss", cell(d.get("mismatch_loss_db"),
+                                       "coupling.design_excitation.mismatch_loss_db", 3, "dB"),
+                 _text("1 - accepted / incident power")),
+            _row("coupled realized gain", cell(d.get("realized_gain_dbi"),
+                                               "coupling.design_excitation.realized_gain_dbi",
+                                               2, "dBi"),
+                 _text("peak, with the accepted power of the coupled ports (the metrics' "
+                       "realized gain above uses the single mismatch factor)")),
+            _row("power balance", _sci_cell(d.get("power_balance_relative_error"),
+                                            "coupling.design_excitation."
+                                            "power_balance_relative_error"),
+                 _text("integrated radiated power against accepted power (relative)"))]
+    head = ('<table class="metrics"><thead><tr><th>figure</th><th>value</th><th>detail</th>'
+            "</tr></thead><tbody>" + "".join(rows) + "</tbody></table>")
+    scan = c.get("scan") or []
+    if not scan:
+        return head
+    cols = (("worst_active_vswr", "worst active VSWR", 2, ""),
+            ("accepted_fraction", "accepted fraction", 3, ""),
+            ("realized_gain_dbi", "realized gain (dBi)", 2, ""),
+            ("uncoupled_optimum_realized_gain_dbi", "uncoupled optimum (dBi)", 2, ""),
+            ("max_realized_gain_dbi", "coupling-aware max (dBi)", 2, ""))
+    body = []
+    for i, r in enumerate(scan):
+        cells = "".join(cell(r.get(k), f"coupling.scan.{i}.{k}", dg, u) for k, _, dg, u in cols)
+        body.append(f"<tr><th>{html.escape(fmt(r['theta_deg'], 1))} / "
+                    f"{html.escape(fmt(r['phi_deg'], 1))} deg</th>{cells}"
+                    f"<td>{'BLIND' if r.get('blind') else ''}</td></tr>")
+    blind = c.get("blind_directions") or []
+    note = (f"<p class=\"caution\">Scan blindness (|Gamma| near 1) at {len(blind)} "
+            "direction(s) of the scan cuts.</p>" if blind else "")
+    return (head + '<table class="metrics"><thead><tr><th>scan theta / phi</th>'
+            + "".join(f"<th>{html.escape(t)}</th>" for _, t, _, _ in cols)
+            + "<th>blind</th></tr></thead><tbody>" + "".join(body) + "</tbody></table>"
+            + note)
 
 
 def _limit_text(v: Mapping) -> str:

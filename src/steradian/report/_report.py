@@ -103,8 +103,10 @@ def _assumptions(s: Mapping) -> str:
     items.append(f"Radiated power by {rp['method']}"
                  + (f" ({rp['n_theta']} x {rp['n_phi']} nodes)" if rp.get("n_theta") else "")
                  + f", relative error estimate {rp['relative_error_estimate']:.1e}.")
-    items.append("Element pattern: the model above, identical for every element (mutual "
-                 "coupling is not modelled); weights as designed, without quantization.")
+    items.append("Element pattern: the model above, identical for every element"
+                 + ("; mutual coupling as in its section (ports driven by incident waves)"
+                    if s.get("coupling") else " (mutual coupling is not modelled)")
+                 + "; weights as designed, without quantization.")
     for note in (s.get("metrics") or {}).get("notes") or []:
         items.append(str(note))
     return "<ul>" + "".join(f"<li>{html.escape(i)}</li>" for i in items) + "</ul>"
@@ -133,6 +135,8 @@ def design_report(design, *, summary: Mapping | None = None, frequency: float | 
         ("The job and its requirements", _job(design, s) + _html.verdict_table(reqs)),
         ("Metrics", _html.metric_table(s, eff)
          + (f'<p class="caution">{html.escape(caution)}</p>' if caution else "")),
+        *([("Mutual coupling: active match and realized gain over scan",
+             _html.coupling_table(s["coupling"]))] if s.get("coupling") else []),
         ("Figures", _figures(design, s, figures)),
         ("The design, echoed back", _echo(design)),
         ("Assumptions and conventions", _assumptions(s)),
