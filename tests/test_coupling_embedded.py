@@ -82,6 +82,15 @@ def test_element_classes_from_the_lattice():
         element_classes(Geometry(np.random.default_rng(1).normal(size=(4, 3))))
 
 
+def _panel_doc(coupling: dict) -> dict:
+    """The 3 x 3 dipole panel of these tests as a design document with ``coupling``."""
+    return {"design": {"name": "t", "frequency_hz": C0},
+            "geometry": {"kind": "rectangular", "count_x": 3, "count_y": 3, "spacing_x": 0.5,
+                         "spacing_y": 0.5, "units": "wavelength"},
+            "element": {"model": "dipole", "length_wl": 0.48, "axis": "x"},
+            "coupling": coupling}
+
+
 def test_design_with_class_tables(model, tmp_path):
     """A design with a Touchstone S and centre/edge/corner tables (the exact patterns of the
     centre, one edge and one corner port, 2-degree grid): analyze reports the embedded
@@ -91,16 +100,11 @@ def test_design_with_class_tables(model, tmp_path):
     for name, port in (("centre", 4), ("edge", 1), ("corner", 0)):
         write_element_table(tmp_path / f"{name}.csv", tables[f"e{port}"], theta_step_deg=2,
                             phi_step_deg=2)
-    doc = {
-        "design": {"name": "t", "frequency_hz": C0},
-        "geometry": {"kind": "rectangular", "count_x": 3, "count_y": 3, "spacing_x": 0.5,
-                     "spacing_y": 0.5, "units": "wavelength"},
-        "element": {"model": "dipole", "length_wl": 0.48, "axis": "x"},
-        "coupling": {"model": "touchstone", "file": "p.s9p",
-                     "patterns": {"centre": "centre.csv", "edge": "edge.csv",
-                                  "corner": "corner.csv"},
-                     "scan_theta_max_deg": 40, "scan_theta_step_deg": 20},
-        "analysis": {"metrics": False}}
+    doc = _panel_doc({"model": "touchstone", "file": "p.s9p",
+                      "patterns": {"centre": "centre.csv", "edge": "edge.csv",
+                                   "corner": "corner.csv"},
+                      "scan_theta_max_deg": 40, "scan_theta_step_deg": 20})
+    doc["analysis"] = {"metrics": False}
     s = analyze_design(design_from_dict(doc, tmp_path / "t.toml", base_dir=tmp_path))
     cb = s["coupling"]
     assert cb["embedded_patterns"] is True
@@ -124,15 +128,10 @@ def test_beam_tables_refuse_tabulated_patterns(model, tmp_path):
     write_touchstone(tmp_path / "p.s9p", Network(np.array([C0]), c.S[None], c.z0))
     write_element_table(tmp_path / "centre.csv", tables["e4"], theta_step_deg=2,
                         phi_step_deg=2)
-    doc = {
-        "design": {"name": "t", "frequency_hz": C0},
-        "geometry": {"kind": "rectangular", "count_x": 3, "count_y": 3, "spacing_x": 0.5,
-                     "spacing_y": 0.5, "units": "wavelength"},
-        "element": {"model": "dipole", "length_wl": 0.48, "axis": "x"},
-        "coupling": {"model": "touchstone", "file": "p.s9p",
-                     "patterns": {"centre": "centre.csv"}},
-        "channel": {"phase_bits": 6},
-        "beams": {"grid": "theta_phi", "theta_deg": [0, 20], "phi_deg": [0]}}
+    doc = _panel_doc({"model": "touchstone", "file": "p.s9p",
+                      "patterns": {"centre": "centre.csv"}})
+    doc |= {"channel": {"phase_bits": 6},
+            "beams": {"grid": "theta_phi", "theta_deg": [0, 20], "phi_deg": [0]}}
     with pytest.raises(DesignError, match="tabulated embedded patterns") as e:
         beam_table_from_design(design_from_dict(doc, tmp_path / "t.toml", base_dir=tmp_path))
     assert e.value.key == "coupling.patterns"
