@@ -58,8 +58,9 @@ from ._build import (
     expand_kinds,
     steered_weights,
 )
-from ._evaluate import BeamEvaluator, BeamMetrics
+from ._evaluate import BeamEvaluator
 from ._grids import BEAMS_KEYS, beam_kinds_from_table, beams_from_table, span
+from ._metrics import BeamMetrics
 from ._table import BEAM_KINDS, IQ_SCALE, BeamTable, Encoding, jsonable
 from ._verify import Verification, verify_beam_table
 

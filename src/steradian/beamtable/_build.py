@@ -13,7 +13,8 @@ from ..errors import SteradianError
 from ..quantize import ChannelModel
 from ..radiation import RF_EXPOSURE_CAUTION
 from ..units import db20
-from ._evaluate import BeamEvaluator, BeamMetrics
+from ._evaluate import BeamEvaluator
+from ._metrics import BeamMetrics
 from ._reference import sidelobe_offsets
 from ._table import BEAM_KINDS, BeamTable
 

@@ -51,10 +51,6 @@ def jsonable(obj):
     return str(obj)
 
 
-# Names the evaluator module (beamtable/_evaluate.py, owned by the numerics work) still
-# imports; they are the public helpers above under their old names, not copies.
-
-
 # ---------------------------------------------------------------------------------------
 # The weight-file content
 # ---------------------------------------------------------------------------------------

@@ -19,7 +19,8 @@ from ..errors import SteradianError
 from ..quantize import ChannelModel
 from ..units import wrap_deg
 from ._build import WeightSource, build_beam_table, channel_ideal, expand_kinds, kind_weights
-from ._evaluate import BeamEvaluator, BeamMetrics
+from ._evaluate import BeamEvaluator
+from ._metrics import BeamMetrics
 from ._table import BeamTable
 
 DIRECTION_TOLERANCE_DEG = 1e-6
