@@ -134,17 +134,26 @@ def coupling_of_design(design, frequency: float | None = None, spec=None):
                        tables=tables)
 
 
-def design_beam_weights(design):
+def _table_coupling(design) -> tuple:
+    """``(spec, coupling)`` of the design's ``[coupling]`` for its beam tables, built once
+    for the weights and the evaluator (``(None, None)`` without one)."""
+    spec = coupling_spec_of_design(design)
+    return spec, (None if spec is None else coupling_of_design(design, spec=spec))
+
+
+def design_beam_weights(design, coupled: tuple | None = None):
     """The per-beam weight source ``[coupling] beam_weights`` asks for: None (the design's
     taper steered) or the coupling-aware weights of maximum realized gain
-    (:func:`steradian.coupling.coupled_beam_weights`), for ``beams`` and ``verify`` alike."""
-    spec = coupling_spec_of_design(design)
+    (:func:`steradian.coupling.coupled_beam_weights`), for ``beams`` and ``verify`` alike.
+    ``coupled``: the design's ``(spec, coupling)`` when already built."""
+    spec = coupling_spec_of_design(design) if coupled is None else coupled[0]
     if spec is None or spec.beam_weights == "taper":
         return None
-    return coupled_beam_weights(design.array, coupling_of_design(design, spec=spec))
+    c = coupling_of_design(design, spec=spec) if coupled is None else coupled[1]
+    return coupled_beam_weights(design.array, c)
 
 
-def beam_evaluator_of_design(design) -> BeamEvaluator:
+def beam_evaluator_of_design(design, coupled: tuple | None = None) -> BeamEvaluator:
     """The :class:`~steradian.beamtable.BeamEvaluator` of the design's beam tables: with a
     ``[coupling]`` table the weights are port waves, evaluated with the ports' S (realized
     gain, accepted power) and, when the model gives it, the port-to-current map T (the
@@ -158,10 +167,9 @@ def beam_evaluator_of_design(design) -> BeamEvaluator:
         isolated element's figures.
     """
     eff = design.options.radiation_efficiency
-    spec = coupling_spec_of_design(design)
+    spec, c = _table_coupling(design) if coupled is None else coupled
     if spec is None:
         return BeamEvaluator(design.array, efficiency=eff)
-    c = coupling_of_design(design, spec=spec)
     if c.patterns is not None:
         raise DesignError("coupling.patterns", "beam tables do not evaluate tabulated "
                           "embedded patterns (each element's own pattern) yet; their figures "
@@ -503,7 +511,8 @@ def beam_table_from_design(design, *, weights=None,
     """
     ch = channel_of_design(design)
     src = None if design.source is None else str(design.source)
-    weights = design_beam_weights(design) if weights is None else weights
+    coupled = _table_coupling(design) if weights is None or evaluator is None else None
+    weights = design_beam_weights(design, coupled) if weights is None else weights
     if weights is None:
         check_taper_steerable(design)
     if ch is None:
@@ -514,7 +523,7 @@ def beam_table_from_design(design, *, weights=None,
         raise DesignError("beams", "the design has no [beams] table; give the steering grid "
                           "(grid = 'theta_phi', 'az_el' or 'list')", src)
     eff = design.options.radiation_efficiency
-    evaluator = evaluator or beam_evaluator_of_design(design)
+    evaluator = evaluator or beam_evaluator_of_design(design, coupled)
     build = build_beam_table(design.array, ch, d, weights=weights, efficiency=eff,
                              evaluator=evaluator, metadata=design_metadata(design),
                              element_power_w=design.options.element_power_w,
@@ -624,7 +633,8 @@ def verify_weight_file(design, path, fmt: str | None = None, *, weights=None,
     -------
     (BeamTable, Verification)
     """
-    weights = design_beam_weights(design) if weights is None else weights
+    coupled = _table_coupling(design) if weights is None or evaluator is None else None
+    weights = design_beam_weights(design, coupled) if weights is None else weights
     if weights is None:
         check_taper_steerable(design)
     table = read_weight_file(path, fmt)
@@ -640,7 +650,7 @@ def verify_weight_file(design, path, fmt: str | None = None, *, weights=None,
         notes.append("the design has no [beams] table: the number and directions of the "
                      "beams are NOT compared; the file's directions are taken as commanded")
     eff = design.options.radiation_efficiency
-    evaluator = evaluator or beam_evaluator_of_design(design)
+    evaluator = evaluator or beam_evaluator_of_design(design, coupled)
     v = verify_beam_table(design.array, ch, table, weights=weights, efficiency=eff,
                           element_power_w=design.options.element_power_w,
                           evaluator=evaluator, directions=d,

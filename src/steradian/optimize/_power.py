@@ -40,10 +40,11 @@ _DENSE_UP_TO = 2048  # elements: the dense Gram form is faster up to here (rule 
 _ROUND = 1e-7  # separations equal within this fraction of the element spacing are one
 
 
-def reference_reduced_power(array, T, enabled, loading: float):
+def reference_reduced_power(array, T, enabled, loading: float, Q=None):
     """Plain form (the reference the structured one is tested against): the dense power
-    matrix, loaded, projected. Returns ``(Qs, delta)``."""
-    Q = power_matrix(array)
+    matrix (or the given one, e.g. a coupled array's accepted power), loaded, projected.
+    Returns ``(Qs, delta)``."""
+    Q = power_matrix(array) if Q is None else Q
     delta = float(loading) * float(np.mean(np.real(np.diag(Q))[enabled]))
     QL = Q + delta * np.eye(array.n)
     Qs = np.real(T.conj().T @ QL @ T)

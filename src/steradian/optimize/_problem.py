@@ -24,7 +24,7 @@ from ..validate import choice
 from ._domain import Domain, choose_domain
 from ._frame import Frame, Param, chebyshev_null, frame_of, parametrise, symmetry_maps
 from ._masks import Mask, Notch
-from ._power import reduced_power
+from ._power import reduced_power, reference_reduced_power
 
 __all__ = ["Setup", "make_setup", "reduced_power_matrix", "Rows", "rows_at", "SidelobeFamily",
            "NotchFamily", "WeightsKind", "SymmetryKind", "cholesky"]
@@ -230,11 +230,8 @@ def _prepare(array, weights, symmetry, loading, power_form, power_matrix=None) -
             resolved = "none"
             param = parametrise(pos, enabled, phases, frame, weights, "none")
     if power_matrix is not None:
-        Q = given_power(power_matrix, N)
-        delta = float(loading) * float(np.mean(np.real(np.diag(Q))[enabled]))
-        T = param.T
-        Qs = np.real(T.conj().T @ (Q + delta * np.eye(N)) @ T)
-        Qs = 0.5 * (Qs + Qs.T)
+        Qs, delta = reference_reduced_power(array, param.T, enabled, loading,
+                                            given_power(power_matrix, N))
     else:
         Qs, delta = reduced_power(array, param.T, enabled, loading, power_form)
     A0 = response_matrix(array, Directions.from_vectors(r0[None, :]))
