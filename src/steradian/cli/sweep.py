@@ -58,6 +58,6 @@ def sweep(design_file, vary, metrics, figure_path, output, summary_path, workers
         emit_json(summary | {"rows": run.rows})
         return
     click.echo(sweep_lines(run.rows, run.summary, [a.label for a in spec.axes]))
+    click.echo(f"{run.computed} points computed now")
     echo_written([run.output] + ([summary_path] if summary_path else [])
-                 + ([figure_path] if figure_path else []),
-                 f"{run.computed} points computed now; wrote")
+                 + ([figure_path] if figure_path else []))

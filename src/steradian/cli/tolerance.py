@@ -83,5 +83,5 @@ def tolerance(design_file, trials, seed, amplitude_db, phase_deg, position_mm, f
         emit_json(summary)
         return
     click.echo(table(tolerance_rows(summary), f"Tolerance: {Path(design_file).name}"))
-    echo_written([run.output] + ([summary_path] if summary_path else []) + figures,
-                 f"{run.computed} trials computed now; wrote")
+    click.echo(f"{run.computed} trials computed now")
+    echo_written([run.output] + ([summary_path] if summary_path else []) + figures)

@@ -128,9 +128,10 @@ def _grouped_sweep(rows, x, y, group, labels, limits, caption, what):
 
 def histogram_figure(values, *, label: str, limit: float | None = None,
                      caption: str | None = None, what: str = "tolerance study",
-                     bins: int | str = "auto"):
+                     bins: int | str = "auto", axis_label: str | None = None):
     """Histogram of a Monte Carlo result (``values``: numbers, or rows as dictionaries with
-    the column ``label``), with its mean, its 95th percentile and a requirement ``limit``."""
+    the column ``label``), with its mean, its 95th percentile and a requirement ``limit``;
+    ``axis_label`` (default ``label``) names the value axis, with its unit."""
     if len(values) and isinstance(values[0], Mapping):
         values = [r[label] for r in values if r.get(label) is not None]
     v = np.asarray(values, float)
@@ -147,7 +148,7 @@ def histogram_figure(values, *, label: str, limit: float | None = None,
         if limit is not None:
             ax.axvline(limit, color="#b03a5b", ls=(0, (6, 3)), lw=1.4,
                        label=f"requirement {limit:g}")
-        ax.set_xlabel(label)
+        ax.set_xlabel(axis_label or label)
         ax.set_ylabel("trials")
         ax.set_title(title_lines(caption, f"{what}: {v.size} trials"))
         _legend_below(fig, ax, ncol=3)

@@ -36,6 +36,6 @@ def tolerance_result_figure(rows: Sequence[Mapping], *, caption: str | None = No
     """Histograms of a tolerance run's rows (directivity loss, peak sidelobe, pointing
     error), each with its mean and 95th percentile: one Figure per column, in
     :data:`TOLERANCE_COLUMNS` order."""
-    return [histogram_figure(rows, label=c, caption=caption,
+    return [histogram_figure(rows, label=c, caption=caption, axis_label=label,
                              what=f"tolerance study, {label}")
             for c, label in TOLERANCE_COLUMNS if any(r.get(c) is not None for r in rows)]
