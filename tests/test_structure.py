@@ -37,7 +37,7 @@ LAYERS: list[tuple[str, tuple[str, ...]]] = [
     ("elements", ("steradian.elements",)),
     ("array", ("steradian.array",)),
     ("engine", ("steradian.engine",)),
-    ("radiation", ("steradian.radiation",)),
+    ("radiation", ("steradian.radiation", "steradian.aperture")),
     ("patterns and metrics", ("steradian.patterns", "steradian.metrics")),
     ("analysis", ("steradian.analysis", "steradian.requirements")),
     ("coupling", ("steradian.coupling",)),

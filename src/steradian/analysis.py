@@ -112,7 +112,7 @@ class Analysis(Mapping):
         return len(self.to_dict())
 
 
-def analyze(array, options: AnalysisOptions | None = None) -> Analysis:
+def analyze(array, options: AnalysisOptions | None = None, *, aperture=None) -> Analysis:
     """Analyse ``array``: radiated power, peak directivity, gain, realized gain, EIRP and,
     with ``options.metrics``, the pattern metrics (beamwidths in two principal planes, peak
     sidelobe level, integrated sidelobe ratio, grating lobes, pointing error, front-to-back
@@ -122,6 +122,11 @@ def analyze(array, options: AnalysisOptions | None = None) -> Analysis:
     ``peak_directivity_dbi``, ``peak_theta_deg``, ``peak_phi_deg``, ``gain_dbi``,
     ``realized_gain_dbi``, ``radiated_power`` (value, method, rule size, relative error
     estimate), ``metrics`` and the rest.
+
+    ``aperture``: an :class:`steradian.aperture.Aperture` shared by analyses of arrays that
+    differ only in their weights (a scan or taper sweep) at ``options.frequency``: the
+    radiated-power matrices, search sets and the unsteered reference beam are then built
+    once for all of them. The results are the same to rounding.
     """
     opt = options or AnalysisOptions()
     f = opt.frequency
@@ -129,8 +134,12 @@ def analyze(array, options: AnalysisOptions | None = None) -> Analysis:
         from .metrics import require_metrics_search
 
         require_metrics_search(array, f)  # refuse an oversized search before any work
-    power = radiated_power(array, frequency=f)
-    pk = peak_directivity(array, frequency=f, power=power)
+    if aperture is not None:
+        aperture.check(array, f)
+        power = aperture.radiated_power(array)
+    else:
+        power = radiated_power(array, frequency=f)
+    pk = peak_directivity(array, frequency=f, power=power, aperture=aperture)
     g = float(gain(pk.directivity, opt.radiation_efficiency))
     mm = 1.0
     if opt.vswr is not None or opt.return_loss_db is not None:
@@ -139,7 +148,8 @@ def analyze(array, options: AnalysisOptions | None = None) -> Analysis:
     if opt.metrics:
         from .metrics import pattern_metrics
 
-        metrics = pattern_metrics(array, frequency=f, peak=pk, beam_kind=opt.beam_kind)
+        metrics = pattern_metrics(array, frequency=f, peak=pk, beam_kind=opt.beam_kind,
+                                  aperture=aperture)
     freq = array.frequency if f is None else f
     return Analysis(
         n_elements=array.n,

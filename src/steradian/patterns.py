@@ -66,10 +66,10 @@ def directivity_dbi(u, power_value: float) -> np.ndarray:
     return np.asarray(db10(4 * np.pi * np.asarray(u, float) / power_value))
 
 
-def resolve_peak(array, frequency, peak) -> Peak:
+def resolve_peak(array, frequency, peak, aperture=None) -> Peak:
     """``peak`` checked, or :func:`steradian.radiation.peak_directivity` when None."""
     if peak is None:
-        return peak_directivity(array, frequency=frequency)
+        return peak_directivity(array, frequency=frequency, aperture=aperture)
     if not isinstance(peak, Peak):
         raise SteradianError(f"peak must be a steradian Peak (from peak_directivity), got "
                              f"{type(peak).__name__}")

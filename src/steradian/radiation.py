@@ -204,20 +204,28 @@ def search_spacing(array, frequency=None, per_null: float = 2.0) -> float:
 
 
 def peak_directivity(array, *, frequency: float | None = None,
-                     power: RadiatedPower | None = None) -> Peak:
+                     power: RadiatedPower | None = None, aperture=None) -> Peak:
     """Peak directivity and its direction, refined off-grid.
 
     The package's lobe search (:mod:`steradian.sphere`): a near-uniform Fibonacci set with
     two samples per main-lobe null width finds every lobe's basin; the 6 highest local
     maxima and the steering direction are refined by a safeguarded Newton ascent in the
     tangent plane.
+
+    ``aperture`` (:class:`steradian.aperture.Aperture` of ``array`` at ``frequency``)
+    supplies the radiated power and the search set when analyses of many beams share them.
     """
     R = array.geometry.common_orientation
     front = array.element.front_only and (array.geometry.orientations is None or R is not None)
     spacing = search_spacing(array, frequency)
     require_search(spacing, front_only=front)  # refuse before the power integral
-    power = power or radiated_power(array, frequency=frequency)
-    search = SearchSet.fibonacci(spacing, front_only=front, rotation=R if front else None)
+    if aperture is None:
+        power = power or radiated_power(array, frequency=frequency)
+        search = SearchSet.fibonacci(spacing, front_only=front, rotation=R if front else None)
+    else:
+        power = power or aperture.radiated_power(array)
+        search = aperture.search_set(spacing, front_only=front,
+                                     rotation=R if front else None)
 
     def inten(v):
         return field(array, Directions.from_vectors(v), frequency=frequency).intensity

@@ -167,8 +167,13 @@ class _SweepJob:
         return [{"point": i, **r} for i, r in zip(idx, rows, strict=True)]
 
 
-def _execute(job, task):
-    """Run one task of ``job`` (in a worker process or in this one)."""
+def _execute(job, task, threads: int | None = None):
+    """Run one task of ``job`` (in a worker process or in this one); a worker sharing the
+    cores with others runs on ``threads`` threads (:func:`steradian.engine.set_threads`)."""
+    if threads is not None:
+        from .engine import set_threads
+
+        set_threads(threads)
     return job.run(task)
 
 
@@ -195,7 +200,7 @@ def _local(job, tasks, workers: int) -> Iterator[list]:
 
     with ProcessPoolExecutor(max_workers=min(workers, len(tasks)),
                              mp_context=mp.get_context("spawn")) as pool:
-        pending = {pool.submit(_execute, job, t) for t in tasks}
+        pending = {pool.submit(_execute, job, t, 1) for t in tasks}
         try:
             while pending:
                 done, pending = wait(pending, return_when=FIRST_COMPLETED)
@@ -220,7 +225,7 @@ def _dask(job, tasks, workers: int, scheduler) -> Iterator[list]:
                                dashboard_address=None)
         client = Client(cluster)
     try:
-        futures = [client.submit(_execute, job, t, pure=False) for t in tasks]
+        futures = [client.submit(_execute, job, t, 1, pure=False) for t in tasks]
         for f in as_completed(futures):
             yield f.result()
     finally:
@@ -353,10 +358,7 @@ def study_of_design_dict(doc: dict, spec: SweepSpec, source=None):
         arrays.append(d.array)
         freqs.append(d.options.frequency)
         eff = d.options.radiation_efficiency if eff is None else eff
-    if spec.metrics == "beam":
-        keys = [evaluation_key(a, f) for a, f in zip(arrays, freqs, strict=True)]
-    else:
-        keys = [str(i // spec.batch) for i in range(len(arrays))]
+    keys = [evaluation_key(a, f) for a, f in zip(arrays, freqs, strict=True)]
     return arrays, freqs, group_points(keys, spec.batch), eff
 
 

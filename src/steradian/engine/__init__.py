@@ -52,7 +52,37 @@ __all__ = ["Field", "field", "array_factor", "response_matrix", "response_blocks
            "dense_gram_matrix", "lattice_gram_matrix", "lattice_gram_table",
            "MEMORY_BUDGET", "DEFAULT_TOL", "PathChoice", "choose_path",
            "clear_plan_cache", "plan_cache_info", "sinc_power_sum", "gram_matrix",
-           "sinc_power_seconds", "field_seconds", "czt", "detect_rows", "Rows", "KERNELS"]
+           "sinc_power_seconds", "field_seconds", "czt", "detect_rows", "Rows", "KERNELS",
+           "set_threads", "transform_threads"]
+
+_LIMITS: list = []  # the BLAS/OpenMP limit object, kept so the limit holds
+
+
+def transform_threads() -> int:
+    """Threads the non-uniform FFTs use in this process (see :func:`set_threads`)."""
+    from . import _nufft
+
+    return _nufft.nthreads()
+
+
+def set_threads(n: int) -> None:
+    """Run the engine's threaded work on at most ``n`` threads in this process: the
+    non-uniform FFTs, the numba kernels and BLAS/OpenMP (by threadpoolctl).
+
+    A process that is one of several workers sharing the machine's cores calls this with 1:
+    threads of several processes competing for the same cores run slower than one thread
+    each (measured: two study workers on two cores each took twice as long per point with
+    their default threads).
+    """
+    from . import _nufft
+
+    n = max(1, int(n))
+    _nufft.cap_threads(n)
+    import numba
+    from threadpoolctl import threadpool_limits
+
+    numba.set_num_threads(min(n, numba.config.NUMBA_NUM_THREADS))
+    _LIMITS[:] = [threadpool_limits(limits=n)]
 
 
 def clear_plan_cache() -> None:

@@ -47,7 +47,7 @@ import numpy as np
 
 from ._cache import LRU
 
-__all__ = ["available", "min_tol", "nthreads", "type3", "type1_uv", "clear_cache",
+__all__ = ["available", "min_tol", "nthreads", "cap_threads", "type3", "type1_uv", "clear_cache",
            "cache_info"]
 
 _ducc = None
@@ -83,12 +83,22 @@ def available() -> bool:
     return plan3_class() is not None
 
 
+_CAP: list[int] = []  # set by cap_threads
+
+
+def cap_threads(n: int) -> None:
+    """At most ``n`` threads for the transforms from now on in this process."""
+    _CAP[:] = [max(1, int(n))]
+
+
 def nthreads() -> int:
-    """Threads for the transforms: the CPUs this process may run on."""
+    """Threads for the transforms: the CPUs this process may run on, at most the cap of
+    :func:`steradian.engine.set_threads`."""
     try:
-        return max(1, len(os.sched_getaffinity(0)))
+        n = max(1, len(os.sched_getaffinity(0)))
     except AttributeError:  # pragma: no cover - not Linux
-        return max(1, os.cpu_count() or 1)
+        n = max(1, os.cpu_count() or 1)
+    return min(n, _CAP[0]) if _CAP else n
 
 
 _MIN_TOL: dict[int, float] = {}  # one constant per dimension (1, 2, 3): never evicted

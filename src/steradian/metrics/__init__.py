@@ -117,6 +117,7 @@ from ..patterns import Cut, cut, principal_cuts
 from ..radiation import Peak
 from ..units import DB_FLOOR
 from ..validate import positive
+from ._beam import KSECTION_MINIMUM, ksection
 from ._context import Context, require_metrics_search
 from ._difference import (
     BEAM_KINDS,
@@ -133,11 +134,12 @@ from ._results import GratingLobe, Lobe, PatternMetrics, PlaneWidths
 __all__ = ["Cut", "principal_cuts", "cut", "DB_FLOOR", "PatternMetrics", "PlaneWidths", "Lobe",
            "GratingLobe", "pattern_metrics", "METRICS", "Metric", "metric", "BEAM_KINDS",
            "check_sum_beam", "coherent_level_db", "SUM_NULL_DB", "require_metrics_search",
-           "DifferenceNull", "difference_null"]
+           "DifferenceNull", "difference_null", "ksection", "KSECTION_MINIMUM"]
 
 
 def pattern_metrics(array, *, frequency: float | None = None, peak: Peak | None = None,
-                    grating_lobe_db: float = 3.0, beam_kind: str = "sum") -> PatternMetrics:
+                    grating_lobe_db: float = 3.0, beam_kind: str = "sum",
+                    aperture=None) -> PatternMetrics:
     """Beamwidths, sidelobes, grating lobes, pointing, front-to-back and scan loss of a beam.
 
     Parameters
@@ -166,7 +168,10 @@ def pattern_metrics(array, *, frequency: float | None = None, peak: Peak | None 
         difference beam without a boresight null.
     """
     grating_lobe_db = positive("grating_lobe_db", grating_lobe_db, " dB")
-    ctx = Context(array, frequency, peak, grating_lobe_db, check_beam_kind(beam_kind))
+    if aperture is not None:
+        aperture.check(array, frequency)
+    ctx = Context(array, frequency, peak, grating_lobe_db, check_beam_kind(beam_kind),
+                  aperture=aperture)
     if beam_kind == "sum":
         check_sum_beam(ctx)
     values: dict = {}

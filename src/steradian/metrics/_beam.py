@@ -41,6 +41,17 @@ KSECTION_MINIMUM = _MIN
 """The :func:`ksection` kind that brackets a minimum."""
 
 
+FINISH_SHRINK = {0: 64, 2: 1024}
+"""A half-power (kind 0) or minimum (kind 2) bracket is finished by interpolation once
+k-section has shrunk it by this factor: two steps for a crossing, five for a minimum at
+k = 8. The cubic through four of the last step's samples then places a half-power crossing
+to about 1e-12 rad and a true null (a zero of the field, where U is quadratic) to about
+1e-12 rad; the errors fall with the fourth and the third power of the sample spacing."""
+
+# Inverse Vandermonde of the nodes t = 0, 1, 2, 3: cubic coefficients c0..c3 from 4 values.
+_CUBIC = np.linalg.inv(np.vander(np.arange(4.0), 4, increasing=True))
+
+
 def ksection(fun, a, b, kind, k: int = 8, tol: float = 1e-13, iters: int = 40):
     """Vectorised k-section refinement of many brackets at once (one ``fun`` call per step).
 
@@ -48,13 +59,26 @@ def ksection(fun, a, b, kind, k: int = 8, tol: float = 1e-13, iters: int = 40):
     samples every bracket [a, b] at k+1 equally spaced points and keeps the sub-bracket
     holding the event: for ``_HALF`` the first fall below 0.5, for ``_EDGE`` the first exact
     zero, for ``_MIN`` the neighbours of the smallest sample (the bracket shrinks by k for
-    roots, by k/2 for minima). Returns the bracket midpoints.
+    roots, by k/2 for minima). Once a half-power or minimum bracket has shrunk by
+    :data:`FINISH_SHRINK` (or below ``tol``) it is finished on the last step's samples: the
+    cubic through the four samples about the event, solved for 0.5 by safeguarded Newton
+    steps, or for its stationary point (both converge far faster than further sections on
+    the smooth pattern). An exact-zero edge is a jump and is sectioned down to ``tol``.
+    Returns the refined points.
+
+    References
+    ----------
+    R. P. Brent, *Algorithms for Minimization without Derivatives*, Prentice-Hall, 1973,
+    ch. 3-5 (interpolation within a bracket).
     """
     a, b = np.array(a, float), np.array(b, float)
     kind = np.asarray(kind)
+    out = np.full(len(a), np.nan)
     t = np.linspace(0.0, 1.0, k + 1)
+    shrink = np.where(kind == _HALF, FINISH_SHRINK[_HALF], FINISH_SHRINK[_MIN])
+    finish = np.where(kind == _EDGE, tol, np.maximum((b - a) * (1 + 1e-9) / shrink, tol))
     for _ in range(iters):
-        act = np.flatnonzero(b - a > tol)
+        act = np.flatnonzero(np.isnan(out) & (b - a > tol))
         if not len(act):
             break
         x = a[act, None] + (b - a)[act, None] * t[None, :]
@@ -64,10 +88,60 @@ def ksection(fun, a, b, kind, k: int = 8, tol: float = 1e-13, iters: int = 40):
         i_root = np.clip(np.argmin(good, axis=1), 1, k)  # first sample past the event
         i_min = np.argmin(v, axis=1)
         rows = np.arange(len(act))
-        lo = np.where(kd == _MIN, x[rows, np.maximum(i_min - 1, 0)], x[rows, i_root - 1])
-        hi = np.where(kd == _MIN, x[rows, np.minimum(i_min + 1, k)], x[rows, i_root])
+        lo_i = np.where(kd == _MIN, np.maximum(i_min - 1, 0), i_root - 1)
+        hi_i = np.where(kd == _MIN, np.minimum(i_min + 1, k), i_root)
+        lo, hi = x[rows, lo_i], x[rows, hi_i]
         a[act], b[act] = lo, hi
-    return 0.5 * (a + b)
+        done = ((hi - lo) <= finish[act]) & (kd != _EDGE)
+        if done.any():
+            out[act[done]] = _finish(kd[done], x[done], v[done], lo_i[done], hi_i[done])
+    return np.where(np.isnan(out), 0.5 * (a + b), out)
+
+
+def _finish(kind, x, v, lo_i, hi_i):
+    """The event in brackets [x[lo_i], x[hi_i]] from the cubic through four of the equally
+    spaced samples ``v`` at ``x`` (rows): the crossing of 0.5 (``_HALF``) or the stationary
+    point (``_MIN``), kept inside the bracket."""
+    r = np.arange(len(kind))
+    k = x.shape[1] - 1
+    j0 = np.clip(lo_i - 1 if k >= 3 else 0, 0, k - 3)
+    c = v[r[:, None], j0[:, None] + np.arange(4)] @ _CUBIC.T  # p(t) = sum c_i t^i
+    t_lo, t_hi = (lo_i - j0).astype(float), (hi_i - j0).astype(float)
+    half = kind == _HALF
+    # Crossing: Newton from the chord's root, kept in the bracket.
+    f_lo = _poly(c, t_lo) - 0.5
+    f_hi = _poly(c, t_hi) - 0.5
+    den = np.where(f_lo != f_hi, f_lo - f_hi, 1.0)
+    s = np.clip(t_lo + (t_hi - t_lo) * f_lo / den, t_lo, t_hi)
+    for _ in range(6):
+        d1 = c[:, 1] + 2 * c[:, 2] * s + 3 * c[:, 3] * s**2
+        step = np.where(d1 != 0, (_poly(c, s) - 0.5) / np.where(d1 != 0, d1, 1.0), 0.0)
+        s = np.clip(s - step, t_lo, t_hi)
+    # Minimum: the root of p' (a quadratic) with p'' > 0 in the bracket, else the vertex of
+    # the parabola through the bracket's three samples.
+    A, B, C = 3 * c[:, 3], 2 * c[:, 2], c[:, 1]
+    disc = B * B - 4 * A * C
+    sq = np.sqrt(np.maximum(disc, 0.0))
+    lin = np.abs(A) < 1e-300
+    q = -0.5 * (B + np.copysign(sq, B))
+    roots = np.stack([np.where(lin, -C / np.where(B != 0, B, 1.0), q / np.where(A != 0, A, 1.0)),
+                      np.where(q != 0, C / np.where(q != 0, q, 1.0), np.inf)], axis=1)
+    curv = 2 * c[:, 2, None] + 6 * c[:, 3, None] * roots
+    ok = (disc[:, None] >= 0) & (curv > 0) & (roots >= t_lo[:, None]) & (roots <= t_hi[:, None])
+    m = np.where(ok[:, 0], roots[:, 0], np.where(ok[:, 1], roots[:, 1], np.nan))
+    mid = 0.5 * (t_lo + t_hi)
+    ym, y0, yp = _poly(c, t_lo), _poly(c, mid), _poly(c, t_hi)
+    cv = ym - 2 * y0 + yp
+    vert = mid + np.where(cv > 0, 0.25 * (t_hi - t_lo) * (ym - yp) / np.where(cv > 0, cv, 1.0),
+                          0.0)
+    m = np.where(np.isnan(m), np.clip(vert, t_lo, t_hi), m)
+    got = np.where(half, s, m)
+    step_x = x[r, 1] - x[r, 0]
+    return x[r, j0] + got * step_x
+
+
+def _poly(c, t):
+    return c[:, 0] + t * (c[:, 1] + t * (c[:, 2] + t * c[:, 3]))
 
 
 class Beam:

@@ -12,7 +12,7 @@ import numpy as np
 
 from ..patterns import beam_axis, resolve_peak, symmetry
 from ..radiation import search_spacing
-from ..sphere import SearchSet, pointwise, refine_maxima, require_search
+from ..sphere import SearchSet, refine_maxima, require_search
 from ._beam import N_RADIALS, BandLobe, Beam, RadialLobe, arc
 from ._difference import difference_beam
 
@@ -25,17 +25,21 @@ _MIN_SEARCH = 2000
 N_REFINE = 16
 """Sidelobe candidates refined by the lobe search."""
 
+N_REAR = 4
+"""Rear-hemisphere candidates refined for the front-to-back ratio."""
+
 
 class Context:
     """One beam of ``array`` at ``frequency`` and the work its metrics share."""
 
     def __init__(self, array, frequency, peak, grating_lobe_db: float, beam_kind: str = "sum",
-                 axis=None):
+                 axis=None, aperture=None):
         self.array = array
+        self.aperture = aperture
         self.frequency = frequency
         self.grating_lobe_db = grating_lobe_db
         self.beam_kind = beam_kind
-        self.peak = resolve_peak(array, frequency, peak)
+        self.peak = resolve_peak(array, frequency, peak, aperture)
         self.r0 = (beam_axis(array, self.peak, frequency) if axis is None
                    else np.asarray(axis, float))
         self.beam = Beam(array, frequency, self.r0, self.peak.power.value)
@@ -128,43 +132,102 @@ class Context:
         """(SearchSet, relative intensity g on it) for sidelobes and the rear hemisphere."""
         front = self.array.element.front_only and self.array.geometry.orientations is None
         sp = search_spacing(self.array, self.frequency, per_null=SEARCH_PER_NULL)
-        s = SearchSet.fibonacci(sp, front_only=front, min_points=_MIN_SEARCH)
+        make = SearchSet.fibonacci if self.aperture is None else self.aperture.search_set
+        s = make(sp, front_only=front, min_points=_MIN_SEARCH)
         return s, self.beam.g(s.directions)
 
     def lobes(self, allowed, count: int, key):
         """Refined local maxima of g where ``allowed`` (the refinement kept there), one per
         lobe (``key`` identifies a lobe), highest first: list of (direction, g)."""
+        return self.lobes_many([(allowed, count, key)])[0]
+
+    def lobes_many(self, regions):
+        """:meth:`lobes` of several regions ``[(allowed, count, key[, project]), ...]``,
+        refined together (one pattern evaluation per ascent step for all of them).
+        ``project(points) -> points`` maps directions onto a closed region whose maximum may
+        lie on its edge (the refinement then reaches the edge exactly instead of creeping
+        toward it)."""
         search, vals = self.search
         d = search.directions
-        m = np.asarray(allowed(d), bool)
-        if not m.any():
-            return []
-        # Samples outside the region do not compete with those inside it.
-        cand = search.local_maxima(np.where(m, vals, 0.0), 4 * count, m)
-        cand = cand[cand >= 0]
-        keys = key(d[cand]) if len(cand) else np.zeros((0, 3))
-        picked = []
-        for i in range(len(cand)):
-            if all(np.linalg.norm(keys[i] - keys[j]) > 0.5 * search.spacing for j in picked):
-                picked.append(i)
-            if len(picked) >= count:
-                break
+        starts, owner = [], []
+        for r, (allowed, count, key, *_) in enumerate(regions):
+            m = np.asarray(allowed(d), bool)
+            if not m.any():
+                continue
+            # Samples outside the region do not compete with those inside it.
+            cand = search.local_maxima(np.where(m, vals, 0.0), 4 * count, m)
+            cand = cand[cand >= 0]
+            keys = key(d[cand]) if len(cand) else np.zeros((0, 3))
+            picked = _distinct(keys, 0.5 * search.spacing, count)
+            starts.append(d[cand[picked]])
+            owner += [r] * len(picked)
+        out = [[] for _ in regions]
+        if not owner:
+            return out
+        owner = np.asarray(owner)
         beam = self.beam
-        xs, fs = refine_maxima(pointwise(lambda x: beam.g(x) * allowed(x)), d[cand[picked]],
-                               search.spacing)
-        out = []
-        for x, f in sorted(zip(xs, fs, strict=True), key=lambda t: -t[1]):
-            kx = key(x[None, :])[0]
-            if all(np.linalg.norm(kx - key(y[None, :])[0]) > 0.05 * search.spacing
-                   for y, _ in out):
-                out.append((x, float(f)))
+
+        def fun(points, rows):
+            g = beam.g(points.reshape(-1, 3)).reshape(points.shape[:-1])
+            for r in np.unique(owner[rows]):
+                sel = owner[rows] == r
+                g[sel] *= regions[r][0](points[sel].reshape(-1, 3)).reshape(g[sel].shape)
+            return g
+
+        projected = [r for r, reg in enumerate(regions) if len(reg) > 3]
+
+        def project(points, rows):
+            q = points.copy()
+            for r in projected:
+                sel = owner[rows] == r
+                q[sel] = regions[r][3](points[sel])
+            return q
+
+        xs, fs = refine_maxima(fun, np.concatenate(starts), search.spacing,
+                               project=project if projected else None)
+        for r, (_, _, key, *_) in enumerate(regions):
+            mine = np.flatnonzero(owner == r)
+            order = mine[np.argsort(-fs[mine], kind="stable")]
+            kx = key(xs[order]) if len(order) else np.zeros((0, 3))
+            for i in _distinct(kx, 0.05 * search.spacing, len(order)):
+                out[r].append((xs[order[i]], float(fs[order[i]])))
         return out
 
     @cached_property
+    def _outside_and_rear(self):
+        lobe, _, _, key = self.main_lobe
+        r0 = self.r0
+        def behind(x):  # the closed rear hemisphere: its maximum may lie on the 90 degree circle
+            return (x @ r0) <= 1e-12
+
+        def onto_rear(x):
+            return x - np.maximum(x @ r0, 0.0)[:, None] * r0
+
+        return self.lobes_many([(lambda x: ~lobe.inside(x), N_REFINE, key),
+                                (behind, N_REAR, lambda x: x, onto_rear)])
+
+    @property
     def outside(self):
         """Refined lobes outside the main lobe (list of (direction, g), highest first)."""
-        lobe, _, _, key = self.main_lobe
-        return self.lobes(lambda x: ~lobe.inside(x), N_REFINE, key)
+        return self._outside_and_rear[0]
+
+    @property
+    def rear(self):
+        """Refined maxima at least 90 degrees from the beam axis (list of (direction, g),
+        highest first): lobes of the rear hemisphere, or the highest point of its edge."""
+        return self._outside_and_rear[1]
+
+
+def _distinct(keys, sep: float, count: int) -> list[int]:
+    """Indices of ``keys`` (in order) farther than ``sep`` from every one taken before, at
+    most ``count``."""
+    picked: list[int] = []
+    for i in range(len(keys)):
+        if not picked or np.all(np.sum((keys[picked] - keys[i]) ** 2, axis=1) > sep * sep):
+            picked.append(i)
+        if len(picked) >= count:
+            break
+    return picked
 
 
 def require_metrics_search(array, frequency=None) -> None:

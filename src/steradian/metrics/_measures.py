@@ -140,8 +140,7 @@ def front_to_back(ctx: Context) -> dict:
     """U0 / U(-r0), and U0 over the largest U more than 90 degrees from the beam axis."""
     r0 = ctx.r0
     back = float(ctx.beam.g(-r0[None, :])[0])
-    rear = ctx.lobes(lambda x: (x @ r0) < 0, 4, lambda x: x)
-    rear_max = max([back] + [f for _, f in rear])
+    rear_max = max([back] + [f for _, f in ctx.rear])
     return {"front_to_back_db": 0.0 - rel_db(back),
             "front_to_back_hemisphere_db": 0.0 - rel_db(rear_max)}
 
@@ -152,6 +151,9 @@ def scan_loss(ctx: Context) -> dict:
     if ctx.array.steering is None:
         return {"scan_loss_db": 0.0,
                 "unsteered_peak_directivity_dbi": float(ctx.peak.directivity_dbi)}
-    un = peak_directivity(ctx.array.with_steering(None), frequency=ctx.frequency)
+    bare, f, ap = ctx.array.with_steering(None), ctx.frequency, ctx.aperture
+    un = (peak_directivity(bare, frequency=f) if ap is None else
+          ap.memo("unsteered peak", bare,
+                  lambda: peak_directivity(bare, frequency=f, aperture=ap)))
     return {"scan_loss_db": float(ctx.beam.dbi(1.0) - un.directivity_dbi),
             "unsteered_peak_directivity_dbi": float(un.directivity_dbi)}

@@ -39,7 +39,7 @@ def _circle_normal(holder):
 def _projector(family):
     """The family's region as a projection: its neighbourhood of zero size moves a point
     into the region (onto the main-lobe zone's edge, into a notch sector)."""
-    def project(d):
+    def project(d, rows):
         return family.neighbourhood(d, 0.0, 0)[:, 0, :]
     return project
 

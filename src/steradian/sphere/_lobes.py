@@ -273,7 +273,8 @@ def refine_maxima(fun, starts, step: float, *, normal=None, project=None,
     point inside its region. A maximum *on* the edge of a region where the pattern rises
     toward the edge is reached exactly with ``project``: stencil points are mapped into the
     region, and where that moved any of them the step is the move to the best stencil point
-    (a pattern search along the edge) instead of the Newton step.
+    (a pattern search along the edge, whose step at least halves each time) instead of the
+    Newton step.
 
     Parameters
     ----------
@@ -289,8 +290,9 @@ def refine_maxima(fun, starts, step: float, *, normal=None, project=None,
     normal : array_like (3,), optional
         Keep every point on the great circle with this normal.
     project : callable, optional
-        ``project(points (P, 3)) -> (P, 3)``: the nearest point of an allowed region
-        (identity inside it).
+        ``project(points (P, 3), rows (P,)) -> (P, 3)``: the nearest point of an allowed
+        region (identity inside it); ``rows`` name the start each point belongs to, so each
+        start may have its own region.
     rtol : float
         Stop when every step is below ``rtol * step``.
     max_iter : int
@@ -304,6 +306,8 @@ def refine_maxima(fun, starts, step: float, *, normal=None, project=None,
     References
     ----------
     J. Nocedal and S. J. Wright, *Numerical Optimization*, 2nd ed., Springer, 2006, ch. 3-4.
+    T. G. Kolda, R. M. Lewis and V. Torczon, "Optimization by direct search: new perspectives
+    on some classical and modern methods," SIAM Review 45 (2003) 385-482 (pattern search).
     """
     r = normalise(np.asarray(starts, float).reshape(-1, 3))
     n = len(r)
@@ -325,7 +329,7 @@ def refine_maxima(fun, starts, step: float, *, normal=None, project=None,
                         + xs[..., 1:] * e2[act, None, :])
         moved = np.zeros(len(act), bool)
         if project is not None:
-            xs, pts, moved = _projected(project, pts, xs, r[act], e1[act], e2[act])
+            xs, pts, moved = _projected(project, pts, xs, r[act], e1[act], e2[act], act)
             x[act] = xs[:, centre]
         fs = np.asarray(fun(pts, act), float).reshape(len(act), len(stencil))
         fc = fs[:, centre]
@@ -335,7 +339,10 @@ def refine_maxima(fun, starts, step: float, *, normal=None, project=None,
         bx[act] = np.where(worse[:, None], bx[act], x[act])
         dist = np.linalg.norm(move, axis=1)
         x[act] = np.where(worse[:, None], bx[act], x[act] + move)
-        h_all[act] = np.where(worse | stay, 0.25 * h, np.clip(dist, h / 64, 2 * h))
+        # A move along a region's edge (a projected stencil) is a pattern search: its step
+        # halves at least, so creeping along a flat edge ends (Kolda, Lewis and Torczon).
+        h_all[act] = np.where(worse | stay, 0.25 * h,
+                              np.clip(dist, h / 64, np.where(moved, 0.5 * h, 2 * h)))
     return normalise(r + bx[:, :1] * e1 + bx[:, 1:] * e2), bf
 
 
@@ -425,10 +432,11 @@ def _move(model, fs, xs, x, h, moved):
     return np.where(ok[:, None], d, xs[np.arange(len(x)), ib] - x), stay
 
 
-def _projected(project, pts, xs, r, e1, e2):
+def _projected(project, pts, xs, r, e1, e2, rows):
     """Stencil points mapped by ``project``, their tangent coordinates, and which stencils
     it changed."""
-    q = normalise(np.asarray(project(pts.reshape(-1, 3)), float).reshape(pts.shape))
+    rows = np.repeat(rows, pts.shape[1])
+    q = normalise(np.asarray(project(pts.reshape(-1, 3), rows), float).reshape(pts.shape))
     changed = np.any(np.abs(q - pts) > 1e-14, axis=-1)
     if not changed.any():
         return xs, pts, np.zeros(len(pts), bool)

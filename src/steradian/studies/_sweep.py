@@ -4,9 +4,12 @@ metrics.
 A sweep point is an :class:`~steradian.array.Array` and the frequency it is evaluated at.
 Two ways to evaluate points, both by existing analysis code:
 
-- ``"full"``: :func:`steradian.analysis.analyze` with pattern metrics, point by point (every
-  metric of ``steradian analyze``: beamwidths, ISLR, grating lobes predicted from the lattice
-  and found in the pattern, scan loss, front-to-back);
+- ``"full"``: :func:`steradian.analysis.analyze` with pattern metrics (every metric of
+  ``steradian analyze``: beamwidths, ISLR, grating lobes predicted from the lattice and found
+  in the pattern, scan loss, front-to-back); points that share an aperture (positions,
+  element, enabled mask and frequency: a scan or taper axis) share one
+  :class:`steradian.aperture.Aperture` (radiated-power matrices, search sets and the
+  unsteered reference beam built once per group);
 - ``"beam"``: points that share positions, element, enable mask and frequency (a scan or a
   taper axis) are evaluated together by one :class:`steradian.beamtable.BeamEvaluator`
   (element responses on the search set and the power matrix computed once per group; each
@@ -15,8 +18,6 @@ Two ways to evaluate points, both by existing analysis code:
 
 from __future__ import annotations
 
-import hashlib
-import json
 import math
 import re
 from dataclasses import dataclass
@@ -24,6 +25,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..analysis import AnalysisOptions, analyze
+from ..aperture import Aperture, aperture_key
 from ..array import Array
 from ..beamtable import BeamEvaluator
 from ..errors import SteradianError
@@ -105,17 +107,9 @@ class SweepAxis:
         return cls(tuple(keys), tuple(np.linspace(start, stop, int(count))), label)
 
 
-def evaluation_key(array: Array, frequency: float | None) -> str:
-    """What a point's evaluator depends on: positions, orientations, element, enable mask,
-    speed and evaluation frequency (points with equal keys share one evaluator)."""
-    g = array.geometry
-    h = hashlib.sha256()
-    for part in (g.positions, g.orientations, array.enabled):
-        h.update(b"-" if part is None else np.ascontiguousarray(part).tobytes())
-    f = array.frequency if frequency is None else float(frequency)
-    h.update(json.dumps([array.element.describe(), type(array.element).__name__,
-                         repr(array.speed), repr(f)], sort_keys=True, default=str).encode())
-    return h.hexdigest()
+evaluation_key = aperture_key
+"""What a point's evaluation depends on besides its weights (points with equal keys share one
+evaluator): :func:`steradian.aperture.aperture_key`."""
 
 
 def group_points(keys, max_batch: int) -> list[list[int]]:
@@ -131,9 +125,15 @@ def group_points(keys, max_batch: int) -> list[list[int]]:
     return out
 
 
-def _full_row(array: Array, frequency, efficiency: float) -> dict:
+def _full_rows(arrays, frequencies, efficiency: float) -> list[dict]:
+    """Every analysis metric of points sharing one aperture (one Aperture for them all)."""
+    ap = Aperture(arrays[0], frequencies[0])
+    return [_full_row(a, f, efficiency, ap) for a, f in zip(arrays, frequencies, strict=True)]
+
+
+def _full_row(array: Array, frequency, efficiency: float, aperture) -> dict:
     res = analyze(array, AnalysisOptions(frequency=frequency, metrics=True,
-                                         radiation_efficiency=efficiency))
+                                         radiation_efficiency=efficiency), aperture=aperture)
     m, pk = res.metrics, res.peak
     hp = m.hpbw_deg
     return {"directivity_dbi": pk.directivity_dbi, "gain_dbi": res.gain_dbi,
@@ -171,25 +171,23 @@ def evaluate_points(arrays, frequencies, mode: str = "full", *,
     """Metric rows (:func:`sweep_fields`) of sweep points ``arrays`` evaluated at
     ``frequencies`` (None: the design frequency), in the given order.
 
-    In ``"beam"`` mode points with the same :func:`evaluation_key` are evaluated together
-    (the results of a point depend on the batch it is in, in the last bits: callers that
-    need reproducible rows pass fixed batches, as :func:`group_points` makes them);
-    ``"full"`` evaluates each point alone.
+    Points with the same :func:`evaluation_key` are evaluated together: by one evaluator in
+    ``"beam"`` mode, with one :class:`~steradian.aperture.Aperture` in ``"full"`` mode. The
+    results of a point may depend on the batch it is in, in the last bits: callers that need
+    reproducible rows pass fixed batches, as :func:`group_points` makes them.
     """
     fields = sweep_fields(mode)
     arrays, frequencies = list(arrays), list(frequencies)
     if not arrays:
         return []
-    if mode == "full":
-        rows = [_full_row(a, f, efficiency) for a, f in zip(arrays, frequencies, strict=True)]
-    else:
-        keys = [evaluation_key(a, f) for a, f in zip(arrays, frequencies, strict=True)]
-        rows = [None] * len(arrays)
-        for group in group_points(keys, len(arrays)):
-            for i, r in zip(group, _beam_rows([arrays[i] for i in group],
-                                              [frequencies[i] for i in group], efficiency),
-                            strict=True):
-                rows[i] = r
+    rows_of = _full_rows if mode == "full" else _beam_rows
+    keys = [evaluation_key(a, f) for a, f in zip(arrays, frequencies, strict=True)]
+    rows = [None] * len(arrays)
+    for group in group_points(keys, len(arrays)):
+        for i, r in zip(group, rows_of([arrays[i] for i in group],
+                                       [frequencies[i] for i in group], efficiency),
+                        strict=True):
+            rows[i] = r
     return [{k: _plain(r[k]) for k in fields} for r in rows]
 
 
