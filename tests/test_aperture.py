@@ -59,7 +59,7 @@ def test_shared_aperture_gives_the_stand_alone_analysis(theta, phi, sll):
     g, el, _ = _panel()
     t = sr.tapers.taylor(10, 4, sll)
     arr = sr.Array(g, F, el, taper=np.outer(t, t).ravel(), steering=sr.Steering(theta, phi))
-    ap = Aperture(sr.Array(g, F, el))
+    ap = Aperture(sr.Array(g, F, el), beams=13)
     opt = AnalysisOptions(metrics=True)
     _same_summary(analyze(arr, opt).to_dict(), analyze(arr, opt, aperture=ap).to_dict())
     assert ap.shares_power
@@ -71,12 +71,13 @@ def test_shared_power_is_the_integrator_and_the_closed_form():
     r_mn) (Mailloux, Phased Array Antenna Handbook, ch. 2)."""
     g, el, taper = _panel()
     arr = sr.Array(g, F, el, taper=taper, steering=sr.Steering(35.0, 20.0))
-    ap = Aperture(arr)
+    ap = Aperture(arr, beams=13)
+    assert ap.shares_power
     p, ref = ap.radiated_power(arr), radiated_power(arr)
     assert p.value == pytest.approx(ref.value, rel=1e-11)
     assert (p.method, p.n_theta, p.n_phi) == (ref.method, ref.n_theta, ref.n_phi)
     iso = sr.Array(g, F, sr.Isotropic(), taper=taper, steering=sr.Steering(35.0, 20.0))
-    got = Aperture(iso).radiated_power(iso)
+    got = Aperture(iso, beams=40).radiated_power(iso)
     want = closed_form_power(iso.positions, iso.weights(), iso.k())
     assert got.method == "closed_form" and got.value == pytest.approx(want, rel=1e-12)
 
@@ -87,9 +88,18 @@ def test_irregular_apertures_integrate_each_beam():
     rng = np.random.default_rng(7)
     pos = np.column_stack([rng.uniform(0, 0.1, 40), rng.uniform(0, 0.1, 40), np.zeros(40)])
     arr = sr.Array(sr.Geometry(pos), F, sr.CosinePower(q=1.0), steering=sr.Steering(20, 0))
-    ap = Aperture(arr)
+    ap = Aperture(arr, beams=100)
     assert not ap.shares_power
     assert ap.radiated_power(arr).value == radiated_power(arr).value
+
+
+def test_power_is_shared_only_where_it_pays():
+    """The cost model decides from the sizes: one beam never builds the matrices; a scan of
+    13 beams of a 16 x 16 panel does; a 64 x 64 panel's matrices (N^2 entries twice) do not
+    pay for 13 beams."""
+    for n, beams, want in ((16, 1, False), (16, 13, True), (64, 13, False)):
+        a = sr.Array(sr.rectangular(n, n, 0.5 * sr.C0 / F), F, sr.CosinePower(q=1.2))
+        assert Aperture(a, beams=beams).shares_power is want, (n, beams)
 
 
 def test_aperture_refuses_another_aperture():

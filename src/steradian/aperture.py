@@ -10,9 +10,11 @@ hands it to :func:`steradian.analysis.analyze` (``aperture=``):
   (:func:`steradian.radiation.power_matrix` at the default margin and ten nodes more), so
   each beam's radiated power is :math:`w^H Q w`: the same quadrature as
   :func:`steradian.radiation.radiated_power`, with the same value, error estimate and rule
-  size, summed over element pairs instead of directions. Used where the matrix is cheap: a
-  planar row lattice (one value per distinct separation) or isotropic elements (closed
-  form), within a share of the memory budget; elsewhere each beam is integrated as before;
+  size, summed over element pairs instead of directions. Used where the engine's cost model
+  says the matrices for the family's ``beams`` cost less than integrating each beam: a
+  planar row lattice (one value per distinct separation; isotropic elements by the closed
+  form), within a share of the memory budget; elsewhere each beam is integrated as before.
+  The choice depends on the sizes alone, never on timing, so results are reproducible;
 - the lobe-search sets (Fibonacci sets of the peak search and the sidelobe search);
 - the peak of the unsteered beam that scan loss is measured against, per distinct taper.
 
@@ -37,6 +39,12 @@ __all__ = ["Aperture", "aperture_key", "POWER_SHARE"]
 
 POWER_SHARE = 8
 """The two shared power matrices may take at most 1/POWER_SHARE of the memory budget."""
+
+QUADRATURE_FACTOR = 1.7
+"""Measured seconds of a radiated-power quadrature over the engine's estimate for its field
+evaluation (the rule sum and element pattern on top; 16 x 16 to 64 x 64 panels)."""
+
+_GATHER = 2.5e-7  # seconds per entry of an N x N matrix built and kept (isotropic case)
 
 MARGIN_STEP = 10
 """Extra nodes of the finer rule of the radiated-power error estimate (as
@@ -67,11 +75,14 @@ class Aperture:
         Any member of the family (its weights are not used).
     frequency : float, optional
         Evaluation frequency in Hz.
+    beams : int
+        How many beams the family will analyse (decides whether shared power matrices pay).
     """
 
-    def __init__(self, array, frequency=None):
+    def __init__(self, array, frequency=None, *, beams: int = 1):
         self.key = aperture_key(array, frequency)
         self.frequency = frequency
+        self.beams = max(1, int(beams))
         self._array = array
         self._sets: dict = {}
         self._memo: dict = {}
@@ -99,20 +110,32 @@ class Aperture:
         return self._q
 
     def _build_power(self):
-        from .engine import detect_rows
+        from .engine import field_seconds, lattice_gram_seconds, sinc_power_seconds
         from .radiation import power_matrix
         from .sphere import rule_for
 
         a, f = self._array, self.frequency
         n = a.n
         iso = isinstance(a.element_at(f), Isotropic)
-        if 2 * 64 * n * n > budget() / POWER_SHARE:
+        if self.beams < 2 or 2 * 64 * n * n > budget() / POWER_SHARE:
             return False
-        if not iso and (a.geometry.orientations is not None
-                        or detect_rows(a.positions, a.k(f), 1e-10) is None):
-            return False  # a dense Gram matrix costs more than integrating each beam
         if iso:
+            if self.beams * 2 * sinc_power_seconds(n) < _GATHER * n * n:
+                return False
             return power_matrix(a, frequency=f), None, (0, 0), "closed_form"
+        if a.geometry.orientations is not None:
+            return False
+        t_share, t_each = 0.0, 0.0
+        for margin in (DEFAULT_MARGIN, DEFAULT_MARGIN + MARGIN_STEP):
+            rule = rule_for(a, f, margin)
+            t = lattice_gram_seconds(a.positions, a.k(f), rule.n_theta * rule.n_phi)
+            if t is None:
+                return False  # a dense Gram matrix costs more than integrating each beam
+            t_share += t
+            t_each += QUADRATURE_FACTOR * field_seconds(a.positions, a.k(f), rule.grid,
+                                                        lattice=a.geometry.lattice)
+        if self.beams * t_each < t_share:
+            return False
         qc = power_matrix(a, frequency=f, margin=DEFAULT_MARGIN)
         qf = power_matrix(a, frequency=f, margin=DEFAULT_MARGIN + MARGIN_STEP)
         fine = rule_for(a, f, DEFAULT_MARGIN + MARGIN_STEP)

@@ -43,6 +43,7 @@ from ._power import (
     field_seconds,
     gram_matrix,
     lattice_gram_matrix,
+    lattice_gram_seconds,
     lattice_gram_table,
     sinc_power_seconds,
     sinc_power_sum,
@@ -50,6 +51,7 @@ from ._power import (
 
 __all__ = ["Field", "field", "array_factor", "response_matrix", "response_blocks",
            "dense_gram_matrix", "lattice_gram_matrix", "lattice_gram_table",
+           "lattice_gram_seconds",
            "MEMORY_BUDGET", "DEFAULT_TOL", "PathChoice", "choose_path",
            "clear_plan_cache", "plan_cache_info", "sinc_power_sum", "gram_matrix",
            "sinc_power_seconds", "field_seconds", "czt", "detect_rows", "Rows", "KERNELS",

@@ -19,6 +19,7 @@ import math
 import os
 
 __all__ = ["MARGIN", "reference", "direct", "nufft3", "nufft1", "fft_lattice", "kernel_width",
+           "lattice_gram",
            "grid3", "SERIAL_TERMS", "SINC_SERIAL_PAIRS", "NUFFT_OVERHEAD", "FFT_OVERHEAD",
            "GRID_LIMIT", "sinc_pairs",
            "per_direction", "THREADS_FROM"]
@@ -126,6 +127,17 @@ def sinc_pairs(n: int) -> float:
 def per_direction(m: int) -> float:
     """Work per direction outside the array factor (element pattern, intensity, rule sum)."""
     return m * _PER_DIRECTION
+
+
+_R_GRAM = 2.5e9  # flops per second of the lattice Gram table's complex matrix products
+_C_GATHER = 2.5e-7  # seconds per matrix entry: separation index, gather, Hermitian part
+
+
+def lattice_gram(m: int, nx: int, ny: int, n: int, offsets: int = 1) -> float:
+    """The lattice form of a Gram matrix: one (2nx-1) x M by M x (2ny-1) complex product per
+    distinct row offset over M directions, then the N x N gather (measured on 16 x 16 to
+    64 x 64 panels)."""
+    return offsets * 8.0 * m * (2 * nx - 1) * (2 * ny - 1) / _R_GRAM + _C_GATHER * n * n
 
 
 def _fft_len(n: int) -> float:

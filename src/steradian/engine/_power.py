@@ -14,7 +14,7 @@ from ._evaluate import DEFAULT_TOL, choose_path
 
 __all__ = ["gram_matrix", "lattice_gram_matrix", "lattice_gram_table", "dense_gram_matrix",
            "sinc_power_sum",
-           "sinc_power_seconds", "field_seconds"]
+           "sinc_power_seconds", "field_seconds", "lattice_gram_seconds"]
 
 LATTICE_OFFSETS = 16
 """Most distinct row-offset differences the lattice form of the Gram matrix takes (one
@@ -160,3 +160,20 @@ def field_seconds(positions, k: float, where, *, tol: float = DEFAULT_TOL,
     where = as_directions(where)
     pc = choose_path(positions, k, where, tol=tol, lattice=lattice)
     return pc.seconds + _cost.per_direction(math.prod(where.shape))
+
+
+def lattice_gram_seconds(positions, k: float, m: int) -> float | None:
+    """Estimated seconds of :func:`lattice_gram_matrix` over ``m`` directions (the cost
+    model), or None when the positions are not a planar row lattice (the dense form then
+    costs O(M N^2))."""
+    from ._fft import detect_rows
+
+    pos = np.asarray(positions, float)
+    rows = detect_rows(pos, float(k), 1e-10) if len(pos) > 1 else None
+    if rows is None:
+        return None
+    off = np.round(rows.x0 / max(rows.dx, 1e-300) * 1e7)
+    deltas = len(np.unique(off[:, None] - off[None, :]))
+    if deltas > LATTICE_OFFSETS:
+        return None
+    return _cost.lattice_gram(m, rows.nx, rows.ny, len(pos), deltas)

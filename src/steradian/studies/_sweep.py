@@ -127,7 +127,7 @@ def group_points(keys, max_batch: int) -> list[list[int]]:
 
 def _full_rows(arrays, frequencies, efficiency: float) -> list[dict]:
     """Every analysis metric of points sharing one aperture (one Aperture for them all)."""
-    ap = Aperture(arrays[0], frequencies[0])
+    ap = Aperture(arrays[0], frequencies[0], beams=len(arrays))
     return [_full_row(a, f, efficiency, ap) for a, f in zip(arrays, frequencies, strict=True)]
 
 

@@ -57,11 +57,27 @@ def normalise_peak(w: np.ndarray) -> np.ndarray:
 
 
 def axis_coordinates(coords: np.ndarray, tol: float = 1e-9):
-    """Distinct coordinate values along one axis (sorted) and each element's index into them."""
+    """Distinct coordinate values along one axis (sorted) and each element's index into them.
+
+    A value joins the group of the smallest value before it when within ``tol`` (relative,
+    at least 1 absolute) of that first value.
+    """
     c = np.asarray(coords, float)
-    order = np.argsort(c)
+    order = np.argsort(c, kind="stable")
+    cs = c[order]
+    if len(cs) == 0:
+        return np.zeros(0), np.zeros(0, int)
+    gap = np.diff(cs) > tol * np.maximum(1.0, np.abs(cs[1:]))
+    start = np.concatenate([[0], np.flatnonzero(gap) + 1])
+    group = np.cumsum(np.concatenate([[False], gap]))
+    # Groups split only where neighbours differ by more than tol; when every group spans no
+    # more than tol from its first value this is the first-value rule exactly.
+    if np.all(cs - cs[start][group] <= tol * np.maximum(1.0, np.abs(cs))):
+        keys = np.empty(len(c), int)
+        keys[order] = group
+        return cs[start], keys
     keys = np.empty(len(c), int)
-    vals = []
+    vals: list[float] = []
     for i in order:
         if not vals or c[i] - vals[-1] > tol * max(1.0, abs(c[i])):
             vals.append(c[i])
