@@ -26,7 +26,7 @@ from .radiation import (
 from .settings import AnalysisOptions
 from .units import db10
 
-__all__ = ["AnalysisOptions", "Analysis", "analyze"]
+__all__ = ["AnalysisOptions", "Analysis", "analyze", "analyze_many"]
 
 
 @dataclass(frozen=True)
@@ -128,28 +128,46 @@ def analyze(array, options: AnalysisOptions | None = None, *, aperture=None) -> 
     radiated-power matrices, search sets and the unsteered reference beam are then built
     once for all of them. The results are the same to rounding.
     """
+    return analyze_many([array], options, aperture=aperture)[0]
+
+
+def analyze_many(arrays, options: AnalysisOptions | None = None, *,
+                 aperture=None) -> list[Analysis]:
+    """:func:`analyze` of several arrays that share one aperture (the beams of a scan or a
+    taper sweep), in order. Each result is what :func:`analyze` gives for that array alone;
+    the sidelobe refinements of all of them run together (see
+    :func:`steradian.metrics.pattern_metrics_many`)."""
     opt = options or AnalysisOptions()
     f = opt.frequency
+    arrays = list(arrays)
     if opt.metrics:
         from .metrics import require_metrics_search
 
-        require_metrics_search(array, f)  # refuse an oversized search before any work
-    if aperture is not None:
-        aperture.check(array, f)
-        power = aperture.radiated_power(array)
-    else:
-        power = radiated_power(array, frequency=f)
-    pk = peak_directivity(array, frequency=f, power=power, aperture=aperture)
+        for array in arrays:
+            require_metrics_search(array, f)  # refuse an oversized search before any work
+    peaks = []
+    for array in arrays:
+        if aperture is not None:
+            aperture.check(array, f)
+            power = aperture.radiated_power(array)
+        else:
+            power = radiated_power(array, frequency=f)
+        peaks.append(peak_directivity(array, frequency=f, power=power, aperture=aperture))
+    metrics = [None] * len(arrays)
+    if opt.metrics:
+        from .metrics import pattern_metrics_many
+
+        metrics = pattern_metrics_many(arrays, frequency=f, peaks=peaks,
+                                       beam_kind=opt.beam_kind, aperture=aperture)
+    return [_result(a, opt, pk, m) for a, pk, m in zip(arrays, peaks, metrics, strict=True)]
+
+
+def _result(array, opt: AnalysisOptions, pk, metrics) -> Analysis:
+    f = opt.frequency
     g = float(gain(pk.directivity, opt.radiation_efficiency))
     mm = 1.0
     if opt.vswr is not None or opt.return_loss_db is not None:
         mm = mismatch_factor(vswr=opt.vswr, return_loss_db=opt.return_loss_db)
-    metrics = None
-    if opt.metrics:
-        from .metrics import pattern_metrics
-
-        metrics = pattern_metrics(array, frequency=f, peak=pk, beam_kind=opt.beam_kind,
-                                  aperture=aperture)
     freq = array.frequency if f is None else f
     return Analysis(
         n_elements=array.n,

@@ -118,7 +118,7 @@ from ..radiation import Peak
 from ..units import DB_FLOOR
 from ..validate import positive
 from ._beam import KSECTION_MINIMUM, ksection
-from ._context import Context, require_metrics_search
+from ._context import Context, prepare_lobes, require_metrics_search
 from ._difference import (
     BEAM_KINDS,
     SUM_NULL_DB,
@@ -134,7 +134,8 @@ from ._results import GratingLobe, Lobe, PatternMetrics, PlaneWidths
 __all__ = ["Cut", "principal_cuts", "cut", "DB_FLOOR", "PatternMetrics", "PlaneWidths", "Lobe",
            "GratingLobe", "pattern_metrics", "METRICS", "Metric", "metric", "BEAM_KINDS",
            "check_sum_beam", "coherent_level_db", "SUM_NULL_DB", "require_metrics_search",
-           "DifferenceNull", "difference_null", "ksection", "KSECTION_MINIMUM"]
+           "DifferenceNull", "difference_null", "ksection", "KSECTION_MINIMUM",
+           "pattern_metrics_many"]
 
 
 def pattern_metrics(array, *, frequency: float | None = None, peak: Peak | None = None,
@@ -154,6 +155,9 @@ def pattern_metrics(array, *, frequency: float | None = None, peak: Peak | None 
     grating_lobe_db : float
         A lobe outside the main lobe within this many dB of the peak is reported as a grating
         lobe found in the pattern (default 3 dB).
+    aperture : Aperture, optional
+        Work shared with other beams of the same aperture (:mod:`steradian.aperture`):
+        search sets and the unsteered reference beam of the scan loss.
 
     Returns
     -------
@@ -167,13 +171,40 @@ def pattern_metrics(array, *, frequency: float | None = None, peak: Peak | None 
         For a sum beam whose excitation is a difference (see :func:`check_sum_beam`), and a
         difference beam without a boresight null.
     """
+    return pattern_metrics_many([array], frequency=frequency,
+                                peaks=None if peak is None else [peak],
+                                grating_lobe_db=grating_lobe_db, beam_kind=beam_kind,
+                                aperture=aperture)[0]
+
+
+def pattern_metrics_many(arrays, *, frequency: float | None = None, peaks=None,
+                         grating_lobe_db: float = 3.0, beam_kind: str = "sum",
+                         aperture=None) -> list[PatternMetrics]:
+    """:func:`pattern_metrics` of several arrays of one aperture (differing only in their
+    weights, as the beams of a scan or taper sweep), in order.
+
+    Every metric is computed by the same functions as for one array; the sidelobe and rear
+    lobe refinements of all the beams run together (one safeguarded ascent for all their
+    candidates, each on its own beam's pattern), which saves the per-step work of separate
+    refinements; a candidate's result does not depend on the others refined with it.
+    ``peaks`` (one per array) as ``peak`` of :func:`pattern_metrics`.
+    """
     grating_lobe_db = positive("grating_lobe_db", grating_lobe_db, " dB")
-    if aperture is not None:
-        aperture.check(array, frequency)
-    ctx = Context(array, frequency, peak, grating_lobe_db, check_beam_kind(beam_kind),
-                  aperture=aperture)
-    if beam_kind == "sum":
-        check_sum_beam(ctx)
+    kind = check_beam_kind(beam_kind)
+    peaks = [None] * len(arrays) if peaks is None else list(peaks)
+    ctxs = []
+    for array, peak in zip(arrays, peaks, strict=True):
+        if aperture is not None:
+            aperture.check(array, frequency)
+        ctx = Context(array, frequency, peak, grating_lobe_db, kind, aperture=aperture)
+        if kind == "sum":
+            check_sum_beam(ctx)
+        ctxs.append(ctx)
+    prepare_lobes(ctxs)
+    return [_metrics_of(ctx) for ctx in ctxs]
+
+
+def _metrics_of(ctx) -> PatternMetrics:
     values: dict = {}
     for m in METRICS:
         out = m.compute(ctx)

@@ -16,7 +16,7 @@ from ..units import db10
 from ._results import Lobe, PlaneWidths
 
 __all__ = ["N_RADIALS", "Beam", "RadialLobe", "BandLobe", "arc", "rel_db", "plane_widths",
-           "ksection", "KSECTION_MINIMUM"]
+           "ksection", "KSECTION_MINIMUM", "march_beams"]
 
 N_RADIALS = 96
 """Radials for the main-lobe boundary (a multiple of 4: the principal cuts are four of them)."""
@@ -168,61 +168,93 @@ class Beam:
         return Lobe(th, ph, rel_db(u_rel), self.dbi(u_rel))
 
     def march(self, tangents, h, rho_max):
-        """Half-power and first-null angles along radials, refined off the sampling grid.
+        """Half-power and first-null angles along radials, refined off the sampling grid
+        (:func:`march_beams` of this beam alone).
 
         Returns ``(rho_hp, rho_null)`` in radians, NaN where not found within ``rho_max``.
         """
-        T = np.asarray(tangents, float)
-        m = len(T)
-        rho_max = np.broadcast_to(np.asarray(rho_max, float), (m,)).copy()
-        nmax = int(np.ceil(rho_max.max() / h)) + 2
-        G = np.full((m, nmax + 1), np.nan)
-        G[:, 0] = 1.0
-        i_hp = np.full(m, -1)
-        i_null = np.full(m, -1)
-        done = np.zeros(m, bool)
-        filled = 0
-        block = 48
-        while not done.all() and filled < nmax:
-            hi = min(filled + block, nmax)
-            act = np.flatnonzero(~done)
-            rho = np.minimum(np.arange(filled + 1, hi + 1) * h, np.pi)
-            pts = arc(self.r0, T[act], np.broadcast_to(rho, (len(act), len(rho))))
-            G[act, filled + 1:hi + 1] = self.g(pts.reshape(-1, 3)).reshape(len(act), -1)
-            filled = hi
-            for j in act:
-                row = G[j, :filled + 1]
-                lim = int(np.floor(rho_max[j] / h))  # last index within rho_max
-                dec = np.flatnonzero((row[2:] >= row[1:-1]) & (row[1:-1] < 1 - 1e-6)) + 1
-                dec = dec[dec <= lim]
-                if len(dec):
-                    i_null[j] = dec[0]
-                below = np.flatnonzero(row[1:] < 0.5) + 1
-                top = i_null[j] if i_null[j] > 0 else lim
-                below = below[below <= top]
-                if len(below):
-                    i_hp[j] = below[0]
-                done[j] = i_null[j] > 0 or filled >= lim + 1
-        # Refine every half-power crossing and first null together, off the sampling grid.
-        hp = np.flatnonzero(i_hp > 0)
-        nl = np.flatnonzero(i_null > 0)
-        edge = G[nl, i_null[nl]] == 0.0  # exact zero: the edge of a front-only pattern
-        rows = np.concatenate([hp, nl])
-        kind = np.concatenate([np.full(len(hp), _HALF), np.where(edge, _EDGE, _MIN)])
-        lo = np.concatenate([(i_hp[hp] - 1) * h, (i_null[nl] - 1) * h])
-        hi = np.concatenate([i_hp[hp] * h, np.where(edge, i_null[nl], i_null[nl] + 1) * h])
-        hi = np.minimum(hi, np.pi)
+        return march_beams([self], [tangents], h, [rho_max])[0]
 
-        def fun(act, x):
-            pts = arc(self.r0, T[rows[act]], x)
-            return self.g(pts.reshape(-1, 3)).reshape(x.shape)
 
-        ref = ksection(fun, lo, hi, kind) if len(rows) else np.zeros(0)
-        rho_hp = np.full(m, np.nan)
-        rho_null = np.full(m, np.nan)
-        rho_hp[hp] = ref[:len(hp)]
-        rho_null[nl] = ref[len(hp):]
-        return rho_hp, rho_null
+def march_beams(beams, tangents_of, h: float, rho_max_of):
+    """Half-power and first-null angles along the radials of several beams at once.
+
+    Beam ``b`` marches along its radials with tangents ``tangents_of[b]`` (m_b, 3) out to
+    ``rho_max_of[b]`` (scalar or (m_b,)), in steps of ``h``: each block of steps evaluates
+    every beam's active radials (one pattern call per beam); the first null is the first
+    local minimum below the peak, the half-power point the first sample below 1/2 before it.
+    Both are then refined together by :func:`ksection`. A radial's result does not depend on
+    the other radials or beams marched with it. Returns ``[(rho_hp, rho_null), ...]`` per
+    beam, in radians, NaN where not found.
+    """
+    T = np.concatenate([np.asarray(t, float).reshape(-1, 3) for t in tangents_of])
+    sizes = [len(np.asarray(t, float).reshape(-1, 3)) for t in tangents_of]
+    owner = np.repeat(np.arange(len(beams)), sizes)
+    R0 = np.stack([b.r0 for b in beams])[owner]
+    rho_max = np.concatenate([np.broadcast_to(np.asarray(r, float), (n,))
+                              for r, n in zip(rho_max_of, sizes, strict=True)])
+    m = len(T)
+
+    def g_rows(pts, rows):  # pts (A, K, 3) on radials ``rows`` (A,)
+        out = np.empty(pts.shape[:-1])
+        ob = owner[rows]
+        for b in np.unique(ob):
+            sel = ob == b
+            out[sel] = beams[b].g(pts[sel].reshape(-1, 3)).reshape(out[sel].shape)
+        return out
+
+    def points(rows, rho):  # (A, K) angles on radials ``rows``
+        return (R0[rows][:, None, :] * np.cos(rho)[..., None]
+                + T[rows][:, None, :] * np.sin(rho)[..., None])
+
+    nmax = int(np.ceil(rho_max.max() / h)) + 2 if m else 0
+    G = np.full((m, nmax + 1), np.nan)
+    G[:, 0] = 1.0
+    i_hp = np.full(m, -1)
+    i_null = np.full(m, -1)
+    done = np.zeros(m, bool)
+    lim = np.floor(rho_max / h).astype(int)  # last index within rho_max
+    filled = 0
+    block = 48
+    while not done.all() and filled < nmax:
+        hi = min(filled + block, nmax)
+        act = np.flatnonzero(~done)
+        rho = np.minimum(np.arange(filled + 1, hi + 1) * h, np.pi)
+        G[act, filled + 1:hi + 1] = g_rows(points(act, np.broadcast_to(rho, (len(act),
+                                                                           len(rho)))), act)
+        filled = hi
+        Gs = G[act, :filled + 1]
+        idx = np.arange(filled + 1)[None, :]
+        dec = np.zeros(Gs.shape, bool)
+        dec[:, 1:-1] = (Gs[:, 2:] >= Gs[:, 1:-1]) & (Gs[:, 1:-1] < 1 - 1e-6)
+        dec &= idx <= lim[act, None]
+        i_null[act] = np.where(dec.any(axis=1), dec.argmax(axis=1), i_null[act])
+        top = np.where(i_null[act] > 0, i_null[act], lim[act])
+        below = np.zeros(Gs.shape, bool)
+        below[:, 1:] = Gs[:, 1:] < 0.5
+        below &= idx <= top[:, None]
+        i_hp[act] = np.where(below.any(axis=1), below.argmax(axis=1), i_hp[act])
+        done[act] = (i_null[act] > 0) | (filled >= lim[act] + 1)
+    # Refine every half-power crossing and first null together, off the sampling grid.
+    hp = np.flatnonzero(i_hp > 0)
+    nl = np.flatnonzero(i_null > 0)
+    edge = G[nl, i_null[nl]] == 0.0  # exact zero: the edge of a front-only pattern
+    rows = np.concatenate([hp, nl])
+    kind = np.concatenate([np.full(len(hp), _HALF), np.where(edge, _EDGE, _MIN)])
+    lo = np.concatenate([(i_hp[hp] - 1) * h, (i_null[nl] - 1) * h])
+    hi = np.concatenate([i_hp[hp] * h, np.where(edge, i_null[nl], i_null[nl] + 1) * h])
+    hi = np.minimum(hi, np.pi)
+
+    def fun(act, x):
+        return g_rows(points(rows[act], x), rows[act])
+
+    ref = ksection(fun, lo, hi, kind) if len(rows) else np.zeros(0)
+    rho_hp = np.full(m, np.nan)
+    rho_null = np.full(m, np.nan)
+    rho_hp[hp] = ref[:len(hp)]
+    rho_null[nl] = ref[len(hp):]
+    cuts = np.cumsum([0] + sizes)
+    return [(rho_hp[a:b], rho_null[a:b]) for a, b in zip(cuts[:-1], cuts[1:], strict=True)]
 
 
 def plane_widths(name, hp_pos, hp_neg, null_pos, null_neg) -> PlaneWidths:

@@ -13,10 +13,11 @@ import numpy as np
 from ..patterns import beam_axis, resolve_peak, symmetry
 from ..radiation import search_spacing
 from ..sphere import SearchSet, refine_maxima, require_search
-from ._beam import N_RADIALS, BandLobe, Beam, RadialLobe, arc
+from ._beam import N_RADIALS, BandLobe, Beam, RadialLobe, arc, march_beams
 from ._difference import difference_beam
 
-__all__ = ["Context", "SEARCH_PER_NULL", "N_REFINE", "require_metrics_search"]
+__all__ = ["Context", "SEARCH_PER_NULL", "N_REFINE", "N_REAR", "require_metrics_search",
+           "refine_lobes", "prepare_lobes"]
 
 SEARCH_PER_NULL = 3.0
 _MIN_SEARCH = 2000
@@ -54,10 +55,13 @@ class Context:
     @cached_property
     def radials(self):
         """(rho_hp, rho_null) along N_RADIALS radials, psi = 2 pi i / N_RADIALS."""
+        return self.beam.march(self.radial_tangents(), self.h, np.pi)
+
+    def radial_tangents(self) -> np.ndarray:
+        """Tangents (N_RADIALS, 3) of the radials at psi = 2 pi i / N_RADIALS."""
         b = self.beam
         psi = 2 * np.pi * np.arange(N_RADIALS) / N_RADIALS
-        T = b.t0[None, :] * np.cos(psi)[:, None] + b.t1[None, :] * np.sin(psi)[:, None]
-        return b.march(T, self.h, np.pi)
+        return b.t0[None, :] * np.cos(psi)[:, None] + b.t1[None, :] * np.sin(psi)[:, None]
 
     @cached_property
     def difference(self):
@@ -143,68 +147,26 @@ class Context:
 
     def lobes_many(self, regions):
         """:meth:`lobes` of several regions ``[(allowed, count, key[, project]), ...]``,
-        refined together (one pattern evaluation per ascent step for all of them).
-        ``project(points) -> points`` maps directions onto a closed region whose maximum may
-        lie on its edge (the refinement then reaches the edge exactly instead of creeping
-        toward it)."""
-        search, vals = self.search
-        d = search.directions
-        starts, owner = [], []
-        for r, (allowed, count, key, *_) in enumerate(regions):
-            m = np.asarray(allowed(d), bool)
-            if not m.any():
-                continue
-            # Samples outside the region do not compete with those inside it.
-            cand = search.local_maxima(np.where(m, vals, 0.0), 4 * count, m)
-            cand = cand[cand >= 0]
-            keys = key(d[cand]) if len(cand) else np.zeros((0, 3))
-            picked = _distinct(keys, 0.5 * search.spacing, count)
-            starts.append(d[cand[picked]])
-            owner += [r] * len(picked)
-        out = [[] for _ in regions]
-        if not owner:
-            return out
-        owner = np.asarray(owner)
-        beam = self.beam
+        refined together (see :func:`refine_lobes`)."""
+        return refine_lobes([self], [regions])[0]
 
-        def fun(points, rows):
-            g = beam.g(points.reshape(-1, 3)).reshape(points.shape[:-1])
-            for r in np.unique(owner[rows]):
-                sel = owner[rows] == r
-                g[sel] *= regions[r][0](points[sel].reshape(-1, 3)).reshape(g[sel].shape)
-            return g
-
-        projected = [r for r, reg in enumerate(regions) if len(reg) > 3]
-
-        def project(points, rows):
-            q = points.copy()
-            for r in projected:
-                sel = owner[rows] == r
-                q[sel] = regions[r][3](points[sel])
-            return q
-
-        xs, fs = refine_maxima(fun, np.concatenate(starts), search.spacing,
-                               project=project if projected else None)
-        for r, (_, _, key, *_) in enumerate(regions):
-            mine = np.flatnonzero(owner == r)
-            order = mine[np.argsort(-fs[mine], kind="stable")]
-            kx = key(xs[order]) if len(order) else np.zeros((0, 3))
-            for i in _distinct(kx, 0.05 * search.spacing, len(order)):
-                out[r].append((xs[order[i]], float(fs[order[i]])))
-        return out
-
-    @cached_property
-    def _outside_and_rear(self):
+    def lobe_regions(self):
+        """The regions of :attr:`outside` and :attr:`rear` (for :func:`refine_lobes`)."""
         lobe, _, _, key = self.main_lobe
         r0 = self.r0
+
         def behind(x):  # the closed rear hemisphere: its maximum may lie on the 90 degree circle
             return (x @ r0) <= 1e-12
 
         def onto_rear(x):
             return x - np.maximum(x @ r0, 0.0)[:, None] * r0
 
-        return self.lobes_many([(lambda x: ~lobe.inside(x), N_REFINE, key),
-                                (behind, N_REAR, lambda x: x, onto_rear)])
+        return [(lambda x: ~lobe.inside(x), N_REFINE, key),
+                (behind, N_REAR, lambda x: x, onto_rear)]
+
+    @cached_property
+    def _outside_and_rear(self):
+        return self.lobes_many(self.lobe_regions())
 
     @property
     def outside(self):
@@ -216,6 +178,94 @@ class Context:
         """Refined maxima at least 90 degrees from the beam axis (list of (direction, g),
         highest first): lobes of the rear hemisphere, or the highest point of its edge."""
         return self._outside_and_rear[1]
+
+
+def refine_lobes(ctxs, regions_of) -> list[list[list]]:
+    """Refined lobes of several beams at once: for beam ``ctxs[b]`` and each of its regions
+    ``regions_of[b] = [(allowed, count, key[, project]), ...]``, the local maxima of g where
+    ``allowed`` (the refinement kept there), one per lobe (``key`` identifies a lobe),
+    highest first, as lists of (direction, g).
+
+    Candidates are the ``count`` best distinct local maxima of each beam's search samples in
+    the region; all of them, of every beam and region, are refined by one
+    :func:`steradian.sphere.refine_maxima` (one ascent step evaluates every beam's points),
+    each start on its own beam's pattern. ``project(points) -> points`` maps directions onto
+    a closed region whose maximum may lie on its edge (the refinement then reaches the edge
+    exactly instead of creeping toward it). A start's result does not depend on the other
+    starts refined with it.
+    """
+    starts, owner = [], []  # owner: (beam, region) of each start
+    for b, (ctx, regions) in enumerate(zip(ctxs, regions_of, strict=True)):
+        search, vals = ctx.search
+        d = search.directions
+        for r, (allowed, count, key, *_) in enumerate(regions):
+            m = np.asarray(allowed(d), bool)
+            if not m.any():
+                continue
+            # Samples outside the region do not compete with those inside it.
+            cand = search.local_maxima(np.where(m, vals, 0.0), 4 * count, m)
+            cand = cand[cand >= 0]
+            keys = key(d[cand]) if len(cand) else np.zeros((0, 3))
+            picked = _distinct(keys, 0.5 * search.spacing, count)
+            starts.append(d[cand[picked]])
+            owner += [(b, r)] * len(picked)
+    out = [[[] for _ in regions] for regions in regions_of]
+    if not owner:
+        return out
+    owner = np.asarray(owner, int).reshape(-1, 2)
+    pairs = sorted({tuple(o) for o in owner.tolist()})
+
+    def fun(points, rows):
+        g = np.empty(points.shape[:-1])
+        ob = owner[rows, 0]
+        for b in np.unique(ob):
+            sel = ob == b
+            g[sel] = ctxs[b].beam.g(points[sel].reshape(-1, 3)).reshape(g[sel].shape)
+        for b, r in pairs:
+            sel = (ob == b) & (owner[rows, 1] == r)
+            if sel.any():
+                g[sel] *= regions_of[b][r][0](points[sel].reshape(-1, 3)).reshape(g[sel].shape)
+        return g
+
+    projected = [(b, r) for b, r in pairs if len(regions_of[b][r]) > 3]
+
+    def project(points, rows):
+        q = points.copy()
+        for b, r in projected:
+            sel = (owner[rows, 0] == b) & (owner[rows, 1] == r)
+            q[sel] = regions_of[b][r][3](points[sel])
+        return q
+
+    spacing = ctxs[0].search[0].spacing
+    if any(c.search[0].spacing != spacing for c in ctxs):
+        raise ValueError("refine_lobes: the beams' search sets differ in spacing")
+    xs, fs = refine_maxima(fun, np.concatenate(starts), spacing,
+                           project=project if projected else None)
+    for b, r in pairs:
+        key = regions_of[b][r][2]
+        mine = np.flatnonzero((owner[:, 0] == b) & (owner[:, 1] == r))
+        order = mine[np.argsort(-fs[mine], kind="stable")]
+        for i in _distinct(key(xs[order]), 0.05 * spacing, len(order)):
+            out[b][r].append((xs[order[i]], float(fs[order[i]])))
+    return out
+
+
+def prepare_lobes(ctxs) -> None:
+    """March the radials of several beams of one aperture together, then refine their
+    sidelobes and rear lobes together (:func:`march_beams`, :func:`refine_lobes`), before
+    their metrics ask for them."""
+    todo = [c for c in ctxs if "radials" not in c.__dict__]
+    if len(todo) > 1 and len({c.h for c in todo}) == 1:
+        got = march_beams([c.beam for c in todo], [c.radial_tangents() for c in todo],
+                          todo[0].h, [np.pi] * len(todo))
+        for c, r in zip(todo, got, strict=True):
+            c.__dict__["radials"] = r
+    todo = [c for c in ctxs if "_outside_and_rear" not in c.__dict__]
+    if len(todo) < 2:
+        return
+    for c, got in zip(todo, refine_lobes(todo, [c.lobe_regions() for c in todo]),
+                      strict=True):
+        c.__dict__["_outside_and_rear"] = got
 
 
 def _distinct(keys, sep: float, count: int) -> list[int]:

@@ -24,7 +24,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..analysis import AnalysisOptions, analyze
+from ..analysis import AnalysisOptions, analyze_many
 from ..aperture import Aperture, aperture_key
 from ..array import Array
 from ..beamtable import BeamEvaluator
@@ -128,12 +128,12 @@ def group_points(keys, max_batch: int) -> list[list[int]]:
 def _full_rows(arrays, frequencies, efficiency: float) -> list[dict]:
     """Every analysis metric of points sharing one aperture (one Aperture for them all)."""
     ap = Aperture(arrays[0], frequencies[0], beams=len(arrays))
-    return [_full_row(a, f, efficiency, ap) for a, f in zip(arrays, frequencies, strict=True)]
+    res = analyze_many(arrays, AnalysisOptions(frequency=frequencies[0], metrics=True,
+                                               radiation_efficiency=efficiency), aperture=ap)
+    return [_full_row(r) for r in res]
 
 
-def _full_row(array: Array, frequency, efficiency: float, aperture) -> dict:
-    res = analyze(array, AnalysisOptions(frequency=frequency, metrics=True,
-                                         radiation_efficiency=efficiency), aperture=aperture)
+def _full_row(res) -> dict:
     m, pk = res.metrics, res.peak
     hp = m.hpbw_deg
     return {"directivity_dbi": pk.directivity_dbi, "gain_dbi": res.gain_dbi,
