@@ -4,9 +4,11 @@ The computation only: values in, rows of metrics out. Running many points or tri
 processes or a Dask cluster, with progress, result files and resuming, is
 :mod:`steradian.studyrun`; the result files are :mod:`steradian.io.study_files`.
 
-Sweeps (:mod:`._sweep`): a point is an array and an evaluation frequency; its metrics come
-from :func:`steradian.analysis.analyze` (``"full"``) or, for points sharing positions, element
-and frequency, from one :class:`steradian.beamtable.BeamEvaluator` per group (``"beam"``).
+Sweeps (:mod:`._sweep`): a point is an array and an evaluation frequency. Points sharing
+positions, element and frequency are evaluated as a group: every analysis metric by
+:func:`steradian.analysis.analyze_many` with one :class:`steradian.aperture.Aperture`
+(``"full"``), or the beam metrics by one :class:`steradian.beamtable.BeamEvaluator`
+(``"beam"``).
 
 Tolerance (:mod:`._tolerance`): random amplitude (dB) and phase (degrees) errors, position
 errors, element failures (a rate or a count; off, or stuck at a random phase) and the

@@ -4,12 +4,13 @@ metrics.
 A sweep point is an :class:`~steradian.array.Array` and the frequency it is evaluated at.
 Two ways to evaluate points, both by existing analysis code:
 
-- ``"full"``: :func:`steradian.analysis.analyze` with pattern metrics (every metric of
-  ``steradian analyze``: beamwidths, ISLR, grating lobes predicted from the lattice and found
-  in the pattern, scan loss, front-to-back); points that share an aperture (positions,
-  element, enabled mask and frequency: a scan or taper axis) share one
+- ``"full"``: every metric of ``steradian analyze`` (beamwidths, ISLR, grating lobes
+  predicted from the lattice and found in the pattern, scan loss, front-to-back): points
+  that share an aperture (positions, element, enabled mask and frequency: a scan or taper
+  axis) are analysed together by :func:`steradian.analysis.analyze_many` with one
   :class:`steradian.aperture.Aperture` (radiated-power matrices, search sets and the
-  unsteered reference beam built once per group);
+  unsteered reference beam built once per group, radials and lobes refined in one pass),
+  each point exactly as :func:`~steradian.analysis.analyze` alone to rounding;
 - ``"beam"``: points that share positions, element, enable mask and frequency (a scan or a
   taper axis) are evaluated together by one :class:`steradian.beamtable.BeamEvaluator`
   (element responses on the search set and the power matrix computed once per group; each
