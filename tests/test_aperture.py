@@ -171,3 +171,14 @@ def test_set_threads_caps_every_pool():
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          check=True)
     assert out.stdout.strip() == "ok"
+
+
+def test_grid_decimals_keep_a_grids_own_digits():
+    """Common practice: grid values carry their own decimals; the beam-table span and the
+    sweep axes share this one rounding rule."""
+    from steradian.units import grid_decimals
+
+    v = 0.4 + 0.05 * np.arange(11)
+    assert v[4] != 0.6 and grid_decimals(v, 0.05)[4] == 0.6
+    assert grid_decimals(3.0 * np.arange(4), 3.0)[3] == 9.0
+    assert np.array_equal(grid_decimals([1e300], 1.0), [1e300])  # too many digits: kept

@@ -211,3 +211,34 @@ def test_count_taper_and_element_keys(tmp_path):
     for r in run_sweep(single, spec, tmp_path / "q.csv", workers=1, progress=False).rows:
         assert r["directivity_dbi"] == pytest.approx(
             10 * math.log10(2 * (r["element.q"] + 1)), abs=1e-6)
+
+
+def test_sweep_axis_keeps_the_grid_decimals():
+    """Common practice: a swept value is the grid's own decimal (0.6, not
+    0.6000000000000001), so result files and their headers carry clean numbers."""
+    ax = SweepAxis.linspace(("geometry.spacing",), 0.4, 0.9, 11)
+    assert ax.values[4] == 0.6 and ax.values[7] == 0.75 and ax.values[-1] == 0.9
+    assert [repr(v) for v in ax.values[:3]] == ["0.4", "0.45", "0.5"]
+
+
+def test_sweep_figure_names_what_is_swept(tmp_path):
+    """The caption shows swept quantities as swept (not the design file's value), and the
+    second axis names the legend once, its entries being the values."""
+    from steradian.io.design import design_from_dict
+    from steradian.report import sweep_result_figure
+    from steradian.workflows import figure_title
+
+    design = design_from_dict(_line_doc(16, 30.0))
+    cap = figure_title(design, swept=["steering.theta_deg"])
+    assert "theta swept" in cap and "theta 30" not in cap and "phi 0 deg" in cap
+    assert "frequency swept" in figure_title(design, swept=["analysis.frequency_hz"])
+    rows = [{"spacing": d, "steering.theta_deg": t, "directivity_dbi": 10 + d + t / 100,
+             "psl_db": -13.0, "pointing_error_deg": 0.0}
+            for d in (0.5, 0.6) for t in (0.0, 20.0)]
+    fig = sweep_result_figure(rows, ["spacing", "steering.theta_deg"], caption=cap)
+    leg = fig.legends[0]
+    assert leg.get_title().get_text() == "steering.theta_deg"
+    assert [t.get_text() for t in leg.get_texts()] == ["0", "20"]
+    line = fig.axes[0].get_lines()[1]
+    assert list(line.get_xdata()) == [0.5, 0.6]
+    assert list(line.get_ydata()) == pytest.approx([10.7, 10.8])

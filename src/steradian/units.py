@@ -1,4 +1,5 @@
-"""Physical constants, decibels and angle wrapping: the one place each is defined.
+"""Physical constants, decibels, angle wrapping and grid decimals: the one place each is
+defined.
 
 Every module that turns a ratio into decibels, or decibels back into a ratio, calls these, so
 a floor or a sign convention cannot differ between a report, a file and a figure.
@@ -8,7 +9,8 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["C0", "ETA0", "DB_FLOOR", "db10", "db20", "from_db10", "from_db20", "wrap_deg"]
+__all__ = ["C0", "ETA0", "DB_FLOOR", "db10", "db20", "from_db10", "from_db20", "wrap_deg",
+           "grid_decimals"]
 
 C0 = 299_792_458.0
 """Speed of light in vacuum, m/s (exact, SI 2019)."""
@@ -65,3 +67,19 @@ def from_db20(db):
 def wrap_deg(x):
     """Wrap angles in degrees into [-180, 180)."""
     return (np.asarray(x, float) + 180.0) % 360.0 - 180.0
+
+
+def grid_decimals(values, step: float) -> np.ndarray:
+    """Values of an equally spaced grid of ``step`` rounded to a billionth of the step, so
+    a grid keeps its own decimals (0 + 3 x 3 is 9.0, not 9.000000000000002; 0.4 + 4 x 0.05
+    is 0.6, not 0.6000000000000001). Values with too many digits to round exactly, and a
+    zero step, are returned as they are."""
+    v = np.asarray(values, float)
+    step = abs(float(step))
+    if step == 0 or not np.isfinite(step) or v.size == 0:
+        return v
+    d = int(min(max(9 - np.floor(np.log10(step)), 0), 15))
+    scale = 10.0**d
+    if not np.max(np.abs(v)) < 2**52 / scale:  # too many digits to round exactly (or NaN)
+        return v
+    return np.rint(v * scale) / scale

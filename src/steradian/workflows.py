@@ -236,16 +236,18 @@ def design_with_weights(design, path):
 # --------------------------------------------------------------------------------------------
 # Pattern export
 # --------------------------------------------------------------------------------------------
-def figure_title(design, frequency: float | None = None) -> str:
+def figure_title(design, frequency: float | None = None, swept=()) -> str:
     """The first title line of a design's figures (name, frequency, scan, taper; as
-    :func:`steradian.plots.design_caption`), from the design alone."""
+    :func:`steradian.plots.design_caption`), from the design alone; the parts set by the
+    design keys ``swept`` (a study's axes) are shown as swept."""
     from .plots import design_caption
 
     st = design.array.steering
     return design_caption(design, {
         "frequency_hz": design.array.frequency if frequency is None else frequency,
         "steering": None if st is None else {"theta_deg": st.theta_deg,
-                                             "phi_deg": st.phi_deg, "mode": st.mode}})
+                                             "phi_deg": st.phi_deg, "mode": st.mode},
+        "swept": tuple(swept)})
 
 
 def export_patterns(array, *, cuts_path=None, uv_path=None, png_path=None, uv_png_path=None,

@@ -13,6 +13,7 @@ from ..budget import require
 from ..directions import az_el_directions, theta_phi_directions
 from ..errors import DesignError, SteradianError
 from ..schema import Section
+from ..units import grid_decimals
 from ..validate import positive
 
 
@@ -32,12 +33,7 @@ def span(start: float, stop: float, step: float) -> np.ndarray:
     many = f"{n:,}" if n < 2**62 else f"more than {2**62:.1e}"
     require(16 * n, f"a span of {many} values ({start:g} to {stop:g} in steps of {step:g})",
             "use a larger step")
-    v = start + step * np.arange(n)
-    d = int(min(max(9 - math.floor(math.log10(step)), 0), 15))  # a billionth of the step
-    scale = 10.0**d
-    if np.max(np.abs(v)) * scale >= 2**52:  # too many digits to round exactly: keep
-        return v
-    return np.rint(v * scale) / scale
+    return grid_decimals(start + step * np.arange(n), step)
 
 
 BEAMS_KEYS = ("grid", "theta_deg", "phi_deg", "az_deg", "el_deg", "file", "directions",

@@ -51,7 +51,9 @@ def sweep(design_file, vary, metrics, figure_path, output, summary_path, workers
         from ..workflows import figure_title
 
         save_figure(sweep_result_figure(run.rows, [a.label for a in spec.axes],
-                                        caption=figure_title(load_design(design_file))),
+                                        caption=figure_title(
+                                            load_design(design_file),
+                                            swept=[k for a in spec.axes for k in a.keys])),
                     figure_path)
         summary["figure"] = str(figure_path)
     if as_json:

@@ -20,10 +20,11 @@ def _plottable(v) -> bool:
     return v is not None and bool(np.isfinite(v)) and v > DB_FLOOR + 1
 
 
-def _legend_below(fig, ax, ncol: int = 2):
+def _legend_below(fig, ax, ncol: int = 2, title: str | None = None):
     h, lab = ax.get_legend_handles_labels()
     if h:
-        fig.legend(h, lab, loc="outside lower center", ncol=ncol, frameon=False)
+        fig.legend(h, lab, loc="outside lower center", ncol=ncol, frameon=False,
+                   title=title)
 
 
 def trade_curve_figure(curve, title: str | None = None, *, caption: str | None = None):
@@ -114,15 +115,16 @@ def _grouped_sweep(rows, x, y, group, labels, limits, caption, what):
                 if pts:
                     a = np.asarray(pts, float)
                     ax.plot(a[:, 0], a[:, 1], "o-", ms=3, color=f"C{g % 10}",
-                            label=f"{labels.get(group, group)} = {val:g}"
-                            if isinstance(val, float) else f"{labels.get(group, group)} = {val}")
+                            label=f"{val:g}" if isinstance(val, float) else f"{val}")
             if col in limits:
                 ax.axhline(limits[col], color="#b03a5b", ls=(0, (6, 3)), lw=1.1,
                            label=f"requirement {limits[col]:g}")
             ax.set_ylabel(labels.get(col, col))
             ax.set_xlabel(labels.get(x, x))
         axes[0].set_title(title_lines(caption, what))
-        _legend_below(fig, axes[-1], ncol=min(4, max(1, len(values))))
+        # The swept quantity names the legend once; its entries are the values.
+        _legend_below(fig, axes[-1], ncol=min(8, max(1, len(values))),
+                      title=labels.get(group, group))
     return fig
 
 

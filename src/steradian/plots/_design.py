@@ -46,14 +46,33 @@ def taper_text(design) -> str:
 
 
 def design_caption(design, summary: Mapping) -> str:
-    """The first title line of every figure of a design: name, frequency, scan, taper."""
+    """The first title line of every figure of a design: name, frequency, scan, taper.
+
+    ``summary["swept"]`` (optional): design keys a study varies; the parts they set are
+    shown as swept instead of the design file's values (``steering.theta_deg`` -> "theta
+    swept", ``analysis.frequency_hz`` -> "frequency swept", ``taper.*`` -> "taper swept").
+    """
     from ._style import frequency_text
 
+    swept = set(summary.get("swept") or ())
     st = summary.get("steering")
-    scan = ("unsteered" if not st else
-            f"scan theta {st['theta_deg']:g}, phi {st['phi_deg']:g} deg ({st['mode']})")
-    return (f"{design.name}: {frequency_text(summary['frequency_hz'])}, {scan}, "
-            f"{taper_text(design)}")
+
+    def part(key, text):
+        return f"{key} swept" if f"steering.{key}_deg" in swept or f"steering.{key}" in swept \
+            else text
+
+    if st is None and not any(k.startswith("steering.") for k in swept):
+        scan = "unsteered"
+    else:
+        st = st or {"theta_deg": 0.0, "phi_deg": 0.0, "mode": "phase"}
+        theta = part("theta", "theta {:g}".format(st["theta_deg"]))
+        phi = part("phi", "phi {:g}".format(st["phi_deg"]))
+        scan = f"scan {theta}, {phi} deg ({part('mode', st['mode'])})"
+    freq = ("frequency swept" if swept & {"analysis.frequency_hz", "design.frequency_hz"}
+            else frequency_text(summary["frequency_hz"]))
+    taper = ("taper swept" if any(k.startswith("taper.") for k in swept)
+             else taper_text(design))
+    return f"{design.name}: {freq}, {scan}, {taper}"
 
 
 def summary_peak(summary: Mapping):

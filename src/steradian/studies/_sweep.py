@@ -30,6 +30,7 @@ from ..aperture import Aperture, aperture_key
 from ..array import Array
 from ..beamtable import BeamEvaluator
 from ..errors import SteradianError
+from ..units import grid_decimals
 
 __all__ = ["SweepAxis", "SWEEP_MODES", "sweep_fields", "evaluation_key", "group_points",
            "evaluate_points", "GRATING_LOBE_DB"]
@@ -102,10 +103,14 @@ class SweepAxis:
 
     @classmethod
     def linspace(cls, keys, start: float, stop: float, count: int, label: str = ""):
-        """``count`` equally spaced values from ``start`` to ``stop`` inclusive."""
+        """``count`` equally spaced values from ``start`` to ``stop`` inclusive, with the
+        grid's own decimals (:func:`steradian.units.grid_decimals`)."""
         if int(count) != count or count < 1:
             raise SteradianError(f"sweep axis {keys[0]}: count must be a whole number >= 1")
-        return cls(tuple(keys), tuple(np.linspace(start, stop, int(count))), label)
+        vals = np.linspace(start, stop, int(count))
+        if count > 1:  # the grid's own decimals (0.6, not 0.6000000000000001)
+            vals = grid_decimals(vals, (stop - start) / (count - 1))
+        return cls(tuple(keys), tuple(float(v) for v in vals), label)
 
 
 evaluation_key = aperture_key
