@@ -9,8 +9,9 @@ for any worker count and backend. Rows are written in index order as soon as the
 before them are written, so an interrupted run leaves a prefix of the finished file;
 resuming reruns only the tasks not yet complete in it.
 
-Backends: ``"local"`` (default): ``workers`` processes (default: every core; one runs in
-this process); ``"dask"``: a Dask distributed cluster, at ``scheduler`` (an address such as
+Backends: ``"local"`` (default): ``workers`` spawned processes (default: every core),
+each running its numerical libraries on one thread (one worker: this process, all
+threads); ``"dask"``: a Dask distributed cluster, at ``scheduler`` (an address such as
 ``tcp://host:8786``) or a local cluster of ``workers`` processes started for the run. Dask
 is an optional extra (``pip install steradian[distributed]``).
 
