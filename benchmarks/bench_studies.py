@@ -61,20 +61,27 @@ def panel(n: int, channel: bool = False) -> dict:
     return d
 
 
-def naive_point(array, w, dirs, main_cos):
-    """Naive numpy: pattern on the search set and power on a product rule, phase terms
-    recomputed; peak and PSL read off the samples."""
-    pos, k = array.positions, array.k()
-    kr = array.electrical_radius()
-    nt = int(np.ceil(kr)) + 12
+def product_rule(array):
+    """Gauss-Legendre in cos(theta) x uniform in phi, sized by the electrical radius: the
+    directions (M, 3) and weights (M,)."""
+    nt = int(np.ceil(array.electrical_radius())) + 12
     x, wt = np.polynomial.legendre.leggauss(nt)
     th = np.arccos(x)
     ph = np.arange(2 * nt) * np.pi / nt
     T, P = np.meshgrid(th, ph, indexing="ij")
     q = np.stack([np.sin(T) * np.cos(P), np.sin(T) * np.sin(P), np.cos(T)], -1).reshape(-1, 3)
-    el_q = array.element.pattern(T.ravel(), P.ravel())[0]
+    return q, (wt[:, None] * np.full(2 * nt, np.pi / nt)).ravel()
+
+
+def naive_point(array, w, dirs, main_cos):
+    """Naive numpy: pattern on the search set and power on a product rule, phase terms
+    recomputed; peak and PSL read off the samples."""
+    pos, k = array.positions, array.k()
+    q, wq = product_rule(array)
+    el_q = array.element.pattern(np.arccos(np.clip(q[:, 2], -1, 1)),
+                                 np.arctan2(q[:, 1], q[:, 0]))[0]
     u_q = np.abs(el_q * (np.exp(1j * k * (q @ pos.T)) @ w)) ** 2
-    power = float(np.sum(u_q.reshape(nt, 2 * nt) * wt[:, None]) * np.pi / nt)
+    power = float(u_q @ wq)
     el = array.element.pattern(np.arccos(np.clip(dirs[:, 2], -1, 1)),
                                np.arctan2(dirs[:, 1], dirs[:, 0]))[0]
     u = np.abs(el * (np.exp(1j * k * (dirs @ pos.T)) @ w)) ** 2
@@ -100,13 +107,7 @@ def naive_full_point(array, dirs):
     reciprocal lattice (u0 + p/dx, v0 + q/dy inside the unit circle)."""
     k = array.k()
     kr = array.electrical_radius()
-    nt = int(np.ceil(kr)) + 12
-    x, wt = np.polynomial.legendre.leggauss(nt)
-    th = np.arccos(x)
-    ph = np.arange(2 * nt) * np.pi / nt
-    T, P = np.meshgrid(th, ph, indexing="ij")
-    q = np.stack([np.sin(T) * np.cos(P), np.sin(T) * np.sin(P), np.cos(T)], -1).reshape(-1, 3)
-    wq = (wt[:, None] * np.full(2 * nt, np.pi / nt)).ravel()
+    q, wq = product_rule(array)
     out = {}
     for name, a in (("steered", array), ("unsteered", array.with_steering(None))):
         w = a.weights()
