@@ -182,3 +182,21 @@ def test_grid_decimals_keep_a_grids_own_digits():
     assert v[4] != 0.6 and grid_decimals(v, 0.05)[4] == 0.6
     assert grid_decimals(3.0 * np.arange(4), 3.0)[3] == 9.0
     assert np.array_equal(grid_decimals([1e300], 1.0), [1e300])  # too many digits: kept
+
+
+def test_analyze_many_takes_beams_of_any_apertures():
+    """Beams of different apertures in one call are batched only with their own kind:
+    each result is its stand-alone analysis (a 16-element line and a 6 x 6 panel)."""
+    line = sr.Array(sr.linear(16, 0.5 * sr.C0 / F), F, steering=sr.Steering(20.0, 0.0))
+    g, el, _ = _panel(6)
+    panel = [sr.Array(g, F, el, steering=sr.Steering(t, 0.0)) for t in (0.0, 30.0)]
+    opt = AnalysisOptions(metrics=True)
+    from steradian.analysis import analyze_many
+
+    many = analyze_many([panel[0], line, panel[1]], opt)
+    for a, m in zip([panel[0], line, panel[1]], many, strict=True):
+        alone = analyze(a, opt).metrics
+        assert m.metrics.psl_db == pytest.approx(alone.psl_db, abs=1e-9)
+        assert m.metrics.islr_db == pytest.approx(alone.islr_db, abs=1e-9)
+        assert m.metrics.hpbw_deg["phi_plane"] == pytest.approx(alone.hpbw_deg["phi_plane"],
+                                                                abs=1e-9)

@@ -10,6 +10,7 @@ from functools import cached_property
 
 import numpy as np
 
+from ..errors import SteradianError
 from ..patterns import beam_axis, resolve_peak, symmetry
 from ..radiation import search_spacing
 from ..sphere import SearchSet, refine_maxima, require_search
@@ -238,7 +239,8 @@ def refine_lobes(ctxs, regions_of) -> list[list[list]]:
 
     spacing = ctxs[0].search[0].spacing
     if any(c.search[0].spacing != spacing for c in ctxs):
-        raise ValueError("refine_lobes: the beams' search sets differ in spacing")
+        raise SteradianError("refine_lobes: the beams' search sets differ in spacing; "
+                             "refine beams of one aperture together")
     xs, fs = refine_maxima(fun, np.concatenate(starts), spacing,
                            project=project if projected else None)
     for b, r in pairs:
@@ -251,21 +253,29 @@ def refine_lobes(ctxs, regions_of) -> list[list[list]]:
 
 
 def prepare_lobes(ctxs) -> None:
-    """March the radials of several beams of one aperture together, then refine their
-    sidelobes and rear lobes together (:func:`march_beams`, :func:`refine_lobes`), before
-    their metrics ask for them."""
-    todo = [c for c in ctxs if "radials" not in c.__dict__]
-    if len(todo) > 1 and len({c.h for c in todo}) == 1:
-        got = march_beams([c.beam for c in todo], [c.radial_tangents() for c in todo],
-                          todo[0].h, [np.pi] * len(todo))
-        for c, r in zip(todo, got, strict=True):
+    """March the radials of several beams together, then refine their sidelobes and rear
+    lobes together (:func:`march_beams`, :func:`refine_lobes`), before their metrics ask
+    for them. Beams are batched with those of the same march step and search spacing (one
+    aperture: all of them)."""
+    for group in _by(ctxs, lambda c: c.h, lambda c: "radials" not in c.__dict__):
+        got = march_beams([c.beam for c in group], [c.radial_tangents() for c in group],
+                          group[0].h, [np.pi] * len(group))
+        for c, r in zip(group, got, strict=True):
             c.__dict__["radials"] = r
-    todo = [c for c in ctxs if "_outside_and_rear" not in c.__dict__]
-    if len(todo) < 2:
-        return
-    for c, got in zip(todo, refine_lobes(todo, [c.lobe_regions() for c in todo]),
-                      strict=True):
-        c.__dict__["_outside_and_rear"] = got
+    for group in _by(ctxs, lambda c: c.search[0].spacing,
+                     lambda c: "_outside_and_rear" not in c.__dict__):
+        for c, got in zip(group, refine_lobes(group, [c.lobe_regions() for c in group]),
+                          strict=True):
+            c.__dict__["_outside_and_rear"] = got
+
+
+def _by(ctxs, key, todo) -> list[list]:
+    """Contexts still to do, grouped by ``key`` (groups of two or more)."""
+    groups: dict = {}
+    for c in ctxs:
+        if todo(c):
+            groups.setdefault(key(c), []).append(c)
+    return [g for g in groups.values() if len(g) > 1]
 
 
 def _distinct(keys, sep: float, count: int) -> list[int]:
