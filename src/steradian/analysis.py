@@ -148,8 +148,7 @@ def analyze_many(arrays, options: AnalysisOptions | None = None, *,
     peaks = []
     for array in arrays:
         if aperture is not None:
-            aperture.check(array, f)
-            power = aperture.radiated_power(array)
+            power = aperture.radiated_power(array)  # refuses an array of another aperture
         else:
             power = radiated_power(array, frequency=f)
         peaks.append(peak_directivity(array, frequency=f, power=power, aperture=aperture))

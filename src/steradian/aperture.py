@@ -44,8 +44,6 @@ QUADRATURE_FACTOR = 1.7
 """Measured seconds of a radiated-power quadrature over the engine's estimate for its field
 evaluation (the rule sum and element pattern on top; 16 x 16 to 64 x 64 panels)."""
 
-_GATHER = 2.5e-7  # seconds per entry of an N x N matrix built and kept (isotropic case)
-
 MARGIN_STEP = 10
 """Extra nodes of the finer rule of the radiated-power error estimate (as
 :func:`steradian.radiation.radiated_power`)."""
@@ -110,7 +108,12 @@ class Aperture:
         return self._q
 
     def _build_power(self):
-        from .engine import field_seconds, lattice_gram_seconds, sinc_power_seconds
+        from .engine import (
+            field_seconds,
+            lattice_gram_seconds,
+            sinc_matrix_seconds,
+            sinc_power_seconds,
+        )
         from .radiation import power_matrix
         from .sphere import rule_for
 
@@ -120,7 +123,7 @@ class Aperture:
         if self.beams < 2 or 2 * 64 * n * n > budget() / POWER_SHARE:
             return False
         if iso:
-            if self.beams * 2 * sinc_power_seconds(n) < _GATHER * n * n:
+            if self.beams * 2 * sinc_power_seconds(n) < sinc_matrix_seconds(n):
                 return False
             return power_matrix(a, frequency=f), None, (0, 0), "closed_form"
         if a.geometry.orientations is not None:

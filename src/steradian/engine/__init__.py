@@ -45,6 +45,7 @@ from ._power import (
     lattice_gram_matrix,
     lattice_gram_seconds,
     lattice_gram_table,
+    sinc_matrix_seconds,
     sinc_power_seconds,
     sinc_power_sum,
 )
@@ -54,7 +55,8 @@ __all__ = ["Field", "field", "array_factor", "response_matrix", "response_blocks
            "lattice_gram_seconds",
            "MEMORY_BUDGET", "DEFAULT_TOL", "PathChoice", "choose_path",
            "clear_plan_cache", "plan_cache_info", "sinc_power_sum", "gram_matrix",
-           "sinc_power_seconds", "field_seconds", "czt", "detect_rows", "Rows", "KERNELS",
+           "sinc_power_seconds", "sinc_matrix_seconds", "field_seconds", "czt",
+           "detect_rows", "Rows", "KERNELS",
            "set_threads", "transform_threads"]
 
 _LIMITS: list = []  # the BLAS/OpenMP limit object, kept so the limit holds

@@ -19,7 +19,7 @@ import math
 import os
 
 __all__ = ["MARGIN", "reference", "direct", "nufft3", "nufft1", "fft_lattice", "kernel_width",
-           "lattice_gram",
+           "lattice_gram", "sinc_matrix",
            "grid3", "SERIAL_TERMS", "SINC_SERIAL_PAIRS", "NUFFT_OVERHEAD", "FFT_OVERHEAD",
            "GRID_LIMIT", "sinc_pairs",
            "per_direction", "THREADS_FROM"]
@@ -138,6 +138,11 @@ def lattice_gram(m: int, nx: int, ny: int, n: int, offsets: int = 1) -> float:
     distinct row offset over M directions, then the N x N gather (measured on 16 x 16 to
     64 x 64 panels)."""
     return offsets * 8.0 * m * (2 * nx - 1) * (2 * ny - 1) / _R_GRAM + _C_GATHER * n * n
+
+
+def sinc_matrix(n: int) -> float:
+    """The closed-form N x N power matrix of isotropic elements (distances, sinc, kept)."""
+    return _C_GATHER * n * n
 
 
 def _fft_len(n: int) -> float:

@@ -14,7 +14,8 @@ from ._evaluate import DEFAULT_TOL, choose_path
 
 __all__ = ["gram_matrix", "lattice_gram_matrix", "lattice_gram_table", "dense_gram_matrix",
            "sinc_power_sum",
-           "sinc_power_seconds", "field_seconds", "lattice_gram_seconds"]
+           "sinc_power_seconds", "field_seconds", "lattice_gram_seconds",
+           "sinc_matrix_seconds"]
 
 LATTICE_OFFSETS = 16
 """Most distinct row-offset differences the lattice form of the Gram matrix takes (one
@@ -157,6 +158,12 @@ def sinc_power_sum(positions, weights, k: float) -> float:
     n = len(w)
     kern = km.sinc_power_serial if n * (n - 1) / 2 < _cost.SINC_SERIAL_PAIRS else km.sinc_power
     return float(kern(*xyz_columns(np.asarray(positions, float)), *re_im_columns(w), float(k)))
+
+
+def sinc_matrix_seconds(n: int) -> float:
+    """Estimated seconds of the closed-form power matrix of ``n`` isotropic elements (the
+    cost model)."""
+    return _cost.sinc_matrix(n)
 
 
 def sinc_power_seconds(n: int) -> float:

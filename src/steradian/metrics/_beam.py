@@ -28,12 +28,14 @@ def rel_db(ratio) -> float:
 
 
 def arc(r0, tangents, rho):
-    """Points r0 cos(rho) + t sin(rho); tangents (m,3), rho (m,) or (m,k) -> (m,[k,]3)."""
+    """Points r0 cos(rho) + t sin(rho); r0 (3,) or one per tangent (m,3), tangents (m,3),
+    rho (m,) or (m,k) -> (m,[k,]3)."""
     rho = np.asarray(rho, float)
+    r0 = np.asarray(r0, float)
+    r0 = r0 if r0.ndim == 2 else r0[None, :]
     if rho.ndim == 1:
-        return r0[None, :] * np.cos(rho)[:, None] + tangents * np.sin(rho)[:, None]
-    return (r0[None, None, :] * np.cos(rho)[..., None]
-            + tangents[:, None, :] * np.sin(rho)[..., None])
+        return r0 * np.cos(rho)[:, None] + tangents * np.sin(rho)[:, None]
+    return r0[:, None, :] * np.cos(rho)[..., None] + tangents[:, None, :] * np.sin(rho)[..., None]
 
 
 _HALF, _EDGE, _MIN = 0, 1, 2  # refinement kinds: half-power root, zero edge, minimum
@@ -187,8 +189,9 @@ def march_beams(beams, tangents_of, h: float, rho_max_of):
     the other radials or beams marched with it. Returns ``[(rho_hp, rho_null), ...]`` per
     beam, in radians, NaN where not found.
     """
-    T = np.concatenate([np.asarray(t, float).reshape(-1, 3) for t in tangents_of])
-    sizes = [len(np.asarray(t, float).reshape(-1, 3)) for t in tangents_of]
+    parts = [np.asarray(t, float).reshape(-1, 3) for t in tangents_of]
+    T = np.concatenate(parts)
+    sizes = [len(t) for t in parts]
     owner = np.repeat(np.arange(len(beams)), sizes)
     R0 = np.stack([b.r0 for b in beams])[owner]
     rho_max = np.concatenate([np.broadcast_to(np.asarray(r, float), (n,))
@@ -203,10 +206,6 @@ def march_beams(beams, tangents_of, h: float, rho_max_of):
             out[sel] = beams[b].g(pts[sel].reshape(-1, 3)).reshape(out[sel].shape)
         return out
 
-    def points(rows, rho):  # (A, K) angles on radials ``rows``
-        return (R0[rows][:, None, :] * np.cos(rho)[..., None]
-                + T[rows][:, None, :] * np.sin(rho)[..., None])
-
     nmax = int(np.ceil(rho_max.max() / h)) + 2 if m else 0
     G = np.full((m, nmax + 1), np.nan)
     G[:, 0] = 1.0
@@ -220,8 +219,8 @@ def march_beams(beams, tangents_of, h: float, rho_max_of):
         hi = min(filled + block, nmax)
         act = np.flatnonzero(~done)
         rho = np.minimum(np.arange(filled + 1, hi + 1) * h, np.pi)
-        G[act, filled + 1:hi + 1] = g_rows(points(act, np.broadcast_to(rho, (len(act),
-                                                                           len(rho)))), act)
+        G[act, filled + 1:hi + 1] = g_rows(
+            arc(R0[act], T[act], np.broadcast_to(rho, (len(act), len(rho)))), act)
         filled = hi
         Gs = G[act, :filled + 1]
         idx = np.arange(filled + 1)[None, :]
@@ -246,7 +245,7 @@ def march_beams(beams, tangents_of, h: float, rho_max_of):
     hi = np.minimum(hi, np.pi)
 
     def fun(act, x):
-        return g_rows(points(rows[act], x), rows[act])
+        return g_rows(arc(R0[rows[act]], T[rows[act]], x), rows[act])
 
     ref = ksection(fun, lo, hi, kind) if len(rows) else np.zeros(0)
     rho_hp = np.full(m, np.nan)

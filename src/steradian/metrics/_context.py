@@ -143,13 +143,10 @@ class Context:
 
     def lobes(self, allowed, count: int, key):
         """Refined local maxima of g where ``allowed`` (the refinement kept there), one per
-        lobe (``key`` identifies a lobe), highest first: list of (direction, g)."""
-        return self.lobes_many([(allowed, count, key)])[0]
-
-    def lobes_many(self, regions):
-        """:meth:`lobes` of several regions ``[(allowed, count, key[, project]), ...]``,
-        refined together (see :func:`refine_lobes`)."""
-        return refine_lobes([self], [regions])[0]
+        lobe (``key`` identifies a lobe), highest first: list of (direction, g); the
+        extension point for a metric that needs lobes of its own region
+        (:func:`refine_lobes` of this beam)."""
+        return refine_lobes([self], [[(allowed, count, key)]])[0][0]
 
     def lobe_regions(self):
         """The regions of :attr:`outside` and :attr:`rear` (for :func:`refine_lobes`)."""
@@ -167,7 +164,7 @@ class Context:
 
     @cached_property
     def _outside_and_rear(self):
-        return self.lobes_many(self.lobe_regions())
+        return refine_lobes([self], [self.lobe_regions()])[0]
 
     @property
     def outside(self):
@@ -195,6 +192,10 @@ def refine_lobes(ctxs, regions_of) -> list[list[list]]:
     exactly instead of creeping toward it). A start's result does not depend on the other
     starts refined with it.
     """
+    spacing = ctxs[0].search[0].spacing
+    if any(c.search[0].spacing != spacing for c in ctxs):
+        raise SteradianError("refine_lobes: the beams' search sets differ in spacing; "
+                             "refine beams of one aperture together")
     starts, owner = [], []  # owner: (beam, region) of each start
     for b, (ctx, regions) in enumerate(zip(ctxs, regions_of, strict=True)):
         search, vals = ctx.search
@@ -237,10 +238,6 @@ def refine_lobes(ctxs, regions_of) -> list[list[list]]:
             q[sel] = regions_of[b][r][3](points[sel])
         return q
 
-    spacing = ctxs[0].search[0].spacing
-    if any(c.search[0].spacing != spacing for c in ctxs):
-        raise SteradianError("refine_lobes: the beams' search sets differ in spacing; "
-                             "refine beams of one aperture together")
     xs, fs = refine_maxima(fun, np.concatenate(starts), spacing,
                            project=project if projected else None)
     for b, r in pairs:
