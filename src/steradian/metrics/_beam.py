@@ -54,7 +54,8 @@ to about 1e-12 rad and a true null (a zero of the field, where U is quadratic) t
 _CUBIC = np.linalg.inv(np.vander(np.arange(4.0), 4, increasing=True))
 
 
-def ksection(fun, a, b, kind, k: int = 8, tol: float = 1e-13, iters: int = 40):
+def ksection(fun, a, b, kind, k: int = 8, tol: float = 1e-13, iters: int = 40, *,
+             fa=None, fb=None):
     """Vectorised k-section refinement of many brackets at once (one ``fun`` call per step).
 
     ``fun(x)`` maps bracket coordinates (n, k+1) to values of the same shape. Each step
@@ -68,6 +69,9 @@ def ksection(fun, a, b, kind, k: int = 8, tol: float = 1e-13, iters: int = 40):
     the smooth pattern). An exact-zero edge is a jump and is sectioned down to ``tol``.
     Returns the refined points.
 
+    ``fa``, ``fb``: the values at the brackets' ends when the caller has them (as the march
+    does); a step then evaluates only the k - 1 interior samples, as every later step does.
+
     References
     ----------
     R. P. Brent, *Algorithms for Minimization without Derivatives*, Prentice-Hall, 1973,
@@ -76,6 +80,7 @@ def ksection(fun, a, b, kind, k: int = 8, tol: float = 1e-13, iters: int = 40):
     a, b = np.array(a, float), np.array(b, float)
     kind = np.asarray(kind)
     out = np.full(len(a), np.nan)
+    ends = [np.full(len(a), np.nan) if f is None else np.array(f, float) for f in (fa, fb)]
     t = np.linspace(0.0, 1.0, k + 1)
     shrink = np.where(kind == _HALF, FINISH_SHRINK[_HALF], FINISH_SHRINK[_MIN])
     finish = np.where(kind == _EDGE, tol, np.maximum((b - a) * (1 + 1e-9) / shrink, tol))
@@ -84,7 +89,8 @@ def ksection(fun, a, b, kind, k: int = 8, tol: float = 1e-13, iters: int = 40):
         if not len(act):
             break
         x = a[act, None] + (b - a)[act, None] * t[None, :]
-        v = fun(act, x)
+        x[:, 0], x[:, -1] = a[act], b[act]
+        v = _sample(fun, act, x, ends[0][act], ends[1][act])
         kd = kind[act]
         good = np.where((kd == _HALF)[:, None], v >= 0.5, v > 0.0)
         i_root = np.clip(np.argmin(good, axis=1), 1, k)  # first sample past the event
@@ -94,10 +100,24 @@ def ksection(fun, a, b, kind, k: int = 8, tol: float = 1e-13, iters: int = 40):
         hi_i = np.where(kd == _MIN, np.minimum(i_min + 1, k), i_root)
         lo, hi = x[rows, lo_i], x[rows, hi_i]
         a[act], b[act] = lo, hi
+        ends[0][act], ends[1][act] = v[rows, lo_i], v[rows, hi_i]
         done = ((hi - lo) <= finish[act]) & (kd != _EDGE)
         if done.any():
             out[act[done]] = _finish(kd[done], x[done], v[done], lo_i[done], hi_i[done])
     return np.where(np.isnan(out), 0.5 * (a + b), out)
+
+
+def _sample(fun, act, x, va, vb):
+    """``fun`` on the samples ``x`` of brackets ``act``, evaluating only the interior where
+    both ends' values ``va``, ``vb`` are known."""
+    known = np.isfinite(va) & np.isfinite(vb)
+    v = np.empty(x.shape)
+    if known.any():
+        v[known, 1:-1] = fun(act[known], x[known, 1:-1])
+        v[known, 0], v[known, -1] = va[known], vb[known]
+    if not known.all():
+        v[~known] = fun(act[~known], x[~known])
+    return v
 
 
 def _finish(kind, x, v, lo_i, hi_i):
@@ -178,16 +198,18 @@ class Beam:
         return march_beams([self], [tangents], h, [rho_max])[0]
 
 
-def march_beams(beams, tangents_of, h: float, rho_max_of):
+def march_beams(beams, tangents_of, h: float, rho_max_of, half_power_of=None):
     """Half-power and first-null angles along the radials of several beams at once.
 
     Beam ``b`` marches along its radials with tangents ``tangents_of[b]`` (m_b, 3) out to
     ``rho_max_of[b]`` (scalar or (m_b,)), in steps of ``h``: each block of steps evaluates
     every beam's active radials (one pattern call per beam); the first null is the first
     local minimum below the peak, the half-power point the first sample below 1/2 before it.
-    Both are then refined together by :func:`ksection`. A radial's result does not depend on
-    the other radials or beams marched with it. Returns ``[(rho_hp, rho_null), ...]`` per
-    beam, in radians, NaN where not found.
+    Both are then refined together by :func:`ksection`. ``half_power_of[b]``: the radials
+    (indices or a mask) whose half-power angle is wanted (default: all; the others' is NaN,
+    and their refinement is skipped). A radial's result does not depend on the other
+    radials or beams marched with it. Returns ``[(rho_hp, rho_null), ...]`` per beam, in
+    radians, NaN where not found.
     """
     parts = [np.asarray(t, float).reshape(-1, 3) for t in tangents_of]
     T = np.concatenate(parts)
@@ -197,6 +219,12 @@ def march_beams(beams, tangents_of, h: float, rho_max_of):
     rho_max = np.concatenate([np.broadcast_to(np.asarray(r, float), (n,))
                               for r, n in zip(rho_max_of, sizes, strict=True)])
     m = len(T)
+    want_hp = np.ones(m, bool)
+    if half_power_of is not None:
+        want_hp[:] = False
+        for start, n, sel in zip(np.cumsum([0] + sizes[:-1]), sizes, half_power_of,
+                                 strict=True):
+            want_hp[start:start + n][sel] = True
 
     def g_rows(pts, rows):  # pts (A, K, 3) on radials ``rows`` (A,)
         out = np.empty(pts.shape[:-1])
@@ -214,7 +242,7 @@ def march_beams(beams, tangents_of, h: float, rho_max_of):
     done = np.zeros(m, bool)
     lim = np.floor(rho_max / h).astype(int)  # last index within rho_max
     filled = 0
-    block = 48
+    block = _MARCH_BLOCK
     while not done.all() and filled < nmax:
         hi = min(filled + block, nmax)
         act = np.flatnonzero(~done)
@@ -235,25 +263,32 @@ def march_beams(beams, tangents_of, h: float, rho_max_of):
         i_hp[act] = np.where(below.any(axis=1), below.argmax(axis=1), i_hp[act])
         done[act] = (i_null[act] > 0) | (filled >= lim[act] + 1)
     # Refine every half-power crossing and first null together, off the sampling grid.
-    hp = np.flatnonzero(i_hp > 0)
+    hp = np.flatnonzero((i_hp > 0) & want_hp)
     nl = np.flatnonzero(i_null > 0)
     edge = G[nl, i_null[nl]] == 0.0  # exact zero: the edge of a front-only pattern
     rows = np.concatenate([hp, nl])
     kind = np.concatenate([np.full(len(hp), _HALF), np.where(edge, _EDGE, _MIN)])
-    lo = np.concatenate([(i_hp[hp] - 1) * h, (i_null[nl] - 1) * h])
-    hi = np.concatenate([i_hp[hp] * h, np.where(edge, i_null[nl], i_null[nl] + 1) * h])
-    hi = np.minimum(hi, np.pi)
+    i_lo = np.concatenate([i_hp[hp] - 1, i_null[nl] - 1])
+    i_hi = np.concatenate([i_hp[hp], np.where(edge, i_null[nl], i_null[nl] + 1)])
+    lo, hi = i_lo * h, np.minimum(i_hi * h, np.pi)
+    # The march's samples at the brackets' ends (the same points, rho = i h clipped to pi).
+    fa, fb = G[rows, i_lo], G[rows, i_hi]
 
     def fun(act, x):
         return g_rows(arc(R0[rows[act]], T[rows[act]], x), rows[act])
 
-    ref = ksection(fun, lo, hi, kind) if len(rows) else np.zeros(0)
+    ref = ksection(fun, lo, hi, kind, fa=fa, fb=fb) if len(rows) else np.zeros(0)
     rho_hp = np.full(m, np.nan)
     rho_null = np.full(m, np.nan)
     rho_hp[hp] = ref[:len(hp)]
     rho_null[nl] = ref[len(hp):]
     cuts = np.cumsum([0] + sizes)
     return [(rho_hp[a:b], rho_null[a:b]) for a, b in zip(cuts[:-1], cuts[1:], strict=True)]
+
+
+_MARCH_BLOCK = 24
+"""Radial steps evaluated per block of the march (16 steps per null width: a first null
+within 1.5 null widths, as of a broadside beam, is found in the first block)."""
 
 
 def plane_widths(name, hp_pos, hp_neg, null_pos, null_neg) -> PlaneWidths:

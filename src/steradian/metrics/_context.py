@@ -17,12 +17,16 @@ from ..sphere import SearchSet, refine_maxima, require_search
 from ._beam import N_RADIALS, BandLobe, Beam, RadialLobe, arc, march_beams
 from ._difference import difference_beam
 
-__all__ = ["Context", "SEARCH_PER_NULL", "N_REFINE", "N_REAR", "require_metrics_search",
-           "refine_lobes", "prepare_lobes"]
+__all__ = ["Context", "SEARCH_PER_NULL", "PRINCIPAL_RADIALS", "N_REFINE", "N_REAR",
+           "require_metrics_search", "refine_lobes", "prepare_lobes"]
 
 SEARCH_PER_NULL = 3.0
 _MIN_SEARCH = 2000
 """Sidelobe search samples per main-lobe null width."""
+
+PRINCIPAL_RADIALS = np.arange(4) * (N_RADIALS // 4)
+"""The radials along the principal cuts (psi = 0, 90, 180, 270 degrees): the only ones whose
+half-power angle a metric uses (the beamwidths)."""
 
 N_REFINE = 16
 """Sidelobe candidates refined by the lobe search."""
@@ -55,8 +59,10 @@ class Context:
 
     @cached_property
     def radials(self):
-        """(rho_hp, rho_null) along N_RADIALS radials, psi = 2 pi i / N_RADIALS."""
-        return self.beam.march(self.radial_tangents(), self.h, np.pi)
+        """(rho_hp, rho_null) along N_RADIALS radials, psi = 2 pi i / N_RADIALS; rho_hp
+        only along the principal cuts' radials (:data:`PRINCIPAL_RADIALS`), NaN elsewhere."""
+        return march_beams([self.beam], [self.radial_tangents()], self.h, [np.pi],
+                           [PRINCIPAL_RADIALS])[0]
 
     def radial_tangents(self) -> np.ndarray:
         """Tangents (N_RADIALS, 3) of the radials at psi = 2 pi i / N_RADIALS."""
@@ -256,7 +262,8 @@ def prepare_lobes(ctxs) -> None:
     aperture: all of them)."""
     for group in _by(ctxs, lambda c: c.h, lambda c: "radials" not in c.__dict__):
         got = march_beams([c.beam for c in group], [c.radial_tangents() for c in group],
-                          group[0].h, [np.pi] * len(group))
+                          group[0].h, [np.pi] * len(group),
+                          [PRINCIPAL_RADIALS] * len(group))
         for c, r in zip(group, got, strict=True):
             c.__dict__["radials"] = r
     for group in _by(ctxs, lambda c: c.search[0].spacing,

@@ -14,8 +14,8 @@ import numpy as np
 
 from ..directions import angle_between_deg, angles_deg
 from ..radiation import peak_directivity
-from ._beam import N_RADIALS, plane_widths, rel_db
-from ._context import Context
+from ._beam import plane_widths, rel_db
+from ._context import PRINCIPAL_RADIALS, Context
 from ._grating import grating_prediction
 
 __all__ = ["Metric", "METRICS", "metric", "MAX_REPORTED"]
@@ -58,9 +58,9 @@ def beam(ctx: Context) -> dict:
 def beamwidths(ctx: Context) -> dict:
     """HPBW and FNBW in the two principal cuts (radials 0, 1/4, 1/2, 3/4 of the march)."""
     hp, null = ctx.radials
-    q = N_RADIALS // 4
-    return {"planes": (plane_widths("phi_plane", hp[0], hp[2 * q], null[0], null[2 * q]),
-                       plane_widths("cross_plane", hp[q], hp[3 * q], null[q], null[3 * q]))}
+    i0, i1, i2, i3 = PRINCIPAL_RADIALS
+    return {"planes": (plane_widths("phi_plane", hp[i0], hp[i2], null[i0], null[i2]),
+                       plane_widths("cross_plane", hp[i1], hp[i3], null[i1], null[i3]))}
 
 
 @metric("sidelobes", "psl_db", "psl_theta_deg", "psl_phi_deg", "sidelobes", "islr_db",
