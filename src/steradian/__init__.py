@@ -10,68 +10,167 @@ Conventions: right-handed x, y, z; planar arrays in the x-y plane, broadside +z;
 
 from __future__ import annotations
 
-from . import optimize, tapers
-from .array import Array, Steering, direction
-from .beamtable import BeamEvaluator, BeamTable, build_beam_table, verify_beam_table
-from .directions import (
-    Directions,
-    ThetaPhiGrid,
-    UVGrid,
-    az_el_directions,
-    theta_phi_directions,
-)
-from .elements import (
-    CosinePower,
-    Dipole,
-    Element,
-    HalfWaveDipole,
-    Isotropic,
-    Patch,
-    ShortDipole,
-    TabulatedElement,
-)
-from .engine import Field, field
-from .errors import DesignError, FileFormatError, SteradianError
-from .geometry import (
-    Geometry,
-    concentric_rings,
-    linear,
-    rectangular,
-    ring,
-    rotation_to,
-    triangular,
-)
-from .io.design import Design, design_from_dict, load_design
-from .io.element_table import read_element_table, write_element_table
-from .io.formats import read_weight_file, write_weight_file
-from .io.positions_csv import read_positions, write_positions
-from .io.weights_csv import read_weights, write_weights
-from .metrics import Cut, PatternMetrics, cut, pattern_metrics, principal_cuts
-from .optimize import (
-    SynthesisInfeasible,
-    SynthesisResult,
-    max_directivity,
-    max_worst_directivity,
-    min_sidelobe,
-    phase_only,
-    synthesize,
-    thin,
-    tradeoff,
-)
-from .quantize import ChannelModel, StateMap
-from .radiation import (
-    beam_solid_angle,
-    directivity,
-    eirp,
-    gain,
-    peak_directivity,
-    radiated_power,
-    realized_gain,
-    taper_efficiency,
-)
+from importlib import import_module
+from typing import TYPE_CHECKING
+
 from .units import C0
 from .version import VERSION as __version__
-from .workflows import analyze_design, beam_table_from_design, verify_weight_file
+
+if TYPE_CHECKING:
+    from . import optimize, tapers
+    from .array import Array, Steering, direction
+    from .beamtable import BeamEvaluator, BeamTable, build_beam_table, verify_beam_table
+    from .directions import (
+        Directions,
+        ThetaPhiGrid,
+        UVGrid,
+        az_el_directions,
+        theta_phi_directions,
+    )
+    from .elements import (
+        CosinePower,
+        Dipole,
+        Element,
+        HalfWaveDipole,
+        Isotropic,
+        Patch,
+        ShortDipole,
+        TabulatedElement,
+    )
+    from .engine import Field, field
+    from .errors import DesignError, FileFormatError, SteradianError
+    from .geometry import (
+        Geometry,
+        concentric_rings,
+        linear,
+        rectangular,
+        ring,
+        rotation_to,
+        triangular,
+    )
+    from .io.design import Design, design_from_dict, load_design
+    from .io.element_table import read_element_table, write_element_table
+    from .io.formats import read_weight_file, write_weight_file
+    from .io.positions_csv import read_positions, write_positions
+    from .io.weights_csv import read_weights, write_weights
+    from .metrics import Cut, PatternMetrics, cut, pattern_metrics, principal_cuts
+    from .optimize import (
+        SynthesisInfeasible,
+        SynthesisResult,
+        max_directivity,
+        max_worst_directivity,
+        min_sidelobe,
+        phase_only,
+        synthesize,
+        thin,
+        tradeoff,
+    )
+    from .quantize import ChannelModel, StateMap
+    from .radiation import (
+        beam_solid_angle,
+        directivity,
+        eirp,
+        gain,
+        peak_directivity,
+        radiated_power,
+        realized_gain,
+        taper_efficiency,
+    )
+    from .workflows import analyze_design, beam_table_from_design, verify_weight_file
+
+
+# Public names are imported on first use (PEP 562), so a process that needs one part (a
+# study worker, ``steradian --help``) does not pay for importing every other part.
+_LAZY = {
+    "optimize": (".optimize", None),
+    "tapers": (".tapers", None),
+    "Array": (".array", "Array"),
+    "Steering": (".array", "Steering"),
+    "direction": (".array", "direction"),
+    "BeamEvaluator": (".beamtable", "BeamEvaluator"),
+    "BeamTable": (".beamtable", "BeamTable"),
+    "build_beam_table": (".beamtable", "build_beam_table"),
+    "verify_beam_table": (".beamtable", "verify_beam_table"),
+    "Directions": (".directions", "Directions"),
+    "ThetaPhiGrid": (".directions", "ThetaPhiGrid"),
+    "UVGrid": (".directions", "UVGrid"),
+    "az_el_directions": (".directions", "az_el_directions"),
+    "theta_phi_directions": (".directions", "theta_phi_directions"),
+    "CosinePower": (".elements", "CosinePower"),
+    "Dipole": (".elements", "Dipole"),
+    "Element": (".elements", "Element"),
+    "HalfWaveDipole": (".elements", "HalfWaveDipole"),
+    "Isotropic": (".elements", "Isotropic"),
+    "Patch": (".elements", "Patch"),
+    "ShortDipole": (".elements", "ShortDipole"),
+    "TabulatedElement": (".elements", "TabulatedElement"),
+    "Field": (".engine", "Field"),
+    "field": (".engine", "field"),
+    "DesignError": (".errors", "DesignError"),
+    "FileFormatError": (".errors", "FileFormatError"),
+    "SteradianError": (".errors", "SteradianError"),
+    "Geometry": (".geometry", "Geometry"),
+    "concentric_rings": (".geometry", "concentric_rings"),
+    "linear": (".geometry", "linear"),
+    "rectangular": (".geometry", "rectangular"),
+    "ring": (".geometry", "ring"),
+    "rotation_to": (".geometry", "rotation_to"),
+    "triangular": (".geometry", "triangular"),
+    "Design": (".io.design", "Design"),
+    "design_from_dict": (".io.design", "design_from_dict"),
+    "load_design": (".io.design", "load_design"),
+    "read_element_table": (".io.element_table", "read_element_table"),
+    "write_element_table": (".io.element_table", "write_element_table"),
+    "read_weight_file": (".io.formats", "read_weight_file"),
+    "write_weight_file": (".io.formats", "write_weight_file"),
+    "read_positions": (".io.positions_csv", "read_positions"),
+    "write_positions": (".io.positions_csv", "write_positions"),
+    "read_weights": (".io.weights_csv", "read_weights"),
+    "write_weights": (".io.weights_csv", "write_weights"),
+    "Cut": (".metrics", "Cut"),
+    "PatternMetrics": (".metrics", "PatternMetrics"),
+    "cut": (".metrics", "cut"),
+    "pattern_metrics": (".metrics", "pattern_metrics"),
+    "principal_cuts": (".metrics", "principal_cuts"),
+    "SynthesisInfeasible": (".optimize", "SynthesisInfeasible"),
+    "SynthesisResult": (".optimize", "SynthesisResult"),
+    "max_directivity": (".optimize", "max_directivity"),
+    "max_worst_directivity": (".optimize", "max_worst_directivity"),
+    "min_sidelobe": (".optimize", "min_sidelobe"),
+    "phase_only": (".optimize", "phase_only"),
+    "synthesize": (".optimize", "synthesize"),
+    "thin": (".optimize", "thin"),
+    "tradeoff": (".optimize", "tradeoff"),
+    "ChannelModel": (".quantize", "ChannelModel"),
+    "StateMap": (".quantize", "StateMap"),
+    "beam_solid_angle": (".radiation", "beam_solid_angle"),
+    "directivity": (".radiation", "directivity"),
+    "eirp": (".radiation", "eirp"),
+    "gain": (".radiation", "gain"),
+    "peak_directivity": (".radiation", "peak_directivity"),
+    "radiated_power": (".radiation", "radiated_power"),
+    "realized_gain": (".radiation", "realized_gain"),
+    "taper_efficiency": (".radiation", "taper_efficiency"),
+    "analyze_design": (".workflows", "analyze_design"),
+    "beam_table_from_design": (".workflows", "beam_table_from_design"),
+    "verify_weight_file": (".workflows", "verify_weight_file"),
+}
+
+
+def __getattr__(name: str):
+    try:
+        module, attr = _LAZY[name]
+    except KeyError:
+        raise AttributeError(f"module 'steradian' has no attribute {name!r}") from None
+    value = import_module(module, __name__)
+    value = value if attr is None else getattr(value, attr)
+    globals()[name] = value
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(__all__))
+
 
 __all__ = [
     "__version__", "C0",
