@@ -46,7 +46,7 @@ LAYERS: list[tuple[str, tuple[str, ...]]] = [
     ("studies", ("steradian.studies",)),
     ("files", ("steradian.io",)),
     ("face", ("steradian.workflows", "steradian.plots", "steradian.report",
-              "steradian.studyrun")),
+              "steradian.studyrun", "steradian.studypreload")),
     ("command line", ("steradian.cli",)),
     ("package root", ("steradian",)),
 ]

@@ -223,6 +223,52 @@ def test_interrupted_process_pool_leaves_a_prefix(design, tmp_path):
     assert 0 < len(got) < 400 and got == rows[:len(got)]
 
 
+def _marked(mark: str) -> list[int]:
+    """Processes whose environment holds ``STERADIAN_TEST_MARK=mark``."""
+    found = []
+    for d in os.listdir("/proc"):
+        if d.isdigit():
+            try:
+                with open(f"/proc/{d}/environ", "rb") as fh:
+                    if f"STERADIAN_TEST_MARK={mark}".encode() in fh.read().split(b"\0"):
+                        found.append(int(d))
+            except OSError:
+                continue
+    return found
+
+
+@pytest.mark.skipif(not os.path.isdir("/proc"), reason="reads the process table in /proc")
+def test_killed_run_leaves_no_workers(design, tmp_path):
+    """Common practice (bounded resources): when the process running a two-worker pool is
+    killed (SIGKILL: no clean-up of its own), its workers and their start-up server end
+    too, instead of idling on their memory."""
+    out = tmp_path / "orphans.csv"
+    mark = f"{os.getpid()}-{time.monotonic_ns()}"
+    cmd = [sys.executable, "-c", "from steradian.cli import main; main()", "tolerance",
+           str(design), "-o", str(out), "--workers", "2"]
+    proc = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
+                            start_new_session=True,
+                            env={**os.environ, "STERADIAN_TEST_MARK": mark})
+    try:
+        deadline = time.monotonic() + 120
+        while time.monotonic() < deadline and proc.poll() is None:
+            if out.exists() and out.read_text().count("\n") > 50:
+                break
+            time.sleep(0.01)
+        assert len(_marked(mark)) >= 3, "the pool was not running"  # the run and 2 workers
+        proc.send_signal(signal.SIGKILL)  # the run alone, not its process group
+        proc.wait()
+        deadline = time.monotonic() + 15
+        while _marked(mark) and time.monotonic() < deadline:
+            time.sleep(0.1)
+        assert _marked(mark) == []
+    finally:
+        try:
+            os.killpg(proc.pid, signal.SIGKILL)
+        except ProcessLookupError:
+            pass
+
+
 def test_dask_scheduler_address(design, tmp_path):
     """A user-given Dask scheduler address (here a cluster started by the test) gives the
     same file as local processes."""

@@ -9,8 +9,9 @@ for any worker count and backend. Rows are written in index order as soon as the
 before them are written, so an interrupted run leaves a prefix of the finished file;
 resuming reruns only the tasks not yet complete in it.
 
-Backends: ``"local"`` (default): ``workers`` spawned processes (default: every core),
-each running its numerical libraries on one thread (one worker: this process, all
+Backends: ``"local"`` (default): ``workers`` processes (default: every core), forked
+warm from a fork server where the platform has one (else spawned), each running its
+numerical libraries on one thread (one worker: this process, all
 threads); ``"dask"``: a Dask distributed cluster, at ``scheduler`` (an address such as
 ``tcp://host:8786``) or a local cluster of ``workers`` processes started for the run. Dask
 is an optional extra (``pip install steradian[distributed]``).
@@ -189,6 +190,34 @@ def _workers(workers) -> int:
     return int(workers)
 
 
+def _pool_context():
+    """The local pool's start method, its server started: a fork server that imported
+    :mod:`steradian.studypreload` (the workers fork warm) where the platform has one, else
+    spawn. Started at the beginning of a run, the server warms up while this process
+    builds the run's tasks."""
+    import multiprocessing as mp
+
+    if "forkserver" not in mp.get_all_start_methods():
+        return mp.get_context("spawn")
+    from multiprocessing import forkserver
+
+    ctx = mp.get_context("forkserver")
+    ctx.set_forkserver_preload(["steradian.studypreload"])
+    forkserver.ensure_running()
+    return ctx
+
+
+def _prestart(opts) -> None:
+    """Start the local pool's server now when the run will use more than one worker."""
+    if (opts.get("backend") or "local") != "local" or opts.get("scheduler"):
+        return
+    try:
+        if _workers(opts.get("workers")) > 1:
+            _pool_context()
+    except SteradianError:
+        return  # an invalid worker count is refused with its message where it is used
+
+
 def _local(job, tasks, workers: int) -> Iterator[list]:
     if workers == 1 or len(tasks) <= 1:
         try:
@@ -197,10 +226,34 @@ def _local(job, tasks, workers: int) -> Iterator[list]:
         finally:
             _BUILT.clear()  # the evaluator of a large array is not kept past the run
         return
-    import multiprocessing as mp
+    ctx = _pool_context()
+    alive, keep = ctx.Pipe(duplex=False)  # ``keep`` open here only: closed when this dies
+    try:
+        yield from _pool_results(job, tasks, workers, ctx, alive)
+    finally:
+        keep.close()
+        alive.close()
 
-    with ProcessPoolExecutor(max_workers=min(workers, len(tasks)),
-                             mp_context=mp.get_context("spawn")) as pool:
+
+def _exit_with(alive) -> None:
+    """Worker initializer: end this worker when the process that started the pool ends,
+    also when it is killed (its end of the ``alive`` pipe closes): a killed run leaves no
+    idle workers holding memory."""
+    import threading
+
+    def watch():
+        try:
+            alive.recv()
+        except (EOFError, OSError):
+            pass
+        os._exit(0)
+
+    threading.Thread(target=watch, name="steradian-run-watch", daemon=True).start()
+
+
+def _pool_results(job, tasks, workers: int, ctx, alive) -> Iterator[list]:
+    with ProcessPoolExecutor(max_workers=min(workers, len(tasks)), mp_context=ctx,
+                             initializer=_exit_with, initargs=(alive,)) as pool:
         pending = {pool.submit(_execute, job, t, 1) for t in tasks}
         try:
             while pending:
@@ -318,6 +371,7 @@ def run_tolerance(doc: dict, spec: ToleranceSpec, output, *, source=None, resume
     """
     require(ROW_BYTES * spec.trials, f"a tolerance run of {spec.trials:,} trials",
             "run fewer trials")
+    _prestart(opts)
     design = design_from_dict(doc, source)
     channel = _channel(design) if spec.quantize else None
     describe = {"kind": "tolerance", "design": _digest(doc), **spec.describe()}
@@ -368,6 +422,7 @@ def run_sweep(doc: dict, spec: SweepSpec, output, *, source=None, resume=True,
     """Sweep of the design document ``doc`` over ``spec``'s axes; one row per point
     (``point``, the axis values, the metrics of :func:`~steradian.studies.sweep_fields`)
     appended to ``output``. ``opts`` as for :func:`run_tolerance`."""
+    _prestart(opts)
     arrays, freqs, batches, eff = study_of_design_dict(doc, spec, source)
     labels = [a.label for a in spec.axes]
     columns = ["point", *labels, *sweep_fields(spec.metrics)]
