@@ -50,12 +50,18 @@ k = 8. The cubic through four of the last step's samples then places a half-powe
 to about 1e-12 rad and a true null (a zero of the field, where U is quadratic) to about
 1e-12 rad; the errors fall with the fourth and the third power of the sample spacing."""
 
+BOUNDARY_SHRINK = 16
+"""Finishing factor of a first null that only bounds the main lobe (a radial off the
+principal cuts): two k-section steps, then the cubic, place it to about 1e-8 rad. The
+boundary's error enters the main-lobe power at third order (U vanishes quadratically at a
+null) and the sidelobe region not at all unless a lobe peak lies within it."""
+
 # Inverse Vandermonde of the nodes t = 0, 1, 2, 3: cubic coefficients c0..c3 from 4 values.
 _CUBIC = np.linalg.inv(np.vander(np.arange(4.0), 4, increasing=True))
 
 
 def ksection(fun, a, b, kind, k: int = 8, tol: float = 1e-13, iters: int = 40, *,
-             fa=None, fb=None):
+             fa=None, fb=None, shrink=None):
     """Vectorised k-section refinement of many brackets at once (one ``fun`` call per step).
 
     ``fun(x)`` maps bracket coordinates (n, k+1) to values of the same shape. Each step
@@ -71,6 +77,9 @@ def ksection(fun, a, b, kind, k: int = 8, tol: float = 1e-13, iters: int = 40, *
 
     ``fa``, ``fb``: the values at the brackets' ends when the caller has them (as the march
     does); a step then evaluates only the k - 1 interior samples, as every later step does.
+    ``shrink``: a finishing factor per bracket in place of :data:`FINISH_SHRINK` (the
+    march finishes the main-lobe boundary's nulls after two steps: see
+    :data:`BOUNDARY_SHRINK`).
 
     References
     ----------
@@ -82,7 +91,8 @@ def ksection(fun, a, b, kind, k: int = 8, tol: float = 1e-13, iters: int = 40, *
     out = np.full(len(a), np.nan)
     ends = [np.full(len(a), np.nan) if f is None else np.array(f, float) for f in (fa, fb)]
     t = np.linspace(0.0, 1.0, k + 1)
-    shrink = np.where(kind == _HALF, FINISH_SHRINK[_HALF], FINISH_SHRINK[_MIN])
+    if shrink is None:
+        shrink = np.where(kind == _HALF, FINISH_SHRINK[_HALF], FINISH_SHRINK[_MIN])
     finish = np.where(kind == _EDGE, tol, np.maximum((b - a) * (1 + 1e-9) / shrink, tol))
     for _ in range(iters):
         act = np.flatnonzero(np.isnan(out) & (b - a > tol))
@@ -207,7 +217,8 @@ def march_beams(beams, tangents_of, h: float, rho_max_of, half_power_of=None):
     local minimum below the peak, the half-power point the first sample below 1/2 before it.
     Both are then refined together by :func:`ksection`. ``half_power_of[b]``: the radials
     (indices or a mask) whose half-power angle is wanted (default: all; the others' is NaN,
-    and their refinement is skipped). A radial's result does not depend on the other
+    and their refinement is skipped); the others' first null only bounds the main lobe and
+    is finished at :data:`BOUNDARY_SHRINK`. A radial's result does not depend on the other
     radials or beams marched with it. Returns ``[(rho_hp, rho_null), ...]`` per beam, in
     radians, NaN where not found.
     """
@@ -277,7 +288,10 @@ def march_beams(beams, tangents_of, h: float, rho_max_of, half_power_of=None):
     def fun(act, x):
         return g_rows(arc(R0[rows[act]], T[rows[act]], x), rows[act])
 
-    ref = ksection(fun, lo, hi, kind, fa=fa, fb=fb) if len(rows) else np.zeros(0)
+    shrink = np.concatenate([np.full(len(hp), FINISH_SHRINK[_HALF]),
+                             np.where(want_hp[nl], FINISH_SHRINK[_MIN], BOUNDARY_SHRINK)])
+    ref = (ksection(fun, lo, hi, kind, fa=fa, fb=fb, shrink=shrink) if len(rows)
+           else np.zeros(0))
     rho_hp = np.full(m, np.nan)
     rho_null = np.full(m, np.nan)
     rho_hp[hp] = ref[:len(hp)]
