@@ -18,6 +18,8 @@ were applied, not that the parser saw nothing.
 from __future__ import annotations
 
 import ast
+import subprocess
+import sys
 from pathlib import Path
 
 import pytest
@@ -329,3 +331,27 @@ def test_checker_finds_private_use(tmp_path, text, expected):
                           "toy/low/_impl.py": "def f():\n    pass\n_hidden = 1\n",
                           "toy/high.py": text})
     assert check(src, "toy", _TOY_LAYERS) == [expected]
+
+
+def test_public_names_resolve_on_first_use():
+    """Every name of ``steradian.__all__`` resolves (imported on first use) to the object
+    its home module defines, and a study worker's import leaves the synthesis and plotting
+    parts unimported (checked in a fresh process)."""
+    import importlib
+
+    import steradian
+
+    for name in steradian.__all__:
+        value = getattr(steradian, name)
+        assert value is not None and name in dir(steradian)
+        home = getattr(value, "__module__", None)
+        if home and home.startswith("steradian.") and not name.startswith("__"):
+            assert getattr(importlib.import_module(home), name, value) is value
+    with pytest.raises(AttributeError, match="no attribute 'no_such_name'"):
+        steradian.no_such_name  # noqa: B018
+    code = ("import sys, steradian.studyrun\n"
+            "print(sorted(m for m in ('steradian.optimize', 'steradian.plots', "
+            "'steradian.report', 'matplotlib') if m in sys.modules))\n")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True)
+    assert out.stdout.strip() == "[]"
