@@ -115,16 +115,17 @@ def _on_cone(axis, c, toward):
     return c * axis + np.sqrt(max(1.0 - c * c, 0.0)) * perp / nrm
 
 
-def beam_axis(array, peak: Peak, frequency=None) -> np.ndarray:
+def beam_axis(array, peak: Peak, frequency=None, sym=None) -> np.ndarray:
     """Beam axis: the peak found, or a standard direction when it ties with the peak.
 
     Standard directions, in order: the steering direction, +z, and for a collinear array the
     points of the peak's cone nearest +z and +x. When the pattern is mirror symmetric about
     the plane of a planar array, a peak found behind that plane (relative to the steering
-    direction, else +z) is reflected to the front first.
+    direction, else +z) is reflected to the front first. ``sym``: the array's
+    :func:`symmetry` when the caller has it.
     """
     r_pk = peak.unit
-    kind, vec = symmetry(array, frequency)
+    kind, vec = symmetry(array, frequency) if sym is None else sym
     if kind == "mirror":
         side = (array.steering.unit if array.steering is not None
                 else np.array([0.0, 0.0, 1.0])) @ vec

@@ -46,7 +46,7 @@ class Context:
         self.grating_lobe_db = grating_lobe_db
         self.beam_kind = beam_kind
         self.peak = resolve_peak(array, frequency, peak, aperture)
-        self.r0 = (beam_axis(array, self.peak, frequency) if axis is None
+        self.r0 = (beam_axis(array, self.peak, frequency, self.symmetry) if axis is None
                    else np.asarray(axis, float))
         self.beam = Beam(array, frequency, self.r0, self.peak.power.value)
         self.kr = max(array.electrical_radius(frequency), 1.0)
@@ -176,6 +176,13 @@ class Context:
     def outside(self):
         """Refined lobes outside the main lobe (list of (direction, g), highest first)."""
         return self._outside_and_rear[0]
+
+    @cached_property
+    def outside_lobes(self):
+        """:attr:`outside` as reported :class:`Lobe` records (each at its lobe's
+        representative direction, ``main_lobe``'s key), highest first."""
+        key = self.main_lobe[3]
+        return tuple(self.beam.lobe(key(x[None, :])[0], f) for x, f in self.outside)
 
     @property
     def rear(self):

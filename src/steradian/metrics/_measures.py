@@ -67,8 +67,8 @@ def beamwidths(ctx: Context) -> dict:
         "main_lobe_power_fraction", "main_lobe_model")
 def sidelobes(ctx: Context) -> dict:
     """Peak sidelobe level and direction, the highest sidelobes, ISLR and the main lobe."""
-    _, p_main, model, key = ctx.main_lobe
-    lobes = [ctx.beam.lobe(key(x[None, :])[0], f) for x, f in ctx.outside]
+    _, p_main, model, _ = ctx.main_lobe
+    lobes = ctx.outside_lobes
     p_rad = ctx.peak.power.value
     out = {"psl_db": None, "psl_theta_deg": None, "psl_phi_deg": None,
            "sidelobes": tuple(lobes[:MAX_REPORTED]),
@@ -89,9 +89,7 @@ def grating_lobes(ctx: Context) -> dict:
     """Grating lobes predicted from the lattice, and lobes found within
     ``grating_lobe_db`` of the peak outside the main lobe."""
     predicted, free_deg, free_plane_deg = grating_prediction(ctx.array, ctx.frequency, ctx.beam)
-    _, _, _, key = ctx.main_lobe
-    found = tuple(lb for lb in (ctx.beam.lobe(key(x[None, :])[0], f) for x, f in ctx.outside)
-                  if lb.level_db >= -ctx.grating_lobe_db)
+    found = tuple(lb for lb in ctx.outside_lobes if lb.level_db >= -ctx.grating_lobe_db)
     return {"lattice": ctx.array.geometry.lattice is not None,
             "grating_lobes_predicted": predicted, "grating_lobe_free_scan_deg": free_deg,
             "grating_lobe_free_scan_phi_plane_deg": free_plane_deg,
