@@ -207,9 +207,10 @@ def _pool_context():
     return ctx
 
 
-def _prestart(opts) -> None:
-    """Start the local pool's server now when the run will use more than one worker."""
-    if (opts.get("backend") or "local") != "local" or opts.get("scheduler"):
+def _prestart(opts, work: int) -> None:
+    """Start the local pool's server now when the run will use more than one worker
+    (``work``: the run's tasks or points; one alone runs in this process)."""
+    if (opts.get("backend") or "local") != "local" or opts.get("scheduler") or work <= 1:
         return
     try:
         if _workers(opts.get("workers")) > 1:
@@ -371,7 +372,7 @@ def run_tolerance(doc: dict, spec: ToleranceSpec, output, *, source=None, resume
     """
     require(ROW_BYTES * spec.trials, f"a tolerance run of {spec.trials:,} trials",
             "run fewer trials")
-    _prestart(opts)
+    _prestart(opts, math.ceil(spec.trials / spec.chunk))
     design = design_from_dict(doc, source)
     channel = _channel(design) if spec.quantize else None
     describe = {"kind": "tolerance", "design": _digest(doc), **spec.describe()}
@@ -422,7 +423,7 @@ def run_sweep(doc: dict, spec: SweepSpec, output, *, source=None, resume=True,
     """Sweep of the design document ``doc`` over ``spec``'s axes; one row per point
     (``point``, the axis values, the metrics of :func:`~steradian.studies.sweep_fields`)
     appended to ``output``. ``opts`` as for :func:`run_tolerance`."""
-    _prestart(opts)
+    _prestart(opts, spec.n_points)
     arrays, freqs, batches, eff = study_of_design_dict(doc, spec, source)
     labels = [a.label for a in spec.axes]
     columns = ["point", *labels, *sweep_fields(spec.metrics)]
