@@ -15,7 +15,7 @@ import steradian as sr
 from steradian.analysis import AnalysisOptions, analyze
 from steradian.aperture import Aperture, aperture_key
 from steradian.errors import SteradianError
-from steradian.metrics import KSECTION_MINIMUM, ksection
+from steradian.metrics import BOUNDARY_SHRINK, KSECTION_MINIMUM, ksection
 from steradian.radiation import closed_form_power, radiated_power
 from steradian.studies import evaluate_points
 
@@ -156,6 +156,34 @@ def test_ksection_finishes_crossings_and_minima_to_rounding():
     assert got[1] == pytest.approx(x0, abs=1e-11)
     assert got[2] == pytest.approx(x1, abs=1e-8)  # a flat minimum: sqrt(eps) resolution
     assert len(calls) <= 5
+
+
+def test_ksection_with_known_ends_and_a_coarse_finish():
+    """The bracket ends' values, when given (as the beam march gives them), spare their
+    evaluation and change nothing: every call then samples only the k - 1 interior points,
+    and the refined points equal those found without them. A null finished at
+    BOUNDARY_SHRINK (the main-lobe boundary off the principal cuts) lies within 1e-8 rad of
+    the true zero of sin^2(4 (x - x0)) (closed form)."""
+    x0 = 0.3123456789
+    funs = {0: lambda x: np.cos(x) ** 2, 1: lambda x: np.sin(4 * (x - x0)) ** 2}
+    a = np.array([np.pi / 4 - 0.013, x0 - 0.017])
+    b = a + np.array([0.02, 0.04])
+    kind = np.array([0, KSECTION_MINIMUM])
+    widths = []
+
+    def fun(act, x):
+        widths.append(x.shape[1])
+        return np.stack([funs[int(i)](row) for i, row in zip(act, x, strict=True)])
+
+    plain = ksection(fun, a, b, kind)
+    widths.clear()
+    ends = ksection(fun, a, b, kind, fa=[funs[0](a[0]), funs[1](a[1])],
+                    fb=[funs[0](b[0]), funs[1](b[1])])
+    assert set(widths) == {7}  # k = 8: nine samples, the two ends known
+    assert np.array_equal(ends, plain)
+    coarse = ksection(lambda act, x: funs[1](x), a[1:], b[1:], kind[1:],
+                      shrink=np.array([BOUNDARY_SHRINK]))
+    assert abs(coarse[0] - x0) < 1e-8
 
 
 def test_set_threads_caps_every_pool():

@@ -117,7 +117,7 @@ from ..patterns import Cut, cut, principal_cuts
 from ..radiation import Peak
 from ..units import DB_FLOOR
 from ..validate import positive
-from ._beam import KSECTION_MINIMUM, ksection
+from ._beam import BOUNDARY_SHRINK, KSECTION_MINIMUM, ksection
 from ._context import Context, prepare_lobes, require_metrics_search
 from ._difference import (
     BEAM_KINDS,
@@ -135,7 +135,7 @@ __all__ = ["Cut", "principal_cuts", "cut", "DB_FLOOR", "PatternMetrics", "PlaneW
            "GratingLobe", "pattern_metrics", "METRICS", "Metric", "metric", "BEAM_KINDS",
            "check_sum_beam", "coherent_level_db", "SUM_NULL_DB", "require_metrics_search",
            "DifferenceNull", "difference_null", "ksection", "KSECTION_MINIMUM",
-           "pattern_metrics_many"]
+           "BOUNDARY_SHRINK", "pattern_metrics_many"]
 
 
 def pattern_metrics(array, *, frequency: float | None = None, peak: Peak | None = None,

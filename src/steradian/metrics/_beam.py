@@ -16,7 +16,7 @@ from ..units import db10
 from ._results import Lobe, PlaneWidths
 
 __all__ = ["N_RADIALS", "Beam", "RadialLobe", "BandLobe", "arc", "rel_db", "plane_widths",
-           "ksection", "KSECTION_MINIMUM", "march_beams"]
+           "ksection", "KSECTION_MINIMUM", "BOUNDARY_SHRINK", "march_beams"]
 
 N_RADIALS = 96
 """Radials for the main-lobe boundary (a multiple of 4: the principal cuts are four of them)."""
