@@ -56,6 +56,11 @@ principal cuts): two k-section steps, then the cubic, place it to about 1e-8 rad
 boundary's error enters the main-lobe power at third order (U vanishes quadratically at a
 null) and the sidelobe region not at all unless a lobe peak lies within it."""
 
+_MARCH_BLOCK = 24
+"""Radial steps evaluated per block of the march (16 steps per null width: a first null
+within 1.5 null widths, as of a broadside beam, is found in the first block)."""
+
+
 # Inverse Vandermonde of the nodes t = 0, 1, 2, 3: cubic coefficients c0..c3 from 4 values.
 _CUBIC = np.linalg.inv(np.vander(np.arange(4.0), 4, increasing=True))
 
@@ -298,11 +303,6 @@ def march_beams(beams, tangents_of, h: float, rho_max_of, half_power_of=None):
     rho_null[nl] = ref[len(hp):]
     cuts = np.cumsum([0] + sizes)
     return [(rho_hp[a:b], rho_null[a:b]) for a, b in zip(cuts[:-1], cuts[1:], strict=True)]
-
-
-_MARCH_BLOCK = 24
-"""Radial steps evaluated per block of the march (16 steps per null width: a first null
-within 1.5 null widths, as of a broadside beam, is found in the first block)."""
 
 
 def plane_widths(name, hp_pos, hp_neg, null_pos, null_neg) -> PlaneWidths:
