@@ -228,3 +228,19 @@ def test_analyze_many_takes_beams_of_any_apertures():
         assert m.metrics.islr_db == pytest.approx(alone.islr_db, abs=1e-9)
         assert m.metrics.hpbw_deg["phi_plane"] == pytest.approx(alone.hpbw_deg["phi_plane"],
                                                                 abs=1e-9)
+
+
+def test_peaks_of_a_family_are_each_beams_peak():
+    """peak_directivity_many (the candidates of every beam refined together) gives each
+    beam's stand-alone peak_directivity: direction and directivity to rounding."""
+    from steradian.radiation import peak_directivity, peak_directivity_many
+
+    g, el, t = _panel(8)
+    beams = [sr.Array(g, F, el, taper=t, steering=sr.Steering(th, ph))
+             for th, ph in ((0.0, 0.0), (25.0, 40.0), (50.0, 90.0))]
+    beams.append(sr.Array(g, F, el, taper=t))  # unsteered
+    for a, pk in zip(beams, peak_directivity_many(beams), strict=True):
+        alone = peak_directivity(a)
+        assert pk.directivity == pytest.approx(alone.directivity, rel=1e-12)
+        assert pk.theta_deg == pytest.approx(alone.theta_deg, abs=1e-9)
+        assert pk.phi_deg == pytest.approx(alone.phi_deg, abs=1e-9)

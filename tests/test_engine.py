@@ -108,3 +108,58 @@ def test_response_matrix_refuses_a_result_over_budget(f1):
     with limited("2GiB"), pytest.raises(
             SteradianError, match=r"would need 2\.0 GiB \(budget 2\.0 GiB\).*response_blocks"):
         response_matrix(a, d)
+
+
+def _beam_family(f1, n=12, thetas=(0.0, 20.0, 45.0, 60.0)):
+    g = st.rectangular(n, n, 0.6 * st.C0 / f1)
+    el = st.CosinePower(q=1.2)
+    t = np.hanning(n + 2)[1:-1]
+    return [st.Array(g, f1, el, taper=np.outer(t, t).ravel(),
+                     steering=st.Steering(th, 30.0 * i)) for i, th in enumerate(thetas)]
+
+
+def test_field_of_beams_is_each_beams_sum(rng, f1):
+    """Many beams of one aperture at their own directions, in one call, against the
+    definition E = e(theta, phi) * sum_n w_n exp(+j k r . r_n) per beam (plain numpy; the
+    array factor of Balanis, Antenna Theory, 4th ed., 2016, eq. 6-1 generalised): beams
+    with few directions go through the rows kernel, the one with 3,000 through the
+    transform the cost model picks."""
+    from steradian.engine import field_of_beams
+
+    beams = _beam_family(f1)
+    counts = [7, 40, 3000, 1]
+    owner = np.repeat(np.arange(4), counts)
+    rng.shuffle(owner)
+    d = rng.normal(size=(len(owner), 3))
+    d[:, 2] = np.abs(d[:, 2])
+    d /= np.linalg.norm(d, axis=1, keepdims=True)
+    got = field_of_beams(beams, d, owner)
+    el = beams[0].element
+    e_t, _ = el.pattern(np.arccos(d[:, 2]), np.arctan2(d[:, 1], d[:, 0]))
+    for b, a in enumerate(beams):
+        sel = owner == b
+        af = np.exp(1j * a.k() * (d[sel] @ a.positions.T)) @ a.weights()
+        scale = np.abs(a.weights()).sum()
+        np.testing.assert_allclose(got.e_theta[sel], e_t[sel] * af, rtol=0,
+                                   atol=1e-9 * scale)
+        np.testing.assert_allclose(got.e_theta[sel], st.field(a, d[sel]).e_theta, rtol=0,
+                                   atol=1e-9 * scale)
+
+
+def test_field_of_beams_of_other_apertures_is_each_field(rng, f1):
+    """Arrays that differ in more than their weights (here positions and element) are
+    evaluated one by one: each value is field() of its own array."""
+    a = _beam_family(f1, thetas=(10.0,))[0]
+    b = st.Array(st.rectangular(5, 5, 0.5 * st.C0 / f1), f1, st.ShortDipole("x"))
+    d = rng.normal(size=(30, 3))
+    d /= np.linalg.norm(d, axis=1, keepdims=True)
+    owner = np.arange(30) % 2
+    from steradian.engine import field_of_beams
+
+    got = field_of_beams([a, b], d, owner)
+    for i, arr in enumerate((a, b)):
+        want = st.field(arr, d[owner == i])
+        np.testing.assert_array_equal(got.e_theta[owner == i], want.e_theta)
+        np.testing.assert_array_equal(got.e_phi[owner == i], want.e_phi)
+    with pytest.raises(SteradianError, match="owners"):
+        field_of_beams([a, b], d, owner[:-1])

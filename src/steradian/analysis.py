@@ -20,7 +20,7 @@ from .radiation import (
     eirp,
     gain,
     mismatch_factor,
-    peak_directivity,
+    peak_directivity_many,
     radiated_power,
 )
 from .settings import AnalysisOptions
@@ -145,13 +145,10 @@ def analyze_many(arrays, options: AnalysisOptions | None = None, *,
 
         for array in arrays:
             require_metrics_search(array, f)  # refuse an oversized search before any work
-    peaks = []
-    for array in arrays:
-        if aperture is not None:
-            power = aperture.radiated_power(array)  # refuses an array of another aperture
-        else:
-            power = radiated_power(array, frequency=f)
-        peaks.append(peak_directivity(array, frequency=f, power=power, aperture=aperture))
+    powers = [radiated_power(array, frequency=f) if aperture is None
+              else aperture.radiated_power(array)  # refuses an array of another aperture
+              for array in arrays]
+    peaks = peak_directivity_many(arrays, frequency=f, powers=powers, aperture=aperture)
     metrics = [None] * len(arrays)
     if opt.metrics:
         from .metrics import pattern_metrics_many

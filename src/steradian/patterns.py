@@ -37,7 +37,7 @@ from .directions import (
     spherical_basis,
     unit_vectors_deg,
 )
-from .engine import field
+from .engine import field, field_of_beams
 from .errors import SteradianError
 from .geometry import principal_axes
 from .radiation import Peak, RadiatedPower, directivity, peak_directivity, radiated_power
@@ -45,7 +45,8 @@ from .samples import Cut, UVMap
 from .units import db10
 from .validate import count, positive
 
-__all__ = ["Cut", "principal_cuts", "cut", "UVMap", "uv_map", "intensity", "directivity_dbi",
+__all__ = ["Cut", "principal_cuts", "cut", "UVMap", "uv_map", "intensity", "intensity_of_beams",
+           "directivity_dbi",
            "beam_axis", "cut_frame", "symmetry", "resolve_peak", "TIE"]
 
 TIE = 1e-9
@@ -58,6 +59,16 @@ def intensity(array, vectors, frequency=None) -> np.ndarray:
     """Radiation intensity (engine units) at unit vectors of shape (..., 3)."""
     v = np.asarray(vectors, float)
     u = field(array, Directions.from_vectors(v.reshape(-1, 3)), frequency=frequency).intensity
+    return u.reshape(v.shape[:-1])
+
+
+def intensity_of_beams(arrays, vectors, owner, frequency=None) -> np.ndarray:
+    """Radiation intensity (engine units) at ``vectors`` (..., 3) of ``arrays[owner]``
+    (``owner`` shaped like the vectors without their last axis): the beams of one aperture
+    in one engine call (:func:`steradian.engine.field_of_beams`)."""
+    v = np.asarray(vectors, float)
+    u = field_of_beams(arrays, v.reshape(-1, 3), np.asarray(owner).reshape(-1),
+                       frequency=frequency).intensity
     return u.reshape(v.shape[:-1])
 
 

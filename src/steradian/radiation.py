@@ -26,9 +26,9 @@ from .directions import (
     unit_vectors_deg,
 )
 from .elements import Isotropic
-from .engine import field
+from .engine import field, field_of_beams
 from .errors import SteradianError
-from .sphere import DEFAULT_MARGIN, SearchSet, find_maxima, require_search, rule_for
+from .sphere import DEFAULT_MARGIN, SearchSet, find_maxima_many, require_search, rule_for
 from .sphere import search_spacing as sphere_spacing
 from .units import db10
 from .validate import nonneg, positive
@@ -40,6 +40,7 @@ __all__ = [
     "radiated_power",
     "directivity",
     "peak_directivity",
+    "peak_directivity_many",
     "beam_solid_angle",
     "taper_efficiency",
     "gain",
@@ -215,23 +216,55 @@ def peak_directivity(array, *, frequency: float | None = None,
     ``aperture`` (:class:`steradian.aperture.Aperture` of ``array`` at ``frequency``)
     supplies the radiated power and the search set when analyses of many beams share them.
     """
-    R = array.geometry.common_orientation
-    front = array.element.front_only and (array.geometry.orientations is None or R is not None)
-    spacing = search_spacing(array, frequency)
-    require_search(spacing, front_only=front)  # refuse before the power integral
-    if aperture is None:
-        power = power or radiated_power(array, frequency=frequency)
-        search = SearchSet.fibonacci(spacing, front_only=front, rotation=R if front else None)
-    else:
-        power = power or aperture.radiated_power(array)
-        search = aperture.search_set(spacing, front_only=front,
-                                     rotation=R if front else None)
+    return peak_directivity_many([array], frequency=frequency, powers=[power],
+                                 aperture=aperture)[0]
 
-    def inten(v):
-        return field(array, Directions.from_vectors(v), frequency=frequency).intensity
 
-    starts = None if array.steering is None else array.steering.unit[None, :]
-    refined, values = find_maxima(inten, search, 6, starts=starts)
+def peak_directivity_many(arrays, *, frequency: float | None = None, powers=None,
+                          aperture=None) -> list[Peak]:
+    """:func:`peak_directivity` of several arrays that share an aperture (the beams of a
+    scan or taper family), in order: their candidates are refined together
+    (:func:`steradian.sphere.find_maxima_many`, one engine call per ascent step for all the
+    beams), each on its own beam's pattern, with the result :func:`peak_directivity` gives
+    for that array alone. ``powers``: each array's :class:`RadiatedPower` (or None)."""
+    arrays = list(arrays)
+    powers = [None] * len(arrays) if powers is None else list(powers)
+    searches, out = {}, []
+    for array, power in zip(arrays, powers, strict=True):
+        R = array.geometry.common_orientation
+        front = array.element.front_only and (array.geometry.orientations is None
+                                              or R is not None)
+        spacing = search_spacing(array, frequency)
+        require_search(spacing, front_only=front)  # refuse before the power integral
+        key = (spacing, front, None if R is None or not front else np.asarray(R).tobytes())
+        if key not in searches:
+            make = SearchSet.fibonacci if aperture is None else aperture.search_set
+            searches[key] = make(spacing, front_only=front, rotation=R if front else None)
+        out.append((key, power or (radiated_power(array, frequency=frequency)
+                                   if aperture is None else aperture.radiated_power(array))))
+    peaks = [None] * len(arrays)
+    for key, search in searches.items():
+        idx = [i for i, (k, _) in enumerate(out) if k == key]
+        group = [arrays[i] for i in idx]
+        got = _refined_peaks(group, search, frequency)
+        for i, (refined, values) in zip(idx, got, strict=True):
+            peaks[i] = _peak_of(arrays[i], refined, values, out[i][1])
+    return peaks
+
+
+def _refined_peaks(arrays, search, frequency) -> list:
+    """Refined maxima of each array's intensity (:func:`find_maxima_many`), highest first."""
+    def inten(v, owner):
+        return field_of_beams(arrays, v, owner, frequency=frequency).intensity
+
+    d = search.directions
+    values = [field(a, Directions(d, (len(d),)), frequency=frequency).intensity
+              for a in arrays]
+    starts = [None if a.steering is None else a.steering.unit[None, :] for a in arrays]
+    return find_maxima_many(inten, search, 6, values, starts=starts)
+
+
+def _peak_of(array, refined, values, power) -> Peak:
     best_f = float(values[0])
     # Ties (a flat array's mirror lobe, a line array's cone) go to the lobe nearest the
     # steering direction, or nearest +z when unsteered, so the reported peak is the beam the

@@ -7,7 +7,8 @@ import numpy as np
 from . import _cost
 from ._cache import LRU
 
-__all__ = ["kernels", "af_reference", "af_direct", "budget_rows", "xyz_columns", "re_im_columns"]
+__all__ = ["kernels", "af_reference", "af_direct", "af_rows_reference", "af_direct_rows",
+           "budget_rows", "xyz_columns", "re_im_columns"]
 
 MEMORY_BUDGET = 64 * 2**20
 """Bytes of temporary complex storage any single evaluation may use (chunking limit)."""
@@ -72,4 +73,29 @@ def af_direct(pos, w, k, dirs):
     d = np.ascontiguousarray(dirs.T)
     kern = km.af_direct_serial if len(pos) * len(dirs) < _cost.SERIAL_TERMS else km.af_direct
     kern(px, py, pz, wr, wi, float(k), d[0], d[1], d[2], out_re, out_im)
+    return out_re + 1j * out_im
+
+
+def af_rows_reference(pos, W, k, dirs, owner):
+    """Plain-numpy array factor of direction ``m`` with weights ``W[owner[m]]`` (the
+    definition :func:`af_direct_rows` is tested against)."""
+    out = np.empty(len(dirs), complex)
+    for b in np.unique(owner):
+        sel = np.flatnonzero(owner == b)
+        out[sel] = af_reference(pos, W[b], k, dirs[sel])
+    return out
+
+
+def af_direct_rows(pos, W, k, dirs, owner):
+    """numba direct summation, direction ``m`` with weights ``W[owner[m]]`` (W (B, N)): the
+    beams of one aperture at their own directions in one call."""
+    km = kernels()
+    out_re = np.empty(len(dirs))
+    out_im = np.empty(len(dirs))
+    px, py, pz = xyz_columns(pos)
+    W = np.asarray(W, complex)
+    d = np.ascontiguousarray(dirs.T)
+    kern = km.af_rows_serial if len(pos) * len(dirs) < _cost.SERIAL_TERMS else km.af_rows
+    kern(px, py, pz, np.ascontiguousarray(W.real), np.ascontiguousarray(W.imag), float(k),
+         d[0], d[1], d[2], np.ascontiguousarray(owner, np.int64), out_re, out_im)
     return out_re + 1j * out_im

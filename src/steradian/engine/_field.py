@@ -10,12 +10,14 @@ import numpy as np
 from ..budget import require
 from ..directions import Directions, ThetaPhiGrid, UVGrid, angles_of, as_directions, spherical_basis
 from ..elements import Isotropic
+from ..errors import SteradianError
 from ._cache import LRU
-from ._direct import budget_rows
+from ._direct import af_direct_rows, budget_rows
 from ._evaluate import DEFAULT_TOL, Method, check_method, check_tol, evaluate
 from ._layout import lattice_hint
+from ._paths import too_small
 
-__all__ = ["Field", "field", "response_matrix", "response_blocks"]
+__all__ = ["Field", "field", "field_of_beams", "response_matrix", "response_blocks"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -178,6 +180,92 @@ def field(array, where, *, frequency: float | None = None, method: Method = "aut
         e_t[hidden] = np.nan
         e_p[hidden] = np.nan
     return Field(e_t.reshape(where.shape), e_p.reshape(where.shape), where)
+
+
+def _one_aperture(arrays, frequency) -> bool:
+    """True when ``arrays`` differ only in their weights at ``frequency``: the same positions,
+    element model and wavenumber, and no element orientations."""
+    a0 = arrays[0]
+    p0, el0, k0 = a0.positions, a0.element_at(frequency), a0.k(frequency)
+    for a in arrays:
+        if a.geometry.orientations is not None or a.k(frequency) != k0:
+            return False
+        if a.positions is not p0 and not np.array_equal(a.positions, p0):
+            return False
+        el = a.element_at(frequency)
+        if el is not el0 and (type(el) is not type(el0) or el.describe() != el0.describe()):
+            return False
+    return True
+
+
+def field_of_beams(arrays, vectors, owner, *, frequency: float | None = None,
+                   tol: float = DEFAULT_TOL) -> Field:
+    """Far field at ``vectors[m]`` of ``arrays[owner[m]]``: many beams, each at its own
+    directions, in one call.
+
+    Arrays that differ only in their weights (the beams of a scan or taper family: equal
+    positions, element model and wavenumber, no element orientations) are summed together:
+    the beams with few directions (where no transform can win) by one direct summation
+    with a row of weights per direction, the others each on the path :func:`field` would
+    take for it; the element pattern is evaluated once for all directions. Other arrays are
+    evaluated one by one by :func:`field`. Every value equals :func:`field` of its array to
+    rounding.
+
+    Parameters
+    ----------
+    arrays : sequence of Array
+        The beams.
+    vectors : array_like, shape (M, 3)
+        Directions (unit vectors).
+    owner : array_like of int, shape (M,)
+        The beam of each direction.
+    frequency : float, optional
+        Evaluation frequency in Hz (default: each array's design frequency).
+    tol : float
+        As for :func:`field`.
+
+    Returns
+    -------
+    Field
+        Components at the M directions, flat.
+    """
+    tol = check_tol(tol)
+    arrays = list(arrays)
+    where = as_directions(np.asarray(vectors, float).reshape(-1, 3))
+    dirs = where.vectors
+    owner = np.asarray(owner, np.int64).reshape(-1)
+    if len(owner) != len(dirs):
+        raise SteradianError(f"field_of_beams: {len(owner)} owners for {len(dirs)} directions")
+    e_t = np.zeros(len(dirs), complex)
+    e_p = np.zeros(len(dirs), complex)
+    if not len(dirs):
+        return Field(e_t, e_p, where)
+    if not _one_aperture(arrays, frequency):
+        for b in np.unique(owner):
+            sel = np.flatnonzero(owner == b)
+            f = field(arrays[b], Directions(dirs[sel], (len(sel),)), frequency=frequency,
+                      tol=tol)
+            e_t[sel], e_p[sel] = f.e_theta, f.e_phi
+        return Field(e_t, e_p, where)
+    drives = [_drive(a, frequency) for a in arrays]
+    k, el = drives[0][0], drives[0][2]
+    pos = arrays[0].positions
+    counts = np.bincount(owner, minlength=len(arrays))
+    small = np.array([too_small(len(pos), int(c)) for c in counts])
+    af = np.empty(len(dirs), complex)
+    rows = np.flatnonzero(small[owner])
+    if len(rows):
+        W = np.stack([d[1] for d in drives])
+        af[rows] = af_direct_rows(pos, W, k, dirs[rows], owner[rows])
+    hint = lattice_hint(arrays[0].geometry.lattice)
+    for b in np.flatnonzero(~small & (counts > 0)):
+        sel = np.flatnonzero(owner == b)
+        af[sel] = evaluate(pos, drives[b][1], k, Directions(dirs[sel], (len(sel),)), "auto",
+                           tol, hint)
+    if type(el) is Isotropic:
+        return Field(af, e_p, where)
+    e_t, e_p = el.pattern(*angles_of(dirs))
+    return Field(e_t * af, e_p * af, where)
 
 
 def _responses_into(out, el, k, pos, groups, dirs):

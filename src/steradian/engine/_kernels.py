@@ -21,7 +21,8 @@ from dataclasses import dataclass
 import numpy as np
 from numba import njit, prange
 
-__all__ = ["Kernel", "KERNELS", "af_direct", "af_direct_serial", "phase_matrix", "sinc_power",
+__all__ = ["Kernel", "KERNELS", "af_direct", "af_direct_serial", "af_rows", "af_rows_serial",
+           "phase_matrix", "sinc_power",
            "sinc_power_serial", "sincos"]
 
 _TWO_PI = 2.0 * np.pi
@@ -75,6 +76,25 @@ def af_direct_serial(px, py, pz, wr, wi, k, ux, uy, uz, out_re, out_im):  # prag
     (and, on a loaded machine, its barrier waits)."""
     for m in range(ux.shape[0]):
         out_re[m], out_im[m] = _af_one(k * ux[m], k * uy[m], k * uz[m], px, py, pz, wr, wi)
+
+
+@njit(parallel=True, fastmath=True, cache=True)
+def af_rows(px, py, pz, wr, wi, k, ux, uy, uz, owner, out_re, out_im):  # pragma: no cover
+    """out[m] = sum_n W[owner[m], n] exp(+j k (u_m . r_n)): each direction with its own row
+    of the weight matrix W = wr + j wi (B, N), by direct summation (all threads)."""
+    for m in prange(ux.shape[0]):
+        b = owner[m]
+        out_re[m], out_im[m] = _af_one(k * ux[m], k * uy[m], k * uz[m], px, py, pz, wr[b],
+                                       wi[b])
+
+
+@njit(fastmath=True, cache=True)
+def af_rows_serial(px, py, pz, wr, wi, k, ux, uy, uz, owner, out_re, out_im):  # pragma: no cover
+    """As :func:`af_rows` on one thread."""
+    for m in range(ux.shape[0]):
+        b = owner[m]
+        out_re[m], out_im[m] = _af_one(k * ux[m], k * uy[m], k * uz[m], px, py, pz, wr[b],
+                                       wi[b])
 
 
 @njit(parallel=True, fastmath=True, cache=True)
@@ -197,6 +217,27 @@ def _phase_run(f, a):
     return out
 
 
+def _rows_case(rng, beams=3):
+    """As :func:`_case` with a weight matrix (beams, N) and an owner row per direction."""
+    c = _case(rng)
+    n, m = len(c[0]), len(c[6])
+    W = rng.normal(size=(beams, n)) + 1j * rng.normal(size=(beams, n))
+    owner = rng.integers(0, beams, m).astype(np.int64)
+    return (*c[:3], np.ascontiguousarray(W.real), np.ascontiguousarray(W.imag), *c[5:], owner)
+
+
+def _rows_meaning(a):
+    phase = _phase_meaning(a[:3] + a[5:9])
+    W = a[3] + 1j * a[4]
+    return np.einsum("mn,mn->m", phase, W[a[9]])
+
+
+def _rows_run(f, a):
+    out_re, out_im = np.empty(len(a[6])), np.empty(len(a[6]))
+    f(*a, out_re, out_im)
+    return out_re + 1j * out_im
+
+
 def _af_run(f, a):
     out_re, out_im = np.empty(len(a[6])), np.empty(len(a[6]))
     f(*a, out_re, out_im)
@@ -242,6 +283,10 @@ KERNELS: dict[str, Kernel] = dict([
            lambda a: _w_scale(a, 6)),
     _entry("af_direct", af_direct, _case, _af_run, _af_meaning, _w_scale),
     _entry("af_direct_serial", af_direct_serial, _case, _af_run, _af_meaning, _w_scale),
+    _entry("af_rows", af_rows, _rows_case, _rows_run, _rows_meaning,
+           lambda a: 1e-12 * np.abs(a[3] + 1j * a[4]).sum(axis=1).max()),
+    _entry("af_rows_serial", af_rows_serial, _rows_case, _rows_run, _rows_meaning,
+           lambda a: 1e-12 * np.abs(a[3] + 1j * a[4]).sum(axis=1).max()),
     _entry("phase_matrix", phase_matrix, lambda rng: (c := _case(rng))[:3] + c[5:],
            _phase_run, _phase_meaning, lambda a: 1e-14),
     _entry("sinc_row", _sinc_row, lambda rng: (int(rng.integers(0, 22)), *_case(rng)[:6]),

@@ -11,11 +11,11 @@ import numpy as np
 from ..directions import angles_deg
 from ..elements import Isotropic
 from ..errors import SteradianError
-from ..patterns import cut_frame, intensity
+from ..patterns import cut_frame, intensity, intensity_of_beams
 from ..units import db10
 from ._results import Lobe, PlaneWidths
 
-__all__ = ["N_RADIALS", "Beam", "RadialLobe", "BandLobe", "arc", "rel_db", "plane_widths",
+__all__ = ["N_RADIALS", "Beam", "RadialLobe", "BandLobe", "arc", "rel_db", "plane_widths", "g_of",
            "ksection", "KSECTION_MINIMUM", "BOUNDARY_SHRINK", "march_beams"]
 
 N_RADIALS = 96
@@ -213,6 +213,25 @@ class Beam:
         return march_beams([self], [tangents], h, [rho_max])[0]
 
 
+def g_of(beams, points, owner) -> np.ndarray:
+    """Relative intensity g of ``beams[owner[i]]`` at ``points[i]`` (``points`` (..., 3),
+    ``owner`` of the leading shape): beams of one frequency in one engine call
+    (:func:`steradian.patterns.intensity_of_beams`), each value as its beam's :meth:`Beam.g`
+    to rounding."""
+    pts = np.asarray(points, float)
+    ob = np.broadcast_to(np.asarray(owner), pts.shape[:-1]).reshape(-1)
+    flat = pts.reshape(-1, 3)
+    f0 = beams[0].frequency
+    if all(b.frequency == f0 for b in beams):
+        u = intensity_of_beams([b.array for b in beams], flat, ob, f0)
+        return (u / np.array([b.u0 for b in beams])[ob]).reshape(pts.shape[:-1])
+    out = np.empty(len(flat))
+    for b in np.unique(ob):
+        sel = ob == b
+        out[sel] = beams[b].g(flat[sel])
+    return out.reshape(pts.shape[:-1])
+
+
 def march_beams(beams, tangents_of, h: float, rho_max_of, half_power_of=None):
     """Half-power and first-null angles along the radials of several beams at once.
 
@@ -243,12 +262,7 @@ def march_beams(beams, tangents_of, h: float, rho_max_of, half_power_of=None):
             want_hp[start:start + n][sel] = True
 
     def g_rows(pts, rows):  # pts (A, K, 3) on radials ``rows`` (A,)
-        out = np.empty(pts.shape[:-1])
-        ob = owner[rows]
-        for b in np.unique(ob):
-            sel = ob == b
-            out[sel] = beams[b].g(pts[sel].reshape(-1, 3)).reshape(out[sel].shape)
-        return out
+        return g_of(beams, pts, owner[rows][:, None])
 
     nmax = int(np.ceil(rho_max.max() / h)) + 2 if m else 0
     G = np.full((m, nmax + 1), np.nan)

@@ -14,7 +14,7 @@ from ..errors import SteradianError
 from ..patterns import beam_axis, resolve_peak, symmetry
 from ..radiation import search_spacing
 from ..sphere import SearchSet, refine_maxima, require_search
-from ._beam import N_RADIALS, BandLobe, Beam, RadialLobe, arc, march_beams
+from ._beam import N_RADIALS, BandLobe, Beam, RadialLobe, arc, g_of, march_beams
 from ._difference import difference_beam
 
 __all__ = ["Context", "SEARCH_PER_NULL", "PRINCIPAL_RADIALS", "N_REFINE", "N_REAR",
@@ -230,12 +230,11 @@ def refine_lobes(ctxs, regions_of) -> list[list[list]]:
     owner = np.asarray(owner, int).reshape(-1, 2)
     pairs = sorted({tuple(o) for o in owner.tolist()})
 
+    beams = [c.beam for c in ctxs]
+
     def fun(points, rows):
-        g = np.empty(points.shape[:-1])
         ob = owner[rows, 0]
-        for b in np.unique(ob):
-            sel = ob == b
-            g[sel] = ctxs[b].beam.g(points[sel].reshape(-1, 3)).reshape(g[sel].shape)
+        g = g_of(beams, points, ob[:, None])
         for b, r in pairs:
             sel = (ob == b) & (owner[rows, 1] == r)
             if sel.any():

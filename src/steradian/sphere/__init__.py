@@ -22,6 +22,7 @@ check alone, for callers that want to refuse before other work.
 from ._lobes import (
     SearchSet,
     find_maxima,
+    find_maxima_many,
     peak_value,
     pointwise,
     refine_best,
@@ -40,4 +41,5 @@ from ._rules import (
 
 __all__ = ["SphereRule", "sphere_rule", "rule_for", "gauss_legendre", "DEFAULT_MARGIN",
            "SearchSet", "search_spacing", "refine_maxima", "refine_best", "find_maxima",
+           "find_maxima_many",
            "peak_value", "pointwise", "require_rule", "require_search"]

@@ -48,7 +48,8 @@ from ..budget import require
 from ..directions import fibonacci_directions, normalise, tangent_frames
 
 __all__ = ["SearchSet", "search_spacing", "refine_maxima", "estimate_maxima", "refine_best",
-           "find_maxima", "pointwise", "peak_value", "POINT_BYTES", "require_search"]
+           "find_maxima", "find_maxima_many", "pointwise", "peak_value", "POINT_BYTES",
+           "require_search"]
 
 POINT_BYTES = 400
 """Peak bytes per direction of a search set and its first sampling: 314 B measured with
@@ -477,21 +478,53 @@ def find_maxima(f, search: SearchSet, count: int, *, values=None, allowed=None,
         Refined maxima, highest first (duplicates from starts that met are kept; merge
         them with the caller's notion of "the same lobe").
     """
+    v = np.asarray(f(search.directions), float) if values is None else values
+    return find_maxima_many(lambda points, rows: f(points), search, count, [v],
+                            allowed=allowed, confine=confine,
+                            starts=None if starts is None else [starts], rtol=rtol)[0]
+
+
+def find_maxima_many(f_rows, search: SearchSet, count: int, values, *, allowed=None,
+                     confine: bool = False, starts=None, rtol: float = 1e-6) -> list:
+    """:func:`find_maxima` of several patterns on one search set, refined together.
+
+    ``f_rows(vectors (P, 3), owner (P,)) -> (P,)`` evaluates pattern ``owner[i]`` at
+    ``vectors[i]`` (the beams of one aperture in one engine call); ``values[b]`` is pattern
+    ``b`` on the search set; ``starts[b]`` its extra start directions (or None). The
+    candidates of every pattern are refined by one :func:`refine_maxima` (one ascent step
+    evaluates every pattern's points), each on its own pattern; a start's result does not
+    depend on the others refined with it. Returns one ``(directions, values)`` pair per
+    pattern, highest first, as :func:`find_maxima`.
+    """
     d = search.directions
-    v = np.asarray(f(d), float) if values is None else np.asarray(values, float)
     mask = None if allowed is None else np.asarray(allowed(d), bool)
-    idx = search.local_maxima(v, count, mask)
-    s = d[idx[idx >= 0]]
-    if starts is not None:
-        s = np.vstack([np.asarray(starts, float).reshape(-1, 3), s])
-    if confine and allowed is not None:
-        def g(x):
-            return np.asarray(f(x), float) * np.asarray(allowed(x), bool)
-    else:
-        g = f
-    xs, fs = refine_maxima(pointwise(g), s, search.spacing, normal=search.normal, rtol=rtol)
-    order = np.argsort(-fs, kind="stable")
-    return xs[order], fs[order]
+    starts_of, owner = [], []
+    for b, v in enumerate(values):
+        idx = search.local_maxima(np.asarray(v, float), count, mask)
+        s = d[idx[idx >= 0]]
+        if starts is not None and starts[b] is not None:
+            s = np.vstack([np.asarray(starts[b], float).reshape(-1, 3), s])
+        starts_of.append(s)
+        owner += [b] * len(s)
+    owner = np.asarray(owner, int)
+
+    def fun(points, rows):
+        p = np.asarray(points, float)
+        ob = np.broadcast_to(owner[rows][:, None], p.shape[:-1]).reshape(-1)
+        flat = p.reshape(-1, 3)
+        got = np.asarray(f_rows(flat, ob), float)
+        if confine and allowed is not None:
+            got = got * np.asarray(allowed(flat), bool)
+        return got.reshape(p.shape[:-1])
+
+    xs, fs = refine_maxima(fun, np.concatenate(starts_of) if starts_of else np.zeros((0, 3)),
+                           search.spacing, normal=search.normal, rtol=rtol)
+    out = []
+    for b in range(len(values)):
+        mine = np.flatnonzero(owner == b)
+        order = mine[np.argsort(-fs[mine], kind="stable")]
+        out.append((xs[order], fs[order]))
+    return out
 
 
 def peak_value(f, *, front_only: bool = False, starts=(), n: int = 3000,
