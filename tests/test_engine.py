@@ -163,3 +163,32 @@ def test_field_of_beams_of_other_apertures_is_each_field(rng, f1):
         np.testing.assert_array_equal(got.e_phi[owner == i], want.e_phi)
     with pytest.raises(SteradianError, match="owners"):
         field_of_beams([a, b], d, owner[:-1])
+
+
+@pytest.mark.parametrize("make", ["rectangular", "triangular", "thinned"])
+def test_direct_sum_on_a_lattice_equals_the_definition(rng, f1, make):
+    """The direct path on a planar lattice of rows (the separable lattice kernels: a column
+    and a row phase factor per direction) equals exp(1j*k*(dirs @ pos.T)) @ w for a
+    rectangular, a triangular (offset rows) and a thinned lattice, single and many beams."""
+    from steradian.engine import LATTICE_MIN, exact_rows, field_of_beams
+
+    lam = st.C0 / f1
+    g = (st.triangular(11, 9, 0.6 * lam) if make == "triangular"
+         else st.rectangular(12, 10, 0.55 * lam, 0.6 * lam))
+    if make == "thinned":
+        keep = np.ones(g.n, bool)
+        keep[[5, 17, 60, 61]] = False
+        g = st.Geometry(g.positions[keep] + np.array([0.01, -0.02, 0.003]))
+    assert g.n >= LATTICE_MIN and exact_rows(g.positions, 2 * np.pi / lam) is not None
+    w = rng.normal(size=g.n) + 1j * rng.normal(size=g.n)
+    d = rng.normal(size=(700, 3))
+    d /= np.linalg.norm(d, axis=1, keepdims=True)
+    k = 2 * np.pi / lam
+    want = np.exp(1j * k * (d @ g.positions.T)) @ w
+    got = array_factor(g.positions, w, k, d, method="direct")
+    np.testing.assert_allclose(got, want, rtol=0, atol=1e-12 * np.abs(w).sum())
+    beams = [st.Array(g, f1, taper=w * np.exp(1j * b)) for b in range(3)]
+    owner = rng.integers(0, 3, len(d))
+    many = field_of_beams(beams, d, owner).e_theta
+    np.testing.assert_allclose(many, want * np.exp(1j * owner), rtol=0,
+                               atol=1e-12 * np.abs(w).sum())

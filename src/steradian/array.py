@@ -12,7 +12,7 @@ from .elements import Element, Isotropic
 from .errors import SteradianError
 from .geometry import Geometry
 from .units import C0
-from .validate import choice, finite_array, positive
+from .validate import choice, finite_array, positive, restore_frozen
 
 __all__ = ["Array", "Steering", "direction", "steering_phases", "check_frequency",
            "FREQUENCY_RATIO_LIMIT"]
@@ -186,6 +186,9 @@ class Array:
     def element_at(self, frequency: float | None = None) -> Element:
         """Element model at ``frequency``."""
         return self.element if frequency is None else self.element.at_frequency(frequency)
+
+    def __setstate__(self, state):
+        restore_frozen(self, state)
 
     def with_taper(self, taper) -> Array:
         """Copy with another taper."""

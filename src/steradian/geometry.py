@@ -14,7 +14,7 @@ import numpy as np
 
 from .budget import require
 from .errors import SteradianError, shown
-from .validate import count, finite_array, positive
+from .validate import count, finite_array, positive, restore_frozen
 
 __all__ = [
     "reciprocal_lattice",
@@ -103,6 +103,9 @@ class Geometry:
                 raise SteradianError(f"lattice must have 1 or 2 vectors of 3, got {L.shape}")
             L.setflags(write=False)
             object.__setattr__(self, "lattice", L)
+
+    def __setstate__(self, state):
+        restore_frozen(self, state)
 
     @property
     def n(self) -> int:

@@ -91,3 +91,15 @@ def check_table_keys(section: str, table, allowed, source=None) -> None:
 def doubtful(message: str) -> None:
     """Warn about legal but doubtful input."""
     warnings.warn(message, UserWarning, stacklevel=3)
+
+
+def restore_frozen(obj, state: dict) -> None:
+    """``__setstate__`` of the frozen dataclasses that hold read-only arrays (Geometry,
+    Array): unpickled arrays come back writeable, so they are made read-only again. A study
+    worker then holds the same kind of object as the process that built it (the engine
+    memoises work on read-only arrays only)."""
+    for name, value in state.items():
+        if isinstance(value, np.ndarray):
+            value = np.array(value)  # owns its memory (an unpickled array views the pickle's)
+            value.setflags(write=False)
+        object.__setattr__(obj, name, value)

@@ -35,7 +35,7 @@ model knows about positions), ``_cache`` (the one memo), ``_field`` (fields and 
 
 from __future__ import annotations
 
-from ._direct import MEMORY_BUDGET
+from ._direct import LATTICE_MIN, MEMORY_BUDGET, exact_rows
 from ._evaluate import DEFAULT_TOL, PathChoice, array_factor, choose_path
 from ._field import Field, field, field_of_beams, response_blocks, response_matrix
 from ._power import (
@@ -53,7 +53,7 @@ from ._power import (
 __all__ = ["Field", "field", "field_of_beams", "array_factor", "response_matrix", "response_blocks",
            "dense_gram_matrix", "lattice_gram_matrix", "lattice_gram_table",
            "lattice_gram_seconds",
-           "MEMORY_BUDGET", "DEFAULT_TOL", "PathChoice", "choose_path",
+           "MEMORY_BUDGET", "LATTICE_MIN", "exact_rows", "DEFAULT_TOL", "PathChoice", "choose_path",
            "clear_plan_cache", "plan_cache_info", "sinc_power_sum", "gram_matrix",
            "sinc_power_seconds", "sinc_matrix_seconds", "field_seconds", "czt",
            "detect_rows", "Rows", "KERNELS",

@@ -22,6 +22,7 @@ import numpy as np
 from numba import njit, prange
 
 __all__ = ["Kernel", "KERNELS", "af_direct", "af_direct_serial", "af_rows", "af_rows_serial",
+           "af_lattice", "af_lattice_serial", "lattice_chunks", "LATTICE_CHUNK",
            "phase_matrix", "sinc_power",
            "sinc_power_serial", "sincos"]
 
@@ -95,6 +96,91 @@ def af_rows_serial(px, py, pz, wr, wi, k, ux, uy, uz, owner, out_re, out_im):  #
         b = owner[m]
         out_re[m], out_im[m] = _af_one(k * ux[m], k * uy[m], k * uz[m], px, py, pz, wr[b],
                                        wi[b])
+
+
+LATTICE_CHUNK = 64
+"""Most directions of one chunk of the lattice kernels (one beam per chunk)."""
+
+
+def lattice_chunks(owner_sorted: np.ndarray) -> np.ndarray:
+    """Chunk boundaries (C + 1,) of directions sorted by beam: a new chunk where the beam
+    changes and every :data:`LATTICE_CHUNK` directions of one beam."""
+    ob = np.asarray(owner_sorted)
+    m = len(ob)
+    idx = np.arange(m)
+    change = np.ones(m, bool)
+    change[1:] = ob[1:] != ob[:-1]
+    run_start = np.maximum.accumulate(np.where(change, idx, 0))
+    first = change | ((idx - run_start) % LATTICE_CHUNK == 0)
+    return np.append(np.flatnonzero(first), m).astype(np.int64)
+
+
+@njit(inline="always", fastmath=True, cache=True)
+def _lattice_chunk(lo, hi, b, wr, wi, x0, dx, dy, y0, z0, k, ux, uy, uz, out_re, out_im,
+                   cr, ci, rr, ri, tr, ti):
+    """Directions lo..hi-1, all of beam b, of a planar lattice of rows
+    r_ji = (x0[j] + i dx, y0 + j dy, z0): the phase separates into a column factor
+    exp(jk u_x i dx) and a row factor, so a direction costs nx + ny sine/cosine pairs and
+    one complex product per element instead of a pair per element; the loops run along
+    the directions (vectorised)."""
+    nx = wr.shape[2]
+    n_d = hi - lo
+    for i in range(nx):
+        for t in range(n_d):
+            ci[i, t], cr[i, t] = _sincos(k * ux[lo + t] * (i * dx))
+    for j in range(wr.shape[1]):
+        for t in range(n_d):
+            m = lo + t
+            ri[j, t], rr[j, t] = _sincos(k * ux[m] * x0[j] + k * uy[m] * (y0 + j * dy)
+                                         + k * uz[m] * z0)
+    for t in range(n_d):
+        out_re[lo + t] = 0.0
+        out_im[lo + t] = 0.0
+    for j in range(wr.shape[1]):
+        for t in range(n_d):
+            tr[t] = 0.0
+            ti[t] = 0.0
+        for i in range(nx):
+            a = wr[b, j, i]
+            c = wi[b, j, i]
+            if a == 0.0 and c == 0.0:
+                continue
+            for t in range(n_d):
+                tr[t] += a * cr[i, t] - c * ci[i, t]
+                ti[t] += a * ci[i, t] + c * cr[i, t]
+        for t in range(n_d):
+            out_re[lo + t] += tr[t] * rr[j, t] - ti[t] * ri[j, t]
+            out_im[lo + t] += tr[t] * ri[j, t] + ti[t] * rr[j, t]
+
+
+@njit(parallel=True, fastmath=True, cache=True)
+def af_lattice(wr, wi, x0, dx, dy, y0, z0, k, ux, uy, uz, owner, starts, out_re,
+               out_im):  # pragma: no cover - jitted
+    """out[m] = sum_(j,i) W[owner[m], j, i] exp(+j k u_m . r_ji) for a planar lattice of rows,
+    r_ji = (x0[j] + i dx, y0 + j dy, z0), W = wr + j wi (B, ny, nx), zero where no element
+    sits; directions sorted by ``owner``, in the chunks ``starts`` of
+    :func:`lattice_chunks` (all threads)."""
+    nx, ny = wr.shape[2], wr.shape[1]
+    for c in prange(len(starts) - 1):
+        L = LATTICE_CHUNK
+        cr, ci = np.empty((nx, L)), np.empty((nx, L))
+        rr, ri = np.empty((ny, L)), np.empty((ny, L))
+        tr, ti = np.empty(L), np.empty(L)
+        _lattice_chunk(starts[c], starts[c + 1], owner[starts[c]], wr, wi, x0, dx, dy, y0,
+                       z0, k, ux, uy, uz, out_re, out_im, cr, ci, rr, ri, tr, ti)
+
+
+@njit(fastmath=True, cache=True)
+def af_lattice_serial(wr, wi, x0, dx, dy, y0, z0, k, ux, uy, uz, owner, starts, out_re,
+                      out_im):  # pragma: no cover - jitted
+    """As :func:`af_lattice` on one thread."""
+    nx, ny, L = wr.shape[2], wr.shape[1], LATTICE_CHUNK
+    cr, ci = np.empty((nx, L)), np.empty((nx, L))
+    rr, ri = np.empty((ny, L)), np.empty((ny, L))
+    tr, ti = np.empty(L), np.empty(L)
+    for c in range(len(starts) - 1):
+        _lattice_chunk(starts[c], starts[c + 1], owner[starts[c]], wr, wi, x0, dx, dy, y0,
+                       z0, k, ux, uy, uz, out_re, out_im, cr, ci, rr, ri, tr, ti)
 
 
 @njit(parallel=True, fastmath=True, cache=True)
@@ -238,6 +324,60 @@ def _rows_run(f, a):
     return out_re + 1j * out_im
 
 
+def _lattice_case(rng, beams=3, nx=5, ny=4, m=150):
+    """Weight grids (beams, ny, nx) with an empty cell, row offsets, steps, directions, and
+    owners sorted with their chunks, for the lattice kernels."""
+    W = rng.normal(size=(beams, ny, nx)) + 1j * rng.normal(size=(beams, ny, nx))
+    W[:, 0, -1] = 0.0  # an empty cell
+    d = rng.normal(size=(m, 3))
+    d /= np.linalg.norm(d, axis=1, keepdims=True)
+    x0 = rng.uniform(-1.0, 0.0, ny)
+    owner = np.sort(rng.integers(0, beams, m)).astype(np.int64)
+    return (np.ascontiguousarray(W.real), np.ascontiguousarray(W.imag), x0, 0.6, 0.55, -0.8,
+            0.3, 2 * np.pi, *(np.ascontiguousarray(c) for c in d.T), owner,
+            lattice_chunks(owner))
+
+
+def _lattice_meaning(a):
+    wr, wi, x0, dx, dy, y0, z0, k, ux, uy, uz, owner = a[:12]
+    ny, nx = wr.shape[1:]
+    jj, ii = np.meshgrid(np.arange(ny), np.arange(nx), indexing="ij")
+    pos = np.stack([x0[jj] + ii * dx, y0 + jj * dy, np.full(jj.shape, z0)], -1).reshape(-1, 3)
+    d = np.stack([ux, uy, uz], -1)
+    W = (wr + 1j * wi).reshape(len(wr), -1)
+    return np.einsum("mn,mn->m", np.exp(1j * k * (d @ pos.T)), W[owner])
+
+
+def _lattice_run(f, a):
+    out_re, out_im = np.empty(len(a[8])), np.empty(len(a[8]))
+    f(*a, out_re, out_im)
+    return out_re + 1j * out_im
+
+
+def _chunk_case(rng):
+    """One chunk of one beam: (lo, hi, b, lattice arguments, outputs, scratch)."""
+    a = _lattice_case(rng, m=40)
+    m = len(a[8])
+    L, nx, ny = LATTICE_CHUNK, a[0].shape[2], a[0].shape[1]
+    lo = int(rng.integers(0, m - 10))
+    hi = lo + int(rng.integers(1, min(L, m - lo) + 1))
+    return (lo, hi, int(rng.integers(0, 3)), *a[:11], np.zeros(m), np.zeros(m),
+            np.empty((nx, L)), np.empty((nx, L)), np.empty((ny, L)), np.empty((ny, L)),
+            np.empty(L), np.empty(L))
+
+
+def _chunk_run(f, a):
+    f(*a)
+    lo, hi = a[0], a[1]
+    return a[14][lo:hi] + 1j * a[15][lo:hi]
+
+
+def _chunk_meaning(a):
+    lo, hi, b = a[0], a[1], a[2]
+    one = tuple(c[lo:hi] for c in a[11:14])
+    return _lattice_meaning((*a[3:11], *one, np.full(hi - lo, b)))
+
+
 def _af_run(f, a):
     out_re, out_im = np.empty(len(a[6])), np.empty(len(a[6]))
     f(*a, out_re, out_im)
@@ -287,6 +427,12 @@ KERNELS: dict[str, Kernel] = dict([
            lambda a: 1e-12 * np.abs(a[3] + 1j * a[4]).sum(axis=1).max()),
     _entry("af_rows_serial", af_rows_serial, _rows_case, _rows_run, _rows_meaning,
            lambda a: 1e-12 * np.abs(a[3] + 1j * a[4]).sum(axis=1).max()),
+    _entry("lattice_chunk", _lattice_chunk, _chunk_case, _chunk_run, _chunk_meaning,
+           lambda a: 1e-12 * np.abs(a[3] + 1j * a[4]).sum(axis=(1, 2)).max()),
+    _entry("af_lattice", af_lattice, _lattice_case, _lattice_run, _lattice_meaning,
+           lambda a: 1e-12 * np.abs(a[0] + 1j * a[1]).sum(axis=(1, 2)).max()),
+    _entry("af_lattice_serial", af_lattice_serial, _lattice_case, _lattice_run,
+           _lattice_meaning, lambda a: 1e-12 * np.abs(a[0] + 1j * a[1]).sum(axis=(1, 2)).max()),
     _entry("phase_matrix", phase_matrix, lambda rng: (c := _case(rng))[:3] + c[5:],
            _phase_run, _phase_meaning, lambda a: 1e-14),
     _entry("sinc_row", _sinc_row, lambda rng: (int(rng.integers(0, 22)), *_case(rng)[:6]),
