@@ -17,6 +17,9 @@ __all__ = ["gram_matrix", "lattice_gram_matrix", "lattice_gram_table", "dense_gr
            "sinc_power_seconds", "field_seconds", "lattice_gram_seconds",
            "sinc_matrix_seconds"]
 
+GRAM_CHUNK = 1024
+"""Directions per block of the lattice Gram table (its phase powers stay in cache)."""
+
 LATTICE_OFFSETS = 16
 """Most distinct row-offset differences the lattice form of the Gram matrix takes (one
 table each: 1 for a rectangular lattice, 3 for a triangular one)."""
@@ -97,15 +100,23 @@ def lattice_gram_table(positions, k: float, dirs: np.ndarray, weights: np.ndarra
     wts = np.asarray(weights, float)
     keep = wts > 0
     d, wts = np.asarray(dirs, float)[keep], wts[keep]
-    u, v = d[:, 0], d[:, 1]
     mi, mj = 2 * rows.nx - 1, 2 * rows.ny - 1
-    Ei = _phase_powers(np.exp(1j * k * rows.dx * u), rows.nx)
-    Ej = _phase_powers(np.exp(1j * k * rows.dy * v), rows.ny)
-    tables = [((Ei * (wts * np.exp(1j * k * u * dv))) @ Ej.T).ravel() for dv in delta[first]]
+    # q(-di, -dj; -delta) = conj q(di, dj; delta) for real weights: only dj >= 0 is summed.
+    half = np.zeros((len(first), mi, rows.ny), complex)
+    for s in range(0, len(d), GRAM_CHUNK):  # temporaries of a chunk stay in cache
+        u, v, wc = d[s:s + GRAM_CHUNK, 0], d[s:s + GRAM_CHUNK, 1], wts[s:s + GRAM_CHUNK]
+        Ei = _phase_powers(np.exp(1j * k * rows.dx * u), rows.nx)
+        Ej = _phase_powers(np.exp(1j * k * rows.dy * v), rows.ny)[rows.ny - 1:].T
+        for t, dv in enumerate(delta[first]):
+            half[t] += (Ei * (wc * np.exp(1j * k * u * dv))) @ Ej
+    opposite = np.searchsorted(dkeys, -dkeys)  # the table of -delta (the set is symmetric)
+    tables = np.empty((len(first), mi, mj), complex)
+    tables[:, :, rows.ny - 1:] = half
+    tables[:, :, :rows.ny - 1] = half[opposite][:, ::-1, :0:-1].conj()
     di = rows.i[None, :] - rows.i[:, None] + rows.nx - 1
     dj = rows.j[None, :] - rows.j[:, None] + rows.ny - 1
     index = dinv.reshape(n, n) * (mi * mj) + di * mj + dj
-    return np.concatenate(tables), index
+    return tables.ravel(), index
 
 
 def _phase_powers(base: np.ndarray, n: int) -> np.ndarray:
