@@ -47,7 +47,7 @@ from .validate import count, positive
 
 __all__ = ["Cut", "principal_cuts", "cut", "UVMap", "uv_map", "intensity", "intensity_of_beams",
            "directivity_dbi",
-           "beam_axis", "cut_frame", "symmetry", "resolve_peak", "TIE"]
+           "beam_axis", "cut_frame", "symmetry", "symmetry_many", "resolve_peak", "TIE"]
 
 TIE = 1e-9
 """Relative intensity tolerance for "reaches the peak"."""
@@ -100,21 +100,39 @@ def symmetry(array, frequency=None) -> tuple[str, np.ndarray | None]:
     mirror symmetry is tested on four fixed directions and their mirror images (1e-9
     relative).
     """
-    pa, n = _enabled_axes(array)
-    if n >= 2 and pa.dimension == 1:
-        return "band", pa.axes[0]
-    if n < 3 or pa.dimension != 2:
-        return "radial", None
-    nrm = pa.axes[2]
-    test = np.asarray(
-        [[0.48, 0.6, 0.64], [-0.8, 0.36, 0.48], [0.0, -0.6, 0.8], [0.36, -0.48, -0.8]], float)
-    test /= np.linalg.norm(test, axis=1, keepdims=True)
-    mir = test - 2.0 * (test @ nrm)[:, None] * nrm
-    u1 = intensity(array, test, frequency)
-    u2 = intensity(array, mir, frequency)
-    if np.all(np.abs(u1 - u2) <= 1e-9 * max(u1.max(), u2.max(), 1e-300)):
-        return "mirror", nrm
-    return "radial", None
+    return symmetry_many([array], frequency)[0]
+
+
+_MIRROR_TEST = np.asarray(
+    [[0.48, 0.6, 0.64], [-0.8, 0.36, 0.48], [0.0, -0.6, 0.8], [0.36, -0.48, -0.8]], float)
+_MIRROR_TEST /= np.linalg.norm(_MIRROR_TEST, axis=1, keepdims=True)
+
+
+def symmetry_many(arrays, frequency=None) -> list:
+    """:func:`symmetry` of several arrays; the mirror tests of every planar one in one engine
+    call (:func:`intensity_of_beams`: beams of one aperture are summed together)."""
+    arrays = list(arrays)
+    out: list = [("radial", None)] * len(arrays)
+    planar = []
+    for b, array in enumerate(arrays):
+        pa, n = _enabled_axes(array)
+        if n >= 2 and pa.dimension == 1:
+            out[b] = ("band", pa.axes[0])
+        elif n >= 3 and pa.dimension == 2:
+            planar.append((b, pa.axes[2]))
+    if not planar:
+        return out
+    pts, owner = [], []
+    for b, nrm in planar:
+        mir = _MIRROR_TEST - 2.0 * (_MIRROR_TEST @ nrm)[:, None] * nrm
+        pts += [_MIRROR_TEST, mir]
+        owner += [b] * (2 * len(_MIRROR_TEST))
+    u = intensity_of_beams(arrays, np.concatenate(pts), np.asarray(owner), frequency)
+    u = u.reshape(len(planar), 2, len(_MIRROR_TEST))
+    for (b, nrm), (u1, u2) in zip(planar, u, strict=True):
+        if np.all(np.abs(u1 - u2) <= 1e-9 * max(u1.max(), u2.max(), 1e-300)):
+            out[b] = ("mirror", nrm)
+    return out
 
 
 def _on_cone(axis, c, toward):

@@ -113,7 +113,7 @@ S. M. Sherman and D. K. Barton, *Monopulse Principles and Techniques*, 2nd ed., 
 from __future__ import annotations
 
 from ..errors import SteradianError
-from ..patterns import Cut, cut, principal_cuts
+from ..patterns import Cut, cut, principal_cuts, symmetry_many
 from ..radiation import Peak
 from ..units import DB_FLOOR
 from ..validate import positive
@@ -192,11 +192,13 @@ def pattern_metrics_many(arrays, *, frequency: float | None = None, peaks=None,
     grating_lobe_db = positive("grating_lobe_db", grating_lobe_db, " dB")
     kind = check_beam_kind(beam_kind)
     peaks = [None] * len(arrays) if peaks is None else list(peaks)
-    ctxs = []
-    for array, peak in zip(arrays, peaks, strict=True):
-        if aperture is not None:
+    if aperture is not None:
+        for array in arrays:
             aperture.check(array, frequency)
-        ctx = Context(array, frequency, peak, grating_lobe_db, kind, aperture=aperture)
+    ctxs = []
+    for array, peak, sym in zip(arrays, peaks, symmetry_many(arrays, frequency), strict=True):
+        ctx = Context(array, frequency, peak, grating_lobe_db, kind, aperture=aperture,
+                      sym=sym)
         if kind == "sum":
             check_sum_beam(ctx)
         ctxs.append(ctx)

@@ -12,6 +12,7 @@ from ..directions import angles_deg
 from ..elements import Isotropic
 from ..errors import SteradianError
 from ..patterns import cut_frame, intensity, intensity_of_beams
+from ..sphere import gauss_legendre
 from ..units import db10
 from ._results import Lobe, PlaneWidths
 
@@ -367,7 +368,7 @@ class RadialLobe:
         m = max(N_RADIALS, 4 * int(np.ceil(kr * np.sin(min(rmax, np.pi / 2)))) + 16)
         psi = 2 * np.pi * np.arange(m) / m
         edge = np.interp(psi, self.psi, self.rho, period=2 * np.pi)
-        x, w = np.polynomial.legendre.leggauss(n_rho)
+        x, w = gauss_legendre(n_rho)
         rho = 0.5 * (x[None, :] + 1.0) * edge[:, None]  # (m, n_rho)
         wr = 0.5 * w[None, :] * edge[:, None] * np.sin(rho)
         T = b.t0[None, :] * np.cos(psi)[:, None] + b.t1[None, :] * np.sin(psi)[:, None]
@@ -407,7 +408,7 @@ class BandLobe:
             beta, wb = np.array([0.0]), np.array([2 * np.pi])
         elif arr.element.front_only and abs(a[2]) < 1e-12 and arr.geometry.orientations is None:
             # The horizon is at beta = 0, pi: Gauss-Legendre on each half avoids the kink.
-            x, w = np.polynomial.legendre.leggauss(32)
+            x, w = gauss_legendre(32)
             half = 0.5 * np.pi * (x + 1.0)
             beta = np.concatenate([half, half + np.pi])
             wb = np.concatenate([w, w]) * 0.5 * np.pi
@@ -416,7 +417,7 @@ class BandLobe:
             beta = 2 * np.pi * np.arange(nb) / nb
             wb = np.full(nb, 2 * np.pi / nb)
         n_c = int(np.ceil(k_length * (self.c_hi - self.c_lo) / 2)) + 24
-        x, w = np.polynomial.legendre.leggauss(n_c)
+        x, w = gauss_legendre(n_c)
         c = self.c_lo + 0.5 * (x + 1.0) * (self.c_hi - self.c_lo)
         wc = 0.5 * w * (self.c_hi - self.c_lo)
         s = np.sqrt(np.clip(1 - c**2, 0.0, None))

@@ -39,7 +39,9 @@ class Context:
     """One beam of ``array`` at ``frequency`` and the work its metrics share."""
 
     def __init__(self, array, frequency, peak, grating_lobe_db: float, beam_kind: str = "sum",
-                 axis=None, aperture=None):
+                 axis=None, aperture=None, sym=None):
+        if sym is not None:  # the caller's :func:`~steradian.patterns.symmetry_many` result
+            self.__dict__["symmetry"] = sym
         self.array = array
         self.aperture = aperture
         self.frequency = frequency
