@@ -17,7 +17,8 @@ from ..units import db10
 from ._results import Lobe, PlaneWidths
 
 __all__ = ["N_RADIALS", "Beam", "RadialLobe", "BandLobe", "arc", "rel_db", "plane_widths", "g_of",
-           "ksection", "KSECTION_MINIMUM", "BOUNDARY_SHRINK", "march_beams"]
+           "ksection", "KSECTION_MINIMUM", "BOUNDARY_SHRINK", "march_beams", "radial_edge",
+           "dot_rows"]
 
 N_RADIALS = 96
 """Radials for the main-lobe boundary (a multiple of 4: the principal cuts are four of them)."""
@@ -333,6 +334,29 @@ def plane_widths(name, hp_pos, hp_neg, null_pos, null_neg) -> PlaneWidths:
 
 # ---- main-lobe models ---------------------------------------------------------------------
 
+def radial_edge(psi, rho, which=None):
+    """The main-lobe edge at azimuths ``psi`` (rad): linear interpolation, periodic, in the
+    table ``rho`` of first-null angles on equally spaced radials (psi = 2 pi i / m); with
+    ``which``, ``rho`` holds one table per beam (B, m) and ``which[i]`` is the beam of
+    ``psi[i]``."""
+    rho = np.asarray(rho, float)
+    m = rho.shape[-1]
+    pos = np.asarray(psi, float) * (m / (2 * np.pi))
+    i0 = np.floor(pos)
+    f = pos - i0
+    i0 = i0.astype(np.int64) % m
+    i1 = (i0 + 1) % m
+    if which is None:
+        return rho[i0] * (1.0 - f) + rho[i1] * f
+    return rho[which, i0] * (1.0 - f) + rho[which, i1] * f
+
+
+def dot_rows(d, v):
+    """Row-wise d . v for d (P, 3) and v (3,) or (P, 3), the same sum whether v is shared
+    or per row (so a batched region test equals the single one bit for bit)."""
+    return d[..., 0] * v[..., 0] + d[..., 1] * v[..., 1] + d[..., 2] * v[..., 2]
+
+
 class RadialLobe:
     """Main lobe bounded by the first null along each radial (optionally plus its mirror)."""
 
@@ -345,19 +369,36 @@ class RadialLobe:
 
     def inside_one(self, d):
         b = self.beam
-        rho = np.arccos(np.clip(d @ b.r0, -1.0, 1.0))
-        psi = np.mod(np.arctan2(d @ b.t1, d @ b.t0), 2 * np.pi)
-        edge = np.interp(psi, self.psi, self.rho, period=2 * np.pi)
-        return rho < edge
+        return _inside_radial(d, b.r0, b.t0, b.t1, self.rho)
 
     def mirror(self, d):
-        return d - 2.0 * (d @ self.n)[..., None] * self.n
+        return d - 2.0 * dot_rows(d, self.n)[..., None] * self.n
 
     def inside(self, d):
         d = np.asarray(d, float)
         ins = self.inside_one(d)
         if self.n is not None:
             ins |= self.inside_one(self.mirror(d))
+        return ins
+
+    @staticmethod
+    def inside_many(lobes, d, which):
+        """:meth:`inside` of ``lobes[which[i]]`` at ``d[i]``, for all at once (lobes with
+        tables of equal length), equal to each lobe's own test."""
+        d = np.asarray(d, float)
+        which = np.asarray(which)
+        beams = [lb.beam for lb in lobes]
+        R0, T0, T1 = (np.stack([getattr(b, a) for b in beams])[which]
+                      for a in ("r0", "t0", "t1"))
+        rho = np.stack([lb.rho for lb in lobes])
+        ins = _inside_radial(d, R0, T0, T1, rho, which)
+        mirrored = np.array([lb.n is not None for lb in lobes])
+        if mirrored.any():
+            sel = np.flatnonzero(mirrored[which])
+            n = np.stack([lb.n for lb in lobes if lb.n is not None])
+            n = n[np.cumsum(mirrored)[which[sel]] - 1]
+            md = d[sel] - 2.0 * dot_rows(d[sel], n)[:, None] * n
+            ins[sel] |= _inside_radial(md, R0[sel], T0[sel], T1[sel], rho, which[sel])
         return ins
 
     def power(self, kr: float) -> float:
@@ -367,7 +408,7 @@ class RadialLobe:
         n_rho = int(np.ceil(kr * rmax)) + 24
         m = max(N_RADIALS, 4 * int(np.ceil(kr * np.sin(min(rmax, np.pi / 2)))) + 16)
         psi = 2 * np.pi * np.arange(m) / m
-        edge = np.interp(psi, self.psi, self.rho, period=2 * np.pi)
+        edge = radial_edge(psi, self.rho)
         x, w = gauss_legendre(n_rho)
         rho = 0.5 * (x[None, :] + 1.0) * edge[:, None]  # (m, n_rho)
         wr = 0.5 * w[None, :] * edge[:, None] * np.sin(rho)
@@ -379,6 +420,15 @@ class RadialLobe:
             # int_R U (1 + [M d not in R]) dOmega.
             u = u * (1.0 + ~self.inside_one(self.mirror(pts)))
         return float((u.reshape(wr.shape) * wr).sum() * (2 * np.pi / m))
+
+
+def _inside_radial(d, r0, t0, t1, rho, which=None):
+    """Directions ``d`` (P, 3) closer to the beam axis ``r0`` than the lobe edge (the
+    first-null table ``rho``) at their azimuth about it (frame t0, t1); per-row axes and
+    tables with ``which`` (see :func:`radial_edge`)."""
+    ang = np.arccos(np.clip(dot_rows(d, r0), -1.0, 1.0))
+    psi = np.mod(np.arctan2(dot_rows(d, t1), dot_rows(d, t0)), 2 * np.pi)
+    return ang < radial_edge(psi, rho, which)
 
 
 class BandLobe:

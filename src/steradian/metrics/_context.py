@@ -14,7 +14,7 @@ from ..errors import SteradianError
 from ..patterns import beam_axis, resolve_peak, symmetry
 from ..radiation import search_spacing
 from ..sphere import SearchSet, refine_maxima, require_search
-from ._beam import N_RADIALS, BandLobe, Beam, RadialLobe, arc, g_of, march_beams
+from ._beam import N_RADIALS, BandLobe, Beam, RadialLobe, arc, dot_rows, g_of, march_beams
 from ._difference import difference_beam
 
 __all__ = ["Context", "SEARCH_PER_NULL", "PRINCIPAL_RADIALS", "N_REFINE", "N_REAR",
@@ -159,16 +159,8 @@ class Context:
     def lobe_regions(self):
         """The regions of :attr:`outside` and :attr:`rear` (for :func:`refine_lobes`)."""
         lobe, _, _, key = self.main_lobe
-        r0 = self.r0
-
-        def behind(x):  # the closed rear hemisphere: its maximum may lie on the 90 degree circle
-            return (x @ r0) <= 1e-12
-
-        def onto_rear(x):
-            return x - np.maximum(x @ r0, 0.0)[:, None] * r0
-
-        return [(lambda x: ~lobe.inside(x), N_REFINE, key),
-                (behind, N_REAR, lambda x: x, onto_rear)]
+        rear = _Rear(self.r0)
+        return [(_Outside(lobe), N_REFINE, key), (rear, N_REAR, _same, rear.project)]
 
     @cached_property
     def _outside_and_rear(self):
@@ -237,19 +229,19 @@ def refine_lobes(ctxs, regions_of) -> list[list[list]]:
     def fun(points, rows):
         ob = owner[rows, 0]
         g = g_of(beams, points, ob[:, None])
-        for b, r in pairs:
-            sel = (ob == b) & (owner[rows, 1] == r)
-            if sel.any():
-                g[sel] *= regions_of[b][r][0](points[sel].reshape(-1, 3)).reshape(g[sel].shape)
+        for r, sel in _by_region(owner[rows, 1]):
+            g[sel] *= _regions_apply(regions_of, 0, r, points[sel], ob[sel][:, None])
         return g
 
     projected = [(b, r) for b, r in pairs if len(regions_of[b][r]) > 3]
 
     def project(points, rows):
         q = points.copy()
-        for b, r in projected:
-            sel = (owner[rows, 0] == b) & (owner[rows, 1] == r)
-            q[sel] = regions_of[b][r][3](points[sel])
+        rr = owner[rows, 1]
+        for r in {r for _, r in projected}:
+            sel = np.flatnonzero(rr == r)
+            q[sel] = _regions_apply(regions_of, 3, r, points[sel][:, None, :],
+                                    owner[rows[sel], 0][:, None])[:, 0]
         return q
 
     xs, fs = refine_maxima(fun, np.concatenate(starts), spacing,
@@ -261,6 +253,83 @@ def refine_lobes(ctxs, regions_of) -> list[list[list]]:
         for i in _distinct(key(xs[order]), 0.05 * spacing, len(order)):
             out[b][r].append((xs[order[i]], float(fs[order[i]])))
     return out
+
+
+class _Outside:
+    """Region of the sidelobe search: outside the main lobe ``lobe``."""
+
+    def __init__(self, lobe):
+        self.lobe = lobe
+
+    def __call__(self, x):
+        return ~self.lobe.inside(x)
+
+    @staticmethod
+    def many(regions, x, which):
+        """The test of ``regions[which[i]]`` at ``x[i]`` for all at once, or None where the
+        lobes' models have no common form (each region is then tested on its own)."""
+        lobes = [r.lobe for r in regions]
+        if not all(type(lb) is RadialLobe and len(lb.rho) == len(lobes[0].rho)
+                   for lb in lobes):
+            return None
+        return ~RadialLobe.inside_many(lobes, x, which)
+
+
+class _Rear:
+    """Region of the rear-lobe search: the closed hemisphere behind the beam axis ``r0`` (its
+    maximum may lie on the 90 degree circle, reached by projecting onto it)."""
+
+    def __init__(self, r0):
+        self.r0 = np.asarray(r0, float)
+
+    def __call__(self, x):
+        return dot_rows(x, self.r0) <= 1e-12
+
+    def project(self, x):
+        return x - np.maximum(dot_rows(x, self.r0), 0.0)[:, None] * self.r0
+
+    @staticmethod
+    def many(regions, x, which):
+        return dot_rows(x, np.stack([r.r0 for r in regions])[which]) <= 1e-12
+
+    @staticmethod
+    def project_many(regions, x, which):
+        r0 = np.stack([r.r0 for r in regions])[which]
+        return x - np.maximum(dot_rows(x, r0), 0.0)[:, None] * r0
+
+
+def _same(x):
+    return x
+
+
+def _by_region(region_of_row):
+    """(region index, row indices) of each region present."""
+    for r in np.unique(region_of_row):
+        yield int(r), np.flatnonzero(region_of_row == r)
+
+
+def _regions_apply(regions_of, slot: int, r: int, points, beam_of):
+    """Slot ``slot`` (0: the allowed test, 3: the projection) of region ``r`` of each beam,
+    applied to ``points`` (A, S, 3) of beams ``beam_of`` (A, 1): one batched call when every
+    beam's region has a batched form (:class:`_Outside`, :class:`_Rear`), else one call per
+    beam."""
+    shape = points.shape
+    flat = points.reshape(-1, 3)
+    which = np.broadcast_to(beam_of, shape[:-1]).reshape(-1)
+    fns = [regions[r][slot] if len(regions[r]) > slot else _same for regions in regions_of]
+    owners = [getattr(f, "__self__", f) for f in fns]  # a bound project(): its region
+    kind = type(owners[0])
+    batch = None
+    if all(type(o) is kind for o in owners):
+        many = getattr(kind, "many" if slot == 0 else "project_many", None)
+        batch = None if many is None else many(owners, flat, which)
+    if batch is None:
+        batch = np.empty((len(flat), 3) if slot == 3 else len(flat),
+                         float if slot == 3 else bool)
+        for b in np.unique(which):
+            sel = which == b
+            batch[sel] = fns[b](flat[sel])
+    return batch.reshape(shape if slot == 3 else shape[:-1])
 
 
 def prepare_lobes(ctxs) -> None:
@@ -293,12 +362,16 @@ def _by(ctxs, key, todo) -> list[list]:
 def _distinct(keys, sep: float, count: int) -> list[int]:
     """Indices of ``keys`` (in order) farther than ``sep`` from every one taken before, at
     most ``count``."""
+    keys = np.asarray(keys, float).reshape(len(keys), -1)
+    near = np.sum((keys[:, None, :] - keys[None, :, :]) ** 2, axis=-1) <= sep * sep
     picked: list[int] = []
+    taken = np.zeros(len(keys), bool)  # within sep of one already picked
     for i in range(len(keys)):
-        if not picked or np.all(np.sum((keys[picked] - keys[i]) ** 2, axis=1) > sep * sep):
-            picked.append(i)
         if len(picked) >= count:
             break
+        if not taken[i]:
+            picked.append(i)
+            taken |= near[i]
     return picked
 
 
