@@ -295,8 +295,11 @@ def bench_sweep(tmp: Path) -> list[str]:
     out = {}
     for mode in ("beam", "full"):
         spec = sweep_from_table({"metrics": mode}, axes=axes)
-        out[mode] = timed(lambda spec=spec, mode=mode: run_sweep(
+        # Run twice, the faster kept: the sweep is treated as the baselines are (per_point).
+        runs = [timed(lambda spec=spec, mode=mode: run_sweep(
             doc, spec, tmp / f"sweep_{mode}.csv", workers=2, progress=False, resume=False))
+            for _ in range(2)]
+        out[mode] = min(runs, key=lambda r: r[1])
     npts = 390
     spec = sweep_from_table({"metrics": "beam"}, axes=axes)
     from steradian.studyrun import point_design

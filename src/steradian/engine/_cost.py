@@ -18,7 +18,8 @@ from __future__ import annotations
 import math
 import os
 
-__all__ = ["MARGIN", "reference", "direct", "nufft3", "nufft1", "fft_lattice", "kernel_width",
+__all__ = ["MARGIN", "reference", "direct", "lattice", "nufft3", "nufft1", "fft_lattice",
+           "kernel_width",
            "lattice_gram", "sinc_matrix",
            "grid3", "SERIAL_TERMS", "SINC_SERIAL_PAIRS", "NUFFT_OVERHEAD", "FFT_OVERHEAD",
            "GRID_LIMIT", "sinc_pairs",
@@ -33,6 +34,11 @@ _R_SERIAL = 4.0e8
 _R_PARALLEL = 6.0e8
 _C_SERIAL = 4e-6
 _C_PARALLEL = 6e-5
+# Direct summation on a planar lattice of rows (the lattice kernels): weight-grid cells and
+# row and column phase factors per second, per direction (one thread; 16 x 16 and 64 x 64
+# panels).
+_R_LATTICE_CELL = 1.7e9
+_R_LATTICE_FACTOR = 1.5e8
 # Plain numpy reference.
 _R_NUMPY = 1.4e7
 _C_NUMPY = 1e-5
@@ -79,6 +85,16 @@ def direct(n: int, m: int) -> float:
     if t < SERIAL_TERMS:
         return _C_SERIAL + t / _R_SERIAL
     return _C_PARALLEL + t / _R_PARALLEL
+
+
+def lattice(cells: int, factors: int, m: int) -> float:
+    """Direct summation over a planar lattice of rows: ``cells`` weight-grid cells and
+    ``factors`` (columns + rows) phase factors per direction, ``m`` directions."""
+    per = (cells / _R_LATTICE_CELL + factors / _R_LATTICE_FACTOR) * (1000 if _JIT_OFF else 1)
+    t = m * per
+    if cells * m < SERIAL_TERMS:
+        return _C_SERIAL + t
+    return _C_PARALLEL + t * _R_SERIAL / _R_PARALLEL
 
 
 def grid3(x_half, s_half, tol: float) -> float:

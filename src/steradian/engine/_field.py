@@ -11,8 +11,9 @@ from ..budget import require
 from ..directions import Directions, ThetaPhiGrid, UVGrid, angles_of, as_directions, spherical_basis
 from ..elements import Isotropic
 from ..errors import SteradianError
+from . import _cost
 from ._cache import LRU
-from ._direct import af_direct_rows, budget_rows
+from ._direct import af_direct_rows, budget_rows, exact_rows
 from ._evaluate import DEFAULT_TOL, Method, check_method, check_tol, evaluate
 from ._layout import lattice_hint
 from ._paths import too_small
@@ -251,7 +252,10 @@ def field_of_beams(arrays, vectors, owner, *, frequency: float | None = None,
     k, el = drives[0][0], drives[0][2]
     pos = arrays[0].positions
     counts = np.bincount(owner, minlength=len(arrays))
-    small = np.array([too_small(len(pos), int(c)) for c in counts])
+    lat = exact_rows(pos, k)
+    small = np.array([too_small(len(pos), int(c), None if lat is None else
+                                _cost.lattice(lat.cells, lat.nx + lat.ny, int(c)))
+                      for c in counts])
     af = np.empty(len(dirs), complex)
     rows = np.flatnonzero(small[owner])
     if len(rows):

@@ -22,7 +22,7 @@ import numpy as np
 from ..directions import ThetaPhiGrid, UVGrid
 from ..errors import SteradianError
 from . import _cost
-from ._direct import af_direct, af_reference
+from ._direct import af_direct, af_reference, exact_rows
 from ._layout import layout, mirror_rows
 
 __all__ = ["Problem", "Path", "PATHS", "Route", "route", "too_small", "exact_path"]
@@ -105,8 +105,12 @@ def _threads(seconds: float) -> int:
 
 
 def _direct_estimate(p):
-    return _cost.direct(p.n, p.m), ("numba, one thread" if p.n * p.m < _cost.SERIAL_TERMS
-                                    else "numba, all threads")
+    threads = "one thread" if p.n * p.m < _cost.SERIAL_TERMS else "all threads"
+    rows = exact_rows(p.pos, p.k)
+    if rows is not None:
+        return (_cost.lattice(rows.cells, rows.nx + rows.ny, p.m),
+                f"numba, lattice of rows, {threads}")
+    return _cost.direct(p.n, p.m), f"numba, {threads}"
 
 
 def _fft_estimate(p):
@@ -184,11 +188,12 @@ class Route:
     run: Callable
 
 
-def too_small(n: int, m: int) -> bool:
+def too_small(n: int, m: int, t_direct: float | None = None) -> bool:
     """No transform can beat direct summation by MARGIN (its fixed overhead alone is too
-    much): skip the analysis."""
+    much): skip the analysis. ``t_direct``: the direct sum's estimate when the caller knows
+    a better one than N x M terms (a lattice of rows, :func:`._cost.lattice`)."""
     least = min(p.overhead for p in PATHS.values() if p.transform)
-    return _cost.direct(n, m) < _cost.MARGIN * least
+    return (_cost.direct(n, m) if t_direct is None else t_direct) < _cost.MARGIN * least
 
 
 def exact_path(n: int, m: int) -> Path:
