@@ -10,6 +10,7 @@ function says otherwise (``taylor(norm=True)`` follows scipy and sets the centre
 from __future__ import annotations
 
 import math
+from functools import lru_cache
 
 import numpy as np
 
@@ -170,6 +171,14 @@ def taylor_coefficients(nbar: int, sll: float) -> np.ndarray:
         \quad A = \frac{\operatorname{arccosh} R}{\pi},\quad
         \sigma^2 = \frac{\bar n^2}{A^2 + (\bar n - 1/2)^2}.
     """
+    _, _, nbar = _taylor_params(nbar, sll)  # checked (one clear message) before the cache
+    return _taylor_table(nbar, float(sll)).copy()
+
+
+@lru_cache(maxsize=64)
+def _taylor_table(nbar, sll) -> np.ndarray:
+    """:func:`taylor_coefficients`, computed once per (nbar, sll): a sweep builds the same
+    taper for every point."""
     A, sigma2, nbar = _taylor_params(nbar, sll)
     m = np.arange(1, nbar)
     n = np.arange(1, nbar)
