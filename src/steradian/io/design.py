@@ -20,6 +20,7 @@ warn (``UserWarning``, one line naming the key and its value in wavelengths).
 
 from __future__ import annotations
 
+import json
 import tomllib
 import warnings
 from collections.abc import Callable, Mapping
@@ -216,6 +217,37 @@ def _geometry(t: Section, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
             raise t.error("disabled", "every element is disabled")
         enabled = mask
     return geom, enabled
+
+
+GEOMETRY_MEMO_SIZE = 8
+"""Geometries kept by :func:`_geometry_kept` (the points of a sweep share theirs)."""
+
+_GEOMETRIES: dict = {}
+
+
+def _geometry_kept(t: Section, ctx: _Context) -> tuple[Geometry, np.ndarray | None]:
+    """:func:`_geometry`, kept for a section that reads no file and raised no warning: the
+    points of a sweep that share a geometry build it once and share the object (so the
+    arrays of a scan share their positions, and what is memoised on them)."""
+    if t.data.get("kind") == "csv":
+        return _geometry(t, ctx)
+    try:
+        key = (json.dumps(t.data, sort_keys=True), ctx.wavelength, str(ctx.base_dir))
+    except (TypeError, ValueError):
+        return _geometry(t, ctx)
+    got = _GEOMETRIES.get(key)
+    if got is not None:
+        return got
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        got = _geometry(t, ctx)
+    for w in caught:  # passed on as raised (and then not kept: each build warns again)
+        warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+    if not caught:
+        if len(_GEOMETRIES) >= GEOMETRY_MEMO_SIZE:
+            _GEOMETRIES.pop(next(iter(_GEOMETRIES)))
+        _GEOMETRIES[key] = got
+    return got
 
 
 def _check_spacing(t: Section, geom: Geometry, ctx: _Context) -> None:
@@ -505,7 +537,7 @@ def design_from_dict(d: Mapping, source=None, *, base_dir=None,
     description = td.string("description", "")
     ctx = _context(td, src, base_dir)
 
-    geom, enabled = _geometry(Section("geometry", d["geometry"], src), ctx)
+    geom, enabled = _geometry_kept(Section("geometry", d["geometry"], src), ctx)
     element = _element(Section("element", d.get("element", {"model": "isotropic"}), src), ctx)
     ts = Section("steering", d["steering"], src) if "steering" in d else None
     steering = _steering(ts)
