@@ -723,3 +723,19 @@ def test_verify_refuses_a_taper_that_already_holds_steering(tmp_path):
     design = design_from_dict(_base(taper={"file": "w.csv"}), base_dir=tmp_path)
     with pytest.raises(st.SteradianError, match="steer these excitations twice"):
         verify_weight_file(design, tmp_path / "absent.bin")
+
+
+def test_designs_with_one_geometry_share_it_and_still_warn_each_time():
+    """Two documents with the same geometry table (the points of a scan sweep) get the same
+    Geometry object; one whose geometry warns (0.55 m spacing at 28 GHz) warns on every
+    build, as a fresh build does."""
+    geo = {"kind": "rectangular", "units": "wavelength", "count_x": 4, "count_y": 4,
+           "spacing_x": 0.5, "spacing_y": 0.5}
+    a = design_from_dict(_base(geometry=dict(geo), steering={"theta_deg": 10.0}))
+    b = design_from_dict(_base(geometry=dict(geo), steering={"theta_deg": 20.0}))
+    assert a.array.geometry is b.array.geometry
+    assert a.array.steering.theta_deg == 10.0 and b.array.steering.theta_deg == 20.0
+    far = {**geo, "units": "m", "spacing_x": 0.55, "spacing_y": 0.55}
+    for _ in range(2):
+        with pytest.warns(UserWarning, match="geometry.spacing_x = 0.55 m"):
+            design_from_dict(_base(design={"name": "t", "frequency_hz": 28e9}, geometry=far))
