@@ -26,7 +26,7 @@ from .directions import (
     unit_vectors_deg,
 )
 from .elements import Isotropic
-from .engine import field, field_of_beams
+from .engine import field, field_many, field_of_beams
 from .errors import SteradianError
 from .sphere import DEFAULT_MARGIN, SearchSet, find_maxima_many, require_search, rule_for
 from .sphere import search_spacing as sphere_spacing
@@ -258,8 +258,7 @@ def _refined_peaks(arrays, search, frequency) -> list:
         return field_of_beams(arrays, v, owner, frequency=frequency).intensity
 
     d = search.directions
-    values = [field(a, Directions(d, (len(d),)), frequency=frequency).intensity
-              for a in arrays]
+    values = list(field_many(arrays, Directions(d, (len(d),)), frequency=frequency).intensity)
     starts = [None if a.steering is None else a.steering.unit[None, :] for a in arrays]
     return find_maxima_many(inten, search, 6, values, starts=starts)
 

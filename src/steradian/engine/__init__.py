@@ -37,7 +37,7 @@ from __future__ import annotations
 
 from ._direct import LATTICE_MIN, MEMORY_BUDGET, exact_rows
 from ._evaluate import DEFAULT_TOL, PathChoice, array_factor, choose_path
-from ._field import Field, field, field_of_beams, response_blocks, response_matrix
+from ._field import Field, field, field_many, field_of_beams, response_blocks, response_matrix
 from ._power import (
     dense_gram_matrix,
     field_seconds,
@@ -50,7 +50,8 @@ from ._power import (
     sinc_power_sum,
 )
 
-__all__ = ["Field", "field", "field_of_beams", "array_factor", "response_matrix", "response_blocks",
+__all__ = ["Field", "field", "field_of_beams", "field_many", "array_factor", "response_matrix",
+           "response_blocks",
            "dense_gram_matrix", "lattice_gram_matrix", "lattice_gram_table",
            "lattice_gram_seconds",
            "MEMORY_BUDGET", "LATTICE_MIN", "exact_rows", "DEFAULT_TOL", "PathChoice", "choose_path",

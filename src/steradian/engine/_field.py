@@ -16,9 +16,10 @@ from ._cache import LRU
 from ._direct import af_direct_rows, budget_rows, exact_rows
 from ._evaluate import DEFAULT_TOL, Method, check_method, check_tol, evaluate
 from ._layout import lattice_hint
-from ._paths import too_small
+from ._paths import Problem, route, too_small
 
-__all__ = ["Field", "field", "field_of_beams", "response_matrix", "response_blocks"]
+__all__ = ["Field", "field", "field_of_beams", "field_many", "response_matrix",
+           "response_blocks"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -270,6 +271,67 @@ def field_of_beams(arrays, vectors, owner, *, frequency: float | None = None,
         return Field(af, e_p, where)
     e_t, e_p = el.pattern(*angles_of(dirs))
     return Field(e_t * af, e_p * af, where)
+
+
+def field_many(arrays, where, *, frequency: float | None = None,
+               tol: float = DEFAULT_TOL) -> Field:
+    """Far fields of several beams at the same directions: components of shape (B, M).
+
+    Beams that differ only in their weights (a scan or taper family on a lobe-search set)
+    share one path choice; on the non-uniform FFT path they share one transform plan and
+    one execution for all weight vectors (the transform's several-vector form). Anything
+    else is :func:`field` of each array. Each row equals :func:`field` of its array to the
+    engine's tolerance.
+
+    Parameters
+    ----------
+    arrays : sequence of Array
+        The beams.
+    where : Directions or array_like (M, 3)
+        Directions.
+    frequency : float, optional
+        Evaluation frequency in Hz.
+    tol : float
+        As for :func:`field`.
+
+    Returns
+    -------
+    Field
+        ``e_theta`` and ``e_phi`` of shape (B, M).
+    """
+    tol = check_tol(tol)
+    arrays = list(arrays)
+    where = as_directions(where)
+    r = None
+    if arrays and isinstance(where, Directions) and _one_aperture(arrays, frequency):
+        drives = [_drive(a, frequency) for a in arrays]
+        k, el, pos = drives[0][0], drives[0][2], arrays[0].positions
+        if not too_small(len(pos), len(where.vectors)):
+            p = Problem(pos, k, where, tol, lattice_hint(arrays[0].geometry.lattice))
+            r = _many_route(p, route(p, "auto"), len(arrays))
+    if r is None:
+        got = [field(a, where, frequency=frequency, tol=tol) for a in arrays]
+        return Field(np.stack([g.e_theta.reshape(-1) for g in got]),
+                     np.stack([g.e_phi.reshape(-1) for g in got]), where)
+    af = np.asarray(r.run(np.stack([d[1] for d in drives]))).reshape(len(arrays), -1)
+    if type(el) is Isotropic:
+        return Field(af, np.zeros_like(af), where)
+    e_t, e_p = el.pattern(*angles_of(where.vectors))
+    return Field(af * e_t[None, :], af * e_p[None, :], where)
+
+
+def _many_route(p, r, beams: int):
+    """The non-uniform FFT route for ``beams`` weight vectors at the same directions when it
+    is chosen for one, or when one plan and one execution for all of them are estimated
+    :data:`._cost.MARGIN` times cheaper than the chosen exact path for each (its fixed cost
+    counted once); else None (each beam on its own). Decided from the sizes alone."""
+    if r.name == "nufft":
+        return r
+    if "nufft" not in r.est:
+        return None
+    t_n, t_d = r.est["nufft"][0], r.est[r.name][0]
+    t_many = t_n + (beams - 1) * max(t_n - _cost.NUFFT_OVERHEAD, 0.0)
+    return route(p, "nufft") if _cost.MARGIN * t_many < beams * t_d else None
 
 
 def _responses_into(out, el, k, pos, groups, dirs):

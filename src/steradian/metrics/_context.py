@@ -10,6 +10,8 @@ from functools import cached_property
 
 import numpy as np
 
+from ..directions import Directions
+from ..engine import field_many
 from ..errors import SteradianError
 from ..patterns import beam_axis, resolve_peak, symmetry
 from ..radiation import search_spacing
@@ -143,11 +145,15 @@ class Context:
     @cached_property
     def search(self):
         """(SearchSet, relative intensity g on it) for sidelobes and the rear hemisphere."""
+        s = self.search_set()
+        return s, self.beam.g(s.directions)
+
+    def search_set(self) -> SearchSet:
+        """The sidelobe search set (shared by the beams of one aperture)."""
         front = self.array.element.front_only and self.array.geometry.orientations is None
         sp = search_spacing(self.array, self.frequency, per_null=SEARCH_PER_NULL)
         make = SearchSet.fibonacci if self.aperture is None else self.aperture.search_set
-        s = make(sp, front_only=front, min_points=_MIN_SEARCH)
-        return s, self.beam.g(s.directions)
+        return make(sp, front_only=front, min_points=_MIN_SEARCH)
 
     def lobes(self, allowed, count: int, key):
         """Refined local maxima of g where ``allowed`` (the refinement kept there), one per
@@ -343,11 +349,26 @@ def prepare_lobes(ctxs) -> None:
                           [PRINCIPAL_RADIALS] * len(group))
         for c, r in zip(group, got, strict=True):
             c.__dict__["radials"] = r
+    _searches(ctxs)
     for group in _by(ctxs, lambda c: c.search[0].spacing,
                      lambda c: "_outside_and_rear" not in c.__dict__):
         for c, got in zip(group, refine_lobes(group, [c.lobe_regions() for c in group]),
                           strict=True):
             c.__dict__["_outside_and_rear"] = got
+
+
+def _searches(ctxs) -> None:
+    """The search samples of beams of one aperture (their search set and frequency shared),
+    in one engine call (:func:`steradian.engine.field_many`), each as
+    :attr:`Context.search` gives it."""
+    for group in _by(ctxs, lambda c: (id(c.search_set()), c.frequency),
+                     lambda c: "search" not in c.__dict__ and c.aperture is not None):
+        s = group[0].search_set()
+        d = s.directions
+        u = field_many([c.array for c in group], Directions(d, (len(d),)),
+                       frequency=group[0].frequency).intensity
+        for c, row in zip(group, u, strict=True):
+            c.__dict__["search"] = (s, row / c.beam.u0)
 
 
 def _by(ctxs, key, todo) -> list[list]:
