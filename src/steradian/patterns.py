@@ -46,8 +46,8 @@ from .units import db10
 from .validate import count, positive
 
 __all__ = ["Cut", "principal_cuts", "cut", "UVMap", "uv_map", "intensity", "intensity_of_beams",
-           "directivity_dbi",
-           "beam_axis", "cut_frame", "symmetry", "symmetry_many", "resolve_peak", "TIE"]
+           "directivity_dbi", "beam_axis", "beam_axis_many", "cut_frame", "symmetry",
+           "symmetry_many", "resolve_peak", "TIE"]
 
 TIE = 1e-9
 """Relative intensity tolerance for "reaches the peak"."""
@@ -153,26 +153,42 @@ def beam_axis(array, peak: Peak, frequency=None, sym=None) -> np.ndarray:
     direction, else +z) is reflected to the front first. ``sym``: the array's
     :func:`symmetry` when the caller has it.
     """
-    r_pk = peak.unit
-    kind, vec = symmetry(array, frequency) if sym is None else sym
-    if kind == "mirror":
-        side = (array.steering.unit if array.steering is not None
-                else np.array([0.0, 0.0, 1.0])) @ vec
-        if side * (r_pk @ vec) < 0:
-            r_pk = r_pk - 2.0 * (r_pk @ vec) * vec
-    u_pk = float(intensity(array, r_pk, frequency))
-    prefs = []
-    if array.steering is not None:
-        prefs.append(array.steering.unit)
-    ez, ex = np.array([0.0, 0.0, 1.0]), np.array([1.0, 0.0, 0.0])
-    prefs.append(ez)
-    if kind == "band":
-        c = float(r_pk @ vec)
-        prefs += [p for p in (_on_cone(vec, c, ez), _on_cone(vec, c, ex)) if p is not None]
-    for p in prefs:
-        if float(intensity(array, p, frequency)) >= u_pk * (1 - TIE):
-            return np.asarray(p, float)
-    return r_pk
+    return beam_axis_many([array], [peak], frequency, [sym])[0][0]
+
+
+def beam_axis_many(arrays, peaks, frequency=None, syms=None) -> list:
+    """:func:`beam_axis` of several arrays, with the intensity there: ``[(axis, U), ...]``.
+    The candidate directions of every array are evaluated in one engine call
+    (:func:`intensity_of_beams`)."""
+    arrays = list(arrays)
+    syms = [None] * len(arrays) if syms is None else list(syms)
+    cands, owner = [], []
+    for b, (array, peak, sym) in enumerate(zip(arrays, peaks, syms, strict=True)):
+        r_pk = peak.unit
+        kind, vec = symmetry(array, frequency) if sym is None else sym
+        if kind == "mirror":
+            side = (array.steering.unit if array.steering is not None
+                    else np.array([0.0, 0.0, 1.0])) @ vec
+            if side * (r_pk @ vec) < 0:
+                r_pk = r_pk - 2.0 * (r_pk @ vec) * vec
+        prefs = [r_pk]
+        if array.steering is not None:
+            prefs.append(array.steering.unit)
+        ez, ex = np.array([0.0, 0.0, 1.0]), np.array([1.0, 0.0, 0.0])
+        prefs.append(ez)
+        if kind == "band":
+            c = float(r_pk @ vec)
+            prefs += [p for p in (_on_cone(vec, c, ez), _on_cone(vec, c, ex)) if p is not None]
+        cands.append(np.asarray(prefs, float))
+        owner += [b] * len(prefs)
+    u = intensity_of_beams(arrays, np.concatenate(cands), np.asarray(owner), frequency)
+    out, at = [], 0
+    for c in cands:
+        uc, at = u[at:at + len(c)], at + len(c)
+        tie = np.flatnonzero(uc[1:] >= uc[0] * (1 - TIE))
+        i = 1 + int(tie[0]) if len(tie) else 0
+        out.append((c[i], float(uc[i])))
+    return out
 
 
 def cut_frame(r0) -> tuple[np.ndarray, np.ndarray]:

@@ -113,7 +113,7 @@ S. M. Sherman and D. K. Barton, *Monopulse Principles and Techniques*, 2nd ed., 
 from __future__ import annotations
 
 from ..errors import SteradianError
-from ..patterns import Cut, cut, principal_cuts, symmetry_many
+from ..patterns import Cut, beam_axis_many, cut, principal_cuts, resolve_peak, symmetry_many
 from ..radiation import Peak
 from ..units import DB_FLOOR
 from ..validate import positive
@@ -195,10 +195,14 @@ def pattern_metrics_many(arrays, *, frequency: float | None = None, peaks=None,
     if aperture is not None:
         for array in arrays:
             aperture.check(array, frequency)
+    peaks = [resolve_peak(a, frequency, pk, aperture) for a, pk in zip(arrays, peaks,
+                                                                       strict=True)]
+    syms = symmetry_many(arrays, frequency)
+    axes = beam_axis_many(arrays, peaks, frequency, syms)
     ctxs = []
-    for array, peak, sym in zip(arrays, peaks, symmetry_many(arrays, frequency), strict=True):
-        ctx = Context(array, frequency, peak, grating_lobe_db, kind, aperture=aperture,
-                      sym=sym)
+    for array, peak, sym, (r0, u0) in zip(arrays, peaks, syms, axes, strict=True):
+        ctx = Context(array, frequency, peak, grating_lobe_db, kind, axis=r0,
+                      aperture=aperture, sym=sym, u0=u0)
         if kind == "sum":
             check_sum_beam(ctx)
         ctxs.append(ctx)

@@ -186,11 +186,11 @@ def _poly(c, t):
 class Beam:
     """The pattern about one beam axis: relative intensity g = U / U(r0)."""
 
-    def __init__(self, array, frequency, r0, power_value):
+    def __init__(self, array, frequency, r0, power_value, u0=None):
         self.array = array
         self.frequency = frequency
         self.r0 = np.asarray(r0, float)
-        self.u0 = float(intensity(array, self.r0, frequency))
+        self.u0 = float(intensity(array, self.r0, frequency) if u0 is None else u0)
         if not self.u0 > 0:
             raise SteradianError("the pattern is zero at the beam peak; nothing to measure")
         self.power = power_value

@@ -41,7 +41,7 @@ class Context:
     """One beam of ``array`` at ``frequency`` and the work its metrics share."""
 
     def __init__(self, array, frequency, peak, grating_lobe_db: float, beam_kind: str = "sum",
-                 axis=None, aperture=None, sym=None):
+                 axis=None, aperture=None, sym=None, u0=None):
         if sym is not None:  # the caller's :func:`~steradian.patterns.symmetry_many` result
             self.__dict__["symmetry"] = sym
         self.array = array
@@ -52,7 +52,8 @@ class Context:
         self.peak = resolve_peak(array, frequency, peak, aperture)
         self.r0 = (beam_axis(array, self.peak, frequency, self.symmetry) if axis is None
                    else np.asarray(axis, float))
-        self.beam = Beam(array, frequency, self.r0, self.peak.power.value)
+        # u0: the intensity at ``axis`` when the caller has it (beam_axis_many)
+        self.beam = Beam(array, frequency, self.r0, self.peak.power.value, u0)
         self.kr = max(array.electrical_radius(frequency), 1.0)
         self.h = 2 * np.pi / self.kr / 16  # radial march: 16 samples per null width
         self.notes: list[str] = []
@@ -73,6 +74,11 @@ class Context:
         b = self.beam
         psi = 2 * np.pi * np.arange(N_RADIALS) / N_RADIALS
         return b.t0[None, :] * np.cos(psi)[:, None] + b.t1[None, :] * np.sin(psi)[:, None]
+
+    @cached_property
+    def back(self) -> float:
+        """g straight behind the beam axis, at -r0 (front-to-back ratio)."""
+        return float(self.beam.g(-self.r0[None, :])[0])
 
     @cached_property
     def difference(self):
@@ -342,7 +348,13 @@ def prepare_lobes(ctxs) -> None:
     """March the radials of several beams together, then refine their sidelobes and rear
     lobes together (:func:`march_beams`, :func:`refine_lobes`), before their metrics ask
     for them. Beams are batched with those of the same march step and search spacing (one
-    aperture: all of them)."""
+    aperture: all of them); their values behind the axis come from one call."""
+    todo = [c for c in ctxs if "back" not in c.__dict__]
+    if len(todo) > 1:
+        back = g_of([c.beam for c in todo], np.stack([-c.r0 for c in todo]),
+                    np.arange(len(todo)))
+        for c, v in zip(todo, back, strict=True):
+            c.__dict__["back"] = float(v)
     for group in _by(ctxs, lambda c: c.h, lambda c: "radials" not in c.__dict__):
         got = march_beams([c.beam for c in group], [c.radial_tangents() for c in group],
                           group[0].h, [np.pi] * len(group),

@@ -136,8 +136,7 @@ def difference(ctx: Context) -> dict:
 @metric("front_to_back", "front_to_back_db", "front_to_back_hemisphere_db")
 def front_to_back(ctx: Context) -> dict:
     """U0 / U(-r0), and U0 over the largest U more than 90 degrees from the beam axis."""
-    r0 = ctx.r0
-    back = float(ctx.beam.g(-r0[None, :])[0])
+    back = ctx.back
     rear_max = max([back] + [f for _, f in ctx.rear])
     return {"front_to_back_db": 0.0 - rel_db(back),
             "front_to_back_hemisphere_db": 0.0 - rel_db(rear_max)}
