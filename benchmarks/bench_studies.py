@@ -24,9 +24,9 @@ per point by the library's definitions, read off samples (:func:`naive_full_poin
 difference from the library's values is printed), and analyze() with every pattern value
 taken from the naive expression (the same metrics to the same accuracy).
 
-The sweeps and their naive baselines are timed in two interleaved rounds (each sweep once,
-then each baseline at its five points once, twice over), each figure keeping its faster
-round: the machine's slow spells are charged to neither side alone.
+The sweeps and their naive baselines are timed in three interleaved rounds (each sweep
+once, then each baseline at its five points once), each figure keeping its fastest round:
+the machine's slow spells are charged to neither side alone.
 """
 
 from __future__ import annotations
@@ -228,6 +228,9 @@ def timed(fn):
     return out, time.perf_counter() - t
 
 
+SWEEP_ROUNDS = 3
+"""Interleaved timing rounds of the sweeps and their naive baselines (fastest kept)."""
+
 SWEEP_TIMED = (5, 100, 200, 300, 389)
 """Sweep points whose per-point baselines are timed (spacings 0.4, 0.53, 0.66, 0.79 and
 0.9 wavelength): the baselines' time for the whole sweep is their mean times 390."""
@@ -316,11 +319,11 @@ def bench_sweep(tmp: Path) -> list[str]:
     def naive_full(d):
         return naive_full_point(d.array, search_dirs(d.array.with_steering(None)))
 
-    # Two rounds, each timing both sweeps and both naive baselines once; each figure keeps
-    # its faster round. Interleaved so that a slow spell of the machine is not charged to
-    # the sweeps alone or to the baselines alone.
+    # Rounds, each timing both sweeps and both naive baselines once; each figure keeps its
+    # fastest round. Interleaved so that a slow spell of the machine is not charged to the
+    # sweeps alone or to the baselines alone.
     rounds: dict = {"beam": [], "full": [], "naive": [], "naive_full": []}
-    for _ in range(2):
+    for _ in range(SWEEP_ROUNDS):
         for mode in ("beam", "full"):
             sp = sweep_from_table({"metrics": mode}, axes=axes)
             rounds[mode].append(timed(lambda sp=sp, mode=mode: run_sweep(
