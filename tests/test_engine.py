@@ -122,12 +122,11 @@ def test_field_of_beams_is_each_beams_sum(rng, f1):
     """Many beams of one aperture at their own directions, in one call, against the
     definition E = e(theta, phi) * sum_n w_n exp(+j k r . r_n) per beam (plain numpy; the
     array factor of Balanis, Antenna Theory, 4th ed., 2016, eq. 6-1 generalised): beams
-    with few directions go through the rows kernel, the one with 3,000 through the
-    transform the cost model picks."""
+    with few directions go through the rows kernel, the one with 8,000 on its own path."""
     from steradian.engine import field_of_beams
 
     beams = _beam_family(f1)
-    counts = [7, 40, 3000, 1]
+    counts = [7, 40, 8000, 1]
     owner = np.repeat(np.arange(4), counts)
     rng.shuffle(owner)
     d = rng.normal(size=(len(owner), 3))
