@@ -405,6 +405,10 @@ class RadialLobe:
 
     def power(self, kr: float) -> float:
         """Integral of U over the main lobe: Gauss-Legendre in rho x trapezoid in psi."""
+        return RadialLobe.power_many([self], kr)[0]
+
+    def _rule(self, kr: float):
+        """The main-lobe rule: nodes (P, 3) and weights (P,) with int U = sum w U(nodes)."""
         b = self.beam
         rmax = float(self.rho.max())
         n_rho = int(np.ceil(kr * rmax)) + 24
@@ -413,15 +417,26 @@ class RadialLobe:
         edge = radial_edge(psi, self.rho)
         x, w = gauss_legendre(n_rho)
         rho = 0.5 * (x[None, :] + 1.0) * edge[:, None]  # (m, n_rho)
-        wr = 0.5 * w[None, :] * edge[:, None] * np.sin(rho)
+        wr = 0.5 * w[None, :] * edge[:, None] * np.sin(rho) * (2 * np.pi / m)
         T = b.t0[None, :] * np.cos(psi)[:, None] + b.t1[None, :] * np.sin(psi)[:, None]
-        pts = arc(b.r0, T, rho).reshape(-1, 3)
-        u = b.g(pts) * b.u0
-        if self.n is not None:
-            # U is mirror symmetric, so the union of the lobe R and its mirror M(R) holds
-            # int_R U (1 + [M d not in R]) dOmega.
-            u = u * (1.0 + ~self.inside_one(self.mirror(pts)))
-        return float((u.reshape(wr.shape) * wr).sum() * (2 * np.pi / m))
+        return arc(b.r0, T, rho).reshape(-1, 3), wr.reshape(-1)
+
+    @staticmethod
+    def power_many(lobes, kr: float) -> list[float]:
+        """:meth:`power` of several lobes (beams of one aperture: one ``kr``), their pattern
+        values from one engine call (:func:`g_of`)."""
+        rules = [lb._rule(kr) for lb in lobes]
+        owner = np.concatenate([np.full(len(p), i) for i, (p, _) in enumerate(rules)])
+        g = g_of([lb.beam for lb in lobes], np.concatenate([p for p, _ in rules]), owner)
+        out, at = [], 0
+        for lb, (pts, wr) in zip(lobes, rules, strict=True):
+            u, at = g[at:at + len(pts)] * lb.beam.u0, at + len(pts)
+            if lb.n is not None:
+                # U is mirror symmetric, so the union of the lobe R and its mirror M(R)
+                # holds int_R U (1 + [M d not in R]) dOmega.
+                u = u * (1.0 + ~lb.inside_one(lb.mirror(pts)))
+            out.append(float((u * wr).sum()))
+        return out
 
 
 def _inside_radial(d, r0, t0, t1, rho, which=None):

@@ -97,13 +97,26 @@ class Context:
             return self.difference.main_lobe(self._sum_main_lobe()[3])
         return self._sum_main_lobe()
 
+    @cached_property
+    def radial_lobe(self):
+        """The main lobe bounded by the radials' first nulls (with its mirror image when the
+        pattern is mirror symmetric); None for a collinear array (a band)."""
+        kind, vec = self.symmetry
+        if kind == "band":
+            return None
+        return RadialLobe(self.beam, self.radials[1], vec if kind == "mirror" else None)
+
+    @cached_property
+    def radial_lobe_power(self) -> float:
+        return self.radial_lobe.power(self.kr)
+
     def _sum_main_lobe(self):
         kind, vec = self.symmetry
         if kind == "band":
             return self._band(vec)
-        lobe = RadialLobe(self.beam, self.radials[1], vec if kind == "mirror" else None)
+        lobe = self.radial_lobe
         if kind != "mirror":
-            return lobe, lobe.power(self.kr), "radial", lambda x: x
+            return lobe, self.radial_lobe_power, "radial", lambda x: x
         self.notes.append("planar array with a mirror-symmetric pattern: the mirror image of "
                           "the main lobe behind the array plane counts as main lobe")
         r0 = self.r0
@@ -111,7 +124,7 @@ class Context:
         def key(x):
             flip = (x @ vec) * (r0 @ vec if abs(r0 @ vec) > 1e-12 else 1.0) < 0
             return np.where(flip[:, None], lobe.mirror(x), x)
-        return lobe, lobe.power(self.kr), "radial+mirror", key
+        return lobe, self.radial_lobe_power, "radial+mirror", key
 
     def _band(self, a):
         """Main lobe of a collinear array: the band of cone angles between the first nulls
@@ -362,6 +375,11 @@ def prepare_lobes(ctxs) -> None:
         for c, r in zip(group, got, strict=True):
             c.__dict__["radials"] = r
     _searches(ctxs)
+    for group in _by(ctxs, lambda c: c.kr, lambda c: "radial_lobe_power" not in c.__dict__
+                     and c.radial_lobe is not None):
+        for c, p in zip(group, RadialLobe.power_many([c.radial_lobe for c in group],
+                                                      group[0].kr), strict=True):
+            c.__dict__["radial_lobe_power"] = p
     for group in _by(ctxs, lambda c: c.search[0].spacing,
                      lambda c: "_outside_and_rear" not in c.__dict__):
         for c, got in zip(group, refine_lobes(group, [c.lobe_regions() for c in group]),
