@@ -215,7 +215,8 @@ def field_of_beams(arrays, vectors, owner, *, frequency: float | None = None,
 
     Arrays that differ only in their weights (the beams of a scan or taper family: equal
     positions, element model and wavenumber, no element orientations) are summed together:
-    the beams with few directions (where no transform can win) by one direct summation
+    the beams with few directions (where no transform can win; on a lattice of rows, up to
+    :data:`FRESH_PLAN_SHARE` transform overheads of exact work) by one direct summation
     with a row of weights per direction, the others each on the path :func:`field` would
     take for it; the element pattern is evaluated once for all directions. Other arrays are
     evaluated one by one by :func:`field`. Every value equals :func:`field` of its array to
