@@ -7,7 +7,7 @@ import numpy as np
 from . import _cost
 from ._cache import LRU
 
-__all__ = ["kernels", "af_reference", "af_direct", "af_rows_reference", "af_direct_rows",
+__all__ = ["kernels", "af_reference", "af_direct", "af_direct_rows",
            "budget_rows", "xyz_columns", "re_im_columns", "exact_rows", "LATTICE_MIN"]
 
 LATTICE_MIN = 64
@@ -129,16 +129,6 @@ def af_direct(pos, w, k, dirs):
     kern = km.af_direct_serial if len(pos) * len(dirs) < _cost.SERIAL_TERMS else km.af_direct
     kern(px, py, pz, wr, wi, float(k), d[0], d[1], d[2], out_re, out_im)
     return out_re + 1j * out_im
-
-
-def af_rows_reference(pos, W, k, dirs, owner):
-    """Plain-numpy array factor of direction ``m`` with weights ``W[owner[m]]`` (the
-    definition :func:`af_direct_rows` is tested against)."""
-    out = np.empty(len(dirs), complex)
-    for b in np.unique(owner):
-        sel = np.flatnonzero(owner == b)
-        out[sel] = af_reference(pos, W[b], k, dirs[sel])
-    return out
 
 
 def af_direct_rows(pos, W, k, dirs, owner):

@@ -106,7 +106,7 @@ def lattice_gram_table(positions, k: float, dirs: np.ndarray, weights: np.ndarra
     for s in range(0, len(d), GRAM_CHUNK):  # temporaries of a chunk stay in cache
         u, v, wc = d[s:s + GRAM_CHUNK, 0], d[s:s + GRAM_CHUNK, 1], wts[s:s + GRAM_CHUNK]
         Ei = _phase_powers(np.exp(1j * k * rows.dx * u), rows.nx)
-        Ej = _phase_powers(np.exp(1j * k * rows.dy * v), rows.ny)[rows.ny - 1:].T
+        Ej = _powers(np.exp(1j * k * rows.dy * v), rows.ny).T
         for t, dv in enumerate(delta[first]):
             half[t] += (Ei * (wc * np.exp(1j * k * u * dv))) @ Ej
     opposite = np.searchsorted(dkeys, -dkeys)  # the table of -delta (the set is symmetric)
@@ -119,14 +119,21 @@ def lattice_gram_table(positions, k: float, dirs: np.ndarray, weights: np.ndarra
     return tables.ravel(), index
 
 
-def _phase_powers(base: np.ndarray, n: int) -> np.ndarray:
-    """Rows ``base**p`` for p = -(n-1) .. n-1 of unit-modulus ``base`` (M,): repeated
-    products and their conjugates (2n - 2 multiplications per direction instead of 2n - 1
-    complex exponentials; rounding grows to about n ulp, 1e-14 for n = 64)."""
+def _powers(base: np.ndarray, n: int) -> np.ndarray:
+    """Rows ``base**p`` for p = 0 .. n-1 (repeated products: n - 1 multiplications per
+    direction instead of n complex exponentials; rounding grows to about n ulp, 1e-14 for
+    n = 64)."""
     P = np.empty((n, len(base)), complex)
     P[0] = 1.0
     for p in range(1, n):
         np.multiply(P[p - 1], base, out=P[p])
+    return P
+
+
+def _phase_powers(base: np.ndarray, n: int) -> np.ndarray:
+    """Rows ``base**p`` for p = -(n-1) .. n-1 of unit-modulus ``base`` (M,): :func:`_powers`
+    and their conjugates."""
+    P = _powers(base, n)
     return np.concatenate([P[:0:-1].conj(), P])
 
 

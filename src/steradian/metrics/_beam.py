@@ -364,8 +364,6 @@ class RadialLobe:
 
     def __init__(self, beam: Beam, rho_null: np.ndarray, mirror_normal=None):
         self.beam = beam
-        m = len(rho_null)
-        self.psi = 2 * np.pi * np.arange(m) / m
         self.rho = np.where(np.isfinite(rho_null), rho_null, np.pi)
         self.n = None if mirror_normal is None else np.asarray(mirror_normal, float)
 
